@@ -1,0 +1,134 @@
+"""The ``qcthermo`` command line.
+
+Only argparse and the standard library are imported here; each sub-command's module (under
+``qcthermo.commands``) is imported when that command runs, so ``qcthermo --help`` stays fast.
+Exit status: 0 all good, 1 results written but some inputs had errors, 2 nothing usable / bad
+arguments. Bad input never ends in a traceback.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import os
+import sys
+
+from . import __version__
+
+COMMANDS = {
+    "survey": "one row per file: program, jobs, level of theory, charge/mult, energy, status",
+    "thermo": "one row per frequency log: E, ZPE, H, S, G under RRHO and the chosen low-mode model",
+    "run": "the main job: survey, species, reactions and every export, into --out",
+    "profile": "draw the reaction energy diagram(s) of a reaction file",
+    "init": "write a starter reactions.toml listing the species found in DIR",
+    "demo": "run the main job on the bundled sample scenario",
+}
+
+
+def _add_reading(p: argparse.ArgumentParser) -> None:
+    g = p.add_argument_group("reading")
+    g.add_argument("--jobs", type=int, default=None, metavar="N", help="worker processes (default: all cores)")
+    g.add_argument("--no-cache", action="store_true", help="neither read nor write the parse cache")
+    g.add_argument("--quiet", action="store_true", help="no progress bar, no table on the terminal")
+
+
+def _add_conditions(p: argparse.ArgumentParser) -> None:
+    g = p.add_argument_group("conditions (override the reaction file's [conditions])")
+    g.add_argument("--temperature", type=float, default=None, metavar="K", help="temperature, K (298.15)")
+    g.add_argument("--temperature-range", default=None, metavar="START:STOP:STEP",
+                   help="a range of temperatures, K, STOP included: every table becomes long")
+    g.add_argument("--standard-state", default=None, metavar="STATE",
+                   help="1atm | 1bar | 1M (default 1atm; a reaction file may set it)")
+    g.add_argument("--low-mode-model", default=None,
+                   choices=["rrho", "qrrho", "qrrho-enthalpy", "quasi-harmonic"],
+                   help="treatment of low-frequency modes (default qrrho)")
+    g.add_argument("--low-mode-threshold", type=float, default=None, metavar="CM-1",
+                   help="threshold of the low-mode model, cm^-1 (100)")
+    g.add_argument("--frequency-scale", default=None, metavar="F|auto",
+                   help="frequency scale factor, or 'auto' to look up the level of theory (1.0)")
+    g.add_argument("--energy-unit", default="kcal/mol", choices=["kcal/mol", "kJ/mol", "eV"],
+                   help="unit of the human-readable energies (kcal/mol)")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="qcthermo",
+        description="Audited thermochemistry, reaction free energies, rate constants and paper tables "
+        "from a directory of quantum-chemistry logs.",
+    )
+    parser.add_argument("--version", action="version", version=f"qcthermo {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    p = sub.add_parser("survey", help=COMMANDS["survey"], description=COMMANDS["survey"])
+    p.add_argument("directory", metavar="DIR")
+    p.add_argument("--csv", metavar="FILE", help="write the table as CSV")
+    p.add_argument("--json", metavar="FILE", help="write the table as JSON")
+    p.add_argument("--force", action="store_true", help="overwrite existing --csv/--json files")
+    _add_reading(p)
+
+    p = sub.add_parser("thermo", help=COMMANDS["thermo"], description=COMMANDS["thermo"])
+    p.add_argument("directory", metavar="DIR")
+    p.add_argument("--csv", metavar="FILE", help="write the table as CSV")
+    p.add_argument("--force", action="store_true", help="overwrite an existing --csv file")
+    _add_conditions(p)
+    _add_reading(p)
+
+    for name in ("run", "demo"):
+        p = sub.add_parser(name, help=COMMANDS[name], description=COMMANDS[name])
+        if name == "run":
+            p.add_argument("directory", metavar="DIR")
+            p.add_argument("--reactions", metavar="FILE", help="reaction file (TOML); without it, one "
+                           "species per frequency log and no reactions")
+        p.add_argument("--out", metavar="DIR", default="qcthermo_results" if name == "run" else "demo_results",
+                       help="output directory")
+        p.add_argument("--force", action="store_true", help="write into an --out that holds other files")
+        _add_conditions(p)
+        _add_reading(p)
+
+    p = sub.add_parser("profile", help=COMMANDS["profile"], description=COMMANDS["profile"])
+    p.add_argument("reactions", metavar="FILE", help="reaction file (TOML) with [[profile]] tables")
+    p.add_argument("-o", "--output", metavar="FIG", default="profile.svg",
+                   help="figure file: .svg, .png or .pdf (profile.svg)")
+    p.add_argument("--directory", metavar="DIR", default=None,
+                   help="where the logs are (default: the reaction file's folder)")
+    p.add_argument("--quantity", default="G", choices=["G", "G_rrho", "H", "E_zpe", "E"],
+                   help="what the levels show (G under the chosen low-mode model)")
+    p.add_argument("--profile", dest="profiles", action="append", metavar="NAME",
+                   help="only this profile (repeatable; default: all, overlaid)")
+    p.add_argument("--precision", type=int, default=1, help="decimals of the labels (1)")
+    p.add_argument("--force", action="store_true", help="overwrite an existing figure")
+    _add_conditions(p)
+    _add_reading(p)
+
+    p = sub.add_parser("init", help=COMMANDS["init"], description=COMMANDS["init"])
+    p.add_argument("directory", metavar="DIR")
+    p.add_argument("-o", "--output", metavar="FILE", default=None,
+                   help="where to write it (default: DIR/reactions.toml)")
+    p.add_argument("--force", action="store_true", help="overwrite an existing file")
+    _add_reading(p)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if args.command is None:
+        parser.print_help()
+        return 2
+    if getattr(args, "jobs", None) is None and hasattr(args, "jobs"):
+        args.jobs = os.cpu_count() or 1
+    from .errors import QcthermoError
+
+    try:
+        command = importlib.import_module(f"qcthermo.commands.{args.command}")
+        return int(command.main(args) or 0)
+    except QcthermoError as err:
+        print(f"qcthermo {args.command}: error: {err}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("qcthermo: interrupted", file=sys.stderr)
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

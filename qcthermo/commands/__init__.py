@@ -1,0 +1,1 @@
+"""One module per sub-command; each has ``main(args) -> exit status``."""

@@ -1,0 +1,62 @@
+"""What several sub-commands share: conditions from options, temperature ranges."""
+
+from __future__ import annotations
+
+import argparse
+from typing import Any
+
+import numpy as np
+
+from ..errors import QcthermoError
+from ..records import Conditions
+
+#: defaults of the command line where neither an option nor a reaction file says otherwise
+CLI_DEFAULTS: dict[str, Any] = {
+    "temperature": 298.15,
+    "standard_state": "1atm",
+    "low_mode_model": "qrrho",
+    "low_mode_threshold": 100.0,
+    "frequency_scale": 1.0,
+}
+
+
+def parse_temperature_range(text: str) -> np.ndarray:
+    """``"250:350:25"`` -> [250, 275, 300, 325, 350] K (STOP included when it falls on the grid)."""
+    try:
+        start, stop, step = (float(x) for x in text.split(":"))
+    except ValueError:
+        raise QcthermoError(f"--temperature-range {text!r}: expected START:STOP:STEP in K") from None
+    if start <= 0 or stop < start or step <= 0:
+        raise QcthermoError(f"--temperature-range {text!r}: need 0 < START <= STOP and STEP > 0")
+    n = int(np.floor((stop - start) / step + 1e-9)) + 1
+    return start + step * np.arange(n)
+
+
+def parse_scale(value: Any) -> float | str:
+    """A frequency scale factor: a positive number or "auto"."""
+    if isinstance(value, str) and value.strip().lower() == "auto":
+        return "auto"
+    try:
+        factor = float(value)
+    except (TypeError, ValueError):
+        raise QcthermoError(f"frequency scale {value!r}: expected a number or 'auto'") from None
+    if not 0.5 < factor < 1.5:
+        raise QcthermoError(f"frequency scale {factor}: expected a factor near 1 (0.5 to 1.5)")
+    return factor
+
+
+def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any] | None = None) -> Conditions:
+    """Conditions from, in rising priority: CLI defaults, a reaction file's [conditions], options."""
+    settings = dict(CLI_DEFAULTS)
+    settings.update(file_settings or {})
+    for key in ("temperature", "standard_state", "low_mode_model", "low_mode_threshold", "frequency_scale"):
+        value = getattr(args, key, None)
+        if value is not None:
+            settings[key] = value
+    if getattr(args, "temperature_range", None):
+        settings["temperature"] = parse_temperature_range(args.temperature_range)
+    settings["frequency_scale"] = parse_scale(settings["frequency_scale"])
+    try:
+        return Conditions(**settings)
+    except (TypeError, ValueError) as err:
+        raise QcthermoError(str(err)) from None

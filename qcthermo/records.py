@@ -1,0 +1,342 @@
+"""The records that flow through qcthermo, with their units.
+
+``Calculation`` is what a reader found in one log (nothing computed). ``Molecule`` is the input of the
+thermochemistry engine. ``Conditions`` says how to compute, ``ThermoResult`` holds what was computed.
+
+Units: energies hartree (Eh) per molecule, lengths angstrom, wavenumbers cm^-1, masses dalton (u),
+entropies and heat capacities hartree/K per molecule, temperatures K, pressures Pa.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field, fields, replace
+from typing import Any
+
+import numpy as np
+
+#: job kinds a reader may report in ``Calculation.job_types``
+JOB_TYPES = ("optimization", "frequencies", "single-point", "saddle-search", "irc", "scan")
+
+
+@dataclass
+class Calculation:
+    """What one log file holds, normalised to one meaning per field whatever the program.
+
+    Attributes:
+        path: the file read.
+        program: lower-case program family ("gaussian", "orca", "qchem", "nwchem", "xtb", "gamess",
+            "psi4", ...).
+        program_version: as printed, or None.
+        method, basis: level of theory of ``energy`` (e.g. "B3LYP", "6-31G*"), or None.
+        solvent_model: implicit solvent model ("cosmo", "smd", "cpcm", "pcm", "alpb", "gbsa", ...) or None.
+        solvent: solvent name or dielectric as printed, or None.
+        symbols: element symbols in file order.
+        coordinates: (N, 3) angstrom, the final geometry (the one the frequencies belong to).
+        charge: total charge.
+        multiplicity: 2S+1; None only if truly unknown (with a note).
+        energy: final electronic energy in hartree, as the program reports it (solvation included).
+        frequencies: (3N-6) or (3N-5) vibrational wavenumbers, cm^-1, imaginary as negative,
+            translations/rotations removed; None when the file has no frequency job.
+        job_types: subset of :data:`JOB_TYPES`.
+        normal_termination: True/False, or None when the file does not say.
+        optimization_converged: for optimisations, whether the optimiser reported convergence.
+        s2: <S^2> of the final wavefunction for open shells, when printed.
+        gas_energy: for implicit-solvent runs that print it, the gas-phase energy, hartree.
+        thermo_printed: the program's own thermochemistry as totals in hartree ("zpe", "enthalpy",
+            "gibbs" at ``"temperature"`` K), for cross-checks only.
+        notes: what the reader noticed: fallback used, quirks fixed.
+    """
+
+    path: str
+    program: str
+    symbols: tuple[str, ...]
+    coordinates: np.ndarray
+    charge: int = 0
+    multiplicity: int | None = 1
+    energy: float | None = None
+    frequencies: np.ndarray | None = None
+    job_types: frozenset[str] = frozenset()
+    normal_termination: bool | None = None
+    optimization_converged: bool | None = None
+    program_version: str | None = None
+    method: str | None = None
+    basis: str | None = None
+    solvent_model: str | None = None
+    solvent: str | None = None
+    s2: float | None = None
+    gas_energy: float | None = None
+    thermo_printed: dict[str, float] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def natoms(self) -> int:
+        return len(self.symbols)
+
+    @property
+    def formula(self) -> str:
+        """Hill formula (C first, H second, then alphabetical; alphabetical without carbon)."""
+        return hill_formula(self.symbols)
+
+    @property
+    def n_imaginary(self) -> int:
+        """Number of imaginary (negative) frequencies; 0 when there are no frequencies."""
+        return 0 if self.frequencies is None else int(np.sum(self.frequencies < 0))
+
+    @property
+    def level_of_theory(self) -> str | None:
+        """"method/basis" (or whichever is known), None when neither is."""
+        parts = [p for p in (self.method, self.basis) if p]
+        return "/".join(parts) if parts else None
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-ready dict (lists instead of arrays); inverse of :meth:`from_dict`."""
+        out: dict[str, Any] = {}
+        for f in fields(self):
+            value = getattr(self, f.name)
+            if isinstance(value, np.ndarray):
+                value = value.tolist()
+            elif isinstance(value, (frozenset, tuple)):
+                value = sorted(value) if isinstance(value, frozenset) else list(value)
+            out[f.name] = value
+        return out
+
+    @classmethod
+    def from_dict(cls, data: dict[str, Any]) -> Calculation:
+        data = dict(data)
+        data["symbols"] = tuple(data["symbols"])
+        data["coordinates"] = np.asarray(data["coordinates"], dtype=float).reshape(-1, 3)
+        if data.get("frequencies") is not None:
+            data["frequencies"] = np.asarray(data["frequencies"], dtype=float)
+        data["job_types"] = frozenset(data.get("job_types", ()))
+        return cls(**data)
+
+
+def hill_formula(symbols) -> str:
+    """Hill-order formula of a list of element symbols, e.g. ("O", "H", "H") -> "H2O"."""
+    counts: dict[str, int] = {}
+    for s in symbols:
+        counts[s] = counts.get(s, 0) + 1
+    order = sorted(counts)
+    if "C" in counts:
+        order = ["C"] + (["H"] if "H" in counts else []) + [s for s in order if s not in ("C", "H")]
+    return "".join(s + (str(counts[s]) if counts[s] > 1 else "") for s in order)
+
+
+def atomic_masses(symbols) -> np.ndarray:
+    """Masses (dalton) of the most abundant isotope of each element, from ASE's data tables."""
+    from ase.data import atomic_masses_common, atomic_numbers
+
+    try:
+        return np.array([atomic_masses_common[atomic_numbers[s]] for s in symbols], dtype=float)
+    except KeyError as err:
+        raise ValueError(f"unknown element symbol {err.args[0]!r}") from None
+
+
+@dataclass
+class Molecule:
+    """Input of the thermochemistry engine: one structure with its harmonic frequencies.
+
+    Attributes:
+        symbols: element symbols.
+        coordinates: (N, 3) angstrom.
+        frequencies: vibrational wavenumbers, cm^-1 (3N-6, or 3N-5 for linear), imaginary negative;
+            an empty array for an atom. The engine's cleaning step removes leftover
+            translations/rotations and applies the imaginary-mode policy.
+        multiplicity: 2S+1; the electronic degeneracy unless ``electronic_degeneracy`` is given.
+        charge: total charge.
+        energy: electronic energy, hartree.
+        symmetry_number: rotational symmetry number; None means inferred from the geometry.
+        masses: dalton per atom; None means most abundant isotopes.
+        electronic_degeneracy: ground-state degeneracy override (e.g. 2 for a spatially degenerate
+            doublet ... or 3 for O2's triplet is already 2S+1).
+        transition_state: True keeps exactly one imaginary mode out of the partition function.
+        imaginary_policy: "error" | "invert" | "drop" | None (None: the default policy, see cleaning.py).
+        name: a label for notes and tables.
+        level_of_theory, source: provenance, carried into tables.
+        notes: provenance notes (e.g. from the reader).
+    """
+
+    symbols: tuple[str, ...]
+    coordinates: np.ndarray
+    frequencies: np.ndarray
+    multiplicity: int = 1
+    charge: int = 0
+    energy: float = 0.0
+    symmetry_number: int | None = None
+    masses: np.ndarray | None = None
+    electronic_degeneracy: int | None = None
+    transition_state: bool = False
+    imaginary_policy: str | None = None
+    name: str | None = None
+    level_of_theory: str | None = None
+    source: str | None = None
+    notes: list[str] = field(default_factory=list)
+
+    def __post_init__(self):
+        self.symbols = tuple(self.symbols)
+        self.coordinates = np.asarray(self.coordinates, dtype=float).reshape(-1, 3)
+        self.frequencies = np.asarray([] if self.frequencies is None else self.frequencies, dtype=float)
+        if len(self.symbols) != len(self.coordinates):
+            raise ValueError(f"{len(self.symbols)} symbols but {len(self.coordinates)} coordinate rows")
+        self.masses = atomic_masses(self.symbols) if self.masses is None else np.asarray(self.masses, float)
+
+    @property
+    def natoms(self) -> int:
+        return len(self.symbols)
+
+    @property
+    def formula(self) -> str:
+        return hill_formula(self.symbols)
+
+    @property
+    def mass(self) -> float:
+        """Total mass, dalton."""
+        return float(np.sum(self.masses))
+
+    @classmethod
+    def from_calculation(cls, calc: Calculation, **overrides) -> Molecule:
+        """Build the engine's input from a reader's record; ``overrides`` replace any field.
+
+        A calculation without frequencies gives a molecule with none (fine for an atom, otherwise
+        the engine will refuse it). A saddle-search job marks the molecule as a transition state.
+        Multiplicity unknown (None) is taken as 1 with a note.
+        """
+        notes = [f"{calc.path}: {n}" for n in calc.notes]
+        multiplicity = calc.multiplicity
+        if multiplicity is None:
+            multiplicity = 1
+            notes.append(f"{calc.path}: multiplicity not in the file; taken as 1")
+        kwargs: dict[str, Any] = dict(
+            symbols=calc.symbols,
+            coordinates=calc.coordinates,
+            frequencies=calc.frequencies if calc.frequencies is not None else np.zeros(0),
+            multiplicity=multiplicity,
+            charge=calc.charge,
+            energy=calc.energy if calc.energy is not None else 0.0,
+            transition_state="saddle-search" in calc.job_types,
+            level_of_theory=calc.level_of_theory,
+            source=calc.path,
+            notes=notes,
+        )
+        kwargs.update(overrides)
+        return cls(**kwargs)
+
+    def replace(self, **changes) -> Molecule:
+        return replace(self, **changes)
+
+
+#: standard states by name: ("pressure", Pa) for gas, ("concentration", mol/L) for solution
+STANDARD_STATES = {"1atm": ("pressure", 101325.0), "1bar": ("pressure", 100000.0), "1M": ("concentration", 1.0)}
+
+LOW_MODE_MODELS = ("rrho", "qrrho", "qrrho-enthalpy", "quasi-harmonic")
+
+
+@dataclass
+class Conditions:
+    """How to compute thermochemistry.
+
+    Attributes:
+        temperature: K, float or 1-D array (results broadcast over it).
+        pressure: Pa; when given it overrides ``standard_state``.
+        standard_state: "1atm" | "1bar" | "1M", or a concentration string such as "55.3M" (mol/L).
+        low_mode_model: one of :data:`LOW_MODE_MODELS`.
+        low_mode_threshold: cm^-1, nu_0 of the qRRHO weight / the quasi-harmonic floor.
+        rotor_inertia: kg m^2, B_av of the free-rotor limit, or "molecular" for the mean moment.
+        frequency_scale: factor for the thermal (and entropy) terms, or "auto" (look the level up).
+        zpe_scale: factor for the ZPE; None means the same as ``frequency_scale``.
+        imaginary_policy: default policy for unexpected imaginary modes ("error" | "invert" | "drop"),
+            None means: invert small ones (|nu| < ``imaginary_threshold``) with a warning, refuse large.
+        imaginary_threshold: cm^-1, the largest |nu| inverted by the default policy.
+    """
+
+    temperature: Any = 298.15
+    pressure: float | None = None
+    standard_state: str = "1atm"
+    low_mode_model: str = "rrho"
+    low_mode_threshold: float = 100.0
+    rotor_inertia: Any = 1e-44
+    frequency_scale: Any = 1.0
+    zpe_scale: float | None = None
+    imaginary_policy: str | None = None
+    imaginary_threshold: float = 50.0
+
+    def __post_init__(self):
+        if self.low_mode_model not in LOW_MODE_MODELS:
+            raise ValueError(
+                f"unknown low-mode model {self.low_mode_model!r}; choose one of {', '.join(LOW_MODE_MODELS)}"
+            )
+        t = np.asarray(self.temperature, dtype=float)
+        if t.ndim > 1 or np.any(t <= 0):
+            raise ValueError("temperature must be a positive number or a 1-D array of them")
+        parse_standard_state(self.standard_state)
+
+    def replace(self, **changes) -> Conditions:
+        return replace(self, **changes)
+
+
+def parse_standard_state(state: str) -> tuple[str, float]:
+    """``"1atm"`` -> ("pressure", 101325.0); ``"55.3M"`` -> ("concentration", 55.3) mol/L.
+
+    Raises ValueError for anything else.
+    """
+    s = str(state).strip()
+    if s in STANDARD_STATES:
+        return STANDARD_STATES[s]
+    if s.endswith("M"):
+        try:
+            conc = float(s[:-1])
+        except ValueError:
+            conc = -1.0
+        if conc > 0:
+            return ("concentration", conc)
+    raise ValueError(f"unknown standard state {state!r}; use 1atm, 1bar, 1M or a concentration like 55.3M")
+
+
+@dataclass
+class ThermoResult:
+    """Thermochemistry of one molecule under one ``Conditions``; per molecule, atomic units.
+
+    Energies in hartree are absolute (they include ``electronic_energy``); arrays broadcast over the
+    temperatures of ``conditions`` (floats for a scalar temperature).
+
+    Attributes:
+        electronic_energy: E_elec, Eh.
+        zpe: zero-point energy, Eh (scaled by the ZPE factor; for qrrho-enthalpy the interpolated one).
+        thermal_energy: U = E_elec + ZPE + thermal, Eh.
+        enthalpy: H = U + kT, Eh.
+        entropy: S, Eh/K.  cv, cp: Eh/K.
+        gibbs: G = H - T S, Eh (the chosen low-mode model).
+        rrho: the same quantities under plain RRHO, keys "zpe", "thermal_energy", "enthalpy",
+            "entropy", "gibbs", "cv", "cp" (equal to the above when the model is "rrho").
+        components: {"translational"|"rotational"|"vibrational"|"electronic": {"U", "S", "Cv"}};
+            U is the thermal part (vibrational U includes the ZPE), Eh and Eh/K.
+        point_group, symmetry_number, chiral, linear: what the engine used.
+        frequencies_used: the real wavenumbers in the partition function, cm^-1 (unscaled).
+        imaginary_frequency: the transition-state mode kept for tunnelling, cm^-1 (negative), or None.
+        scale_factors: {"thermal": f, "zpe": f} and where "auto" found them ("source").
+        notes: every decision the engine made (cleaning, policy, symmetry, scaling).
+    """
+
+    conditions: Conditions
+    electronic_energy: float
+    zpe: Any
+    thermal_energy: Any
+    enthalpy: Any
+    entropy: Any
+    gibbs: Any
+    cv: Any
+    cp: Any
+    rrho: dict[str, Any]
+    components: dict[str, dict[str, Any]]
+    point_group: str | None
+    symmetry_number: int
+    chiral: bool | None
+    linear: bool
+    frequencies_used: np.ndarray
+    imaginary_frequency: float | None = None
+    scale_factors: dict[str, Any] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def temperature(self):
+        return self.conditions.temperature

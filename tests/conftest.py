@@ -1,0 +1,23 @@
+"""Shared test fixtures: where the sample scenario and the third-party logs live."""
+
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parent.parent
+SAMPLES = ROOT / "sample_outputs"
+THIRD_PARTY = ROOT.parent / "shared" / "fixtures" / "third-party-logs"
+
+
+@pytest.fixture
+def third_party() -> Path:
+    """The folder of real logs written by others (../shared); skip the test when absent."""
+    if not THIRD_PARTY.is_dir():
+        pytest.skip("../shared/fixtures/third-party-logs is absent (a plain clone)")
+    return THIRD_PARTY
+
+
+@pytest.fixture
+def samples() -> Path:
+    """The bundled sample scenario."""
+    return SAMPLES
