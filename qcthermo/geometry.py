@@ -48,7 +48,9 @@ def is_linear(coordinates: np.ndarray, masses: np.ndarray, tolerance: float = 1e
     return bool(moments[2] > 0 and moments[0] / moments[2] < tolerance)
 
 
-def kabsch_rmsd(a: np.ndarray, b: np.ndarray, masses: np.ndarray | None = None, allow_reflection: bool = False) -> float:
+def kabsch_rmsd(
+    a: np.ndarray, b: np.ndarray, masses: np.ndarray | None = None, allow_reflection: bool = False
+) -> float:
     """RMSD (angstrom) of two geometries, atoms in the given order, after the best superposition.
 
     Both are centred (mass-weighted when ``masses`` is given) and ``b`` is rotated onto ``a`` with the
