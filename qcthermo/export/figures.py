@@ -1,0 +1,559 @@
+"""Figures: reaction energy profiles, ΔG(T) and Arrhenius plots.
+
+Everything is drawn with matplotlib's object API on an Agg canvas (no pyplot, no global state), in a
+quiet style sized for a journal's single column (8.5 cm wide, text >= 7 pt). Colours come from the
+Okabe-Ito palette, which stays distinguishable under the common forms of colour-vision deficiency
+(M. Okabe and K. Ito, "Color Universal Design", 2008, https://jfly.uni-koeln.de/color/; recommended by
+B. Wong, Nat. Methods 2011, 8, 441).
+
+An energy profile is a row of short horizontal levels (one per state, x = its position in the
+sequence) joined by thin dashed connectors. Each level carries its name above and its value below;
+transition states get a double dagger. Labels are placed by a greedy collision search in display
+space: every label is moved vertically, in steps of a point, away from its level until its box
+touches no other label, no level and no connector (see :func:`_place_labels`).
+"""
+
+from __future__ import annotations
+
+import textwrap
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import matplotlib
+import numpy as np
+from matplotlib.backends.backend_agg import FigureCanvasAgg  # figures are files: no window, no pyplot
+from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+from matplotlib.path import Path as MplPath
+from matplotlib.transforms import Bbox
+
+from ..errors import QcthermoError
+from ..fileio import atomic_open
+from ..units import hartree_to, unit_suffix
+
+#: Okabe-Ito colours, ordered so that the first few are the most distinct on white (yellow last)
+PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000", "#F0E442")
+
+#: quantities a profile can show, with the symbol of the y axis label
+QUANTITY_SYMBOLS = {"G": "ΔG", "G_rrho": "ΔG(RRHO)", "H": "ΔH", "E_zpe": "Δ(E+ZPE)", "E": "ΔE"}
+
+#: typeset units for axis labels
+UNIT_LABELS = {"kcal/mol": "kcal mol⁻¹", "kJ/mol": "kJ mol⁻¹", "eV": "eV", "Eh": "Eₕ"}
+
+#: what the marks of the energy-span analysis are called on the figure
+MARK_TAGS = {"tdts": "TDTS", "tdi": "TDI"}
+
+#: colour of a state name shared by several overlaid profiles
+SHARED_NAME_COLOR = "#444444"
+
+#: matplotlib settings for every figure (also at save time: the font types are read then)
+STYLE: dict[str, Any] = {
+    "font.family": "DejaVu Sans",
+    "font.size": 7.0,
+    "axes.labelsize": 8.0,
+    "axes.titlesize": 8.0,
+    "axes.linewidth": 0.6,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "xtick.labelsize": 7.0,
+    "ytick.labelsize": 7.0,
+    "xtick.major.width": 0.6,
+    "ytick.major.width": 0.6,
+    "xtick.major.size": 2.5,
+    "ytick.major.size": 2.5,
+    "legend.fontsize": 7.0,
+    "legend.frameon": False,
+    "lines.linewidth": 1.0,
+    "svg.fonttype": "none",  # text stays text: searchable, editable by the journal
+    "pdf.fonttype": 42,  # TrueType, not Type 3: what publishers ask for
+    "svg.hashsalt": "qcthermo",  # reproducible element ids
+}
+
+#: width of one journal column, inches (8.5 cm), and the widest figure we make (17.8 cm, two columns)
+COLUMN_WIDTH_IN = 8.5 / 2.54
+MAX_WIDTH_IN = 17.8 / 2.54
+FIGURE_HEIGHT_IN = 2.6
+
+LEVEL_HALF_WIDTH = 0.3  # data units; states sit at x = 0, 1, 2, ...
+LEVEL_LINEWIDTH = 1.8  # points
+LABEL_GAP_PT = 1.5  # clearance kept between a label and anything else
+NUDGE_STEP_PT = 1.0
+MAX_NUDGE_STEPS = 200
+
+
+@dataclass
+class ProfileState:
+    """One state of an energy profile.
+
+    Attributes:
+        label: the state's name as shown (e.g. "int1", "cat + sub").
+        value: its energy in the profile's display unit, relative to the first state of the profile.
+        is_ts: True for a transition state (drawn with a double dagger).
+        species: the species that make up the state.
+    """
+
+    label: str
+    value: float
+    is_ts: bool = False
+    species: tuple[str, ...] = ()
+
+
+@dataclass
+class ProfileData:
+    """One energy profile ready to draw.
+
+    Attributes:
+        name: the profile's name (the legend entry).
+        states: the states in order.
+        unit: display unit of the values, one of ``qcthermo.units.ENERGY_UNITS``.
+        quantity: "G" | "G_rrho" | "H" | "E_zpe" | "E" (G under the chosen low-mode model).
+        cyclic: a catalytic cycle (the last state closes it).
+        color: a matplotlib colour; None takes the next palette colour.
+        label_states: labels of the states that get text; None labels all.
+        marks: results of the energy-span analysis, {"tdts": state label, "tdi": state label}, drawn as
+            a faint halo behind the level and a tag under its value.
+        style: line style of the connectors ("dashed", "dotted" or "solid").
+    """
+
+    name: str
+    states: list[ProfileState]
+    unit: str = "kcal/mol"
+    quantity: str = "G"
+    cyclic: bool = False
+    color: str | None = None
+    label_states: list[str] | None = None
+    marks: dict[str, str] = field(default_factory=dict)
+    style: str = "dashed"
+
+    @property
+    def values(self) -> np.ndarray:
+        return np.array([s.value for s in self.states], dtype=float)
+
+
+# ---------------------------------------------------------------------------------------------------
+# from the main job's records to ProfileData
+
+
+def _pick_temperature(value: Any, index: int) -> float:
+    """A state's energy at one temperature: arrays over T are indexed, scalars pass through."""
+    arr = np.asarray(value, dtype=float)
+    return float(arr) if arr.ndim == 0 else float(arr.reshape(-1)[index])
+
+
+def _profile_from_record(record: dict[str, Any], quantity: str, unit: str, index: int) -> ProfileData:
+    name = str(record.get("name", "profile"))
+    raw_states = record.get("states") or []
+    if not raw_states:
+        raise QcthermoError(f"profile {name!r} has no states")
+    absolute = []
+    for state in raw_states:
+        energies = state.get("value_Eh") or {}
+        value = energies.get(quantity)
+        value = np.nan if value is None else _pick_temperature(value, index)
+        if not np.isfinite(value):
+            raise QcthermoError(f"profile {name!r}: state {state.get('label')!r} has no {quantity} energy")
+        absolute.append(value)
+    relative = hartree_to(np.asarray(absolute) - absolute[0], unit)
+    states = [
+        ProfileState(str(s.get("label")), float(v), bool(s.get("is_ts", False)), tuple(s.get("species", ())))
+        for s, v in zip(raw_states, relative, strict=True)
+    ]
+    labels = [s.label for s in states]
+    label_states = record.get("label_states")
+    for wanted in [*(label_states or []), *(record.get("marks") or {}).values()]:
+        if wanted not in labels:
+            raise QcthermoError(f"profile {name!r}: no state {wanted!r} (states: {', '.join(labels)})")
+    return ProfileData(
+        name=name,
+        states=states,
+        unit=unit,
+        quantity=quantity,
+        cyclic=bool(record.get("cyclic", False)),
+        color=record.get("color"),
+        label_states=list(label_states) if label_states is not None else None,
+        marks=dict(record.get("marks") or {}),
+        style=str(record.get("style") or "dashed"),
+    )
+
+
+def profiles_from_records(
+    records: Iterable[dict[str, Any]],
+    quantity: str = "G",
+    unit: str = "kcal/mol",
+    *,
+    temperature_index: int = 0,
+    names: Sequence[str] | None = None,
+) -> list[ProfileData]:
+    """Turn the main job's profile records into :class:`ProfileData` in ``unit``, relative to state one.
+
+    ``records`` are dicts ``{name, states: [{label, value_Eh: {quantity: Eh or array over T}, is_ts,
+    species}], cyclic, color, label_states, style, order, marks}`` (see docs/figures.md). Profiles are
+    sorted by their ``order`` key (stable; without one they keep the file's order); ``names`` keeps
+    only those profiles, in that order. Raises ``QcthermoError`` for an unknown quantity, profile or
+    state name, or a state without the quantity.
+    """
+    if quantity not in QUANTITY_SYMBOLS:
+        raise QcthermoError(f"unknown quantity {quantity!r}; choose one of {', '.join(QUANTITY_SYMBOLS)}")
+    records = list(records)
+    records.sort(key=lambda r: r.get("order") if r.get("order") is not None else float("inf"))
+    if names:
+        by_name = {str(r.get("name")): r for r in records}
+        missing = [n for n in names if n not in by_name]
+        if missing:
+            raise QcthermoError(f"no profile named {missing[0]!r} (profiles: {', '.join(by_name) or 'none'})")
+        records = [by_name[n] for n in names]
+    return [_profile_from_record(r, quantity, unit, temperature_index) for r in records]
+
+
+# ---------------------------------------------------------------------------------------------------
+# drawing
+
+
+def axis_label(quantity: str, unit: str) -> str:
+    """y-axis label such as "ΔG / kcal mol⁻¹" (quantity over unit, the IUPAC way of labelling axes)."""
+    return f"{QUANTITY_SYMBOLS.get(quantity, quantity)} / {UNIT_LABELS.get(unit, unit)}"
+
+
+def format_value(value: float, precision: int) -> str:
+    """A level's value with ``precision`` decimals and a typographic minus; never "−0.0"."""
+    text = f"{value:.{precision}f}"
+    if float(text) == 0.0:
+        text = text.lstrip("-")
+    return text.replace("-", "−")
+
+
+def state_name(state: ProfileState) -> str:
+    """The name shown above a level: transition states get a double dagger."""
+    return f"{state.label}‡" if state.is_ts and not state.label.endswith("‡") else state.label
+
+
+@dataclass
+class _Label:
+    """A text being placed: its artist, the sign it prefers to move in, its level's height (display)."""
+
+    artist: Any
+    direction: int  # +1 above its level, -1 below
+    anchor_y: float
+
+
+def _new_figure(width_in: float) -> Figure:
+    fig = Figure(figsize=(width_in, FIGURE_HEIGHT_IN))
+    FigureCanvasAgg(fig)
+    return fig
+
+
+def _style_axes(ax) -> None:
+    ax.spines["top"].set_visible(False)
+    ax.spines["right"].set_visible(False)
+    ax.tick_params(direction="out")
+
+
+def _profile_width(n_states: int) -> float:
+    """One column up to six states; wider (up to two columns) so that levels stay ~1.3 cm apart."""
+    return float(np.clip(0.5 + 0.5 * n_states, COLUMN_WIDTH_IN, MAX_WIDTH_IN))
+
+
+def _wrap_width(ax, fig) -> int:
+    """How many characters of 7-pt text fit over one state's slot (a DejaVu Sans glyph ~0.55 em wide)."""
+    x0, x1 = ax.get_xlim()
+    slot_pt = ax.get_window_extent().width / (x1 - x0) * 72.0 / fig.dpi
+    return max(6, int(slot_pt / (0.55 * STYLE["font.size"])))
+
+
+def _draw_profile(ax, profile: ProfileData, color: str, precision: int) -> tuple[list, list, list, list]:
+    """Levels, connectors and (unplaced) value labels of one profile.
+
+    Returns (levels, connectors, value labels, names) where names are (position, shown name, level
+    height) for the caller to draw: overlaid profiles share a state's name when it is the same.
+    """
+    levels, connectors, labels, names = [], [], [], []
+    values = profile.values
+    marked = {label: MARK_TAGS.get(kind, kind) for kind, label in profile.marks.items()}
+    shown = None if profile.label_states is None else set(profile.label_states)
+    for i, state in enumerate(profile.states):
+        x = (i - LEVEL_HALF_WIDTH, i + LEVEL_HALF_WIDTH)
+        if state.label in marked:
+            ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH * 4, alpha=0.18,
+                    solid_capstyle="butt", gid=f"mark:{profile.name}:{i}", zorder=1)
+        (line,) = ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH,
+                          solid_capstyle="butt", gid=f"level:{profile.name}:{i}", zorder=3)
+        levels.append(line)
+        if i:
+            (conn,) = ax.plot((i - 1 + LEVEL_HALF_WIDTH, i - LEVEL_HALF_WIDTH), (values[i - 1], state.value),
+                              color=color, lw=0.6, ls=profile.style, gid=f"connector:{profile.name}:{i}", zorder=2)
+            connectors.append(conn)
+        if shown is not None and state.label not in shown:
+            continue
+        value = format_value(state.value, precision)
+        if state.label in marked:
+            value = f"{value}\n{marked[state.label]}"
+        text = _annotate(ax, value, (i, state.value), -1, color, f"value:{profile.name}:{i}")
+        labels.append(_Label(text, -1, state.value))
+        names.append((i, state_name(state), state.value))
+    return levels, connectors, labels, names
+
+
+def _annotate(ax, text: str, xy: tuple[float, float], direction: int, color: str, gid: str):
+    """A label anchored at a level's centre, offset in points above (+1) or below (-1) it."""
+    return ax.annotate(text, xy=xy, xytext=(0, direction * LABEL_GAP_PT), textcoords="offset points",
+                       ha="center", va="bottom" if direction > 0 else "top", color=color,
+                       fontsize=STYLE["font.size"], zorder=4, annotation_clip=False, gid=gid)
+
+
+def _draw_names(ax, names: list[tuple[int, str, float, str]], wrap: int) -> list[_Label]:
+    """One name label per (position, name): in the profile's colour, or grey when profiles share it."""
+    groups: dict[tuple[int, str], list[tuple[float, str]]] = {}
+    for i, name, height, color in names:
+        groups.setdefault((i, name), []).append((height, color))
+    labels = []
+    for (i, name), members in groups.items():
+        height = max(h for h, _ in members)
+        colors = {c for _, c in members}
+        color = colors.pop() if len(colors) == 1 else SHARED_NAME_COLOR
+        text = _annotate(ax, textwrap.fill(name, wrap), (i, height), +1, color, f"name:{i}:{name}")
+        labels.append(_Label(text, +1, height))
+    return labels
+
+
+def _padded(box: Bbox, pad_px: float) -> Bbox:
+    return Bbox.from_extents(box.x0 - pad_px, box.y0 - pad_px, box.x1 + pad_px, box.y1 + pad_px)
+
+
+def _segments_px(lines: list[Line2D]) -> list[MplPath]:
+    """Each line as a path in display (pixel) coordinates."""
+    return [MplPath(line.get_transform().transform(line.get_xydata())) for line in lines]
+
+
+def _level_boxes(levels: list[Line2D], fig) -> list[Bbox]:
+    """The ink of each level line (its width in points) in display coordinates."""
+    half = LEVEL_LINEWIDTH / 2 * fig.dpi / 72.0
+    boxes = []
+    for path in _segments_px(levels):
+        (x0, y0), (x1, _) = path.vertices
+        boxes.append(Bbox.from_extents(min(x0, x1), y0 - half, max(x0, x1), y0 + half))
+    return boxes
+
+
+def _clashes(box: Bbox, placed: list[Bbox], level_boxes: list[Bbox], connector_paths: list[MplPath]) -> bool:
+    return (
+        any(box.overlaps(other) for other in placed)
+        or any(box.overlaps(other) for other in level_boxes)
+        or any(path.intersects_bbox(box, filled=False) for path in connector_paths)
+    )
+
+
+def _candidate_offsets(label: _Label, height_pt: float):
+    """Offsets (points) to try: away from the level first, then, if all fail, across to its other side."""
+    d = label.direction
+    for k in range(MAX_NUDGE_STEPS):
+        yield d * (LABEL_GAP_PT + k * NUDGE_STEP_PT)
+    for k in range(MAX_NUDGE_STEPS):
+        yield -d * (LABEL_GAP_PT + height_pt + k * NUDGE_STEP_PT)
+
+
+def _place_labels(fig, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D]) -> list[Bbox]:
+    """Greedy placement: each label takes the first offset at which it clashes with nothing placed.
+
+    Names are placed from the highest level down and values from the lowest up, so that near-degenerate
+    levels stack their labels outwards in order. Returns the final boxes (display coordinates).
+    """
+    renderer = fig.canvas.get_renderer()
+    pad = LABEL_GAP_PT / 2 * fig.dpi / 72.0
+    level_boxes = [_padded(b, pad) for b in _level_boxes(levels, fig)]
+    connector_paths = _segments_px(connectors)
+    order = sorted(labels, key=lambda lab: (lab.direction < 0, -lab.direction * lab.anchor_y))
+    placed: list[Bbox] = []
+    for label in order:
+        label.artist.xyann = (0.0, label.direction * LABEL_GAP_PT)
+        height_pt = label.artist.get_window_extent(renderer).height * 72.0 / fig.dpi
+        for dy in _candidate_offsets(label, height_pt):
+            label.artist.xyann = (0.0, dy)
+            box = _padded(label.artist.get_window_extent(renderer), pad)
+            if not _clashes(box, placed, level_boxes, connector_paths):
+                break
+        placed.append(box)
+    return placed
+
+
+def _fit_ylim(ax, boxes: list[Bbox]) -> bool:
+    """Widen the y range so that every label box is inside the axes; True when it had to change."""
+    inv = ax.transData.inverted()
+    ys = [inv.transform((0.0, y))[1] for b in boxes for y in (b.y0, b.y1)]
+    lo, hi = ax.get_ylim()
+    new_lo, new_hi = min([lo, *ys]), max([hi, *ys])
+    if new_lo < lo - 1e-12 or new_hi > hi + 1e-12:
+        margin = 0.02 * (new_hi - new_lo)
+        ax.set_ylim(new_lo - margin, new_hi + margin)
+        return True
+    return False
+
+
+def plot_profiles(
+    profiles: Sequence[ProfileData], *, precision: int = 1, ax=None, title: str | None = None
+) -> Figure:
+    """Draw one or several (overlaid) energy profiles; returns the matplotlib Figure.
+
+    All profiles must share quantity and unit (the y axis). Level heights are exactly the states'
+    values; a legend names the profiles when there are several.
+    """
+    profiles = list(profiles)
+    if not profiles:
+        raise QcthermoError("no profile to draw")
+    kinds = {(p.quantity, p.unit) for p in profiles}
+    if len(kinds) > 1:
+        raise QcthermoError("profiles drawn together must share one quantity and one unit")
+    n_states = max(len(p.states) for p in profiles)
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(_profile_width(n_states)) if ax is None else ax.figure
+        if ax is None:
+            ax = fig.add_axes((0.15, 0.08 if len(profiles) > 1 else 0.04, 0.83, 0.84 if title else 0.9))
+        _style_axes(ax)
+        ax.spines["bottom"].set_visible(False)
+        ax.set_xticks([])
+        ax.set_xlim(-0.5, n_states - 0.5)
+        values = np.concatenate([p.values for p in profiles])
+        span = max(float(np.ptp(values)), 1e-3)
+        ax.set_ylim(values.min() - 0.1 * span, values.max() + 0.1 * span)
+        ax.set_ylabel(axis_label(profiles[0].quantity, profiles[0].unit))
+        wrap = _wrap_width(ax, fig)
+        levels, connectors, labels, names, handles = [], [], [], [], []
+        for k, profile in enumerate(profiles):
+            color = profile.color or PALETTE[k % len(PALETTE)]
+            lv, cn, lb, nm = _draw_profile(ax, profile, color, precision)
+            levels += lv
+            connectors += cn
+            labels += lb
+            names += [(i, name, height, color) for i, name, height in nm]
+            handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
+        labels += _draw_names(ax, names, wrap)
+        for _ in range(8):  # widening the y range moves the levels: place again until nothing sticks out
+            boxes = _place_labels(fig, labels, levels, connectors)
+            if not _fit_ylim(ax, boxes):
+                break
+        if len(profiles) > 1:
+            ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=min(len(profiles), 3),
+                      handlelength=1.5, columnspacing=1.2)
+        if title:
+            ax.set_title(title, loc="left")
+    return fig
+
+
+def _reaction_series(reactions, column: str):
+    """(reaction name, T array, values array) for every reaction with finite values in ``column``."""
+    for name, group in reactions.groupby("reaction", sort=False):
+        group = group.sort_values("T_K")
+        t = group["T_K"].to_numpy(dtype=float)
+        y = group[column].to_numpy(dtype=float)
+        ok = np.isfinite(y)
+        if ok.any():
+            yield str(name), t[ok], y[ok]
+
+
+def plot_dG_T(reactions, unit: str = "kcal/mol") -> Figure:
+    """ΔG (solid) and ΔG‡ (dashed) of every reaction against temperature, from a long reactions table."""
+    suffix = unit_suffix(unit)
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(COLUMN_WIDTH_IN)
+        ax = fig.add_axes((0.17, 0.16, 0.8, 0.8))
+        _style_axes(ax)
+        series = [("dG", f"dG_{suffix}", "-"), ("dG‡", f"dG_act_{suffix}", "--")]
+        colors: dict[str, str] = {}
+        for symbol, column, ls in series:
+            if column not in reactions:
+                continue
+            for name, t, y in _reaction_series(reactions, column):
+                color = colors.setdefault(name, PALETTE[len(colors) % len(PALETTE)])
+                label = name if symbol == "dG" else f"{name} (‡)"
+                ax.plot(t, y, ls=ls, color=color, marker="o", ms=2.5, label=label, gid=f"{column}:{name}")
+        ax.set_xlabel("T / K")
+        ax.set_ylabel(f"ΔG, ΔG‡ / {UNIT_LABELS.get(unit, unit)}")
+        ax.legend(loc="best")
+    return fig
+
+
+def plot_arrhenius(reactions, rate_column: str = "k_forward") -> Figure:
+    """ln k against 1000 K / T for every reaction with a rate constant (units as in the reactions table)."""
+    with matplotlib.rc_context(STYLE):
+        fig = _new_figure(COLUMN_WIDTH_IN)
+        ax = fig.add_axes((0.17, 0.16, 0.8, 0.8))
+        _style_axes(ax)
+        for k, (name, t, rate) in enumerate(_reaction_series(reactions, rate_column)):
+            ok = rate > 0
+            ax.plot(1000.0 / t[ok], np.log(rate[ok]), color=PALETTE[k % len(PALETTE)], marker="o", ms=2.5,
+                    label=name, gid=f"arrhenius:{name}")
+        ax.set_xlabel("1000 K / T")
+        ax.set_ylabel("ln k")
+        ax.legend(loc="best")
+    return fig
+
+
+# ---------------------------------------------------------------------------------------------------
+# files
+
+FORMATS = {".svg": "svg", ".png": "png", ".pdf": "pdf"}
+_METADATA = {"svg": {"Date": None}, "pdf": {"CreationDate": None}, "png": {}}  # reproducible files
+
+
+def save_figure(fig: Figure, path: str | Path) -> Path:
+    """Write ``fig`` as SVG, PNG (300 dpi) or PDF, chosen by the extension, atomically."""
+    path = Path(path)
+    fmt = FORMATS.get(path.suffix.lower())
+    if fmt is None:
+        raise QcthermoError(f"{path}: figure format must be .svg, .png or .pdf")
+    with matplotlib.rc_context(STYLE), atomic_open(path, "wb") as handle:
+        fig.savefig(handle, format=fmt, dpi=300, bbox_inches="tight", pad_inches=0.03, metadata=_METADATA[fmt])
+    return path
+
+
+def figure_svg(fig: Figure) -> str:
+    """The figure as an SVG string without the XML prolog, ready to inline in HTML."""
+    import io
+
+    buffer = io.BytesIO()
+    with matplotlib.rc_context(STYLE):
+        fig.savefig(buffer, format="svg", bbox_inches="tight", pad_inches=0.03, metadata=_METADATA["svg"])
+    text = buffer.getvalue().decode("utf-8")
+    return text[text.index("<svg"):]
+
+
+def _profile_temperature_index(results) -> int:
+    """The temperature a profile shows: the one nearest 298.15 K of the run's (common practice)."""
+    temps = np.atleast_1d(np.asarray(getattr(results.conditions, "temperature", 298.15), dtype=float))
+    return int(np.argmin(np.abs(temps - 298.15)))
+
+
+def run_figures(results) -> dict[str, Figure]:
+    """Every figure of a run by file stem: "profile", and with several temperatures "dG_T", "arrhenius".
+
+    Profiles that cannot be drawn (a state without energies) are left out; the audit names the cause.
+    """
+    figures: dict[str, Figure] = {}
+    unit = getattr(results, "energy_unit", "kcal/mol")
+    index = _profile_temperature_index(results)
+    profiles = []
+    for record in getattr(results, "profiles", None) or []:
+        try:
+            profiles += profiles_from_records([record], "G", unit, temperature_index=index)
+        except QcthermoError:
+            continue
+    if profiles:
+        figures["profile"] = plot_profiles(profiles)
+    reactions = getattr(results, "reactions", None)
+    if reactions is not None and len(reactions) and "T_K" in reactions and reactions["T_K"].nunique() > 1:
+        figures["dG_T"] = plot_dG_T(reactions, unit)
+        if "k_forward" in reactions and np.any(np.asarray(reactions["k_forward"], dtype=float) > 0):
+            figures["arrhenius"] = plot_arrhenius(reactions)
+    return figures
+
+
+def write_profile_figures(results, out_dir: str | Path) -> list[Path]:
+    """Write the run's figures into ``out_dir``: profile.svg/.png (all profiles overlaid) and, with a
+    temperature range, dG_T.svg and arrhenius.svg. Returns the paths written."""
+    out_dir = Path(out_dir)
+    written = []
+    for stem, fig in run_figures(results).items():
+        suffixes = (".svg", ".png") if stem == "profile" else (".svg",)
+        written += [save_figure(fig, out_dir / f"{stem}{suffix}") for suffix in suffixes]
+    return written
