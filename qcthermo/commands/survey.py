@@ -1,0 +1,91 @@
+"""``qcthermo survey DIR``: one row per log with its status, as a table, CSV and/or JSON."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from pathlib import Path
+
+from ..errors import QcthermoError
+from ..fileio import atomic_write
+from ..survey import SurveyResult, survey
+
+#: the columns of the terminal table: (heading, how to show a row)
+_TABLE = (
+    ("file", lambda r: r["path"]),
+    ("program", lambda r: r["program"] or ""),
+    ("jobs", lambda r: r["job_types"] or ""),
+    ("level", lambda r: "/".join(x for x in (r["method"], r["basis"]) if x)),
+    ("solvent", lambda r: r["solvent_model"] or ""),
+    ("q/2S+1", lambda r: "" if r["charge"] is None else f"{r['charge']}/{_blank(r['multiplicity'])}"),
+    ("formula", lambda r: r["formula"] or ""),
+    ("E / Eh", lambda r: "" if r["E_elec_Eh"] is None else f"{r['E_elec_Eh']:.6f}"),
+    ("lowest / cm⁻¹", lambda r: "" if r["lowest_frequency_cm1"] is None else f"{r['lowest_frequency_cm1']:.1f}"),
+    ("imag", lambda r: "" if r["n_imaginary"] is None else str(r["n_imaginary"])),
+    ("status", lambda r: r["status"]),
+    ("reason", lambda r: r["reason"]),
+)
+_STATUS_STYLE = {"warning": "yellow", "error": "red"}
+
+
+def _blank(value) -> str:
+    return "?" if value is None else str(value)
+
+
+def check_outputs(paths: list[str | None], force: bool) -> list[Path]:
+    """The requested output files; refuse (before any work) to overwrite one without ``force``."""
+    out = [Path(p) for p in paths if p]
+    for path in out:
+        if path.exists() and not force:
+            raise QcthermoError(f"{path} exists; use --force to overwrite it")
+        if path.is_dir():
+            raise QcthermoError(f"{path} is a directory")
+    return out
+
+
+def write_csv(result: SurveyResult, path: str | Path) -> Path:
+    return atomic_write(path, result.to_frame().to_csv(index=False))
+
+
+def write_json(result: SurveyResult, path: str | Path) -> Path:
+    """A JSON list of row objects (the CSV columns), null where the CSV is empty."""
+    return atomic_write(path, json.dumps(result.rows, indent=1) + "\n")
+
+
+def print_table(result: SurveyResult) -> None:
+    """The rows on stdout; columns empty for every file are left out, and a pipe gets 200 characters."""
+    from rich.console import Console
+    from rich.table import Table
+
+    cells = [[show(row) for _, show in _TABLE] for row in result.rows]
+    keep = [j for j in range(len(_TABLE)) if any(c[j] for c in cells)]
+    table = Table(box=None, pad_edge=False, header_style="bold")
+    for j in keep:
+        heading = _TABLE[j][0]
+        table.add_column(heading, overflow="fold", no_wrap=heading not in ("file", "reason"))
+    for row, row_cells in zip(result.rows, cells, strict=True):
+        table.add_row(*(row_cells[j] for j in keep), style=_STATUS_STYLE.get(row["status"]))
+    console = Console()
+    if not console.is_terminal:
+        console = Console(width=200)
+    console.print(table)
+
+
+def main(args: argparse.Namespace) -> int:
+    check_outputs([args.csv, args.json], args.force)
+    result = survey(args.directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
+    for note in result.notes:
+        print(f"qcthermo survey: warning: {note}", file=sys.stderr)
+    if not result.rows:
+        print(f"qcthermo survey: no log files (*.out, *.log, *.output, *.nwo) under {args.directory}",
+              file=sys.stderr)
+        return 2
+    if not args.quiet:
+        print_table(result)
+    if args.csv:
+        write_csv(result, args.csv)
+    if args.json:
+        write_json(result, args.json)
+    print(result.summary())
+    return result.exit_status

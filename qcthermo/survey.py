@@ -1,0 +1,448 @@
+"""Survey a directory of quantum-chemistry logs: find them, read them in parallel, audit each one.
+
+``survey(directory)`` walks the tree, reads every candidate file with the reader (through the parse
+cache, :mod:`qcthermo.cache`), and gives one row per file with its status: "ok", "warning" (usable,
+but look: abnormal termination, unconverged optimisation, unexpected imaginary modes, unknown
+multiplicity) or "error" (unreadable, with the reader's one-line reason). Decisions are in
+docs/survey.md.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import hashlib
+import importlib
+import importlib.metadata
+import importlib.util
+import inspect
+import multiprocessing
+import os
+from collections.abc import Callable, Iterator
+from concurrent.futures import ProcessPoolExecutor, as_completed
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from . import __version__
+from .cache import Entry, FileKey, ParseCache, default_cache_dir
+from .errors import LogReadError, QcthermoError
+from .progress import ProgressBar
+from .records import JOB_TYPES, Calculation
+
+#: file names (case-insensitive suffixes) read as logs
+CANDIDATE_SUFFIXES = (".out", ".log", ".output", ".nwo")
+#: directory names never entered (besides hidden ones and virtual environments)
+SKIPPED_DIRS = frozenset({"__pycache__", "node_modules", "site-packages"})
+#: columns of the survey table (DESIGN.md section 4)
+COLUMNS = (
+    "path", "program", "program_version", "job_types", "method", "basis", "solvent_model", "charge",
+    "multiplicity", "formula", "natoms", "E_elec_Eh", "lowest_frequency_cm1", "n_imaginary",
+    "normal_termination", "status", "reason",
+)
+#: most files sent to a worker at once (small enough to keep both cores busy to the end)
+MAX_CHUNK = 8
+
+Reader = Callable[[str], Calculation]
+
+
+# -- finding the logs ------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class Candidate:
+    """A file to read: its path relative to the surveyed directory (POSIX form) and its stat key."""
+
+    relpath: str
+    key: FileKey
+
+
+def find_candidates(
+    root: str | os.PathLike, skip: tuple[str | os.PathLike, ...] = ()
+) -> tuple[list[Candidate], list[str]]:
+    """All candidate logs under ``root``, sorted by relative path, and notes on directories not listed.
+
+    Hidden files and directories, virtual environments (a ``pyvenv.cfg`` inside), :data:`SKIPPED_DIRS`
+    and the directories in ``skip`` (the cache) are left out. Symbolic links are followed, each
+    directory entered once (by device and inode), so a link loop ends.
+    """
+    root = Path(root)
+    seen: set[tuple[int, int]] = set()
+    for path in skip:
+        try:
+            st = os.stat(path)
+        except OSError:
+            continue
+        seen.add((st.st_dev, st.st_ino))
+    found: list[Candidate] = []
+    notes: list[str] = []
+    for relpath, entry in _walk(root, "", seen, notes):
+        try:
+            st = entry.stat()
+        except OSError as err:
+            notes.append(f"{relpath}: cannot stat ({err.strerror})")
+            continue
+        found.append(Candidate(relpath, FileKey(os.path.abspath(entry.path), st.st_size, st.st_mtime_ns)))
+    found.sort(key=lambda c: c.relpath)
+    return found, notes
+
+
+def _walk(root: Path, prefix: str, seen: set[tuple[int, int]], notes: list[str]) -> Iterator[tuple[str, os.DirEntry]]:
+    directory = root / prefix if prefix else root
+    try:
+        st = directory.stat()
+        if (st.st_dev, st.st_ino) in seen:
+            return
+        seen.add((st.st_dev, st.st_ino))
+        with os.scandir(directory) as it:
+            entries = sorted(it, key=lambda e: e.name)
+    except OSError as err:
+        notes.append(f"{prefix or '.'}: cannot list directory ({err.strerror})")
+        return
+    for entry in entries:
+        if entry.name.startswith("."):
+            continue
+        relpath = f"{prefix}/{entry.name}" if prefix else entry.name
+        try:
+            is_dir, is_file = entry.is_dir(), entry.is_file()
+        except OSError:
+            continue
+        if is_dir:
+            if entry.name not in SKIPPED_DIRS and not os.path.exists(os.path.join(entry.path, "pyvenv.cfg")):
+                yield from _walk(root, relpath, seen, notes)
+        elif is_file and entry.name.lower().endswith(CANDIDATE_SUFFIXES):
+            yield relpath, entry
+
+
+# -- reading, in this process or in workers ------------------------------------------------------
+
+
+def default_reader(path: str) -> Calculation:
+    """``qcthermo.read_log``, imported on first use (a fully cached survey never imports the parsers)."""
+    from .readers import read_log
+
+    return read_log(path)
+
+
+def reader_version(reader: Reader | None = None) -> str:
+    """A string that changes whenever the reader's results may change, to invalidate the cache.
+
+    qcthermo's version, cclib's installed version, and a digest of the reader's source: every file of
+    the ``qcthermo.readers`` package for the default reader (so any edit to a reader or a version
+    constant in it counts), the defining file and name of any other reader.
+    """
+    digest = hashlib.blake2b(digest_size=8)
+    if reader is None or reader is default_reader:
+        spec = importlib.util.find_spec("qcthermo.readers")
+        locations = list(spec.submodule_search_locations or []) if spec else []
+        sources = sorted(p for loc in locations for p in Path(loc).rglob("*.py"))
+        name = "qcthermo.readers"
+    else:
+        try:
+            sources = [Path(inspect.getsourcefile(reader) or "")]
+        except TypeError:
+            sources = []
+        name = f"{getattr(reader, '__module__', '')}.{getattr(reader, '__qualname__', repr(reader))}"
+    for source in sources:
+        if source.is_file():
+            digest.update(source.read_bytes())
+    try:
+        cclib_version = importlib.metadata.version("cclib")
+    except importlib.metadata.PackageNotFoundError:
+        cclib_version = "none"
+    return f"qcthermo-{__version__}:cclib-{cclib_version}:{name}:{digest.hexdigest()}"
+
+
+def read_one(reader: Reader, path: str) -> tuple[str, Any]:
+    """("ok", Calculation dict) | ("error", reason) | ("failure", reason); never raises.
+
+    "failure" is an outcome that may not repeat (out of memory) and is not cached.
+    """
+    try:
+        calc = reader(path)
+    except LogReadError as err:
+        return "error", err.reason
+    except MemoryError:
+        return "failure", "ran out of memory while reading"
+    except Exception as err:  # a reader bug must not stop the batch: report it on this file's row
+        return "error", _one_line(f"reader failed unexpectedly: {type(err).__name__}: {err}")
+    return "ok", calc.to_dict()
+
+
+def read_chunk(reader: Reader, paths: list[str]) -> list[tuple[str, Any]]:
+    """:func:`read_one` over a few files (the unit of work sent to a worker process)."""
+    return [read_one(reader, p) for p in paths]
+
+
+def _one_line(text: str) -> str:
+    return " ".join(str(text).split())
+
+
+def _chunks(items: list, jobs: int) -> list[list]:
+    size = max(1, min(MAX_CHUNK, len(items) // (jobs * 8)))
+    return [items[i : i + size] for i in range(0, len(items), size)]
+
+
+def _pool(workers: int) -> ProcessPoolExecutor:
+    # fork shares the parent's already-imported reader (cclib takes most of a second to import)
+    methods = multiprocessing.get_all_start_methods()
+    context = multiprocessing.get_context("fork" if "fork" in methods else None)
+    return ProcessPoolExecutor(max_workers=workers, mp_context=context)
+
+
+def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[[int, tuple[str, Any]], None]) -> None:
+    """Read ``paths`` with ``jobs`` worker processes; ``report(index, outcome)`` as each file is done.
+
+    A worker that dies (a crash in a compiled library, the out-of-memory killer) breaks the pool; the
+    files it held are read again one at a time, each in a fresh pool, so only the file that kills its
+    worker is reported as a failure.
+    """
+    indexed = list(enumerate(paths))
+    retry: list[tuple[int, str]] = []
+    pool = _pool(min(jobs, len(indexed)))
+    try:
+        futures = {pool.submit(read_chunk, reader, [p for _, p in chunk]): chunk for chunk in _chunks(indexed, jobs)}
+        for future in as_completed(futures):
+            chunk = futures[future]
+            try:
+                outcomes = future.result()
+            except Exception:  # BrokenProcessPool, or a result that could not be sent back
+                retry.extend(chunk)
+                continue
+            for (index, _), outcome in zip(chunk, outcomes, strict=True):
+                report(index, outcome)
+    finally:
+        pool.shutdown(wait=True, cancel_futures=True)
+    for index, path in sorted(retry):
+        report(index, _read_isolated(reader, path))
+
+
+def _read_isolated(reader: Reader, path: str) -> tuple[str, Any]:
+    with _pool(1) as pool:
+        try:
+            return pool.submit(read_one, reader, path).result()
+        except Exception as err:
+            return "failure", _one_line(f"the reading process died ({type(err).__name__}); the file may be damaged")
+
+
+# -- auditing one file ---------------------------------------------------------------------------
+
+
+def audit(calc: Calculation) -> list[str]:
+    """The warnings a chemist wants to see before using this file; empty when nothing is wrong."""
+    reasons = []
+    if calc.normal_termination is False:
+        reasons.append("abnormal termination")
+    if "optimization" in calc.job_types and calc.optimization_converged is False:
+        reasons.append("optimisation not converged")
+    if calc.frequencies is not None:
+        n_imag = calc.n_imaginary
+        if "saddle-search" in calc.job_types:
+            if n_imag != 1:
+                reasons.append(f"saddle search with {n_imag} imaginary modes (a transition state has exactly 1)")
+        elif n_imag:
+            lowest = float(calc.frequencies.min())
+            reasons.append(f"{n_imag} imaginary mode{'s' * (n_imag > 1)} (lowest {lowest:.1f} cm^-1) "
+                           "on a job that is not a saddle search")
+    if calc.multiplicity is None:
+        reasons.append("multiplicity unknown")
+    return reasons
+
+
+def job_types_label(job_types) -> str:
+    """"optimization+frequencies": known kinds in workflow order, then any others alphabetically."""
+    known = [j for j in JOB_TYPES if j in job_types]
+    return "+".join(known + sorted(set(job_types) - set(JOB_TYPES)))
+
+
+def calculation_row(relpath: str, calc: Calculation) -> dict[str, Any]:
+    """The survey row of a file that was read."""
+    reasons = audit(calc)
+    freqs = calc.frequencies
+    return {
+        "path": relpath,
+        "program": calc.program,
+        "program_version": calc.program_version,
+        "job_types": job_types_label(calc.job_types),
+        "method": calc.method,
+        "basis": calc.basis,
+        "solvent_model": calc.solvent_model,
+        "charge": calc.charge,
+        "multiplicity": calc.multiplicity,
+        "formula": calc.formula,
+        "natoms": calc.natoms,
+        "E_elec_Eh": None if calc.energy is None else float(calc.energy),
+        "lowest_frequency_cm1": float(freqs.min()) if freqs is not None and len(freqs) else None,
+        # no frequency job: blank, not 0 (0 would read as "checked: a minimum")
+        "n_imaginary": None if freqs is None else calc.n_imaginary,
+        "normal_termination": calc.normal_termination,
+        "status": "warning" if reasons else "ok",
+        "reason": "; ".join(reasons),
+    }
+
+
+def error_row(relpath: str, reason: str) -> dict[str, Any]:
+    """The survey row of a file that could not be read."""
+    row = dict.fromkeys(COLUMNS)
+    row.update(path=relpath, status="error", reason=reason)
+    return row
+
+
+# -- the survey ----------------------------------------------------------------------------------
+
+
+@dataclass
+class SurveyResult:
+    """What a survey found.
+
+    Attributes:
+        directory: the surveyed directory, as given.
+        rows: one dict per candidate file (keys :data:`COLUMNS`), sorted by path.
+        calculations: relative path -> Calculation, for the files that were read (status ok or warning);
+            each Calculation's ``path`` is ``directory / relative path``.
+        errors: relative path -> one-line reason, for the files that could not be read.
+        notes: one-line warnings about the survey itself (directories not listed, the cache).
+        stats: counts: "files", "parsed" (by the reader), "cached" (served by the cache), "hashed".
+    """
+
+    directory: str
+    rows: list[dict[str, Any]] = field(default_factory=list)
+    calculations: dict[str, Calculation] = field(default_factory=dict)
+    errors: dict[str, str] = field(default_factory=dict)
+    notes: list[str] = field(default_factory=list)
+    stats: dict[str, int] = field(default_factory=dict)
+
+    def counts(self) -> dict[str, int]:
+        """{"ok": n, "warning": n, "error": n}."""
+        out = {"ok": 0, "warning": 0, "error": 0}
+        for row in self.rows:
+            out[row["status"]] += 1
+        return out
+
+    @property
+    def exit_status(self) -> int:
+        """0 every file read (warnings allowed), 1 some errors but something usable, 2 nothing usable."""
+        if not self.calculations:
+            return 2
+        return 1 if self.errors else 0
+
+    def summary(self) -> str:
+        c = self.counts()
+        n = len(self.rows)
+        return f"{n} file{'s' * (n != 1)}: {c['ok']} ok, {c['warning']} warning, {c['error']} error"
+
+    def to_frame(self):
+        """The rows as a pandas DataFrame with :data:`COLUMNS` (nullable integer and boolean columns)."""
+        import pandas as pd
+
+        frame = pd.DataFrame(self.rows, columns=list(COLUMNS))
+        dtypes = {c: "Int64" for c in ("charge", "multiplicity", "natoms", "n_imaginary")}
+        dtypes.update({"E_elec_Eh": "Float64", "lowest_frequency_cm1": "Float64", "normal_termination": "boolean"})
+        return frame.astype(dtypes)
+
+
+def survey(
+    directory: str | os.PathLike,
+    *,
+    jobs: int | None = None,
+    cache: bool = True,
+    progress: bool = False,
+    reader: Reader | None = None,
+) -> SurveyResult:
+    """Read every candidate log under ``directory`` and audit it; see :class:`SurveyResult`.
+
+    Args:
+        jobs: worker processes (None: every core; 1: read in this process, no pool).
+        cache: use the parse cache (:func:`qcthermo.cache.default_cache_dir`).
+        progress: show a progress bar on stderr (only if stderr is a terminal).
+        reader: a function path -> Calculation raising LogReadError; default :func:`qcthermo.read_log`.
+
+    Raises:
+        QcthermoError: ``directory`` does not exist or is not a directory.
+    """
+    root = Path(directory)
+    if not root.is_dir():
+        raise QcthermoError(f"{directory}: {'not a directory' if root.exists() else 'no such directory'}")
+    reader = reader or default_reader
+    jobs = max(1, jobs or os.cpu_count() or 1)
+    cache_dir = default_cache_dir()
+    candidates, notes = find_candidates(root, skip=(cache_dir,))
+    result = SurveyResult(str(directory), notes=notes)
+    outcomes: list[tuple[str, Any] | None] = [None] * len(candidates)
+    store = ParseCache(reader_version(reader), cache_dir) if cache and candidates else None
+    try:
+        with ProgressBar(len(candidates), "reading logs", enabled=progress) as bar:
+            misses = _from_cache(store, candidates, outcomes, bar)
+            _parse(reader, candidates, misses, outcomes, jobs, store, bar)
+    finally:
+        if store is not None:
+            store.close()
+            result.notes.extend(store.warnings)
+    _collect(result, root, candidates, outcomes)
+    result.stats = {
+        "files": len(candidates),
+        "parsed": len(misses),
+        "cached": len(candidates) - len(misses),
+        "hashed": store.hashed if store is not None else 0,
+    }
+    return result
+
+
+def _from_cache(
+    store: ParseCache | None, candidates: list[Candidate], outcomes: list, bar: ProgressBar
+) -> list[tuple[int, str | None]]:
+    """Fill ``outcomes`` from the cache; return (index, digest) of the files still to parse."""
+    misses = []
+    for index, cand in enumerate(candidates):
+        entry, digest = (None, None)
+        if store is not None:
+            try:
+                entry, digest = store.lookup(cand.key)
+            except OSError as err:  # vanished or unreadable since the walk
+                outcomes[index] = ("error", f"cannot read the file ({err.strerror})")
+                bar.advance()
+                continue
+        if entry is None:
+            misses.append((index, digest))
+        else:
+            outcomes[index] = ("ok", entry.record) if entry.ok else ("error", entry.reason)
+            bar.advance()
+    return misses
+
+
+def _parse(reader: Reader, candidates: list[Candidate], misses: list[tuple[int, str | None]], outcomes: list,
+           jobs: int, store: ParseCache | None, bar: ProgressBar) -> None:
+    """Read the files the cache did not know, store what was found, fill ``outcomes``."""
+    if not misses:
+        return
+    paths = [candidates[i].key.path for i, _ in misses]
+
+    def report(k: int, outcome: tuple[str, Any]) -> None:
+        index, digest = misses[k]
+        outcomes[index] = outcome
+        kind, payload = outcome
+        if store is not None and kind != "failure":
+            ok = kind == "ok"
+            store.store(candidates[index].key, digest, Entry(ok, record=payload if ok else None,
+                                                             reason="" if ok else payload))
+        bar.advance()
+
+    if jobs == 1 or len(paths) == 1:
+        for k, path in enumerate(paths):
+            report(k, read_one(reader, path))
+        return
+    if reader is default_reader:
+        with contextlib.suppress(ImportError):  # without readers each file reports the failure itself
+            importlib.import_module("qcthermo.readers")  # once here, shared by the forked workers
+    read_parallel(reader, paths, jobs, report)
+
+
+def _collect(result: SurveyResult, root: Path, candidates: list[Candidate], outcomes: list) -> None:
+    for cand, (kind, payload) in zip(candidates, outcomes, strict=True):
+        if kind == "ok":
+            record = dict(payload, path=str(root / cand.relpath))
+            calc = Calculation.from_dict(record)
+            result.calculations[cand.relpath] = calc
+            result.rows.append(calculation_row(cand.relpath, calc))
+        else:
+            result.errors[cand.relpath] = payload
+            result.rows.append(error_row(cand.relpath, payload))
