@@ -1,0 +1,500 @@
+"""Ideal-gas / dilute-solution thermochemistry: partition functions, low-mode models, standard states.
+
+Units: energies hartree (Eh) per molecule, entropies and heat capacities Eh/K per molecule, temperatures
+K, wavenumbers cm^-1, masses dalton (u), moments of inertia u*angstrom^2, volumes m^3 per molecule.
+
+Each physical quantity is one small function with its equation and source. They broadcast with numpy:
+temperatures on one axis, modes on another, molecules on a third, so a whole batch of molecules over a
+whole temperature grid is a handful of array operations (:func:`thermo_arrays`). The textbook treatment
+follows D. A. McQuarrie, Statistical Mechanics (Harper & Row 1976; University Science Books 2000),
+chapters 5, 8 and 9.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .cleaning import clean_modes
+from .errors import ThermoError
+from .geometry import AMU_ANGSTROM2_KG_M2, principal_moments
+from .records import Conditions, Molecule, ThermoResult, parse_standard_state
+from .scaling import resolve_scale_factors
+from .units import AMU, C_LIGHT, H_PLANCK, K_B, K_B_EH, N_A
+
+COMPONENTS = ("translational", "rotational", "vibrational", "electronic")
+
+#: largest number of (molecule, temperature, mode) elements evaluated at once (memory bound)
+_CHUNK_ELEMENTS = 2_000_000
+
+
+# --------------------------------------------------------------------------------------------------
+# translation
+
+
+def standard_volume(temperature, standard_state: str = "1atm", pressure: float | None = None):
+    """Volume per molecule of the standard state, m^3.
+
+    Gas: V = k T / p (ideal gas at pressure p; "1atm" 101325 Pa, "1bar" 1e5 Pa, or ``pressure`` in Pa,
+    which wins). Solution: V = 1 / (N_A c), c in mol/m^3 ("1M" = 1000 mol/m^3; "55.3M" etc.).
+    McQuarrie, Statistical Mechanics, eq. 5-16; the concentration form is the usual choice for solutes
+    (common practice).
+    """
+    temperature = np.asarray(temperature, dtype=float)
+    if pressure is not None:
+        return K_B * temperature / float(pressure)
+    kind, value = parse_standard_state(standard_state)
+    if kind == "pressure":
+        return K_B * temperature / value
+    return np.full_like(temperature, 1.0 / (N_A * value * 1000.0))
+
+
+def translational_partition_function(mass_u, temperature, volume_m3):
+    """q_t = (2 pi m k T / h^2)^(3/2) V (McQuarrie eq. 5-12), dimensionless."""
+    m = np.asarray(mass_u) * AMU
+    return (2.0 * np.pi * m * K_B * np.asarray(temperature) / H_PLANCK**2) ** 1.5 * volume_m3
+
+
+def translational_entropy(mass_u, temperature, volume_m3):
+    """Sackur-Tetrode: S_t = k [ln(q_t) + 5/2] with q_t per molecule in volume V (McQuarrie eq. 5-20), Eh/K."""
+    return K_B_EH * (np.log(translational_partition_function(mass_u, temperature, volume_m3)) + 2.5)
+
+
+def translational_energy(temperature):
+    """U_t = 3/2 k T (McQuarrie eq. 5-17), Eh."""
+    return 1.5 * K_B_EH * np.asarray(temperature)
+
+
+# --------------------------------------------------------------------------------------------------
+# rotation
+
+
+def rotational_temperatures(moments_u_a2):
+    """Theta_i = h^2 / (8 pi^2 I_i k) (McQuarrie eq. 6-32), K, for moments of inertia in u*angstrom^2."""
+    inertia = np.asarray(moments_u_a2, dtype=float) * AMU_ANGSTROM2_KG_M2
+    return H_PLANCK**2 / (8.0 * np.pi**2 * inertia * K_B)
+
+
+def rotational_partition_function_linear(theta, symmetry_number, temperature):
+    """q_r = T / (sigma Theta) (McQuarrie eq. 6-33; high-temperature limit), dimensionless."""
+    return np.asarray(temperature) / (symmetry_number * np.asarray(theta))
+
+
+def rotational_partition_function_nonlinear(theta_abc, symmetry_number, temperature):
+    """q_r = sqrt(pi)/sigma (T^3 / (Theta_A Theta_B Theta_C))^(1/2) (McQuarrie eq. 8-21), dimensionless.
+
+    ``theta_abc`` has the three rotational temperatures on its last axis.
+    """
+    product = np.prod(np.asarray(theta_abc), axis=-1)
+    return np.sqrt(np.pi) / symmetry_number * np.sqrt(np.asarray(temperature) ** 3 / product)
+
+
+def rotational_entropy(q_rot, rotational_dof):
+    """S_r = k [ln q_r + d/2] for d = 2 (linear) or 3 (nonlinear) classical degrees of freedom, Eh/K.
+
+    From S = k ln q + U/T with U_r = d/2 k T (McQuarrie eqs. 6-36, 8-23).
+    """
+    return K_B_EH * (np.log(q_rot) + 0.5 * np.asarray(rotational_dof))
+
+
+def rotational_energy(temperature, rotational_dof):
+    """U_r = d/2 k T (equipartition; McQuarrie eqs. 6-35, 8-22), Eh."""
+    return 0.5 * np.asarray(rotational_dof) * K_B_EH * np.asarray(temperature)
+
+
+# --------------------------------------------------------------------------------------------------
+# vibration (harmonic oscillator), per mode
+
+
+def vibrational_temperatures(wavenumbers):
+    """Theta_v = h c nu~ / k, K, for wavenumbers in cm^-1 (McQuarrie eq. 6-22)."""
+    return H_PLANCK * C_LIGHT * 100.0 * np.asarray(wavenumbers) / K_B
+
+
+def harmonic_partition_function(theta_v, temperature):
+    """q_v = exp(-Theta/2T) / (1 - exp(-Theta/T)), levels (n + 1/2) h nu (McQuarrie eq. 6-21)."""
+    x = np.asarray(theta_v) / np.asarray(temperature)
+    return np.exp(-0.5 * x) / -np.expm1(-x)
+
+
+def harmonic_zpe(theta_v):
+    """Zero-point energy of one mode, h nu / 2 = k Theta / 2, Eh."""
+    return 0.5 * K_B_EH * np.asarray(theta_v)
+
+
+def harmonic_thermal_energy(theta_v, temperature):
+    """U_v - ZPE = k Theta / (exp(Theta/T) - 1) per mode (McQuarrie eq. 6-23), Eh."""
+    x = np.asarray(theta_v) / np.asarray(temperature)
+    with np.errstate(over="ignore"):
+        return K_B_EH * np.asarray(theta_v) / np.expm1(x)
+
+
+def harmonic_entropy(theta_v, temperature):
+    """S_v = k [x / (e^x - 1) - ln(1 - e^-x)], x = Theta/T, per mode (McQuarrie eq. 6-24 via S = U/T + k ln q), Eh/K."""
+    x = np.asarray(theta_v) / np.asarray(temperature)
+    with np.errstate(over="ignore"):
+        return K_B_EH * (x / np.expm1(x) - np.log(-np.expm1(-x)))
+
+
+def harmonic_heat_capacity(theta_v, temperature):
+    """C_v = k x^2 e^x / (e^x - 1)^2 = k (x/2)^2 / sinh^2(x/2), x = Theta/T, per mode (McQuarrie eq. 6-25), Eh/K."""
+    half = 0.5 * np.asarray(theta_v) / np.asarray(temperature)
+    with np.errstate(over="ignore"):
+        return K_B_EH * (half / np.sinh(half)) ** 2
+
+
+# --------------------------------------------------------------------------------------------------
+# low-frequency modes
+
+
+def grimme_weight(wavenumbers, threshold):
+    """Damping w = 1 / (1 + (nu0/nu)^4), 1 for stiff modes, 0 for soft ones.
+
+    S. Grimme, Chem. Eur. J. 2012, 18, 9955, eq. 8 (after Chai and Head-Gordon's damping function).
+    """
+    return 1.0 / (1.0 + (threshold / np.asarray(wavenumbers)) ** 4)
+
+
+def free_rotor_entropy(wavenumbers, temperature, average_inertia_kg_m2=1e-44):
+    """Entropy of a free rotor with the moment of a vibration of wavenumber nu, Eh/K.
+
+    mu = h / (8 pi^2 nu c) (eq. 4), mu' = mu B_av / (mu + B_av) (eq. 5),
+    S_R = k [1/2 + ln((8 pi^3 mu' k T / h^2)^(1/2))] (eq. 6) of S. Grimme, Chem. Eur. J. 2012, 18, 9955;
+    B_av = 1e-44 kg m^2 there.
+    """
+    mu = H_PLANCK / (8.0 * np.pi**2 * C_LIGHT * 100.0 * np.asarray(wavenumbers))
+    mu_eff = mu * average_inertia_kg_m2 / (mu + average_inertia_kg_m2)
+    arg = 8.0 * np.pi**3 * mu_eff * K_B * np.asarray(temperature) / H_PLANCK**2
+    return K_B_EH * (0.5 + 0.5 * np.log(arg))
+
+
+def qrrho_entropy(wavenumbers, temperature, threshold, average_inertia_kg_m2=1e-44):
+    """Quasi-RRHO mode entropy S = w S_HO + (1 - w) S_R (S. Grimme, Chem. Eur. J. 2012, 18, 9955, eq. 7), Eh/K."""
+    w = grimme_weight(wavenumbers, threshold)
+    s_ho = harmonic_entropy(vibrational_temperatures(wavenumbers), temperature)
+    return w * s_ho + (1.0 - w) * free_rotor_entropy(wavenumbers, temperature, average_inertia_kg_m2)
+
+
+def head_gordon_energy(harmonic_energy, wavenumbers, temperature, threshold):
+    """Mode energy (ZPE + thermal) interpolated towards the free-rotor kT/2: U = w U_HO + (1 - w) k T / 2, Eh.
+
+    Y.-P. Li, J. Gomes, S. M. Sharada, A. T. Bell, M. Head-Gordon, J. Phys. Chem. C 2015, 119, 1840,
+    with Grimme's weight w and threshold.
+    """
+    w = grimme_weight(wavenumbers, threshold)
+    return w * harmonic_energy + (1.0 - w) * 0.5 * K_B_EH * np.asarray(temperature)
+
+
+def head_gordon_heat_capacity(harmonic_cv, wavenumbers, threshold):
+    """d/dT of :func:`head_gordon_energy` (w does not depend on T): C_v = w C_v,HO + (1 - w) k / 2, Eh/K."""
+    w = grimme_weight(wavenumbers, threshold)
+    return w * harmonic_cv + (1.0 - w) * 0.5 * K_B_EH
+
+
+def quasi_harmonic_wavenumbers(wavenumbers, threshold):
+    """Real modes below the threshold raised to it (R. F. Ribeiro, A. V. Marenich, C. J. Cramer, D. G. Truhlar,
+    J. Phys. Chem. B 2011, 115, 14556: 100 cm^-1), cm^-1."""
+    return np.maximum(np.asarray(wavenumbers), threshold)
+
+
+# --------------------------------------------------------------------------------------------------
+# electronic
+
+
+def electronic_entropy(degeneracy):
+    """S_e = k ln g0 for a ground level of degeneracy g0 and no accessible excited levels (McQuarrie eq. 5-27), Eh/K."""
+    return K_B_EH * np.log(np.asarray(degeneracy, dtype=float))
+
+
+# --------------------------------------------------------------------------------------------------
+# the batch engine
+
+
+@dataclass
+class PreparedMolecules:
+    """n molecules stacked for the vectorised engine (after cleaning and symmetry).
+
+    Attributes:
+        energy: (n,) electronic energies, Eh.
+        mass: (n,) total masses, u.
+        moments: (n, 3) principal moments, u*angstrom^2, ascending.
+        rotational_dof: (n,) 0 (atom), 2 (linear) or 3.
+        symmetry_number: (n,) rotational symmetry numbers.
+        degeneracy: (n,) electronic ground-level degeneracies.
+        frequencies: (n, m) real wavenumbers, cm^-1, unscaled; padding where ``mask`` is False.
+        mask: (n, m) True for real modes.
+        thermal_scale, zpe_scale: (n,) frequency scale factors.
+    """
+
+    energy: np.ndarray
+    mass: np.ndarray
+    moments: np.ndarray
+    rotational_dof: np.ndarray
+    symmetry_number: np.ndarray
+    degeneracy: np.ndarray
+    frequencies: np.ndarray
+    mask: np.ndarray
+    thermal_scale: np.ndarray
+    zpe_scale: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.energy)
+
+
+@dataclass
+class MoleculeInfo:
+    """What the preparation of one molecule decided (reported on its ThermoResult)."""
+
+    point_group: str | None
+    symmetry_number: int
+    chiral: bool | None
+    linear: bool
+    frequencies: np.ndarray
+    imaginary_frequency: float | None
+    scale_factors: dict
+    notes: list[str] = field(default_factory=list)
+
+
+def _symmetry(molecule: Molecule, linear: bool) -> tuple[str | None, int, bool | None, list[str]]:
+    """Point group, symmetry number, chirality and notes; an explicit symmetry number wins."""
+    if molecule.natoms == 1:
+        return "Kh", 1, False, []
+    try:
+        from .symmetry import analyse_symmetry
+    except ImportError:  # temporary: the symmetry module is not in the tree yet
+        sigma = molecule.symmetry_number or 1
+        return None, int(sigma), None, [f"warning: no symmetry analysis available; symmetry number {sigma}"]
+    info = analyse_symmetry(molecule.symbols, molecule.coordinates, molecule.masses)
+    notes = []
+    if info.linear != linear:
+        notes.append(f"warning: point group {info.point_group} disagrees with the linearity test (linear={linear})")
+    if molecule.symmetry_number is not None:
+        sigma = int(molecule.symmetry_number)
+        notes.append(f"symmetry number {sigma} given (geometry: {info.point_group}, {info.symmetry_number})")
+    else:
+        sigma = int(info.symmetry_number)
+        notes.append(f"point group {info.point_group}, symmetry number {sigma}" + (", chiral" if info.chiral else ""))
+    return info.point_group, sigma, bool(info.chiral), notes
+
+
+def prepare_molecule(molecule: Molecule, conditions: Conditions) -> MoleculeInfo:
+    """Clean the modes, find the symmetry and the scale factors of one molecule; raise ThermoError if refused."""
+    modes = clean_modes(molecule, conditions)
+    if molecule.natoms > 1 and len(modes.frequencies) == 0 and not molecule.transition_state:
+        raise ThermoError(f"{molecule.name or molecule.source or molecule.formula}: no vibrational frequencies")
+    point_group, sigma, chiral, sym_notes = _symmetry(molecule, modes.linear)
+    try:
+        thermal, zpe, source, scale_notes = resolve_scale_factors(
+            conditions.frequency_scale, conditions.zpe_scale, molecule.level_of_theory
+        )
+    except ValueError as err:
+        raise ThermoError(str(err)) from None
+    scale = {"thermal": thermal, "zpe": zpe}
+    if source:
+        scale["source"] = source
+    return MoleculeInfo(
+        point_group=point_group,
+        symmetry_number=sigma,
+        chiral=chiral,
+        linear=modes.linear,
+        frequencies=modes.frequencies,
+        imaginary_frequency=modes.imaginary_frequency,
+        scale_factors=scale,
+        notes=modes.notes + sym_notes + scale_notes,
+    )
+
+
+def stack_molecules(molecules: list[Molecule], infos: list[MoleculeInfo]) -> PreparedMolecules:
+    """Stack prepared molecules into the arrays of :class:`PreparedMolecules` (modes padded to the longest)."""
+    n = len(molecules)
+    width = max((len(i.frequencies) for i in infos), default=0)
+    freqs = np.ones((n, width))
+    mask = np.zeros((n, width), dtype=bool)
+    for row, info in enumerate(infos):
+        freqs[row, : len(info.frequencies)] = info.frequencies
+        mask[row, : len(info.frequencies)] = True
+    return PreparedMolecules(
+        energy=np.array([m.energy for m in molecules], dtype=float),
+        mass=np.array([m.mass for m in molecules], dtype=float),
+        moments=np.array([principal_moments(m.coordinates, m.masses)[0] for m in molecules]).reshape(n, 3),
+        rotational_dof=np.array(
+            [0 if m.natoms == 1 else 2 if i.linear else 3 for m, i in zip(molecules, infos, strict=True)]
+        ),
+        symmetry_number=np.array([i.symmetry_number for i in infos], dtype=float),
+        degeneracy=np.array([m.electronic_degeneracy or m.multiplicity for m in molecules], dtype=float),
+        frequencies=freqs,
+        mask=mask,
+        thermal_scale=np.array([i.scale_factors["thermal"] for i in infos], dtype=float),
+        zpe_scale=np.array([i.scale_factors["zpe"] for i in infos], dtype=float),
+    )
+
+
+def _rotor_inertia(prepared: PreparedMolecules, rotor_inertia) -> np.ndarray:
+    """B_av per molecule, kg m^2: the given constant, or the mean principal moment ("molecular")."""
+    if isinstance(rotor_inertia, str):
+        if rotor_inertia != "molecular":
+            raise ThermoError(f"rotor inertia {rotor_inertia!r}: expected a number (kg m^2) or 'molecular'")
+        return prepared.moments.mean(axis=1) * AMU_ANGSTROM2_KG_M2
+    return np.full(len(prepared), float(rotor_inertia))
+
+
+def _rotational_terms(prepared: PreparedMolecules, t: np.ndarray) -> dict[str, np.ndarray]:
+    """S, U, Cv of rotation, (n, nT); atoms get zeros."""
+    dof = prepared.rotational_dof[:, None]
+    safe = np.where(prepared.moments > 0, prepared.moments, 1.0)
+    theta = rotational_temperatures(safe)
+    sigma = prepared.symmetry_number[:, None]
+    q_lin = rotational_partition_function_linear(theta[:, 2:3], sigma, t)
+    q_non = rotational_partition_function_nonlinear(theta[:, None, :], sigma, t)
+    q = np.where(dof == 3, q_non, np.where(dof == 2, q_lin, 1.0))
+    s = np.where(dof > 0, rotational_entropy(q, dof), 0.0)
+    u = rotational_energy(t, dof)
+    return {"S": s, "U": u, "Cv": np.broadcast_to(0.5 * dof * K_B_EH, u.shape)}
+
+
+def _vibrational_terms(
+    prepared: PreparedMolecules, t: np.ndarray, model: str, threshold: float, b_av: np.ndarray
+) -> dict[str, np.ndarray]:
+    """Vibrational ZPE (n,), and U (with ZPE), S, Cv (n, nT) under RRHO ("rrho_*") and under ``model``."""
+    mask = prepared.mask[:, None, :]
+    nu = prepared.frequencies * prepared.thermal_scale[:, None]
+    nu_zpe = prepared.frequencies * prepared.zpe_scale[:, None]
+    tt = t[None, :, None]
+
+    def harmonic(nu_t, nu_z):
+        theta = vibrational_temperatures(nu_t)[:, None, :]
+        zpe = harmonic_zpe(vibrational_temperatures(nu_z))[:, None, :]
+        return zpe, zpe + harmonic_thermal_energy(theta, tt), harmonic_entropy(theta, tt), harmonic_heat_capacity(
+            theta, tt
+        )
+
+    zpe_m, u_m, s_m, cv_m = harmonic(nu, nu_zpe)
+    out = {
+        "rrho_zpe": np.sum(zpe_m[:, 0, :] * mask[:, 0, :], axis=-1),
+        "rrho_U": np.sum(u_m * mask, axis=-1),
+        "rrho_S": np.sum(s_m * mask, axis=-1),
+        "rrho_Cv": np.sum(cv_m * mask, axis=-1),
+    }
+    if model == "rrho":
+        out.update(zpe=out["rrho_zpe"], U=out["rrho_U"], S=out["rrho_S"], Cv=out["rrho_Cv"])
+        return out
+    if model == "quasi-harmonic":
+        zpe_m, u_m, s_m, cv_m = harmonic(quasi_harmonic_wavenumbers(nu, threshold),
+                                         quasi_harmonic_wavenumbers(nu_zpe, threshold))
+    else:
+        nu3 = nu[:, None, :]
+        s_m = qrrho_entropy(nu3, tt, threshold, b_av[:, None, None])
+        if model == "qrrho-enthalpy":
+            zpe_m = zpe_m * grimme_weight(nu3, threshold)
+            u_m = head_gordon_energy(u_m, nu3, tt, threshold)
+            cv_m = head_gordon_heat_capacity(cv_m, nu3, threshold)
+    out.update(
+        zpe=np.sum(zpe_m[:, 0, :] * mask[:, 0, :], axis=-1),
+        U=np.sum(u_m * mask, axis=-1),
+        S=np.sum(s_m * mask, axis=-1),
+        Cv=np.sum(cv_m * mask, axis=-1),
+    )
+    return out
+
+
+def _chunk_arrays(prepared: PreparedMolecules, conditions: Conditions, t: np.ndarray) -> dict[str, np.ndarray]:
+    t2 = t[None, :]
+    volume = standard_volume(t, conditions.standard_state, conditions.pressure)
+    trans_s = translational_entropy(prepared.mass[:, None], t2, volume[None, :])
+    trans_u = np.broadcast_to(translational_energy(t2), trans_s.shape)
+    rot = _rotational_terms(prepared, t2)
+    b_av = _rotor_inertia(prepared, conditions.rotor_inertia)
+    vib = _vibrational_terms(prepared, t, conditions.low_mode_model, conditions.low_mode_threshold, b_av)
+    elec_s = np.broadcast_to(electronic_entropy(prepared.degeneracy)[:, None], trans_s.shape)
+    zeros = np.zeros_like(trans_s)
+    kt = K_B_EH * t2
+    e = prepared.energy[:, None]
+    out: dict[str, np.ndarray] = {
+        "S_translational": trans_s, "U_translational": trans_u, "Cv_translational": zeros + 1.5 * K_B_EH,
+        "S_rotational": rot["S"], "U_rotational": rot["U"] + zeros, "Cv_rotational": rot["Cv"] + zeros,
+        "S_vibrational": vib["S"], "U_vibrational": vib["U"], "Cv_vibrational": vib["Cv"],
+        "S_electronic": elec_s, "U_electronic": zeros, "Cv_electronic": zeros,
+    }  # fmt: skip
+    for prefix, key in (("", ""), ("rrho_", "rrho_")):
+        s = trans_s + rot["S"] + vib[key + "S"] + elec_s
+        cv = 1.5 * K_B_EH + rot["Cv"] + vib[key + "Cv"]
+        u = e + trans_u + rot["U"] + vib[key + "U"]
+        out[prefix + "zpe"] = vib[key + "zpe"]
+        out[prefix + "thermal_energy"] = u
+        out[prefix + "enthalpy"] = u + kt
+        out[prefix + "entropy"] = s
+        out[prefix + "gibbs"] = u + kt - t2 * s
+        out[prefix + "cv"] = cv
+        out[prefix + "cp"] = cv + K_B_EH
+    return out
+
+
+def thermo_arrays(prepared: PreparedMolecules, conditions: Conditions) -> dict[str, np.ndarray]:
+    """Thermochemistry of a batch of prepared molecules over the temperatures of ``conditions``.
+
+    Returns arrays of shape (n, nT) (ZPE: (n,)), hartree and hartree/K: "zpe", "thermal_energy",
+    "enthalpy", "entropy", "gibbs", "cv", "cp" under the chosen low-mode model, the same with a
+    "rrho_" prefix under plain RRHO, and "U_<component>", "S_<component>", "Cv_<component>" for the
+    components of :data:`COMPONENTS` (chosen model). Works in chunks of molecules to bound memory.
+    """
+    t = np.atleast_1d(np.asarray(conditions.temperature, dtype=float))
+    width = max(prepared.frequencies.shape[1], 1)
+    step = max(1, _CHUNK_ELEMENTS // (width * len(t)))
+    n = len(prepared)
+    if n <= step:
+        return _chunk_arrays(prepared, conditions, t)
+    parts = [
+        _chunk_arrays(_slice(prepared, slice(start, start + step)), conditions, t) for start in range(0, n, step)
+    ]
+    return {key: np.concatenate([p[key] for p in parts]) for key in parts[0]}
+
+
+def _slice(prepared: PreparedMolecules, rows: slice) -> PreparedMolecules:
+    return PreparedMolecules(**{name: value[rows] for name, value in vars(prepared).items()})
+
+
+def thermochemistry(molecule: Molecule, conditions: Conditions | None = None) -> ThermoResult:
+    """Thermochemistry of one molecule (DESIGN.md section 3); raises ThermoError with a one-line reason."""
+    conditions = conditions or Conditions()
+    return thermochemistry_many([molecule], conditions)[0]
+
+
+def thermochemistry_many(molecules: list[Molecule], conditions: Conditions) -> list[ThermoResult]:
+    """Thermochemistry of many molecules in one vectorised pass; raises ThermoError on the first refused one.
+
+    The per-molecule work is cleaning and symmetry; the partition functions of all molecules and
+    temperatures are evaluated together by :func:`thermo_arrays`.
+    """
+    infos = [prepare_molecule(m, conditions) for m in molecules]
+    arrays = thermo_arrays(stack_molecules(molecules, infos), conditions)
+    scalar = np.ndim(conditions.temperature) == 0
+    pairs = enumerate(zip(molecules, infos, strict=True))
+    return [_result(arrays, row, m, info, conditions, scalar) for row, (m, info) in pairs]
+
+
+def _result(
+    arrays: dict[str, np.ndarray], row: int, molecule: Molecule, info: MoleculeInfo, conditions: Conditions, scalar
+) -> ThermoResult:
+    def pick(key):
+        value = arrays[key][row]
+        if np.ndim(value) == 0:
+            return float(value)
+        return float(value[0]) if scalar else value.copy()
+
+    names = ("zpe", "thermal_energy", "enthalpy", "entropy", "gibbs", "cv", "cp")
+    return ThermoResult(
+        conditions=conditions,
+        electronic_energy=float(molecule.energy),
+        **{name: pick(name) for name in names},
+        rrho={name: pick("rrho_" + name) for name in names},
+        components={c: {q: pick(f"{q}_{c}") for q in ("U", "S", "Cv")} for c in COMPONENTS},
+        point_group=info.point_group,
+        symmetry_number=info.symmetry_number,
+        chiral=info.chiral,
+        linear=info.linear,
+        frequencies_used=info.frequencies,
+        imaginary_frequency=info.imaginary_frequency,
+        scale_factors=info.scale_factors,
+        notes=[f"low-mode model {conditions.low_mode_model}", *info.notes],
+    )
