@@ -1,0 +1,378 @@
+"""Species: a named conformer ensemble with optional higher-level single points, and its audit.
+
+:func:`build_species` turns the calculations of one species into a :class:`SpeciesResult`: every
+file audited (:func:`audit_calculation`), duplicates merged and mirror images kept
+(:mod:`qcthermo.ensemble`), single points paired by geometry, thermochemistry per conformer,
+composite energies G = E(high) + [G - E](low), and the Boltzmann-weighted ensemble values.
+
+Units: hartree per molecule and hartree/K, arrays over the temperatures of the conditions.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from dataclasses import dataclass, field
+from typing import Any, NamedTuple
+
+import numpy as np
+
+from . import ensemble
+from .errors import QcthermoError
+from .records import Calculation, Conditions, Molecule, ThermoResult
+
+
+class Finding(NamedTuple):
+    """One audit finding: severity "error" | "warning", subject (a file, species or reaction), message."""
+
+    severity: str
+    subject: str
+    message: str
+
+
+@dataclass
+class SpeciesOptions:
+    """What a species may override (reaction file ``[species.NAME]``; None: the engine's default).
+
+    Attributes:
+        symmetry_number, electronic_degeneracy, imaginary_policy: passed to the Molecule.
+        concentration: mol/L of a species that is its own solvent: its translational entropy is
+            computed at this concentration instead of the standard state (G(c) = G(1M) + RT ln(c/1M)).
+        transition_state: the species is a first-order saddle point.
+        label: display name.
+    """
+
+    symmetry_number: int | None = None
+    electronic_degeneracy: int | None = None
+    imaginary_policy: str | None = None
+    concentration: float | None = None
+    transition_state: bool = False
+    label: str | None = None
+
+
+@dataclass
+class Conformer:
+    """One frequency file of a species and what became of it.
+
+    Attributes:
+        calculation: the frequency (or optimisation+frequency) job.
+        status: "used" (in the ensemble), "duplicate" (merged into ``duplicate_of``) or "excluded"
+            (an error finding says why, in ``reason``).
+        molecule, thermo: the engine's input and result (None unless used).
+        single_point: the higher-level single point paired with it, and the geometry RMSD (angstrom).
+        population: Boltzmann population under the chosen low-mode model, array over T (0 unless used).
+        values: this conformer's E, E_zpe, H, S, G (chosen model) and *_rrho, hartree (composite
+            energies included), arrays over T.
+        duplicate_of: path of the kept copy, for duplicates; rmsd: RMSD to it (angstrom).
+        mirror_of: path of its mirror image, for a member of an enantiomer pair.
+        reason: why it was excluded.
+    """
+
+    calculation: Calculation
+    status: str = "used"
+    molecule: Molecule | None = None
+    thermo: ThermoResult | None = None
+    single_point: Calculation | None = None
+    single_point_rmsd: float | None = None
+    population: np.ndarray | float = 0.0
+    values: dict[str, np.ndarray] = field(default_factory=dict)
+    duplicate_of: str | None = None
+    rmsd: float | None = None
+    mirror_of: str | None = None
+    reason: str | None = None
+
+    @property
+    def path(self) -> str:
+        return self.calculation.path
+
+    @property
+    def level(self) -> str | None:
+        """"high//low" with a single point, else the frequency job's level."""
+        low = self.calculation.level_of_theory or "?"
+        if self.single_point is None:
+            return self.calculation.level_of_theory
+        return f"{self.single_point.level_of_theory or '?'}//{low}"
+
+
+@dataclass
+class SpeciesResult:
+    """One species: its conformers and the ensemble values.
+
+    Attributes:
+        name, label: name in the reaction file and display name.
+        options: the overrides used.
+        conformers: every file given, used or not (see :class:`Conformer`).
+        values: ensemble quantities, hartree (per molecule) or hartree/K, arrays over T:
+            "E" (electronic, high level when composite), "ZPE", "E_zpe", "H", "S", "G" (chosen model),
+            "H_rrho", "S_rrho", "G_rrho" (RRHO). G's are Boltzmann sums over the distinct conformers;
+            E, ZPE and H are population averages, S = (H - G)/T includes the entropy of mixing.
+        findings: the audit of this species and its files.
+    """
+
+    name: str
+    label: str
+    options: SpeciesOptions
+    conformers: list[Conformer]
+    values: dict[str, np.ndarray] = field(default_factory=dict)
+    findings: list[Finding] = field(default_factory=list)
+
+    @property
+    def used(self) -> list[Conformer]:
+        return [c for c in self.conformers if c.status == "used"]
+
+    @property
+    def usable(self) -> bool:
+        return bool(self.values)
+
+    @property
+    def reference(self) -> Calculation:
+        """A calculation standing for the species (the first file): formula, charge, multiplicity."""
+        return self.conformers[0].calculation
+
+    @property
+    def formula(self) -> str:
+        return self.reference.formula
+
+    @property
+    def composition(self) -> Counter:
+        return Counter(self.reference.symbols)
+
+    @property
+    def charge(self) -> int:
+        return self.reference.charge
+
+    @property
+    def multiplicity(self) -> int | None:
+        return self.reference.multiplicity
+
+    @property
+    def levels(self) -> list[str]:
+        """Distinct level labels ("high//low") of the used conformers."""
+        return sorted({c.level or "?" for c in self.used})
+
+    @property
+    def lowest(self) -> Conformer | None:
+        """The used conformer of highest population at the first temperature."""
+        used = self.used
+        return max(used, key=lambda c: float(np.atleast_1d(c.population)[0])) if used else None
+
+    def population_text(self) -> str:
+        """"conf1.out 0.71; conf2.out 0.29" at the first temperature, most populated first."""
+        pairs = sorted(((float(np.atleast_1d(c.population)[0]), c) for c in self.used), key=lambda x: -x[0])
+        return "; ".join(f"{_short(c.path)} {p:.3f}" for p, c in pairs)
+
+
+def _short(path: str) -> str:
+    from pathlib import Path
+
+    return Path(path).name
+
+
+def audit_calculation(calc: Calculation, transition_state: bool, imaginary_threshold: float,
+                      policy: str | None = None) -> list[Finding]:
+    """Findings on one frequency file: termination, convergence, energy, imaginary modes.
+
+    Errors: abnormal termination, unconverged optimisation, no energy, no frequencies (atoms
+    excepted), a transition state without exactly one imaginary mode, a minimum with an imaginary
+    mode larger than ``imaginary_threshold`` (cm^-1) unless ``policy`` ("invert" | "drop") was chosen
+    for it. Warning: a minimum with small imaginary modes (the engine's policy deals with them and
+    says so).
+    """
+    found: list[Finding] = []
+
+    def add(severity: str, message: str) -> None:
+        found.append(Finding(severity, calc.path, message))
+
+    if calc.normal_termination is False:
+        add("error", "the job did not terminate normally")
+    if calc.optimization_converged is False:
+        add("error", "the geometry optimisation did not converge")
+    if calc.energy is None:
+        add("error", "no electronic energy in the file")
+    if calc.frequencies is None and calc.natoms > 1:
+        add("error", "no frequencies in the file (a frequency job is needed for thermochemistry)")
+        return found
+    imag = [] if calc.frequencies is None else sorted(float(f) for f in calc.frequencies if f < 0)
+    listed = ", ".join(f"{f:.1f}" for f in imag)
+    if transition_state and len(imag) != 1:
+        add("error", f"a transition state needs exactly one imaginary mode; found {len(imag)}"
+            + (f" ({listed} cm^-1)" if imag else ""))
+    elif not transition_state and imag:
+        large = abs(imag[0]) >= imaginary_threshold and policy not in ("invert", "drop")
+        add("error" if large else "warning",
+            f"a minimum with {len(imag)} imaginary mode(s) ({listed} cm^-1)"
+            + (" (a transition state? declare it as one)" if large else "; small ones are an artefact"))
+    return found
+
+
+def conformer_values(thermo: ThermoResult, n_temperatures: int, e_high: float | None) -> dict[str, np.ndarray]:
+    """E, ZPE, H, S, G and *_rrho of one conformer, hartree, arrays of length ``n_temperatures``.
+
+    With a higher-level single point, every energy is shifted by E(high) - E(low):
+    X = E(high) + [X - E](low) (the composite "high//low" scheme); entropies are unchanged.
+    """
+    shift = 0.0 if e_high is None else e_high - thermo.electronic_energy
+
+    def arr(x: Any) -> np.ndarray:
+        return np.broadcast_to(np.asarray(x, dtype=float), (n_temperatures,)).copy()
+
+    return {
+        "E": arr(thermo.electronic_energy + shift),
+        "ZPE": arr(thermo.rrho["zpe"]),
+        "H": arr(thermo.enthalpy) + shift,
+        "S": arr(thermo.entropy),
+        "G": arr(thermo.gibbs) + shift,
+        "H_rrho": arr(thermo.rrho["enthalpy"]) + shift,
+        "S_rrho": arr(thermo.rrho["entropy"]),
+        "G_rrho": arr(thermo.rrho["gibbs"]) + shift,
+    }
+
+
+def ensemble_values(conformers: list[Conformer], temperature: np.ndarray) -> dict[str, np.ndarray]:
+    """Boltzmann-weighted ensemble values of used conformers; sets each conformer's population.
+
+    G = -RT ln sum exp(-G_i/RT) for the chosen model and for RRHO separately (each with its own
+    populations); H and E, ZPE are averages with those populations; S = (H - G)/T.
+    """
+    stack = {k: np.array([c.values[k] for c in conformers]) for k in conformers[0].values}
+    out: dict[str, np.ndarray] = {}
+    for suffix in ("", "_rrho"):
+        g, pops = ensemble.boltzmann_free_energy(stack["G" + suffix], temperature)
+        h = ensemble.population_average(stack["H" + suffix], pops)
+        out["G" + suffix], out["H" + suffix], out["S" + suffix] = g, h, (h - g) / temperature
+        if not suffix:
+            for c, p in zip(conformers, pops, strict=True):
+                c.population = p
+            out["E"] = ensemble.population_average(stack["E"], pops)
+            out["ZPE"] = ensemble.population_average(stack["ZPE"], pops)
+    out["E_zpe"] = out["E"] + out["ZPE"]
+    return out
+
+
+def _mark_duplicates(name: str, confs: list[Conformer], settings: dict[str, float]) -> list[Finding]:
+    found: list[Finding] = []
+    candidates = [c for c in confs if c.status == "used"]
+    grouping = ensemble.group_conformers([c.calculation for c in candidates], settings["rmsd_threshold"],
+                                         settings["energy_window"])
+    for i, (k, rmsd) in grouping.duplicates.items():
+        dup, kept = candidates[i], candidates[k]
+        dup.status, dup.duplicate_of, dup.rmsd = "duplicate", kept.path, rmsd
+        found.append(Finding("warning", dup.path, f"species {name!r}: the same conformer as {_short(kept.path)} "
+                                                  f"(RMSD {rmsd:.3f} A); merged"))
+    for i, j, rmsd in grouping.mirror_pairs:
+        a, b = candidates[i], candidates[j]
+        a.mirror_of, b.mirror_of = b.path, a.path
+        found.append(Finding("warning", b.path, f"species {name!r}: mirror image of {_short(a.path)} "
+                                                f"(RMSD {rmsd:.3f} A unless reflected); both kept as enantiomers"))
+    return found
+
+
+def _pair_single_points(name: str, confs: list[Conformer], single_points: list[Calculation],
+                        explicit: dict[str, Calculation], max_rmsd: float) -> list[Finding]:
+    """Pair every used conformer with its single point; a conformer without one is excluded."""
+    found: list[Finding] = []
+    paired: set[int] = set()
+    for c in (c for c in confs if c.status == "used"):
+        if c.path in explicit:
+            sp = explicit[c.path]
+            c.single_point = sp
+            idx, rmsd = ensemble.pair_single_point(c.calculation, [sp], float("inf"))
+            c.single_point_rmsd = rmsd if idx is not None else None
+            if idx is None or rmsd > max_rmsd:
+                found.append(Finding("warning", sp.path, f"species {name!r}: named as the single point of "
+                                     f"{_short(c.path)} but its geometry differs (RMSD "
+                                     f"{'n/a' if idx is None else f'{rmsd:.3f} A'})"))
+            continue
+        idx, rmsd = ensemble.pair_single_point(c.calculation, single_points, max_rmsd)
+        if idx is None:
+            c.status = "excluded"
+            c.reason = "no single point matches its geometry" + (f" (best RMSD {rmsd:.3f} A)" if np.isfinite(rmsd)
+                                                                 else "")
+            found.append(Finding("error", c.path, f"species {name!r}: {c.reason}; a mixed-level ensemble is "
+                                                  "refused, so the conformer is left out"))
+            continue
+        c.single_point, c.single_point_rmsd = single_points[idx], rmsd
+        paired.add(idx)
+    for j, sp in enumerate(single_points):
+        if j not in paired and sp.path not in {s.path for s in explicit.values()}:
+            found.append(Finding("warning", sp.path, f"species {name!r}: this single point matches no frequency "
+                                                     f"geometry (within {max_rmsd} A); not used"))
+    return found
+
+
+def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Conditions) -> Finding | None:
+    """Run the engine on one conformer; an engine refusal excludes it with the reason."""
+    from .thermo import thermochemistry
+
+    overrides: dict[str, Any] = {"transition_state": options.transition_state, "name": name}
+    for key in ("symmetry_number", "electronic_degeneracy", "imaginary_policy"):
+        if getattr(options, key) is not None:
+            overrides[key] = getattr(options, key)
+    try:
+        c.molecule = Molecule.from_calculation(c.calculation, **overrides)
+        c.thermo = thermochemistry(c.molecule, conditions)
+    except (QcthermoError, ValueError) as err:
+        c.status, c.reason = "excluded", " ".join(str(err).split())
+        return Finding("error", c.path, f"species {name!r}: thermochemistry refused: {c.reason}")
+    return None
+
+
+def species_conditions(conditions: Conditions, options: SpeciesOptions) -> Conditions:
+    """The conditions of one species: its own concentration replaces the standard state if given."""
+    if options.concentration is None:
+        return conditions
+    return conditions.replace(standard_state=f"{options.concentration:g}M", pressure=None)
+
+
+def build_species(name: str, calcs: list[Calculation], conditions: Conditions, options: SpeciesOptions | None = None,
+                  single_points: list[Calculation] = (), explicit_pairs: dict[str, Calculation] | None = None,
+                  settings: dict[str, float] | None = None) -> SpeciesResult:
+    """Audit, de-duplicate, pair, compute and Boltzmann-weight one species.
+
+    ``calcs``: its frequency files (several = a conformer ensemble); ``single_points``: candidate
+    higher-level single points, paired by geometry; ``explicit_pairs``: frequency path -> single point
+    named in the reaction file; ``settings``: the [ensemble] thresholds (see reactions.ENSEMBLE_DEFAULTS).
+    Never raises for bad input: problems become findings, and a species with no usable conformer has
+    empty ``values``.
+    """
+    from .reactions import ENSEMBLE_DEFAULTS
+
+    options = options or SpeciesOptions()
+    settings = {**ENSEMBLE_DEFAULTS, **(settings or {})}
+    explicit_pairs = explicit_pairs or {}
+    result = SpeciesResult(name, options.label or name, options, [Conformer(c) for c in calcs])
+    findings = result.findings
+    formula = Counter(calcs[0].symbols)
+    for c in result.conformers:
+        calc = c.calculation
+        if Counter(calc.symbols) != formula or calc.charge != calcs[0].charge \
+                or calc.multiplicity != calcs[0].multiplicity:
+            c.status, c.reason = "excluded", "formula, charge or multiplicity differs from the species' first file"
+            findings.append(Finding("error", calc.path, f"species {name!r}: {c.reason}"))
+            continue
+        problems = audit_calculation(calc, options.transition_state, conditions.imaginary_threshold,
+                                     options.imaginary_policy or conditions.imaginary_policy)
+        findings.extend(problems)
+        errors = [f.message for f in problems if f.severity == "error"]
+        if errors:
+            c.status, c.reason = "excluded", errors[0]
+    findings.extend(_mark_duplicates(name, result.conformers, settings))
+    if single_points or explicit_pairs:
+        findings.extend(_pair_single_points(name, result.conformers, list(single_points), explicit_pairs,
+                                            settings["single_point_rmsd"]))
+    cond = species_conditions(conditions, options)
+    temperature = np.atleast_1d(np.asarray(cond.temperature, dtype=float))
+    for c in result.used:
+        problem = _thermo(c, name, options, cond)
+        if problem:
+            findings.append(problem)
+            continue
+        e_high = c.single_point.energy if c.single_point is not None else None
+        c.values = conformer_values(c.thermo, len(temperature), e_high)
+    if len(result.levels) > 1:
+        findings.append(Finding("error", name, f"species {name!r}: conformers at different levels of theory "
+                                               f"({', '.join(result.levels)})"))
+    elif result.used:
+        result.values = ensemble_values(result.used, temperature)
+    if not result.values:
+        findings.append(Finding("error", name, f"species {name!r}: no usable structure"))
+    return result
