@@ -81,6 +81,7 @@ LEVEL_LINEWIDTH = 1.8  # points
 LABEL_GAP_PT = 1.5  # clearance kept between a label and anything else
 NUDGE_STEP_PT = 1.0
 MAX_NUDGE_STEPS = 200
+NAME_CROSS_AFTER_PT = 10.0  # a name crosses to below its level only when the space above is crowded
 
 
 @dataclass
@@ -224,9 +225,11 @@ def format_value(value: float, precision: int) -> str:
     return text.replace("-", "−")
 
 
-def state_name(state: ProfileState) -> str:
-    """The name shown above a level: transition states get a double dagger."""
-    return f"{state.label}‡" if state.is_ts and not state.label.endswith("‡") else state.label
+def state_name(state: ProfileState, wrap: int | None = None) -> str:
+    """The name shown above a level, wrapped at ``wrap`` characters (whole words and hyphenated parts
+    kept together); transition states get a double dagger."""
+    name = textwrap.fill(state.label, wrap, break_long_words=False) if wrap else state.label
+    return f"{name}‡" if state.is_ts and not name.endswith("‡") else name
 
 
 @dataclass
@@ -236,6 +239,7 @@ class _Label:
     artist: Any
     direction: int  # +1 above its level, -1 below
     anchor_y: float
+    cross_after_pt: float = MAX_NUDGE_STEPS * NUDGE_STEP_PT  # how far it moves on its own side before trying the other
 
 
 def _new_figure(width_in: float) -> Figure:
@@ -262,7 +266,7 @@ def _wrap_width(ax, fig) -> int:
     return max(6, int(slot_pt / (0.55 * STYLE["font.size"])))
 
 
-def _draw_profile(ax, profile: ProfileData, color: str, precision: int) -> tuple[list, list, list, list]:
+def _draw_profile(ax, profile: ProfileData, color: str, precision: int, wrap: int) -> tuple[list, list, list, list]:
     """Levels, connectors and (unplaced) value labels of one profile.
 
     Returns (levels, connectors, value labels, names) where names are (position, shown name, level
@@ -291,7 +295,7 @@ def _draw_profile(ax, profile: ProfileData, color: str, precision: int) -> tuple
             value = f"{value}\n{marked[state.label]}"
         text = _annotate(ax, value, (i, state.value), -1, color, f"value:{profile.name}:{i}")
         labels.append(_Label(text, -1, state.value))
-        names.append((i, state_name(state), state.value))
+        names.append((i, state_name(state, wrap), state.value))
     return levels, connectors, labels, names
 
 
@@ -302,7 +306,7 @@ def _annotate(ax, text: str, xy: tuple[float, float], direction: int, color: str
                        fontsize=STYLE["font.size"], zorder=4, annotation_clip=False, gid=gid)
 
 
-def _draw_names(ax, names: list[tuple[int, str, float, str]], wrap: int) -> list[_Label]:
+def _draw_names(ax, names: list[tuple[int, str, float, str]]) -> list[_Label]:
     """One name label per (position, name): in the profile's colour, or grey when profiles share it."""
     groups: dict[tuple[int, str], list[tuple[float, str]]] = {}
     for i, name, height, color in names:
@@ -312,8 +316,8 @@ def _draw_names(ax, names: list[tuple[int, str, float, str]], wrap: int) -> list
         height = max(h for h, _ in members)
         colors = {c for _, c in members}
         color = colors.pop() if len(colors) == 1 else SHARED_NAME_COLOR
-        text = _annotate(ax, textwrap.fill(name, wrap), (i, height), +1, color, f"name:{i}:{name}")
-        labels.append(_Label(text, +1, height))
+        text = _annotate(ax, name, (i, height), +1, color, f"name:{i}:{name}")
+        labels.append(_Label(text, +1, height, NAME_CROSS_AFTER_PT))
     return labels
 
 
@@ -345,25 +349,29 @@ def _clashes(box: Bbox, placed: list[Bbox], level_boxes: list[Bbox], connector_p
 
 
 def _candidate_offsets(label: _Label, height_pt: float):
-    """Offsets (points) to try: away from the level first, then, if all fail, across to its other side."""
+    """Offsets (points) to try, nearest first: away from the level on its own side, and, once that has
+    moved more than ``label.cross_after_pt``, alternately on the level's other side."""
     d = label.direction
-    for k in range(MAX_NUDGE_STEPS):
-        yield d * (LABEL_GAP_PT + k * NUDGE_STEP_PT)
-    for k in range(MAX_NUDGE_STEPS):
-        yield -d * (LABEL_GAP_PT + height_pt + k * NUDGE_STEP_PT)
+    lag = int(label.cross_after_pt / NUDGE_STEP_PT)
+    for k in range(MAX_NUDGE_STEPS + lag):
+        if k < MAX_NUDGE_STEPS:
+            yield d * (LABEL_GAP_PT + k * NUDGE_STEP_PT)
+        if k >= lag:
+            yield -d * (LABEL_GAP_PT + height_pt + (k - lag) * NUDGE_STEP_PT)
 
 
 def _place_labels(fig, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D]) -> list[Bbox]:
     """Greedy placement: each label takes the first offset at which it clashes with nothing placed.
 
-    Names are placed from the highest level down and values from the lowest up, so that near-degenerate
-    levels stack their labels outwards in order. Returns the final boxes (display coordinates).
+    Values go first (they matter most and sit right under their level), from the lowest level up, then
+    names from the highest level down, so that near-degenerate levels stack their labels outwards in
+    order. Returns the final boxes (display coordinates).
     """
     renderer = fig.canvas.get_renderer()
     pad = LABEL_GAP_PT / 2 * fig.dpi / 72.0
     level_boxes = [_padded(b, pad) for b in _level_boxes(levels, fig)]
     connector_paths = _segments_px(connectors)
-    order = sorted(labels, key=lambda lab: (lab.direction < 0, -lab.direction * lab.anchor_y))
+    order = sorted(labels, key=lambda lab: (lab.direction > 0, -lab.direction * lab.anchor_y))
     placed: list[Bbox] = []
     for label in order:
         label.artist.xyann = (0.0, label.direction * LABEL_GAP_PT)
@@ -421,13 +429,13 @@ def plot_profiles(
         levels, connectors, labels, names, handles = [], [], [], [], []
         for k, profile in enumerate(profiles):
             color = profile.color or PALETTE[k % len(PALETTE)]
-            lv, cn, lb, nm = _draw_profile(ax, profile, color, precision)
+            lv, cn, lb, nm = _draw_profile(ax, profile, color, precision, wrap)
             levels += lv
             connectors += cn
             labels += lb
             names += [(i, name, height, color) for i, name, height in nm]
             handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
-        labels += _draw_names(ax, names, wrap)
+        labels += _draw_names(ax, names)
         for _ in range(8):  # widening the y range moves the levels: place again until nothing sticks out
             boxes = _place_labels(fig, labels, levels, connectors)
             if not _fit_ylim(ax, boxes):

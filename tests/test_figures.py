@@ -1,0 +1,264 @@
+"""Energy profile diagrams and temperature plots.
+
+Drawing tests use made-up level heights: they check that what is drawn equals what was given (the
+heights of the Line2D artists, the text boxes measured by matplotlib's renderer), not chemistry.
+"""
+
+import itertools
+import struct
+import xml.etree.ElementTree as ET
+from types import SimpleNamespace
+
+import numpy as np
+import pandas as pd
+import pytest
+from matplotlib.path import Path as MplPath
+
+from qcthermo.errors import QcthermoError
+from qcthermo.export import figures
+from qcthermo.export.figures import ProfileData, ProfileState, plot_profiles, profiles_from_records, save_figure
+
+# Final SCF energies of p-divinylbenzene printed by two programs, hartree (third-party-logs/README.md:
+# gaussian16/dvb_ir.out and orca5.0/dvb_ir.out).
+E_GAUSSIAN = -382.30824980
+E_ORCA = -382.05509182
+# 1 hartree = 627.509474 kcal/mol = 2625.4996 kJ/mol (CODATA 2018, from memory)
+KCAL_PER_EH = 627.509474
+KJ_PER_EH = 2625.4996
+
+
+def _profile(name, heights, ts=(), names=None, **kw):
+    names = names or [f"S{i}" for i in range(len(heights))]
+    states = [ProfileState(n, float(h), i in ts) for i, (n, h) in enumerate(zip(names, heights, strict=True))]
+    return ProfileData(name, states, **kw)
+
+
+def _artists(fig, prefix):
+    ax = fig.axes[0]
+    return [a for a in [*ax.lines, *ax.texts] if (a.get_gid() or "").startswith(prefix)]
+
+
+def _text_boxes(fig):
+    fig.canvas.draw()  # lays out the legend
+    renderer = fig.canvas.get_renderer()
+    texts = [t for t in fig.axes[0].texts if t.get_text()]
+    legend = fig.axes[0].get_legend()
+    if legend is not None:
+        texts += legend.get_texts()
+    return [(t.get_text(), t.get_window_extent(renderer)) for t in texts]
+
+
+def _assert_no_overlaps(fig):
+    """Text boxes pairwise disjoint, and none touches a level line or crosses a connector."""
+    boxes = _text_boxes(fig)
+    for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
+        assert not a.overlaps(b), f"labels {ta!r} and {tb!r} overlap"
+    half_lw = figures.LEVEL_LINEWIDTH / 2 * fig.dpi / 72
+    for line in _artists(fig, "level:"):
+        (x0, y), (x1, _) = line.get_transform().transform(line.get_xydata())
+        for text, box in boxes:
+            assert not (box.x0 < x1 and box.x1 > x0 and box.y0 < y + half_lw and box.y1 > y - half_lw), (
+                f"label {text!r} overlaps the level {line.get_gid()}"
+            )
+    for line in _artists(fig, "connector:"):
+        path = MplPath(line.get_transform().transform(line.get_xydata()))
+        for text, box in boxes:
+            assert not path.intersects_bbox(box, filled=False), f"label {text!r} crosses {line.get_gid()}"
+    axes_box = fig.axes[0].get_window_extent()
+    for text, box in boxes[: len(fig.axes[0].texts)]:
+        assert axes_box.y0 <= box.y0 and box.y1 <= axes_box.y1, f"label {text!r} outside the axes"
+
+
+def test_level_heights_equal_the_values():
+    heights = [0.0, 12.5, -3.25, 20.0, -8.0]
+    fig = plot_profiles([_profile("path", heights, ts=(1, 3))])
+    levels = _artists(fig, "level:")
+    assert [tuple(line.get_ydata()) for line in levels] == [(h, h) for h in heights]
+    # levels are horizontal and in sequence along x
+    xs = [np.mean(line.get_xdata()) for line in levels]
+    assert xs == sorted(xs)
+
+
+def test_labels_show_names_values_and_ts_dagger():
+    fig = plot_profiles([_profile("path", [0.0, 12.54, -3.25], ts=(1,), names=["A", "TS1", "B"])], precision=1)
+    texts = {t.get_gid(): t.get_text() for t in fig.axes[0].texts}
+    assert texts["name:1:TS1‡"] == "TS1‡"
+    assert texts["name:0:A"] == "A"
+    assert [texts[f"value:path:{i}"] for i in range(3)] == ["0.0", "12.5", "−3.2"]
+    fig = plot_profiles([_profile("path", [0.0, 12.546], names=["A", "B"])], precision=2)
+    assert {t.get_text() for t in fig.axes[0].texts} >= {"0.00", "12.55"}
+
+
+def test_label_states_limits_the_labels():
+    fig = plot_profiles([_profile("p", [0.0, 5.0, -2.0], names=["A", "B", "C"], label_states=["B"])])
+    assert sorted(t.get_text() for t in fig.axes[0].texts) == ["5.0", "B"]
+
+
+def test_energy_span_marks_are_drawn():
+    profile = _profile("cycle", [0.0, -6.0, 14.0, -20.0], ts=(2,), names=["c", "i1", "t1", "p"],
+                       marks={"tdts": "t1", "tdi": "i1"})
+    fig = plot_profiles([profile])
+    assert {a.get_gid() for a in _artists(fig, "mark:")} == {"mark:cycle:1", "mark:cycle:2"}
+    texts = [t.get_text() for t in fig.axes[0].texts]
+    assert "14.0\nTDTS" in texts and "−6.0\nTDI" in texts
+
+
+def test_axis_label_names_quantity_and_unit():
+    fig = plot_profiles([_profile("p", [0.0, 1.0], unit="kJ/mol", quantity="H")])
+    assert fig.axes[0].get_ylabel() == "ΔH / kJ mol⁻¹"
+    fig = plot_profiles([_profile("p", [0.0, 1.0])])
+    assert fig.axes[0].get_ylabel() == "ΔG / kcal mol⁻¹"
+
+
+def test_journal_sizes():
+    fig = plot_profiles([_profile("p", [0.0, 10.0, -5.0])])
+    assert fig.get_figwidth() * 2.54 == pytest.approx(8.5)  # one column (common practice: 8.5 cm)
+    fig.canvas.draw()
+    sizes = [t.get_fontsize() for t in fig.findobj(lambda a: hasattr(a, "get_fontsize") and a.get_text())]
+    assert min(sizes) >= 7.0
+    wide = plot_profiles([_profile("p", np.arange(30.0))])
+    assert wide.get_figwidth() * 2.54 <= 17.8 + 1e-9  # two columns at most
+
+
+def test_simple_profile_labels_do_not_overlap():
+    _assert_no_overlaps(plot_profiles([_profile("p", [0.0, 15.2, -4.1, 9.8, -12.0], ts=(1, 3))]))
+
+
+def test_crowded_profiles_labels_do_not_overlap():
+    # three overlaid pathways with near-degenerate levels (0.05 apart) and long names
+    long_names = ["catalyst + substrate", "pre-reactive complex", "TS-oxidative-addition", "intermediate",
+                  "TS-reductive-elimination", "catalyst + product", "x", "dissociated product complex"]
+    base = np.array([0.0, -2.0, 18.0, -6.0, 16.0, -15.0, -15.05, -14.9])
+    profiles = [
+        _profile(f"pathway {k}", base + 0.05 * k, ts=(2, 4), names=long_names, marks={"tdts": long_names[2]})
+        for k in range(3)
+    ]
+    fig = plot_profiles(profiles, title="three pathways")
+    _assert_no_overlaps(fig)
+    assert len(fig.axes[0].texts) == 8 + 3 * 8  # shared names once, values per pathway: nothing lost
+
+
+def test_wild_spread_and_flat_profiles_do_not_overlap():
+    _assert_no_overlaps(plot_profiles([_profile("flat", [0.0, 0.0, 0.0, 0.01])]))
+    _assert_no_overlaps(plot_profiles([_profile("p", [0.0, 250.0, 0.3, 0.2, 249.9, -0.1], ts=(1, 4))]))
+
+
+def test_colours_default_to_the_palette_and_honour_the_file():
+    fig = plot_profiles([_profile("a", [0.0, 1.0]), _profile("b", [0.0, 2.0], color="#123456")])
+    colors = {line.get_gid(): line.get_color() for line in _artists(fig, "level:")}
+    assert colors["level:a:0"] == figures.PALETTE[0]
+    assert colors["level:b:0"] == "#123456"
+    assert [t.get_text() for t in fig.axes[0].get_legend().get_texts()] == ["a", "b"]
+
+
+def test_profiles_from_records_subtracts_the_first_state_and_converts():
+    records = [{"name": "dvb", "states": [
+        {"label": "g", "value_Eh": {"G": E_GAUSSIAN, "E": E_GAUSSIAN}, "is_ts": False},
+        {"label": "o", "value_Eh": {"G": E_ORCA, "E": E_ORCA}, "is_ts": True},
+    ]}]
+    (kcal,) = profiles_from_records(records, "E", "kcal/mol")
+    assert kcal.values[0] == 0.0
+    assert kcal.values[1] == pytest.approx((E_ORCA - E_GAUSSIAN) * KCAL_PER_EH, rel=1e-6)
+    assert kcal.states[1].is_ts and kcal.unit == "kcal/mol" and kcal.quantity == "E"
+    (kj,) = profiles_from_records(records, "G", "kJ/mol")
+    assert kj.values[1] == pytest.approx((E_ORCA - E_GAUSSIAN) * KJ_PER_EH, rel=1e-6)
+
+
+def test_profiles_from_records_picks_the_temperature():
+    shift = np.array([0.0, 0.001, 0.002])  # hartree, one value per temperature
+    records = [{"name": "p", "states": [
+        {"label": "a", "value_Eh": {"G": E_GAUSSIAN + 0 * shift}},
+        {"label": "b", "value_Eh": {"G": E_ORCA + shift}},
+    ]}]
+    for index in range(3):
+        (p,) = profiles_from_records(records, temperature_index=index)
+        assert p.values[1] == pytest.approx((E_ORCA + shift[index] - E_GAUSSIAN) * KCAL_PER_EH, rel=1e-6)
+
+
+def test_profiles_from_records_order_names_and_presentation_keys():
+    def rec(name, **kw):
+        return {"name": name, "states": [{"label": "a", "value_Eh": {"G": 0.0}}], **kw}
+
+    records = [rec("late", order=2), rec("early", order=1, color="#000000", label_states=["a"]), rec("none")]
+    assert [p.name for p in profiles_from_records(records)] == ["early", "late", "none"]
+    early = profiles_from_records(records, names=["early"])[0]
+    assert early.color == "#000000" and early.label_states == ["a"]
+    with pytest.raises(QcthermoError, match="no profile named 'missing'"):
+        profiles_from_records(records, names=["missing"])
+    with pytest.raises(QcthermoError, match="no state 'zz'"):
+        profiles_from_records([rec("p", label_states=["zz"])])
+    with pytest.raises(QcthermoError, match="unknown quantity"):
+        profiles_from_records(records, "S")
+    with pytest.raises(QcthermoError, match="has no H energy"):
+        profiles_from_records(records, "H")
+
+
+def _png_dpi(data: bytes) -> float:
+    """Pixels per inch from the PNG pHYs chunk (PNG specification, ISO/IEC 15948, section 11.3.5.3)."""
+    pos = 8
+    while pos < len(data):
+        length, kind = struct.unpack(">I4s", data[pos:pos + 8])
+        if kind == b"pHYs":
+            ppu_x, _, unit = struct.unpack(">IIB", data[pos + 8:pos + 17])
+            assert unit == 1  # metre
+            return ppu_x * 0.0254
+        pos += 12 + length
+    raise AssertionError("no pHYs chunk")
+
+
+def test_files_are_valid_svg_png_pdf(tmp_path):
+    fig = plot_profiles([_profile("p", [0.0, 10.0, -5.0], ts=(1,))])
+    svg, png, pdf = (save_figure(fig, tmp_path / f"f.{ext}") for ext in ("svg", "png", "pdf"))
+    root = ET.parse(svg).getroot()
+    assert root.tag.endswith("svg") and "<svg" in svg.read_text()
+    assert "S1‡" in svg.read_text()  # text kept as text, searchable
+    data = png.read_bytes()
+    assert data[:8] == b"\x89PNG\r\n\x1a\n"
+    assert _png_dpi(data) == pytest.approx(300, abs=0.1)
+    raw = pdf.read_bytes()
+    assert raw.startswith(b"%PDF-") and raw.rstrip().endswith(b"%%EOF")
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["f.pdf", "f.png", "f.svg"]  # no temporary left
+    with pytest.raises(QcthermoError, match="figure format must be"):
+        save_figure(fig, tmp_path / "f.jpg")
+
+
+def _reactions_table():
+    temps = np.array([250.0, 300.0, 350.0])
+    rows = []
+    for name, dg0, act in (("r1", -5.0, 20.0), ("r2", 3.0, np.nan)):
+        for t in temps:
+            k = np.exp(-act / t) if np.isfinite(act) else np.nan  # a made-up increasing series
+            rows.append({"reaction": name, "T_K": t, "dG_kcal_mol": dg0 + 0.01 * t, "dG_act_kcal_mol": act,
+                         "k_forward": k})
+    return pd.DataFrame(rows)
+
+
+def test_temperature_plots_draw_the_table():
+    table = _reactions_table()
+    fig = figures.plot_dG_T(table)
+    line = next(a for a in fig.axes[0].lines if a.get_gid() == "dG_kcal_mol:r1")
+    assert np.allclose(line.get_xdata(), [250, 300, 350])
+    assert np.allclose(line.get_ydata(), -5.0 + 0.01 * np.array([250, 300, 350]))
+    assert "dG_act_kcal_mol:r2" not in {a.get_gid() for a in fig.axes[0].lines}  # no TS, no line
+    fig = figures.plot_arrhenius(table)
+    (line,) = fig.axes[0].lines
+    assert np.allclose(line.get_xdata(), 1000 / np.array([250, 300, 350]))
+    assert np.allclose(line.get_ydata(), -20.0 / np.array([250, 300, 350]))
+
+
+def test_write_profile_figures_writes_the_run_figures(tmp_path):
+    records = [{"name": "p", "states": [{"label": "a", "value_Eh": {"G": np.array([0.0, 0.0, 0.0])}},
+                                        {"label": "b", "value_Eh": {"G": np.array([0.01, 0.02, 0.03])},
+                                         "is_ts": True}]},
+               {"name": "broken", "states": [{"label": "a", "value_Eh": {}}]}]
+    results = SimpleNamespace(profiles=records, energy_unit="kcal/mol", reactions=_reactions_table(),
+                              conditions=SimpleNamespace(temperature=np.array([250.0, 300.0, 350.0])))
+    written = figures.write_profile_figures(results, tmp_path)
+    assert sorted(p.name for p in written) == ["arrhenius.svg", "dG_T.svg", "profile.png", "profile.svg"]
+    # the profile shows the temperature nearest 298.15 K (300 K: index 1)
+    fig = figures.run_figures(results)["profile"]
+    assert _artists(fig, "level:p:1")[0].get_ydata()[0] == pytest.approx(0.02 * KCAL_PER_EH, rel=1e-6)
+    single = SimpleNamespace(profiles=records, energy_unit="kcal/mol", reactions=_reactions_table().iloc[:1],
+                             conditions=SimpleNamespace(temperature=298.15))
+    assert [p.name for p in figures.write_profile_figures(single, tmp_path / "one")] == ["profile.svg",
+                                                                                         "profile.png"]
