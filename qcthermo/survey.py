@@ -17,6 +17,8 @@ import importlib.util
 import inspect
 import multiprocessing
 import os
+import sys
+import types
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
@@ -446,3 +448,14 @@ def _collect(result: SurveyResult, root: Path, candidates: list[Candidate], outc
         else:
             result.errors[cand.relpath] = payload
             result.rows.append(error_row(cand.relpath, payload))
+
+
+class _CallableModule(types.ModuleType):
+    """Importing this module makes ``qcthermo.survey`` name it rather than the function; calling the
+    module calls :func:`survey`, so ``qcthermo.survey(directory)`` works either way."""
+
+    def __call__(self, *args, **kwargs) -> SurveyResult:
+        return survey(*args, **kwargs)
+
+
+sys.modules[__name__].__class__ = _CallableModule

@@ -1,0 +1,277 @@
+"""The parse cache: a warm survey reads no log, a touched file is hashed but not parsed, a changed file is
+parsed again, a damaged cache file is rebuilt, two surveys at once leave a sound database.
+
+The logs here are XYZ files named *.out, read by a stub reader built on ASE's XYZ parser (``ase.io.read``),
+so these tests do not depend on any quantum-chemistry reader; the counts are what is checked.
+"""
+
+from __future__ import annotations
+
+import builtins
+import io
+import os
+import sqlite3
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+import qcthermo.cache as cache_module
+from qcthermo.cache import CACHE_FILE, ParseCache, default_cache_dir
+from qcthermo.errors import LogReadError
+from qcthermo.records import Calculation
+from qcthermo.survey import survey
+
+# Water near its equilibrium geometry (O-H 0.958 A, H-O-H 104.5 degrees; from memory), as an XYZ file.
+WATER_XYZ = """3
+water
+O 0.000000 0.000000 0.117300
+H 0.000000 0.757200 -0.469200
+H 0.000000 -0.757200 -0.469200
+"""
+# Dihydrogen, 0.741 A bond (from memory).
+H2_XYZ = "2\nH2\nH 0 0 0\nH 0 0 0.741\n"
+
+
+def xyz_reader(path: str) -> Calculation:
+    """Stub reader: an XYZ file read by ASE becomes a Calculation; anything else is a LogReadError."""
+    from ase.io import read
+
+    try:
+        atoms = read(path, format="xyz")
+    except Exception as err:
+        raise LogReadError(path, f"not an XYZ file ({type(err).__name__})") from None
+    return Calculation(path=path, program="xyz", symbols=tuple(atoms.get_chemical_symbols()),
+                       coordinates=atoms.positions, normal_termination=True)
+
+
+def slow_xyz_reader(path: str) -> Calculation:
+    """The stub reader, slowed down so that two surveys started together overlap."""
+    time.sleep(0.005)
+    return xyz_reader(path)
+
+
+class CountingReader:
+    """The stub reader, counting its calls."""
+
+    def __init__(self):
+        self.calls: list[str] = []
+        self.__qualname__ = "CountingReader"
+
+    def __call__(self, path: str) -> Calculation:
+        self.calls.append(path)
+        return xyz_reader(path)
+
+
+@pytest.fixture(autouse=True)
+def cache_dir(tmp_path, monkeypatch) -> Path:
+    directory = tmp_path / "cache"
+    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(directory))
+    return directory
+
+
+@pytest.fixture
+def tree(tmp_path) -> Path:
+    root = tmp_path / "logs"
+    (root / "sub").mkdir(parents=True)
+    (root / "water.out").write_text(WATER_XYZ)
+    (root / "sub" / "h2.log").write_text(H2_XYZ)
+    (root / "sub" / "broken.out").write_text("this is not a log\n")
+    return root
+
+
+@pytest.fixture
+def opens(monkeypatch, tree):
+    """Paths under the log tree opened through open(), io.open() or os.open() from now on."""
+    seen: list[str] = []
+    real_open, real_os_open = builtins.open, os.open
+
+    def counting_open(file, *args, **kwargs):
+        if isinstance(file, (str, os.PathLike)) and str(tree) in os.fspath(file):
+            seen.append(os.fspath(file))
+        return real_open(file, *args, **kwargs)
+
+    def counting_os_open(file, *args, **kwargs):
+        if str(tree) in os.fspath(file):
+            seen.append(os.fspath(file))
+        return real_os_open(file, *args, **kwargs)
+
+    monkeypatch.setattr(builtins, "open", counting_open)
+    monkeypatch.setattr(io, "open", counting_open)
+    monkeypatch.setattr(os, "open", counting_os_open)
+    return seen
+
+
+@pytest.fixture
+def hashes(monkeypatch) -> list[str]:
+    """Paths hashed by the cache from now on."""
+    seen: list[str] = []
+    real = cache_module.file_digest
+
+    def counting_digest(path):
+        seen.append(os.fspath(path))
+        return real(path)
+
+    monkeypatch.setattr(cache_module, "file_digest", counting_digest)
+    return seen
+
+
+def test_first_survey_parses_every_file_and_caches_errors_too(tree, cache_dir):
+    reader = CountingReader()
+    first = survey(tree, jobs=1, reader=reader)
+    assert len(reader.calls) == 3
+    assert first.stats["parsed"] == 3
+    assert (cache_dir / CACHE_FILE).is_file()
+    assert [r["status"] for r in first.rows] == ["error", "ok", "ok"]  # sorted: sub/broken, sub/h2, water
+
+
+def test_second_survey_reads_nothing_from_the_logs(tree, opens, hashes):
+    reader = CountingReader()
+    first = survey(tree, jobs=1, reader=reader)
+    reader.calls.clear()
+    opens.clear()
+    hashes.clear()
+    second = survey(tree, jobs=1, reader=reader)
+    assert reader.calls == []  # not parsed, not even the bad file
+    assert hashes == []  # not hashed
+    assert opens == []  # not even opened
+    assert second.stats == {"files": 3, "parsed": 0, "cached": 3, "hashed": 0}
+    assert second.rows == first.rows
+    water = second.calculations["water.out"]
+    assert water.symbols == ("O", "H", "H")
+    assert water.path == str(tree / "water.out")
+    assert water.coordinates == pytest.approx(first.calculations["water.out"].coordinates)
+
+
+def test_touched_file_is_hashed_but_not_parsed(tree, hashes):
+    reader = CountingReader()
+    survey(tree, jobs=1, reader=reader)
+    reader.calls.clear()
+    hashes.clear()
+    st = os.stat(tree / "water.out")
+    os.utime(tree / "water.out", ns=(st.st_atime_ns, st.st_mtime_ns + 5_000_000_000))
+    again = survey(tree, jobs=1, reader=reader)
+    assert reader.calls == []
+    assert hashes == [str(tree / "water.out")]
+    # and the row was brought up to date: a third survey does not even hash it
+    hashes.clear()
+    survey(tree, jobs=1, reader=reader)
+    assert hashes == []
+    assert again.calculations["water.out"].symbols == ("O", "H", "H")
+
+
+def test_changed_file_is_parsed_again(tree):
+    reader = CountingReader()
+    survey(tree, jobs=1, reader=reader)
+    reader.calls.clear()
+    (tree / "water.out").write_text(H2_XYZ.replace("H2", "now H2"))
+    again = survey(tree, jobs=1, reader=reader)
+    assert reader.calls == [str(tree / "water.out")]
+    assert again.calculations["water.out"].symbols == ("H", "H")
+
+
+def test_copied_file_is_found_by_its_content(tree, hashes):
+    reader = CountingReader()
+    survey(tree, jobs=1, reader=reader)
+    reader.calls.clear()
+    (tree / "copy.out").write_bytes((tree / "water.out").read_bytes())
+    again = survey(tree, jobs=1, reader=reader)
+    assert reader.calls == []
+    assert again.calculations["copy.out"].path == str(tree / "copy.out")
+
+
+def test_another_reader_version_does_not_reuse_entries(tree):
+    survey(tree, jobs=1, reader=CountingReader())
+    other = CountingReader()
+    other.__qualname__ = "AnotherReader"
+    survey(tree, jobs=1, reader=other)
+    assert len(other.calls) == 3
+
+
+def test_no_cache_neither_reads_nor_writes(tree, cache_dir):
+    reader = CountingReader()
+    survey(tree, jobs=1, reader=reader, cache=False)
+    survey(tree, jobs=1, reader=reader, cache=False)
+    assert len(reader.calls) == 6
+    assert not cache_dir.exists()
+
+
+def test_corrupt_cache_file_is_moved_aside_and_rebuilt(tree, cache_dir):
+    cache_dir.mkdir()
+    (cache_dir / CACHE_FILE).write_bytes(b"garbage, not SQLite " * 100)
+    reader = CountingReader()
+    result = survey(tree, jobs=1, reader=reader)
+    assert len(result.rows) == 3
+    assert len(result.notes) == 1 and "damaged" in result.notes[0] and "rebuilt" in result.notes[0]
+    assert "\n" not in result.notes[0]
+    assert len(list(cache_dir.glob(f"{CACHE_FILE}.corrupt-*"))) == 1
+    reader.calls.clear()
+    again = survey(tree, jobs=1, reader=reader)
+    assert reader.calls == [] and again.notes == []
+
+
+def test_corrupt_cache_warning_reaches_the_command_line(tree, cache_dir, capsys, monkeypatch):
+    import qcthermo.survey as survey_module
+    from qcthermo.cli import main
+
+    monkeypatch.setattr(survey_module, "default_reader", xyz_reader)
+    cache_dir.mkdir()
+    (cache_dir / CACHE_FILE).write_bytes(b"\x00\xff" * 4096)
+    assert main(["survey", str(tree), "--jobs", "1", "--quiet"]) == 1  # one unreadable file
+    err = capsys.readouterr().err
+    assert err.count("warning: parse cache") == 1
+
+
+def test_two_surveys_at_once_leave_a_sound_cache(tmp_path, cache_dir):
+    root = tmp_path / "many"
+    root.mkdir()
+    for i in range(150):
+        (root / f"w{i:03d}.out").write_text(WATER_XYZ.replace("water", f"water {i}"))
+    code = (
+        "import sys; sys.path.insert(0, sys.argv[1]);"
+        "from test_cache import slow_xyz_reader; from qcthermo.survey import survey;"
+        "r = survey(sys.argv[2], jobs=1, reader=slow_xyz_reader);"
+        "print(len(r.calculations), r.notes)"
+    )
+    env = dict(os.environ, QCTHERMO_CACHE_DIR=str(cache_dir))
+    procs = [
+        subprocess.Popen([sys.executable, "-c", code, str(Path(__file__).parent), str(root)], env=env,
+                         stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+        for _ in range(2)
+    ]
+    outputs = [p.communicate(timeout=120) for p in procs]
+    assert [p.returncode for p in procs] == [0, 0], outputs
+    assert [out.strip() for out, _ in outputs] == ["150 []", "150 []"]
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    assert db.execute("PRAGMA integrity_check").fetchone() == ("ok",)
+    assert db.execute("SELECT count(*) FROM parsed").fetchone() == (150,)
+    assert db.execute("PRAGMA journal_mode").fetchone() == ("wal",)
+    db.close()
+
+
+def test_writes_are_batched_and_flushed_on_close(tree, cache_dir):
+    from qcthermo.cache import Entry, FileKey
+
+    key = FileKey.of(tree / "water.out")
+    with ParseCache("v1", cache_dir, batch_size=10) as store:
+        store.store(key, None, Entry(False, reason="a reason"))
+        peek = sqlite3.connect(store.path)
+        assert peek.execute("SELECT count(*) FROM parsed").fetchone() == (0,)  # still queued
+    assert peek.execute("SELECT ok, payload FROM parsed").fetchall() == [(0, "a reason")]
+    peek.close()
+    with ParseCache("v1", cache_dir) as store:
+        entry, digest = store.lookup(key)
+    assert entry.reason == "a reason" and digest is None
+
+
+def test_cache_location_follows_the_environment(monkeypatch, tmp_path):
+    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(tmp_path / "explicit"))
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "xdg"))
+    assert default_cache_dir() == tmp_path / "explicit"
+    monkeypatch.delenv("QCTHERMO_CACHE_DIR")
+    assert default_cache_dir() == tmp_path / "xdg" / "qcthermo"
+    monkeypatch.delenv("XDG_CACHE_HOME")
+    monkeypatch.setenv("HOME", str(tmp_path / "home"))
+    assert default_cache_dir() == tmp_path / "home" / ".cache" / "qcthermo"

@@ -1,0 +1,299 @@
+"""The survey: which files are candidates, the audit of each file, parallel reading that survives a dying
+worker, the exit status, and the ``qcthermo survey`` command (table, CSV, JSON, no overwrite).
+
+Stub readers built on ASE's XYZ parser keep most tests independent of the quantum-chemistry readers; the
+audit rules are checked on real data (the GAMESS-US transition-state log of the third-party folder, read
+here with cclib directly); the end-to-end tests read copies of the third-party logs with qcthermo's reader
+and check the values listed in that folder's README.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import os
+import shutil
+import signal
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import qcthermo
+import qcthermo.survey as survey_module
+from qcthermo.cli import main
+from qcthermo.errors import LogReadError, QcthermoError
+from qcthermo.records import Calculation
+from qcthermo.survey import COLUMNS, audit, find_candidates, job_types_label, survey
+
+# Water near its equilibrium geometry (O-H 0.958 A, H-O-H 104.5 degrees; from memory), as an XYZ file.
+WATER_XYZ = "3\nwater\nO 0 0 0.1173\nH 0 0.7572 -0.4692\nH 0 -0.7572 -0.4692\n"
+
+
+def xyz_reader(path: str) -> Calculation:
+    """Stub reader: XYZ text read by ASE becomes a Calculation; anything else is a LogReadError."""
+    from ase.io import read
+
+    try:
+        atoms = read(path, format="xyz")
+    except Exception as err:
+        raise LogReadError(path, f"not an XYZ file ({type(err).__name__})") from None
+    return Calculation(path=path, program="xyz", symbols=tuple(atoms.get_chemical_symbols()),
+                       coordinates=atoms.positions, normal_termination=True)
+
+
+def crashing_reader(path: str) -> Calculation:
+    """Kills its own process on files named crash*, like a segfault in a compiled parser would."""
+    if Path(path).name.startswith("crash"):
+        os.kill(os.getpid(), signal.SIGKILL)
+    return xyz_reader(path)
+
+
+def greedy_reader(path: str) -> Calculation:
+    """Runs out of memory on files named greedy*; fails with a plain bug on files named bug*."""
+    name = Path(path).name
+    if name.startswith("greedy"):
+        raise MemoryError
+    if name.startswith("bug"):
+        return {}["missing key"]
+    return xyz_reader(path)
+
+
+@pytest.fixture(autouse=True)
+def cache_dir(tmp_path, monkeypatch) -> Path:
+    directory = tmp_path / "cache"
+    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(directory))
+    return directory
+
+
+@pytest.fixture
+def xyz_tree(tmp_path) -> Path:
+    root = tmp_path / "logs"
+    root.mkdir()
+    for name in ("a.out", "b.log", "c.output", "d.nwo"):
+        (root / name).write_text(WATER_XYZ)
+    (root / "bad.out").write_text("no atoms here\n")
+    return root
+
+
+# -- candidates ----------------------------------------------------------------------------------
+
+
+def test_candidates_by_suffix_skipping_hidden_venv_and_cache_dirs(tmp_path):
+    root = tmp_path / "tree"
+    for rel in ("a.out", "B.LOG", "x/c.output", "x/y/d.nwo", "notes.txt", "job.inp", ".hidden.out",
+                ".git/e.out", "env/f.out", "__pycache__/g.log", "cache/h.out", "x/.snap/i.out"):
+        path = root / rel
+        path.parent.mkdir(parents=True, exist_ok=True)
+        path.write_text("x")
+    (root / "env" / "pyvenv.cfg").write_text("home = /usr\n")
+    found, notes = find_candidates(root, skip=(root / "cache",))
+    assert [c.relpath for c in found] == ["B.LOG", "a.out", "x/c.output", "x/y/d.nwo"]
+    assert notes == []
+    assert found[0].key.path == str(root / "B.LOG") and found[0].key.size == 1
+
+
+def test_symlink_loops_end_and_linked_directories_are_entered_once(tmp_path):
+    root = tmp_path / "tree"
+    (root / "a").mkdir(parents=True)
+    (root / "a" / "job.out").write_text("x")
+    (root / "a" / "loop").symlink_to(root)
+    (root / "alias").symlink_to(root / "a")
+    found, _ = find_candidates(root)
+    assert [c.relpath for c in found] == ["a/job.out"]
+
+
+def test_job_types_label_in_workflow_order():
+    assert job_types_label(frozenset({"frequencies", "optimization"})) == "optimization+frequencies"
+    assert job_types_label(frozenset({"frequencies", "saddle-search"})) == "frequencies+saddle-search"
+    assert job_types_label(frozenset()) == ""
+
+
+# -- the audit, on real data -----------------------------------------------------------------------
+
+
+@pytest.fixture
+def nh3_ts(third_party) -> Calculation:
+    """The GAMESS-US 2018 NH3 inversion transition state: 6 modes, exactly 1 imaginary (the folder's README)."""
+    import logging
+
+    import cclib
+    from ase.data import chemical_symbols
+
+    data = cclib.io.ccread(str(third_party / "gamess-us2018" / "nh3_ts_ir.out"), loglevel=logging.ERROR)
+    return Calculation(path="nh3_ts_ir.out", program="gamess", symbols=tuple(chemical_symbols[z] for z in data.atomnos),
+                       coordinates=data.atomcoords[-1], frequencies=np.asarray(data.vibfreqs),
+                       job_types=frozenset({"frequencies"}), normal_termination=True)
+
+
+def test_audit_of_a_transition_state(nh3_ts):
+    assert nh3_ts.n_imaginary == 1  # the README of the third-party folder
+    assert audit(dataclasses.replace(nh3_ts, job_types=frozenset({"saddle-search", "frequencies"}))) == []
+    (reason,) = audit(nh3_ts)  # the same modes on a job that was not a saddle search
+    assert reason.startswith("1 imaginary mode (lowest -")
+    assert reason.endswith("cm^-1) on a job that is not a saddle search")
+
+
+def test_audit_of_a_saddle_search_without_its_imaginary_mode(nh3_ts):
+    real_modes = np.abs(nh3_ts.frequencies)
+    calc = dataclasses.replace(nh3_ts, frequencies=real_modes, job_types=frozenset({"saddle-search", "frequencies"}))
+    assert audit(calc) == ["saddle search with 0 imaginary modes (a transition state has exactly 1)"]
+
+
+def test_audit_of_termination_convergence_and_multiplicity(nh3_ts):
+    calc = dataclasses.replace(nh3_ts, frequencies=None, job_types=frozenset({"optimization"}),
+                               normal_termination=False, optimization_converged=False, multiplicity=None)
+    assert audit(calc) == ["abnormal termination", "optimisation not converged", "multiplicity unknown"]
+    row = survey_module.calculation_row("x.out", calc)
+    assert row["status"] == "warning"
+    assert row["reason"] == "abnormal termination; optimisation not converged; multiplicity unknown"
+    assert row["n_imaginary"] is None and row["lowest_frequency_cm1"] is None  # no frequency job: blank
+
+
+# -- the survey ------------------------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("jobs", [1, 2])
+def test_survey_rows_statuses_and_exit_status(xyz_tree, jobs):
+    result = survey(xyz_tree, jobs=jobs, reader=xyz_reader)
+    assert [r["path"] for r in result.rows] == ["a.out", "b.log", "bad.out", "c.output", "d.nwo"]
+    assert [r["status"] for r in result.rows] == ["ok", "ok", "error", "ok", "ok"]
+    assert set(result.errors) == {"bad.out"} and result.errors["bad.out"].startswith("not an XYZ file")
+    assert result.rows[2]["reason"] == result.errors["bad.out"]
+    assert set(result.calculations) == {"a.out", "b.log", "c.output", "d.nwo"}
+    assert result.rows[0]["formula"] == "H2O" and result.rows[0]["natoms"] == 3
+    assert result.exit_status == 1
+    assert result.summary() == "5 files: 4 ok, 0 warning, 1 error"
+    frame = result.to_frame()
+    assert list(frame.columns) == list(COLUMNS)
+    assert frame["natoms"].tolist()[:2] == [3, 3]
+
+
+def test_exit_status_all_good_and_nothing_usable(xyz_tree, tmp_path):
+    (xyz_tree / "bad.out").unlink()
+    assert survey(xyz_tree, jobs=1, reader=xyz_reader).exit_status == 0
+    only_bad = tmp_path / "bad"
+    only_bad.mkdir()
+    (only_bad / "empty.out").write_text("")
+    result = survey(only_bad, jobs=1, reader=xyz_reader)
+    assert result.exit_status == 2 and result.rows[0]["status"] == "error"
+    assert survey(tmp_path / "bad" / "..", jobs=1, reader=xyz_reader).exit_status == 1
+
+
+def test_missing_directory_is_a_one_line_error(tmp_path):
+    with pytest.raises(QcthermoError, match="no such directory"):
+        survey(tmp_path / "absent")
+    (tmp_path / "file.out").write_text("x")
+    with pytest.raises(QcthermoError, match="not a directory"):
+        survey(tmp_path / "file.out")
+
+
+def test_a_dying_worker_becomes_an_error_row(xyz_tree):
+    (xyz_tree / "crash.out").write_text(WATER_XYZ)
+    result = survey(xyz_tree, jobs=2, reader=crashing_reader, cache=False)
+    assert {r["path"]: r["status"] for r in result.rows}["crash.out"] == "error"
+    assert "process died" in result.errors["crash.out"]
+    assert set(result.calculations) == {"a.out", "b.log", "c.output", "d.nwo"}  # the rest of the batch
+
+
+def test_memory_errors_and_reader_bugs_become_error_rows(xyz_tree, cache_dir):
+    # contents differ from the good files: the cache would rightly reuse a good file's entry for the same bytes
+    (xyz_tree / "greedy.out").write_text(WATER_XYZ.replace("water", "greedy"))
+    (xyz_tree / "bug.out").write_text(WATER_XYZ.replace("water", "bug"))
+    result = survey(xyz_tree, jobs=2, reader=greedy_reader)
+    assert result.errors["greedy.out"] == "ran out of memory while reading"
+    assert result.errors["bug.out"] == "reader failed unexpectedly: KeyError: 'missing key'"
+    assert len(result.calculations) == 4
+    again = survey(xyz_tree, jobs=1, reader=greedy_reader)
+    assert again.stats["parsed"] == 1  # out of memory may not happen again: not cached; the bug is
+
+
+# -- the command line ------------------------------------------------------------------------------
+
+
+@pytest.fixture
+def stub_default_reader(monkeypatch):
+    monkeypatch.setattr(survey_module, "default_reader", xyz_reader)
+
+
+def test_command_table_summary_and_exit_codes(xyz_tree, capsys, stub_default_reader):
+    assert main(["survey", str(xyz_tree), "--jobs", "1"]) == 1
+    out = capsys.readouterr().out
+    assert "bad.out" in out and "not an XYZ file" in out
+    assert out.strip().splitlines()[-1] == "5 files: 4 ok, 0 warning, 1 error"
+    (xyz_tree / "bad.out").unlink()
+    assert main(["survey", str(xyz_tree), "--jobs", "1", "--quiet"]) == 0
+    assert capsys.readouterr().out.strip() == "4 files: 4 ok, 0 warning, 0 error"
+
+
+def test_command_bad_directory_exits_2_with_one_line(tmp_path, capsys):
+    assert main(["survey", str(tmp_path / "absent")]) == 2
+    err = capsys.readouterr().err
+    assert len(err.strip().splitlines()) == 1 and "no such directory" in err
+    assert main(["survey", str(tmp_path)]) == 2  # no log in it
+    assert "no log files" in capsys.readouterr().err
+
+
+def test_command_writes_csv_and_json_and_never_overwrites_without_force(xyz_tree, tmp_path, stub_default_reader):
+    import pandas as pd
+
+    csv, js = tmp_path / "survey.csv", tmp_path / "survey.json"
+    assert main(["survey", str(xyz_tree), "--jobs", "1", "--quiet", "--csv", str(csv), "--json", str(js)]) == 1
+    frame = pd.read_csv(csv)
+    assert list(frame.columns) == list(COLUMNS) and len(frame) == 5
+    rows = json.loads(js.read_text())
+    assert [r["status"] for r in rows] == ["ok", "ok", "error", "ok", "ok"]
+    assert rows[2]["program"] is None
+    csv.write_text("mine")
+    assert main(["survey", str(xyz_tree), "--quiet", "--csv", str(csv)]) == 2
+    assert csv.read_text() == "mine"
+    assert main(["survey", str(xyz_tree), "--quiet", "--csv", str(csv), "--force"]) == 1
+    assert csv.read_text().startswith("path,program,")
+
+
+# -- end to end, with qcthermo's reader on real logs -----------------------------------------------
+
+
+@pytest.fixture
+def real_tree(third_party, tmp_path) -> Path:
+    pytest.importorskip("qcthermo.readers")
+    root = tmp_path / "real"
+    root.mkdir()
+    for rel in ("gaussian16/dvb_ir.out", "gaussian16/dvb_gopt.out", "gamess-us2018/nh3_ts_ir.out",
+                "orca6.0/dvb_ir.out"):
+        (root / Path(rel).parent).mkdir(exist_ok=True)
+        shutil.copy(third_party / rel, root / rel)
+    (root / "empty.out").write_text("")
+    (root / "binary.log").write_bytes(bytes(range(256)) * 16)
+    text = (third_party / "gaussian16" / "dvb_ir.out").read_bytes()
+    (root / "truncated.out").write_bytes(text[: len(text) // 2])
+    return root
+
+
+def test_survey_of_real_logs(real_tree):
+    result = qcthermo.survey(real_tree, jobs=2)
+    rows = {r["path"]: r for r in result.rows}
+    # values from the third-party folder's README
+    ir = rows["gaussian16/dvb_ir.out"]
+    assert ir["status"] == "ok" and ir["program"] == "gaussian" and ir["formula"] == "C10H10"
+    assert ir["E_elec_Eh"] == pytest.approx(-382.30824980, abs=1e-7)
+    assert ir["n_imaginary"] == 0 and "frequencies" in ir["job_types"]
+    assert len(result.calculations["gaussian16/dvb_ir.out"].frequencies) == 54
+    assert rows["gaussian16/dvb_gopt.out"]["n_imaginary"] is None  # optimisation only
+    assert rows["gamess-us2018/nh3_ts_ir.out"]["n_imaginary"] == 1
+    orca6 = rows["orca6.0/dvb_ir.out"]
+    assert orca6["n_imaginary"] == 0 and orca6["lowest_frequency_cm1"] == pytest.approx(43.87, abs=0.01)
+    assert rows["empty.out"]["status"] == "error" and rows["empty.out"]["reason"]
+    assert rows["binary.log"]["status"] == "error"
+    assert rows["truncated.out"]["status"] in ("error", "warning") and rows["truncated.out"]["reason"]
+    assert all("\n" not in r["reason"] for r in result.rows)
+    assert result.exit_status == 1
+
+
+def test_cached_survey_of_real_logs_gives_the_same_rows(real_tree):
+    first = qcthermo.survey(real_tree, jobs=2)
+    second = qcthermo.survey(real_tree, jobs=2)
+    assert second.stats["parsed"] == 0
+    assert second.rows == first.rows
+    calc1, calc2 = first.calculations["gaussian16/dvb_ir.out"], second.calculations["gaussian16/dvb_ir.out"]
+    assert np.array_equal(calc1.frequencies, calc2.frequencies) and calc1.job_types == calc2.job_types
