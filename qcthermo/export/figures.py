@@ -516,14 +516,15 @@ def save_figure(fig: Figure, path: str | Path) -> Path:
 
 
 def figure_svg(fig: Figure) -> str:
-    """The figure as an SVG string without the XML prolog, ready to inline in HTML."""
+    """The figure as an SVG string ready to inline in HTML: no XML prolog, no RDF metadata block."""
     import io
+    import re
 
     buffer = io.BytesIO()
     with matplotlib.rc_context(STYLE):
         fig.savefig(buffer, format="svg", bbox_inches="tight", pad_inches=0.03, metadata=_METADATA["svg"])
     text = buffer.getvalue().decode("utf-8")
-    return text[text.index("<svg"):]
+    return re.sub(r"\s*<metadata>.*?</metadata>", "", text[text.index("<svg"):], flags=re.S)
 
 
 def _profile_temperature_index(results) -> int:

@@ -1,0 +1,169 @@
+"""report.html: one self-contained page with everything a run found.
+
+The page needs nothing but a browser: the figures are inline SVG, the style sheet is inline, there is
+no script and no network reference. Order, as a reader checks a run: the audit findings first (errors,
+then warnings, each naming its file), then the settings, the species and reaction tables, and the
+figures.
+"""
+
+from __future__ import annotations
+
+import html
+import json
+import math
+from collections.abc import Iterable
+from pathlib import Path
+from typing import Any
+
+from .. import __version__
+from ..fileio import atomic_write
+
+#: order of the audit findings by severity; anything else comes last
+SEVERITY_ORDER = {"error": 0, "warning": 1, "info": 2, "note": 2}
+
+#: captions of the run's figures (stems as in :func:`qcthermo.export.figures.run_figures`)
+FIGURE_CAPTIONS = {
+    "profile": "Energy profile (free energies under the chosen low-mode model, relative to the first state).",
+    "dG_T": "Reaction (solid) and activation (dashed) free energies against temperature.",
+    "arrhenius": "Arrhenius plot: ln k against 1000 K / T (k in the units of the reactions table).",
+}
+
+CSS = """
+body { font: 14px/1.45 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", sans-serif; color: #222;
+       max-width: 1200px; margin: 2em auto; padding: 0 1em; }
+h1 { font-size: 1.5em; margin-bottom: 0.2em; } h2 { font-size: 1.2em; margin-top: 2em;
+     border-bottom: 1px solid #ddd; padding-bottom: 0.2em; }
+.meta { color: #666; }
+.scroll { overflow-x: auto; }
+table { border-collapse: collapse; font-size: 12px; margin: 0.5em 0; }
+th, td { padding: 2px 8px; border-bottom: 1px solid #e5e5e5; text-align: right; white-space: nowrap; }
+th { border-bottom: 1px solid #999; background: #f7f7f7; }
+td.text, th.text { text-align: left; white-space: normal; }
+tr.error td { background: #fdecea; } tr.warning td { background: #fff8e1; }
+.count { font-weight: 600; } .ok { color: #1b5e20; }
+figure { margin: 1em 0; } figure svg { width: 100%; max-width: 680px; height: auto; }
+figcaption { color: #555; font-size: 12px; }
+"""
+
+
+def _cell(value: Any, column: str = "") -> str:
+    """One table cell's text: hartree columns to the microhartree, temperatures to 0.01 K, other numbers
+    to four decimals or
+    in exponent form when tiny or huge (rate constants), everything else as escaped text."""
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        if math.isnan(value):
+            return ""
+        if column.endswith("_Eh"):
+            return f"{value:.6f}"
+        if column.endswith("_K"):
+            return f"{value:.2f}"
+        if value != 0 and not 1e-3 <= abs(value) < 1e6:
+            return f"{value:.4e}"
+        return f"{value:.4f}"
+    return html.escape(str(value))
+
+
+def _is_number(value: Any) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+
+def _table(columns: list[str], rows: Iterable[Iterable[Any]], row_classes: Iterable[str] | None = None) -> str:
+    rows = [list(r) for r in rows]
+    text_cols = [not all(_is_number(r[j]) or r[j] is None for r in rows) for j in range(len(columns))]
+    head = "".join(f'<th class="{"text" if t else "num"}">{html.escape(str(c))}</th>'
+                   for c, t in zip(columns, text_cols, strict=True))
+    classes = list(row_classes) if row_classes is not None else [""] * len(rows)
+    body = []
+    for row, cls in zip(rows, classes, strict=True):
+        cells = "".join(f'<td class="{"text" if t else "num"}">{_cell(v, str(c))}</td>'
+                        for v, c, t in zip(row, columns, text_cols, strict=True))
+        body.append(f'<tr class="{html.escape(cls)}">{cells}</tr>')
+    return f'<div class="scroll"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
+
+
+def _frame_table(frame, what: str) -> str:
+    """A DataFrame as an HTML table (every cell escaped), or a line saying there is none."""
+    if frame is None or len(frame) == 0:
+        return f"<p>No {what}.</p>"
+    rows = [[_plain(v) for v in row] for row in frame.itertuples(index=False, name=None)]
+    return _table([str(c) for c in frame.columns], rows)
+
+
+def _plain(value: Any) -> Any:
+    """numpy scalars to Python ones (so that numbers are recognised), pandas' missing values to None."""
+    if hasattr(value, "item") and getattr(value, "ndim", 1) == 0:
+        value = value.item()
+    if value is not None and not isinstance(value, (str, bytes)):
+        try:
+            import pandas as pd
+
+            if pd.isna(value):
+                return None
+        except (TypeError, ValueError):
+            pass
+    return value
+
+
+def sorted_findings(findings: Iterable[Any]) -> list[tuple[str, str, str]]:
+    """(severity, subject, message) triples, errors first, then warnings, then the rest (stable)."""
+    triples = [tuple(str(x) for x in f) for f in findings or []]
+    return sorted(triples, key=lambda f: SEVERITY_ORDER.get(f[0].lower(), 3))
+
+
+def _findings_section(findings: list[tuple[str, str, str]]) -> str:
+    if not findings:
+        return '<h2 id="audit">Audit</h2><p class="ok">No errors and no warnings.</p>'
+    counts = {sev: sum(1 for f in findings if f[0].lower() == sev) for sev in ("error", "warning")}
+    summary = ", ".join(f'<span class="count">{n}</span> {sev}{"s" if n != 1 else ""}' for sev, n in counts.items())
+    table = _table(["severity", "file or species", "finding"], findings, [f[0].lower() for f in findings])
+    return f'<h2 id="audit">Audit</h2><p>{summary}.</p>{table}'
+
+
+def _settings_value(value: Any) -> str:
+    if isinstance(value, (dict, list, tuple)):
+        return json.dumps(value, default=str, ensure_ascii=False)
+    return str(value)
+
+
+def _settings_section(settings: dict[str, Any] | None) -> str:
+    rows = [[str(k), _settings_value(v)] for k, v in (settings or {}).items()]
+    if not rows:
+        return '<h2 id="settings">Settings</h2><p>No settings recorded.</p>'
+    return f'<h2 id="settings">Settings</h2>{_table(["setting", "value"], rows)}'
+
+
+def _figures_section(results) -> str:
+    from .figures import figure_svg, run_figures
+
+    parts = []
+    for stem, fig in run_figures(results).items():
+        caption = html.escape(FIGURE_CAPTIONS.get(stem, stem))
+        parts.append(f'<figure id="figure-{stem}">{figure_svg(fig)}<figcaption>{caption}</figcaption></figure>')
+    return '<h2 id="figures">Figures</h2>' + ("".join(parts) or "<p>No profiles and no temperature range.</p>")
+
+
+def render_report(results) -> str:
+    """The whole page as a string (see the module docstring for its order)."""
+    findings = sorted_findings(getattr(results, "findings", None))
+    body = [
+        "<h1>qcthermo report</h1>",
+        f'<p class="meta">qcthermo {html.escape(__version__)}; energies in '
+        f"{html.escape(str(getattr(results, 'energy_unit', 'kcal/mol')))} where a column does not say hartree.</p>",
+        _findings_section(findings),
+        _settings_section(getattr(results, "settings", None)),
+        '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species"),
+        '<h2 id="reactions">Reactions</h2>' + _frame_table(getattr(results, "reactions", None), "reactions"),
+        _figures_section(results),
+    ]
+    return (
+        '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
+        '<meta name="viewport" content="width=device-width, initial-scale=1">'
+        f"<title>qcthermo report</title><style>{CSS}</style></head><body>\n" + "\n".join(body) + "\n</body></html>\n"
+    )
+
+
+def write_report(results, out_dir: str | Path) -> Path:
+    """Write ``report.html`` into ``out_dir`` (atomically) and return its path."""
+    return atomic_write(Path(out_dir) / "report.html", render_report(results))

@@ -1,0 +1,108 @@
+"""report.html: content, escaping, self-containment, and rendering in a real headless browser."""
+
+import re
+import shutil
+import subprocess
+import xml.etree.ElementTree as ET
+from html.parser import HTMLParser
+from types import SimpleNamespace
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from qcthermo.export.report import render_report, sorted_findings, write_report
+
+CHROMIUM = shutil.which("chromium") or shutil.which("chromium-browser")
+
+# Final SCF energies of p-divinylbenzene, hartree (third-party-logs/README.md: Gaussian 16, ORCA 5)
+E_GAUSSIAN = -382.30824980
+E_ORCA = -382.05509182
+
+
+def _results(temperatures=(298.15,)):
+    temps = np.asarray(temperatures, dtype=float)
+    species = pd.DataFrame({"species": ["dvb_g", "dvb_o", "<b>odd & name</b>"],
+                            "file": ["gaussian16/dvb_ir.out", "orca5.0/dvb_ir.out", "x.out"],
+                            "E_elec_Eh": [E_GAUSSIAN, E_ORCA, np.nan]})
+    reactions = pd.DataFrame([{"reaction": "g_to_o", "T_K": t, "dG_kcal_mol": 158.8 + 0.001 * t,
+                               "dG_act_kcal_mol": np.nan, "k_forward": np.nan} for t in temps])
+    profile = {"name": "dvb", "states": [{"label": "g", "value_Eh": {"G": E_GAUSSIAN + 0 * temps}},
+                                         {"label": "o", "value_Eh": {"G": E_ORCA + 0 * temps}, "is_ts": True}]}
+    findings = [("warning", "orca5.0/dvb_ir.out", "a warning"), ("error", "x.out", "could not be read <here>"),
+                ("warning", "species dvb_o", "second warning")]
+    return SimpleNamespace(settings={"temperature_K": list(temps), "low_mode_model": "qrrho", "standard_state": "1M"},
+                           conditions=SimpleNamespace(temperature=temps), energy_unit="kcal/mol", species=species,
+                           reactions=reactions, findings=findings, profiles=[profile])
+
+
+class _Collector(HTMLParser):
+    """Tags, and the text of the first column of the audit table, in document order."""
+
+    def __init__(self):
+        super().__init__()
+        self.tags, self.links = [], []
+
+    def handle_starttag(self, tag, attrs):
+        self.tags.append(tag)
+        attrs = dict(attrs)
+        for key in ("src", "href"):
+            if attrs.get(key):
+                self.links.append(attrs[key])
+
+
+def test_findings_order_errors_then_warnings():
+    ordered = sorted_findings(_results().findings)
+    assert [f[0] for f in ordered] == ["error", "warning", "warning"]
+    assert ordered[1][1] == "orca5.0/dvb_ir.out"  # stable within a severity
+
+
+def test_report_is_self_contained_and_escaped(tmp_path):
+    path = write_report(_results(), tmp_path)
+    assert path.name == "report.html"
+    text = path.read_text(encoding="utf-8")
+    parser = _Collector()
+    parser.feed(text)
+    assert "script" not in parser.tags and "link" not in parser.tags and parser.links == []
+    assert "http" not in re.sub(r'xmlns(:\w+)?="[^"]*"|<!DOCTYPE svg[^>]*>', "", text)  # no network reference
+    assert "&lt;b&gt;odd &amp; name&lt;/b&gt;" in text and "<b>odd" not in text
+    assert "could not be read &lt;here&gt;" in text
+    # audit before settings before tables before figures
+    positions = [text.index(f'id="{s}"') for s in ("audit", "settings", "species", "reactions", "figures")]
+    assert positions == sorted(positions)
+    assert text.index("x.out</td>") < text.index("orca5.0/dvb_ir.out</td>")  # the error comes first
+    assert "-382.308250" in text  # hartree to the microhartree
+    assert parser.tags.count("svg") == 1  # the profile, inline
+
+
+def test_report_with_a_temperature_range_has_the_temperature_plot():
+    text = render_report(_results(temperatures=(250.0, 300.0, 350.0)))
+    assert 'id="figure-dG_T"' in text and 'id="figure-profile"' in text
+    assert 'id="figure-arrhenius"' not in text  # no rate constants in this table
+
+
+@pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install -y chromium)")
+def test_report_renders_in_a_headless_browser(tmp_path):
+    path = write_report(_results(temperatures=(250.0, 300.0, 350.0)), tmp_path)
+    flags = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+             "--disable-background-networking", "--disable-component-update", "--disable-sync",
+             f"--user-data-dir={tmp_path / 'profile'}"]
+    url = path.resolve().as_uri()
+    dom = subprocess.run([CHROMIUM, *flags, "--dump-dom", url], capture_output=True, text=True, timeout=120,
+                         check=True).stdout
+    assert dom.count("<table") == 4  # audit, settings, species, reactions
+    assert dom.count("<svg") == 2  # profile and dG(T)
+    assert "dvb_ir.out" in dom and "g_to_o" in dom
+    # the browser's DOM keeps the figures as SVG with their text
+    svg = re.search(r"<svg.*?</svg>", dom, flags=re.S).group(0)
+    assert "o‡" in svg
+    shot = tmp_path / "report.png"
+    subprocess.run([CHROMIUM, *flags, f"--screenshot={shot}", "--window-size=1200,2400", url],
+                   capture_output=True, timeout=120, check=True)
+    assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_inline_svg_is_well_formed():
+    text = render_report(_results())
+    svg = re.search(r"<svg.*?</svg>", text, flags=re.S).group(0)
+    assert ET.fromstring(svg).tag.endswith("svg")
