@@ -133,8 +133,10 @@ def harmonic_thermal_energy(theta_v, temperature):
 def harmonic_entropy(theta_v, temperature):
     """S_v = k [x / (e^x - 1) - ln(1 - e^-x)], x = Theta/T, per mode (McQuarrie eq. 6-24 via S = U/T + k ln q), Eh/K."""
     x = np.asarray(theta_v) / np.asarray(temperature)
+    # ln(1 - e^-x) without cancellation at either end
+    log_one_minus = np.where(x < 1.0, np.log(-np.expm1(-np.minimum(x, 1.0))), np.log1p(-np.exp(-x)))
     with np.errstate(over="ignore"):
-        return K_B_EH * (x / np.expm1(x) - np.log(-np.expm1(-x)))
+        return K_B_EH * (x / np.expm1(x) - log_one_minus)
 
 
 def harmonic_heat_capacity(theta_v, temperature):

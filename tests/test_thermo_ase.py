@@ -203,6 +203,7 @@ def test_harmonic_mode_entropy_matches_ase_per_mode():
         mode = HarmonicMode(nu * units.invcm)
         theta = vibrational_temperatures(nu)
         np.testing.assert_allclose(ev(harmonic_entropy(theta, temps)),
-                                   [mode.get_vib_entropy_contribution(t) for t in temps], rtol=REL)
+                                   [mode.get_vib_entropy_contribution(t) for t in temps], rtol=REL,
+                                   atol=1e-20)  # ASE's ln(1 - e^-x) loses digits for x > ~30
         np.testing.assert_allclose(ev(harmonic_thermal_energy(theta, temps)),
                                    [mode.get_vib_energy_contribution(t) for t in temps], rtol=REL, atol=1e-300)
