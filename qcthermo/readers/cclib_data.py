@@ -1,0 +1,141 @@
+"""Run cclib 1.8.1 on a log already in memory, quietly, and turn its ccData into Calculation fields.
+
+cclib's energies are eV (converted back here to hartree with cclib's own factor, so the numbers
+are exactly those printed: its 27.21138505 differs from CODATA 2018's by 4e-8 relative, 1.7e-5 Eh
+on a 380 Eh molecule); its coordinates are angstrom and its frequencies cm^-1 already. Only cclib
+attributes are used here; what cclib lacks is added from the text by the program rules (programs.py)
+and fallbacks (fallback.py).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import logging
+import warnings
+
+import numpy as np
+
+from .normalise import method_name, solvent_model_name
+from .programs import rules
+from .source import PROGRAMS, LogSource
+
+
+class _NullStream(io.TextIOBase):
+    """Where cclib's per-parser log handler writes: nowhere (a batch must not spew)."""
+
+    def write(self, s: str) -> int:
+        return len(s)
+
+
+_NULL = _NullStream()
+
+
+def parse(source: LogSource):
+    """ccData for ``source`` with the program's cclib parser, or (None, reason) when cclib fails."""
+    import cclib.parser
+
+    logging.getLogger("cclib").addHandler(logging.NullHandler())
+    parser_class = getattr(cclib.parser, PROGRAMS[source.program][1])
+    try:
+        with warnings.catch_warnings(), contextlib.redirect_stdout(_NULL):
+            warnings.simplefilter("ignore")
+            parser = parser_class(io.StringIO(source.text), loglevel=logging.CRITICAL + 1, logstream=_NULL)
+            return parser.parse(), None
+    except Exception as err:  # cclib raises anything from AssertionError to IndexError on odd files
+        return None, f"cclib failed with {type(err).__name__}"
+
+
+def ev_to_hartree(value: float) -> float:
+    """Undo cclib's hartree -> eV conversion exactly (its parsers all use this convertor)."""
+    from cclib.parser.utils import convertor
+
+    return float(convertor(float(value), "eV", "hartree"))
+
+
+def _last_energy(values) -> float | None:
+    """Last finite entry of a cclib energy array (eV), in hartree."""
+    if values is None:
+        return None
+    flat = np.asarray(values, dtype=float)
+    if flat.ndim > 1:  # mpenergies: one row per step, one column per order: the highest order printed
+        flat = np.array([row[np.isfinite(row)][-1] for row in flat if np.isfinite(row).any()])
+    flat = flat[np.isfinite(flat)]
+    return ev_to_hartree(flat[-1]) if flat.size else None
+
+
+def level_and_energy(data) -> tuple[str | None, float | None]:
+    """(method, energy in hartree) at the highest correlated level present: CC > MPn > SCF."""
+    meta = getattr(data, "metadata", {}) or {}
+    methods = [str(m) for m in meta.get("methods", []) or []]
+    cc = _last_energy(getattr(data, "ccenergies", None))
+    if cc is not None:
+        named = [m for m in methods if "CC" in m.upper()]
+        return (method_name(named[-1]) if named else "CC"), cc
+    mp = getattr(data, "mpenergies", None)
+    mp_energy = _last_energy(mp)
+    if mp_energy is not None:
+        order = 1 + int(np.isfinite(np.asarray(mp[-1], dtype=float)).sum())
+        return f"MP{order}", mp_energy
+    scf = _last_energy(getattr(data, "scfenergies", None))
+    functional = meta.get("functional")
+    if functional:
+        return method_name(functional), scf
+    named = [m for m in methods if m.upper() != "DFT"]
+    if named:
+        return (named[-1] if "xtb" in named[-1].lower() else method_name(named[-1])), scf
+    return ("DFT" if methods else None), scf
+
+
+def thermo_printed(data, program: str, energy: float | None) -> dict[str, float]:
+    """The program's own thermochemistry as cclib read it, as totals in hartree (ZPE as the correction)."""
+    program_rules = rules(program)
+    out: dict[str, float] = {}
+    for key, attr in (("zpe", "zpve"), ("enthalpy", "enthalpy"), ("gibbs", "freeenergy")):
+        value = getattr(data, attr, None)
+        if value is None:
+            continue
+        value = ev_to_hartree(value) if program_rules.thermo_ev else float(value)
+        if program_rules.thermo_corrections and key != "zpe":
+            if energy is None:
+                continue
+            value += energy
+        out[key] = value
+    if out and getattr(data, "temperature", None) is not None:
+        out["temperature"] = float(data.temperature)
+    return out
+
+
+def fields(data, program: str) -> dict:
+    """Calculation fields from a ccData (frequencies as cclib gives them; the caller normalises)."""
+    from ase.data import chemical_symbols
+
+    meta = getattr(data, "metadata", {}) or {}
+    out: dict = {}
+    if getattr(data, "atomnos", None) is not None:
+        out["symbols"] = tuple(chemical_symbols[int(z)] for z in data.atomnos)
+        coords = np.asarray(getattr(data, "atomcoords", np.zeros((0, 0, 3))), dtype=float)
+        if coords.ndim == 3 and coords.shape[1:] == (len(out["symbols"]), 3):  # xTB --hess prints none
+            out["coordinates"] = coords[-1]
+    method, energy = level_and_energy(data)
+    if energy is not None:
+        out["energy"] = energy
+    out["method"] = method
+    out["basis"] = meta.get("basis_set")
+    out["program_version"] = meta.get("legacy_package_version") or meta.get("package_version")
+    if getattr(data, "charge", None) is not None:
+        out["charge"] = int(data.charge)
+    out["multiplicity"] = int(data.mult) if getattr(data, "mult", None) is not None else None
+    if getattr(data, "vibfreqs", None) is not None:
+        out["frequencies"] = np.asarray(data.vibfreqs, dtype=float)
+    if getattr(data, "optdone", None) is not None:
+        out["optimization_converged"] = bool(data.optdone)
+    if meta.get("solvent_model"):
+        out["solvent_model"] = solvent_model_name(meta["solvent_model"])
+        out["solvent"] = meta.get("solvent_name")
+    if "success" in meta:
+        out["normal_termination"] = bool(meta["success"])
+    thermo = thermo_printed(data, program, energy)
+    if thermo:
+        out["thermo_printed"] = thermo
+    return out

@@ -1,0 +1,220 @@
+"""read_log(): one log file in, one normalised Calculation out (or a one-line LogReadError).
+
+Order of work: load the file once and recognise the program from its banner (source.py); cclib on the
+text in memory (cclib_data.py); the program's own extractor where cclib fails or misses the geometry
+or energy (fallback.py); then the same normalisation for every program (normalise.py, programs.py).
+"""
+
+from __future__ import annotations
+
+import re
+from pathlib import Path
+
+import numpy as np
+
+from ..errors import LogReadError
+from ..records import Calculation
+from . import cclib_data, fallback
+from .normalise import inferred_multiplicity, n_vibrations, solvent_model_name, vibrational_modes
+from .programs import (
+    job_spec,
+    job_types_from_spec,
+    last_s2,
+    optimisation_converged,
+    rules,
+    terminated_normally,
+)
+from .source import LogSource, load
+
+#: job types that are not a single point
+_NOT_SINGLE_POINT = {"optimization", "frequencies", "saddle-search", "irc", "scan"}
+
+
+def read_log(path: str | Path) -> Calculation:
+    """Read one quantum-chemistry log (or a geometry file) into a :class:`Calculation`.
+
+    Raises :class:`~qcthermo.errors.LogReadError` (one line) for anything it cannot read: empty,
+    binary, not a log, an unsupported program, or a log that gives no geometry or no energy.
+    """
+    source = load(path)
+    if source.program is None:
+        return _read_geometry(source)
+    try:
+        return _read(source)
+    except LogReadError:
+        raise
+    except Exception as err:  # a malformed log must never surface as a traceback
+        raise LogReadError(source.path, f"unreadable {source.program} output ({type(err).__name__}: {err})") from None
+
+
+def _read(source: LogSource) -> Calculation:
+    data, failure = cclib_data.parse(source)
+    found = cclib_data.fields(data, source.program) if data is not None else {}
+    notes: list[str] = []
+    if source.program == "xtb" and "symbols" in found and "coordinates" not in found:
+        found["coordinates"] = _xtb_coordinate_file(source, found["symbols"], notes)
+    extractor = fallback.EXTRACTORS.get(source.program)
+    if "coordinates" not in found or "energy" not in found:
+        reason = failure or "cclib found no " + ("geometry" if "coordinates" not in found else "energy")
+        if extractor is None:
+            raise LogReadError(source.path, f"cannot read this {source.program} output: {reason}")
+        found = extractor(source.text)
+        notes.append(f"fallback extractor used: {reason}")
+    if "coordinates" not in found:
+        raise LogReadError(source.path, f"no geometry in this {source.program} output (truncated or not a job log?)")
+    if "energy" not in found:
+        raise LogReadError(source.path, f"no energy in this {source.program} output (stopped before the first SCF?)")
+    _amend(source, found, notes)
+    return _finish(source, found, notes)
+
+
+def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
+    """What cclib does not give for some programs, from the text."""
+    text = source.text
+    if source.program == "orca":
+        method = fallback.orca_method(text)
+        if method:
+            found["method"] = method
+        if not found.get("solvent_model"):
+            model, solvent = fallback.orca_solvent(text)
+            if model:
+                found["solvent_model"], found["solvent"] = solvent_model_name(model), solvent
+    elif source.program == "nwchem":
+        cosmo = fallback.nwchem_cosmo(text)
+        if cosmo and not found.get("solvent_model"):
+            notes.append("COSMO solvent model read from the text (cclib reports none)")
+        found.update(cosmo)
+    elif source.program == "xtb":
+        _amend_xtb(text, found)
+    elif source.program == "psi4" and found.get("method") in (None, "DFT"):
+        functional = re.search(r"^\s+(\S+) (?:Hyb-)?(?:GGA|LSDA|Meta-GGA|LDA) Exchange-Correlation", text, re.M)
+        if functional:
+            found["method"] = functional.group(1).upper()
+        elif re.search(r"@(DF-)?(RHF|UHF|ROHF|CUHF) Final Energy", text):
+            found["method"] = "HF"
+
+
+def _amend_xtb(text: str, found: dict) -> None:
+    call = re.search(r"program call\s*:\s*(.*)$", text, re.M)
+    flags = call.group(1) if call else ""
+    solvation = re.search(r"(?:^|\s)--?(alpb|gbsa|gbe|cosmo|cpcmx)\s+(\S+)|(?:^|\s)-g\s+(\S+)", flags)
+    if solvation:
+        model = solvation.group(1) or "gbsa"
+        found["solvent_model"], found["solvent"] = solvent_model_name(model), solvation.group(2) or solvation.group(3)
+    # xTB's own thermochemistry as printed (hartree), more precise than cclib's eV copy
+    printed = {
+        "zpe": r"::\s+zero point energy\s+(-?\d+\.\d+) Eh",
+        "enthalpy": r"\|\s+TOTAL ENTHALPY\s+(-?\d+\.\d+) Eh",
+        "gibbs": r"\|\s+TOTAL FREE ENERGY\s+(-?\d+\.\d+) Eh",
+    }
+    thermo = {k: float(m[-1]) for k, rx in printed.items() if (m := re.findall(rx, text))}
+    if thermo:
+        temperature = found.get("thermo_printed", {}).get("temperature")
+        found["thermo_printed"] = thermo if temperature is None else {**thermo, "temperature": temperature}
+
+
+def _xtb_coordinate_file(source: LogSource, symbols: tuple[str, ...], notes: list[str]) -> np.ndarray:
+    """xTB prints no geometry for a single point or --hess run: read the input file it names, if present.
+
+    Without it the atoms are known but not where they are: the coordinates are NaN and a note says so,
+    because the energy and frequencies are still worth a row in a survey.
+    """
+    import ase.io
+
+    named = re.search(r"coordinate file\s*:\s*(\S+)", source.text)
+    if named:
+        candidate = Path(source.path).parent / named.group(1)
+        try:
+            atoms = ase.io.read(candidate, index=-1)
+            if tuple(atoms.get_chemical_symbols()) == tuple(symbols):
+                notes.append(f"geometry not in the log: read from the input file {named.group(1)}")
+                return np.asarray(atoms.get_positions(), dtype=float)
+        except Exception:  # absent or unreadable companion file: fall through to unknown coordinates
+            pass
+    notes.append("geometry not printed in the log and its coordinate file not found: coordinates unknown (NaN)")
+    return np.full((len(symbols), 3), np.nan)
+
+
+def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
+    """Normalise what was found into a Calculation (same rules whatever the program or extractor)."""
+    program, text = source.program, source.text
+    symbols, coords = found["symbols"], found["coordinates"]
+    charge = int(found.get("charge", 0))
+    mult = found.get("multiplicity")
+    if mult is None:
+        mult, note = inferred_multiplicity(symbols, charge)
+        notes.append(note)
+
+    spec_jobs = job_types_from_spec(program, job_spec(program, text))
+    freqs = found.get("frequencies")
+    if freqs is not None:
+        freqs, note = vibrational_modes(freqs, symbols, coords, rules(program).projected)
+        if note:
+            notes.append(note)
+        expected = n_vibrations(symbols, coords)
+        if expected is not None and freqs.size != expected:
+            notes.append(f"frequencies dropped: {freqs.size} modes found where {expected} belong (incomplete block)")
+            freqs = None
+    if freqs is None and "frequencies" in spec_jobs:
+        notes.append("frequency job without a complete list of frequencies")
+    jobs = set(spec_jobs)
+    if freqs is not None:
+        jobs.add("frequencies")
+    if not jobs & _NOT_SINGLE_POINT:
+        jobs.add("single-point")
+
+    ended = terminated_normally(program, text)
+    if ended is None:
+        ended = found.get("normal_termination")
+    converged = None
+    if jobs & {"optimization", "saddle-search"}:
+        marker = optimisation_converged(program, text)
+        converged = marker if marker is not None else found.get("optimization_converged")
+    s2 = last_s2(text) if mult > 1 else None
+
+    return Calculation(
+        path=source.path,
+        program=program,
+        symbols=tuple(symbols),
+        coordinates=np.asarray(coords, dtype=float).reshape(-1, 3),
+        charge=charge,
+        multiplicity=int(mult),
+        energy=float(found["energy"]),
+        frequencies=None if freqs is None else np.asarray(freqs, dtype=float),
+        job_types=frozenset(jobs),
+        normal_termination=ended,
+        optimization_converged=converged,
+        program_version=found.get("program_version"),
+        method=found.get("method"),
+        basis=found.get("basis"),
+        solvent_model=found.get("solvent_model"),
+        solvent=found.get("solvent"),
+        s2=s2,
+        gas_energy=found.get("gas_energy"),
+        thermo_printed=found.get("thermo_printed", {}),
+        notes=notes,
+    )
+
+
+def _read_geometry(source: LogSource) -> Calculation:
+    """A geometry-only file (xyz, pdb, ...) through ASE: the last structure, no energy, no job."""
+    import ase.io
+
+    try:
+        atoms = ase.io.read(source.path, index=-1)
+    except Exception as err:  # ASE raises many types on malformed input
+        raise LogReadError(source.path, f"not a readable geometry file ({type(err).__name__})") from None
+    if len(atoms) == 0:
+        raise LogReadError(source.path, "geometry file with no atoms")
+    symbols = tuple(atoms.get_chemical_symbols())
+    charge = round(float(atoms.info.get("charge", 0)))
+    mult, note = inferred_multiplicity(symbols, charge)
+    return Calculation(
+        path=source.path,
+        program=Path(source.path).suffix.lower().lstrip("."),
+        symbols=symbols,
+        coordinates=np.asarray(atoms.get_positions(), dtype=float),
+        charge=charge,
+        multiplicity=mult,
+        notes=["geometry-only file read with ASE: no energy, no frequencies", note],
+    )

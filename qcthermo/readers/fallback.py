@@ -1,0 +1,243 @@
+"""Small text extractors for the outputs cclib 1.8.1 cannot read (ORCA 6, some NWChem 7 multi-task jobs).
+
+Each returns a dict of :class:`~qcthermo.records.Calculation` fields, in the reader's units (hartree,
+angstrom, cm^-1, frequencies as printed: the caller removes rigid-body modes). Only what the
+program states is read; a missing item is simply absent.
+"""
+
+from __future__ import annotations
+
+import re
+
+import numpy as np
+
+from ..units import HARTREE_J, N_A
+from .normalise import method_name
+
+_F = r"(-?\d+\.\d+)"
+#: one thermochemical calorie, J (entropies printed in cal/(mol K))
+_CAL = 4.184
+
+
+def _last(pattern: str, text: str, flags: int = re.MULTILINE) -> str | None:
+    found = re.findall(pattern, text, flags)
+    return found[-1] if found else None
+
+
+def _last_float(pattern: str, text: str) -> float | None:
+    value = _last(pattern, text)
+    return None if value is None else float(value)
+
+
+def _last_int(pattern: str, text: str) -> int | None:
+    value = _last(pattern, text)
+    return None if value is None else int(value)
+
+
+# ---------------------------------------------------------------------------------------------- ORCA
+
+#: ORCA keyword tokens that name the method (a functional, a wavefunction method or a composite)
+_ORCA_METHOD = re.compile(
+    r"^((ri-|dlpno-|scs-|sos-|ri-scs-|lpno-)?(hf|rhf|uhf|rohf|mp2|mp3|ccsd|ccsd\(t\)|qcisd\(t\)|ccsd\(t\)-f12|cisd)"
+    r"|[a-z0-9]*-3c|gfn[0-2]-xtb|xtb[0-2]?"
+    r"|b3lyp(/g)?|pbe0|pbe|bp86|blyp|b97-d3?|tpssh?|m06(-2x|l|-l|2x)?|wb97x(-d3|-d4|-v|-d3bj)?|wb97m(-v|-d3bj)?"
+    r"|wb97|b2plyp|dsd-pbep86|dsd-blyp|revpbe0?|r2scan0?|scan|pw6b95|cam-b3lyp|x3lyp|b3pw91|mn15|pw91|lc-blyp"
+    r"|bhandhlyp|b3p86|o3lyp|tpss0|pbeh|b97m-v|b97m-d3bj|wr2scan|r2scanh|kt2|svwn|lda)$"
+)
+_ORCA_SOLVENT = re.compile(r"\b(cpcm|smd|cpcmc|alpb|ddcosmo|cosmors)\s*\(\s*([^)]+?)\s*\)", re.IGNORECASE)
+_ORCA_HF_ALIASES = {"RHF": "HF", "UHF": "HF", "ROHF": "HF"}
+
+
+def orca_keywords(text: str) -> list[str]:
+    """Lower-case tokens of the "!" lines of ORCA's input echo."""
+    lines = re.findall(r"^\|\s*\d+>\s*!(.*)$", text, re.MULTILINE)
+    return " ".join(lines).lower().split()
+
+
+def orca_method(text: str) -> str | None:
+    """Method named in ORCA's "!" keywords (upper-cased), e.g. "B3LYP", "DLPNO-CCSD(T)", "R2SCAN-3C"."""
+    for token in orca_keywords(text):
+        if _ORCA_METHOD.match(token):
+            name = method_name(token)
+            return _ORCA_HF_ALIASES.get(name, name)
+    return None
+
+
+def orca_solvent(text: str) -> tuple[str | None, str | None]:
+    """(model, solvent) from ORCA's "!" keywords (CPCM(water), SMD(water), ...) or the %cpcm block."""
+    keywords = " ".join(orca_keywords(text))
+    m = _ORCA_SOLVENT.search(keywords)
+    if m:
+        return m.group(1).lower(), m.group(2)
+    block = re.search(r"^\|\s*\d+>\s*%cpcm(.*?)^\|\s*\d+>\s*end", text, re.MULTILINE | re.DOTALL | re.IGNORECASE)
+    if block:
+        body = block.group(1)
+        smd = re.search(r"\bsmd\s+true", body, re.IGNORECASE)
+        name = re.search(r"smdsolvent\s+\"([^\"]+)\"", body, re.IGNORECASE)
+        return ("smd" if smd else "cpcm"), (name.group(1) if name else None)
+    return None, None
+
+
+def _orca_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
+    blocks = re.findall(
+        r"^CARTESIAN COORDINATES \(ANGSTROEM\)\n-+\n((?:\s*[A-Za-z]{1,3}\s+\S+\s+\S+\s+\S+\n)+)", text, re.MULTILINE
+    )
+    if not blocks:
+        return None
+    rows = [line.split() for line in blocks[-1].strip().splitlines()]
+    symbols = tuple(row[0].capitalize() for row in rows)
+    return symbols, np.array([[float(x) for x in row[1:4]] for row in rows])
+
+
+def _orca_frequencies(text: str) -> np.ndarray | None:
+    """The last VIBRATIONAL FREQUENCIES block, without the modes ORCA itself says are not vibrations."""
+    start = text.rfind("VIBRATIONAL FREQUENCIES")
+    if start < 0:
+        return None
+    block = text[start : start + 200 * 80]
+    end = block.find("NORMAL MODES")
+    block = block if end < 0 else block[:end]
+    values = np.array([float(v) for v in re.findall(r"^\s*\d+:\s+(-?\d+\.\d+) cm\*\*-1", block, re.MULTILINE)])
+    if values.size == 0:
+        return None
+    first = _last_int(r"The first frequency considered to be a vibration is (\d+)", block)
+    return values[first:] if first is not None else values
+
+
+def orca(text: str) -> dict:
+    """Fields of an ORCA (5 or 6) output: geometry, energy, charge/multiplicity, frequencies, thermochemistry."""
+    out: dict = {}
+    geometry = _orca_geometry(text)
+    if geometry is not None:
+        out["symbols"], out["coordinates"] = geometry
+    energy = _last_float(rf"^FINAL SINGLE POINT ENERGY\s+{_F}", text)
+    if energy is not None:
+        out["energy"] = energy
+    charge = _last_int(r"Total Charge\s+Charge\s+\.+\s+(-?\d+)", text)
+    mult = _last_int(r"Multiplicity\s+Mult\s+\.+\s+(\d+)", text)
+    if charge is None or mult is None:  # before the SCF printed its settings: the input's "* xyz c m"
+        m = re.search(r"^\|\s*\d+>\s*\*\s*(?:xyz|int|gzmt|xyzfile)\s+(-?\d+)\s+(\d+)", text, re.MULTILINE | re.I)
+        if m:
+            charge, mult = int(m.group(1)), int(m.group(2))
+    if charge is not None:
+        out["charge"] = charge
+    if mult is not None:
+        out["multiplicity"] = mult
+    freqs = _orca_frequencies(text)
+    if freqs is not None:
+        out["frequencies"] = freqs
+    out["program_version"] = _last(r"Program Version (\S+)", text)
+    out["basis"] = _last(r"Your calculation utilizes the basis: (\S+)", text)
+    out["method"] = orca_method(text)
+    thermo = {
+        "temperature": _last_float(rf"^Temperature\s+\.\.\.\s+{_F} K", text),
+        "zpe": _last_float(rf"^Zero point energy\s+\.\.\.\s+{_F} Eh", text),
+        "enthalpy": _last_float(rf"^Total Enthalpy\s+\.\.\.\s+{_F} Eh", text),
+        "gibbs": _last_float(rf"^Final Gibbs free energy\s+\.\.\.\s+{_F} Eh", text),
+    }
+    if thermo["enthalpy"] is not None:
+        out["thermo_printed"] = {k: v for k, v in thermo.items() if v is not None}
+    return out
+
+
+# -------------------------------------------------------------------------------------------- NWChem
+
+#: NWChem energy lines, highest level first: (method, regex of the total energy)
+_NWCHEM_ENERGIES = (
+    ("CCSD(T)", rf"CCSD\(T\) total energy / hartree\s+=\s+{_F}"),
+    ("CCSD", rf"CCSD total energy / hartree\s+=\s+{_F}"),
+    ("MP2", rf"Total MP2 energy\s+{_F}"),
+    ("DFT", rf"Total DFT energy =\s+{_F}"),
+    ("HF", rf"Total SCF energy =\s+{_F}"),
+)
+
+
+def nwchem_level(text: str) -> tuple[str | None, float | None]:
+    """(method, energy) at the highest level NWChem printed; the DFT functional where the module names it."""
+    for method, pattern in _NWCHEM_ENERGIES:
+        energy = _last_float(pattern, text)
+        if energy is not None:
+            if method == "DFT":
+                functional = _last(r"^\s+(\S+) Method XC (?:Potential|Functional)", text)
+                method = method_name(functional) if functional else "DFT"
+            return method, energy
+    return None, None
+
+
+def _nwchem_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
+    from ase.data import chemical_symbols
+
+    blocks = re.findall(
+        r"Output coordinates in angstroms.*\n\n.*\n\s*-{4}.*\n((?:\s*\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+\S+\n)+)", text
+    )
+    if not blocks:
+        return None
+    rows = [line.split() for line in blocks[-1].strip().splitlines()]
+    # the nuclear charge names the element whatever the tag says ("O1", "H_a", ...)
+    symbols = tuple(chemical_symbols[round(float(row[2]))] for row in rows)
+    return symbols, np.array([[float(x) for x in row[3:6]] for row in rows])
+
+
+def _nwchem_frequencies(text: str) -> np.ndarray | None:
+    """The projected frequencies (P.Frequency) of the last normal-mode analysis."""
+    start = text.rfind("Projected Frequencies expressed in cm-1")
+    if start < 0:
+        return None
+    end = text.find("Normal Eigenvalue", start)
+    block = text[start : end if end > 0 else len(text)]
+    values = [float(v) for line in re.findall(r"^\s*P\.Frequency\s+(.*)$", block, re.MULTILINE) for v in line.split()]
+    return np.array(values) if values else None
+
+
+def nwchem_cosmo(text: str) -> dict:
+    """COSMO runs: solvent model, solvent name or dielectric, and the gas-phase energy NWChem printed."""
+    if "-cosmo- solvent" not in text:
+        return {}
+    out: dict = {"solvent_model": "cosmo"}
+    name = _last(r"solvname_long:\s+(\S.*?)\s*$", text)
+    eps = _last(r"dielectric constant -eps-\s+=\s+(\S+)", text)
+    out["solvent"] = name if name else (f"eps={eps}" if eps else None)
+    gas = _last_float(rf"gas phase energy =\s+{_F}", text)
+    if gas is not None:
+        out["gas_energy"] = gas
+    return out
+
+
+def nwchem(text: str) -> dict:
+    """Fields of an NWChem output: final geometry, energy at the highest level, charge/multiplicity, frequencies."""
+    out: dict = {}
+    geometry = _nwchem_geometry(text)
+    if geometry is not None:
+        out["symbols"], out["coordinates"] = geometry
+    method, energy = nwchem_level(text)
+    if energy is not None:
+        out["energy"], out["method"] = energy, method
+    charge = _last_int(r"^\s*Charge\s+:\s+(-?\d+)", text)
+    if charge is not None:
+        out["charge"] = charge
+    mult = _last_int(r"Spin multiplicity:\s+(\d+)", text)
+    if mult is not None:
+        out["multiplicity"] = mult
+    freqs = _nwchem_frequencies(text)
+    if freqs is not None:
+        out["frequencies"] = freqs
+    out["program_version"] = _last(r"\(NWChem\) (\d[\w.]*)", text)
+    basis = _last(r'Summary of "ao basis".*\n.*\n.*\n.*\n\s*\S+\s+(\S+)', text)
+    if basis:
+        out["basis"] = basis
+    out.update(nwchem_cosmo(text))
+    temperature = _last_float(rf"^\s*Temperature\s+=\s+{_F}K", text)
+    h_corr = _last_float(rf"Thermal correction to Enthalpy\s+=.*\(\s*{_F} au\)", text)
+    zpe = _last_float(rf"Zero-Point correction to Energy\s+=.*\(\s*{_F} au\)", text)
+    entropy = _last_float(rf"^\s*Total Entropy\s+=\s+{_F} cal/mol-K", text)
+    if energy is not None and h_corr is not None and temperature is not None:
+        thermo = {"temperature": temperature, "enthalpy": energy + h_corr}
+        if zpe is not None:
+            thermo["zpe"] = zpe
+        if entropy is not None:  # NWChem prints no G: H - T S from its own H and S
+            thermo["gibbs"] = thermo["enthalpy"] - temperature * entropy * _CAL / (HARTREE_J * N_A)
+        out["thermo_printed"] = thermo
+    return out
+
+
+EXTRACTORS = {"orca": orca, "nwchem": nwchem}

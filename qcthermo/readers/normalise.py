@@ -1,0 +1,98 @@
+"""One meaning per field whatever the program: vibrational modes only, names, multiplicity, solvent models.
+
+Each function fixes one quirk and returns a short note (or None) for ``Calculation.notes``.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..geometry import is_linear
+from ..records import atomic_masses
+
+#: |nu| below this (cm^-1) is a projected translation/rotation as printed ("0.00", "-0.00")
+PROJECTED_ZERO_CM = 0.5
+
+#: atomic numbers of the elements, for the electron count (ASE's table)
+_ELEMENT_Z: dict[str, int] | None = None
+
+
+def n_vibrations(symbols, coordinates) -> int | None:
+    """3N-6 vibrational modes, 3N-5 for a linear molecule, 0 for an atom (common practice).
+
+    None when the geometry is unknown (NaN coordinates) and there are more than two atoms.
+    """
+    n = len(symbols)
+    if n < 2:
+        return 0
+    if n > 2 and not np.all(np.isfinite(coordinates)):
+        return None
+    linear = n == 2 or is_linear(coordinates, atomic_masses(symbols))
+    return 3 * n - (5 if linear else 6)
+
+
+def vibrational_modes(frequencies, symbols, coordinates, projected: bool) -> tuple[np.ndarray, str | None]:
+    """Keep the 3N-6 (3N-5) vibrations of a list that may hold translations and rotations too.
+
+    With ``projected`` (NWChem's "P.Frequency", xTB, ORCA), the program has projected the six (five)
+    rigid-body motions out and prints them as exact zeros: those are removed, and nothing is chosen by
+    size, so a real small imaginary mode survives (DESIGN.md section 9). Without projection the
+    extra entries are removed by the known count, smallest |nu| first, and the note says so.
+    """
+    freqs = np.asarray(frequencies, dtype=float).ravel()
+    zero = np.abs(freqs) < PROJECTED_ZERO_CM
+    expected = n_vibrations(symbols, coordinates)
+    if expected is None:  # geometry unknown: linear or not cannot be told, trust the projection
+        expected = freqs.size - int(zero.sum()) if projected else freqs.size
+    extra = freqs.size - expected
+    if extra <= 0:
+        return freqs, None
+    if projected and int(zero.sum()) == extra:
+        return freqs[~zero], f"{extra} zero modes (projected translations/rotations) removed"
+    order = np.argsort(np.abs(freqs), kind="stable")
+    keep = np.sort(order[extra:])
+    largest = float(np.abs(freqs[order[extra - 1]]))
+    return freqs[keep], (
+        f"{extra} translation/rotation modes removed by count (the smallest |nu|, up to {largest:.2f} cm^-1)"
+    )
+
+
+def method_name(name: str | None) -> str | None:
+    """Upper-case a method as the field writes it ("b3lyp" -> "B3LYP"); the omega of "wB97X-D" stays."""
+    if not name:
+        return None
+    name = name.strip()
+    if name[:1] in "wω" and name[1:2].upper() == "B":
+        return "w" + name[1:].upper()
+    return name.upper()
+
+
+def solvent_model_name(name: str | None) -> str | None:
+    """Lower-case family of an implicit solvent model as programs print it ("SMD-IEFPCM" -> "smd")."""
+    if not name:
+        return None
+    low = name.lower()
+    for family in ("smd", "cpcm", "cosmo", "alpb", "gbsa", "ddcosmo"):
+        if family in low:
+            return family
+    if "pcm" in low:
+        return "pcm"
+    return low
+
+
+def electron_count(symbols, charge: int) -> int:
+    """Number of electrons of the neutral atoms minus the charge (all-electron count)."""
+    global _ELEMENT_Z
+    if _ELEMENT_Z is None:
+        from ase.data import atomic_numbers
+
+        _ELEMENT_Z = dict(atomic_numbers)
+    return sum(_ELEMENT_Z[s] for s in symbols) - int(charge)
+
+
+def inferred_multiplicity(symbols, charge: int) -> tuple[int, str]:
+    """Lowest multiplicity of the electron count (1 even, 2 odd) when the file prints none."""
+    odd = electron_count(symbols, charge) % 2
+    mult = 2 if odd else 1
+    kind = "odd electron count: doublet assumed" if odd else "even electron count: singlet assumed"
+    return mult, f"multiplicity not printed; {kind}"

@@ -1,0 +1,178 @@
+"""What each program prints about its own run: job keywords, end marker, convergence, solvent, <S^2>.
+
+These are read from the text with plain regular expressions (no parser), for every program, so that
+job types and termination mean the same whatever cclib makes of the file.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+_F = r"(-?\d+\.\d+)"
+
+
+@dataclass(frozen=True)
+class ProgramRules:
+    """Markers of one program family.
+
+    Attributes:
+        keywords: regex whose group 1 over all matches is the job specification (route, "!" lines,
+            task lines, command line, ...), searched case-insensitively.
+        jobs: job type -> regex searched in that job specification.
+        end_marker: printed once at the end of a run that finished normally.
+        converged: printed when a geometry optimisation converged.
+        projected: the program prints the rigid-body modes as projected zeros among 3N frequencies.
+        thermo_ev: cclib 1.8.1 gives this program's zpve/enthalpy/freeenergy in eV, not hartree.
+        thermo_corrections: cclib's enthalpy/freeenergy are thermal corrections, not totals.
+    """
+
+    keywords: str | None = None
+    jobs: tuple[tuple[str, str], ...] = ()
+    end_marker: str | None = None
+    converged: str | None = None
+    projected: bool = False
+    thermo_ev: bool = False
+    thermo_corrections: bool = False
+
+
+RULES: dict[str, ProgramRules] = {
+    "gaussian": ProgramRules(
+        keywords=r"^ -{4,}\n (#.*?)\n -{4,}$",
+        jobs=(
+            ("saddle-search", r"\bopt\w*\s*=\s*\(?[^ ]*\b(ts|qst2|qst3|saddle)\b|\bqst[23]\b"),
+            ("optimization", r"\bopt\b|\bopt\s*="),
+            ("frequencies", r"\bfreq"),
+            ("irc", r"\birc\b"),
+            ("scan", r"\bscan\b"),
+        ),
+        end_marker=r"Normal termination of Gaussian",
+        converged=r"Optimization completed|Stationary point found",
+    ),
+    "orca": ProgramRules(
+        keywords=r"^\|\s*\d+>\s*(!.*)$",
+        jobs=(
+            ("saddle-search", r"\boptts\b|\bscants\b"),
+            ("optimization", r"\b(opt|copt|zopt|gdiis-opt|tightopt|verytightopt|looseopt|optts)\b"),
+            ("frequencies", r"\b(freq|numfreq|anfreq)\b"),
+            ("irc", r"\birc\b"),
+        ),
+        end_marker=r"ORCA TERMINATED NORMALLY",
+        converged=r"THE OPTIMIZATION HAS CONVERGED|OPTIMIZATION RUN DONE",
+        projected=True,
+    ),
+    "nwchem": ProgramRules(
+        # NWChem echoes its input only on request: the modules it ran are the reliable record
+        keywords=r"^\s*(NWChem Geometry Optimization|NWChem Nuclear Hessian and Frequency Analysis"
+        r"|Vibrational analysis via the FX method|saddle point option\s+\(modsad\)\s+=\s+1"
+        r"|NWChem Minimum Energy Path)",
+        jobs=(
+            ("saddle-search", r"modsad"),
+            ("optimization", r"geometry optimization"),
+            ("frequencies", r"frequency analysis|fx method"),
+            ("irc", r"minimum energy path"),
+        ),
+        end_marker=r"^\s*Total times\s+cpu:",
+        converged=r"Optimization converged",
+        projected=True,
+    ),
+    "xtb": ProgramRules(
+        keywords=r"program call\s*:\s*(.*)$",
+        jobs=(
+            ("optimization", r"--(opt|ohess|bhess)\b"),
+            ("frequencies", r"--(hess|ohess|bhess)\b"),
+            ("irc", r"--path\b"),
+        ),
+        end_marker=r"\* finished run on",
+        converged=r"GEOMETRY OPTIMIZATION CONVERGED",
+        projected=True,
+        thermo_ev=True,
+    ),
+    "qchem": ProgramRules(
+        keywords=r"^\s*job_?type\s*=?\s*(\w+)",
+        jobs=(
+            ("saddle-search", r"^ts$"),
+            ("optimization", r"^(opt|optimization|ts)$"),
+            ("frequencies", r"^(freq|frequency|frequencies)$"),
+            ("irc", r"^(rpath|irc)$"),
+            ("scan", r"^pes_scan$"),
+        ),
+        end_marker=r"Thank you very much for using Q-Chem",
+        converged=r"\*\*\s+OPTIMIZATION CONVERGED\s+\*\*|TRANSITION STATE CONVERGED",
+        thermo_corrections=True,
+    ),
+    "psi4": ProgramRules(
+        keywords=r"^\s*(\w+)\(\s*['\"]",
+        jobs=(
+            ("optimization", r"^(optimize|opt)$"),
+            ("frequencies", r"^(frequency|frequencies|freq|hessian)$"),
+        ),
+        end_marker=r"Psi4 exiting successfully",
+        converged=r"Optimization is complete!",
+    ),
+    "gamess": ProgramRules(
+        keywords=r"RUNTYP=(\w+)",
+        jobs=(
+            ("saddle-search", r"^sadpoint$"),
+            ("optimization", r"^(optimize|sadpoint)$"),
+            ("frequencies", r"^hessian$"),
+            ("irc", r"^irc$"),
+        ),
+        end_marker=r"TERMINATED NORMALLY",
+        converged=r"EQUILIBRIUM GEOMETRY LOCATED|SADDLE POINT LOCATED",
+    ),
+}
+
+DEFAULT_RULES = ProgramRules()
+
+_S2 = re.compile(
+    rf"<S\*\*2>\s*=\s*{_F}|Expectation value of <S\*\*2>\s*:\s*{_F}|<S\^2>\s*=\s*{_F}|<S2>\s*=\s*{_F}",
+)
+
+
+def rules(program: str) -> ProgramRules:
+    return RULES.get(program, DEFAULT_RULES)
+
+
+def job_spec(program: str, text: str) -> str | None:
+    """The program's own job specification (route, keywords, modules), lower-case; None if not found."""
+    pattern = rules(program).keywords
+    if pattern is None:
+        return None
+    found = re.findall(pattern, text, flags=re.MULTILINE | re.DOTALL if program == "gaussian" else re.MULTILINE)
+    if not found:
+        return None
+    if program == "gaussian":  # continuation lines of the route
+        found = [" ".join(line.strip() for line in route.splitlines()) for route in found]
+    return "\n".join(found).lower()
+
+
+def job_types_from_spec(program: str, spec: str | None) -> set[str]:
+    """Job types named in the job specification (empty when it cannot be told)."""
+    if not spec:
+        return set()
+    return {job for job, rx in rules(program).jobs if re.search(rx, spec, flags=re.MULTILINE)}
+
+
+def terminated_normally(program: str, text: str) -> bool | None:
+    """True when the program's end marker is in the last part of the file, False if not; None without one."""
+    marker = rules(program).end_marker
+    if marker is None:
+        return None
+    return re.search(marker, text[-20000:], flags=re.MULTILINE) is not None
+
+
+def optimisation_converged(program: str, text: str) -> bool | None:
+    marker = rules(program).converged
+    if marker is None:
+        return None
+    return re.search(marker, text) is not None
+
+
+def last_s2(text: str) -> float | None:
+    """The last <S^2> expectation value printed, whichever program's format."""
+    value = None
+    for m in _S2.finditer(text):
+        value = float(next(g for g in m.groups() if g is not None))
+    return value
+

@@ -1,0 +1,110 @@
+"""Load a log once and say which program wrote it, cheaply, before any parser runs.
+
+The whole file is read once into memory (decoded text); the program is recognised from its banner in
+the first :data:`SNIFF_CHARS` characters, so a binary file or a text file that is not a log is
+refused at once without starting cclib.
+"""
+
+from __future__ import annotations
+
+import gzip
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+from ..errors import LogReadError
+
+#: how much of the start of a file is searched for a program banner (input echoes come first)
+SNIFF_CHARS = 65536
+
+#: program family -> (banner regex in the first SNIFF_CHARS, cclib parser class name or None)
+PROGRAMS: dict[str, tuple[str, str | None]] = {
+    "gaussian": (r"Gaussian, Inc\.|Entering Gaussian System", "Gaussian"),
+    "orca": (r"\*\s+O\s{3}R\s{3}C\s{3}A\s+\*", "ORCA"),
+    "qchem": (r"A Quantum Leap Into The Future Of Chemistry|Welcome to Q-Chem", "QChem"),
+    "nwchem": (r"Northwest Computational Chemistry Package", "NWChem"),
+    "xtb": (r"\|\s+x T B\s+\||xtb version", "XTB"),
+    "psi4": (r"Psi4: An Open-Source Ab Initio Electronic Structure Package", "Psi4"),
+    "gamess": (r"GAMESS VERSION|Firefly \(PC GAMESS\)|GAMESS execution script", "GAMESS"),
+    "gamess-uk": (r"G A M E S S - U K", "GAMESSUK"),
+    "molpro": (r"PROGRAM SYSTEM MOLPRO", "Molpro"),
+    "molcas": (r"MOLCAS", "Molcas"),
+    "adf": (r"Amsterdam Density Functional", "ADF"),
+    "dalton": (r"Dalton - An Electronic Structure Program", "DALTON"),
+    "jaguar": (r"Jaguar version", "Jaguar"),
+    "mopac": (r"MOPAC20\d\d", "MOPAC"),
+    "turbomole": (r"TURBOMOLE", "Turbomole"),
+}
+
+#: programs recognised but not read (their outputs are not molecular quantum-chemistry logs cclib knows)
+UNSUPPORTED: dict[str, str] = {
+    "cp2k": r"CP2K\|",
+    "vasp": r"^\s*vasp\.\d",
+    "quantum-espresso": r"Program PWSCF",
+    "cfour": r"CFOUR Coupled-Cluster techniques",
+    "gromacs": r"GROMACS",
+    "lammps": r"LAMMPS \(",
+    "dftb+": r"DFTB\+",
+    "crystal": r"CRYSTAL\d\d",
+}
+
+_PROGRAM_RES = {name: re.compile(pattern, re.MULTILINE) for name, (pattern, _) in PROGRAMS.items()}
+_UNSUPPORTED_RES = {name: re.compile(pattern, re.MULTILINE) for name, pattern in UNSUPPORTED.items()}
+
+#: extensions of geometry-only files read with ASE
+GEOMETRY_EXTENSIONS = {".xyz", ".extxyz", ".pdb", ".cif", ".sdf", ".mol", ".gen", ".vasp", ".poscar"}
+
+
+@dataclass
+class LogSource:
+    """A file read into memory: its text and the program family that wrote it (None: geometry file)."""
+
+    path: str
+    text: str
+    program: str | None
+
+    @property
+    def head(self) -> str:
+        return self.text[:SNIFF_CHARS]
+
+    def tail(self, n: int = 20000) -> str:
+        return self.text[-n:]
+
+
+def load(path: str | Path) -> LogSource:
+    """Read ``path`` once (gzip transparently) and recognise the program; raise LogReadError if it is no log."""
+    path = str(path)
+    try:
+        raw = Path(path).read_bytes()
+    except IsADirectoryError:
+        raise LogReadError(path, "is a directory, not a log file") from None
+    except OSError as err:
+        raise LogReadError(path, f"cannot be read: {err.strerror or err}") from None
+    if raw[:2] == b"\x1f\x8b":
+        try:
+            raw = gzip.decompress(raw)
+        except (OSError, EOFError) as err:
+            raise LogReadError(path, f"damaged gzip file ({err})") from None
+    if not raw.strip():
+        raise LogReadError(path, "empty file")
+    if b"\x00" in raw[:8192]:
+        raise LogReadError(path, "binary file, not a text log")
+    text = raw.decode("utf-8", errors="replace")
+    return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
+
+
+def sniff_program(path: str, head: str) -> str | None:
+    """Program family from the banner in ``head``; None for a geometry-only file (by extension).
+
+    Raises LogReadError for a recognised but unsupported program and for text that is no log.
+    """
+    # banners first: the earliest match wins, because inputs and citations may name other programs
+    found = [(m.start(), name) for name, rx in _PROGRAM_RES.items() if (m := rx.search(head))]
+    if found:
+        return min(found)[1]
+    for name, rx in _UNSUPPORTED_RES.items():
+        if rx.search(head):
+            raise LogReadError(path, f"output of an unsupported program ({name})")
+    if Path(path).suffix.lower() in GEOMETRY_EXTENSIONS:
+        return None
+    raise LogReadError(path, "not a quantum-chemistry log (no known program banner at the start of the file)")
