@@ -499,8 +499,9 @@ def check_balance(rf: ReactionFile, formulas: dict[str, Counter], charges: dict[
                                p.line)
 
 
-#: the quantities each species provides (hartree per molecule, arrays over T): E, E+ZPE, H, G (RRHO), G (model)
-QUANTITIES = ("E", "E_zpe", "H", "G_rrho", "G")
+#: the quantities each species provides (hartree per molecule, arrays over T): E, E+ZPE, H and G under RRHO
+#: and under the chosen low-mode model
+QUANTITIES = ("E", "E_zpe", "H_rrho", "H", "G_rrho", "G")
 
 
 def _sum(terms: list[Term], values: dict[str, dict[str, np.ndarray]], quantity: str) -> np.ndarray:
@@ -512,7 +513,8 @@ def reaction_energetics(reaction: ReactionSpec, values: dict[str, dict[str, np.n
 
     dX = sum_products nu X - sum_reactants nu X for X in :data:`QUANTITIES`; with a transition state,
     dX_act = X(TS) - sum_reactants nu X (forward) and dX_act_rev = X(TS) - sum_products nu X (reverse).
-    Keys: "dE", "dE_zpe", "dH", "dG_rrho", "dG", and "<key>_act", "<key>_act_rev" (None without a TS).
+    Keys: "dE", "dE_zpe", "dH_rrho", "dH", "dG_rrho", "dG", and "<key>_act", "<key>_act_rev" (None
+    without a TS).
     """
     out: dict[str, Any] = {}
     for q in QUANTITIES:

@@ -8,6 +8,7 @@ import pytest
 
 from qcthermo.errors import ReactionFileError
 from qcthermo.reactions import (
+    QUANTITIES,
     balance_problem,
     check_balance,
     load_reaction_file,
@@ -122,10 +123,10 @@ def test_energetics_are_stoichiometric_sums(tmp_path):
     t = np.array([298.15, 400.0])
     # inputs only (the check is the definition): real final energies quoted in the third-party logs' README
     base = {"h2": -382.30824980, "o2": -74.96729878, "water": -382.05509182, "ts": -9.12869607}
-    values = {n: {q: np.full_like(t, e * (1 + 0.001 * k)) for k, q in enumerate(("E", "E_zpe", "H", "G_rrho", "G"))}
+    values = {n: {q: np.full_like(t, e * (1 + 0.001 * k)) for k, q in enumerate(QUANTITIES)}
               for n, e in base.items()}
     out = reaction_energetics(rf.reactions[0], values)
-    for q in ("E", "E_zpe", "H", "G_rrho", "G"):
+    for q in QUANTITIES:
         v = {n: values[n][q] for n in values}
         np.testing.assert_allclose(out["d" + q], 2 * v["water"] - 2 * v["h2"] - v["o2"])
         np.testing.assert_allclose(out["d" + q + "_act"], v["ts"] - 2 * v["h2"] - v["o2"])

@@ -1,0 +1,88 @@
+"""``qcthermo run DIR --reactions F --out OUT``: the main job, a short summary on the terminal."""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from ..errors import QcthermoError
+from .common import conditions_from_args
+
+#: how many findings of each severity the terminal shows (all are in run.json and the tables' notes)
+SHOWN_FINDINGS = 12
+
+
+def check_out(out: str | Path, force: bool) -> None:
+    """Refuse, before any work, an --out that holds other files (the same test as the final write)."""
+    from ..fileio import prepare_output_dir
+
+    if Path(out).exists():
+        prepare_output_dir(out, force=force)  # raises with the one-line reason
+
+
+def print_summary(results, out: Path | None, quiet: bool) -> None:
+    """Species count, the reactions table in the run's unit, findings (errors first), where the files are."""
+    from rich.console import Console
+    from rich.table import Table
+
+    from ..units import unit_suffix
+
+    console = Console(stderr=False, highlight=False)
+    if not console.is_terminal:
+        console = Console(width=160, highlight=False)
+    usable = sum(s.usable for s in results.species_results.values())
+    console.print(f"{len(results.species_results)} species ({usable} usable), "
+                  f"{len(results.reactions)} reaction rows, {results.survey_result.summary()}")
+    df = results.reactions
+    if not quiet and len(df):
+        u = unit_suffix(results.energy_unit)
+        m = results.conditions.low_mode_model.replace("-", "_")
+        g = f"dG_{m}_{u}" if f"dG_{m}_{u}" in df else f"dG_{u}"
+        g_act = f"dG_act_{m}_{u}" if f"dG_act_{m}_{u}" in df else f"dG_act_{u}"
+        table = Table(box=None, pad_edge=False, header_style="bold",
+                      title=f"reactions, {results.energy_unit} ({results.conditions.low_mode_model})")
+        for heading in ("reaction", "T / K", "ΔE", "ΔH", "ΔG", "ΔG‡", "k_forward", "status"):
+            table.add_column(heading, justify="left" if heading in ("reaction", "status") else "right")
+        for _, row in df.iterrows():
+            k = row.get("k_forward")
+            table.add_row(str(row["reaction"]), f"{row['T_K']:g}", _num(row[f"dE_{u}"]), _num(row[f"dH_{u}"]),
+                          _num(row[g]), _num(row[g_act]), "" if k is None or k != k else f"{k:.3g}",
+                          str(row["status"]), style="red" if row["status"] != "ok" else None)
+        console.print(table)
+    for severity, style in (("error", "red"), ("warning", "yellow")):
+        found = [f for f in results.findings if f.severity == severity]
+        for f in found[:SHOWN_FINDINGS]:
+            console.print(f"[{style}]{severity}[/{style}]: {f.subject}: {f.message}", markup=True, soft_wrap=True)
+        if len(found) > SHOWN_FINDINGS:
+            console.print(f"... and {len(found) - SHOWN_FINDINGS} more {severity}s (all in run.json)")
+    if out is not None:
+        console.print(f"results written to {out}/ (run.json lists every file and finding)")
+
+
+def _num(value) -> str:
+    return "" if value is None or value != value else f"{value:.2f}"
+
+
+def execute(directory: str | Path, reactions: str | Path | None, args: argparse.Namespace) -> int:
+    """Shared by ``run`` and ``demo``: load, compute, write, summarise; the exit status."""
+    from ..reactions import load_reaction_file
+    from ..workflow import run
+
+    check_out(args.out, args.force)
+    rf = load_reaction_file(reactions) if reactions else None
+    conditions = conditions_from_args(args, file_settings=rf.conditions if rf else None)
+    results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit,
+                  jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
+    if results.exit_status == 2:
+        print_summary(results, None, args.quiet)
+        raise QcthermoError(f"nothing usable in {directory}: no species could be computed")
+    results.write(args.out, force=args.force)
+    print_summary(results, Path(args.out), args.quiet)
+    return results.exit_status
+
+
+def main(args: argparse.Namespace) -> int:
+    if args.reactions is None:
+        print("qcthermo run: no --reactions file: one species per frequency log, no reactions", file=sys.stderr)
+    return execute(args.directory, args.reactions, args)

@@ -1,0 +1,720 @@
+"""The main job in one call: survey, species, reactions, profiles, kinetics and every export.
+
+``qcthermo.run(directory, reactions="reactions.toml")`` returns a :class:`RunResults`; its
+:meth:`RunResults.write` writes the files of DESIGN.md section 4. The decisions (which conformer
+values are averaged, how a species' own concentration enters, when a reaction is excluded) are in
+docs/reactions.md.
+"""
+
+from __future__ import annotations
+
+import argparse
+import hashlib
+import json
+import platform
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from . import __version__
+from .errors import LogReadError, QcthermoError
+from .reactions import (
+    ENSEMBLE_DEFAULTS,
+    ProfileSpec,
+    ReactionFile,
+    ReactionSpec,
+    check_balance,
+    load_reaction_file,
+    reaction_energetics,
+    state_values,
+)
+from .records import Calculation, Conditions
+from .species import Finding, SpeciesOptions, SpeciesResult, build_species
+from .units import check_energy_unit, hartree_to, unit_suffix
+
+#: display names of the low-mode models, for captions
+MODEL_NAMES = {"rrho": "RRHO", "qrrho": "quasi-RRHO (Grimme)", "qrrho-enthalpy": "quasi-RRHO for S and H",
+               "quasi-harmonic": "quasi-harmonic (Truhlar)"}
+
+
+def model_tag(model: str) -> str:
+    """Column tag of a low-mode model: "qrrho-enthalpy" -> "qrrho_enthalpy"."""
+    return model.replace("-", "_")
+
+
+@dataclass
+class RunResults:
+    """Everything a run found and computed; :meth:`write` exports it.
+
+    Attributes:
+        settings: every setting (directory, reaction file, conditions, unit, ensemble thresholds,
+            versions of qcthermo and its libraries) - what run.json records.
+        conditions: the Conditions used.
+        energy_unit: unit of the energy columns of ``reactions`` ("kcal/mol", "kJ/mol", "eV").
+        survey: one row per file found (the survey.csv columns).
+        species: one row per species (and temperature): see docs/reactions.md for the columns.
+        reactions: one row per reaction (and temperature).
+        findings: the audit, errors first: (severity, subject, message) tuples.
+        species_results: name -> :class:`qcthermo.species.SpeciesResult` (conformers with their
+            Calculation, Molecule, ThermoResult, population and single-point pairing).
+        profiles: one dict per [[profile]]: {name, states: [{label, value_Eh: {"G", "G_rrho", "H",
+            "E_zpe", "E"}, is_ts, species}], cyclic, color, label_states, style, order, marks}, every
+            state relative to the first, hartree (arrays over T).
+        rates: long table of k(T) per reaction (with several temperatures), or None.
+        arrhenius: one row per reaction with a modified Arrhenius fit (several temperatures), or None.
+        energy_span: one row per cyclic profile and temperature, or None.
+        reaction_file: the parsed reaction file, or None.
+        survey_result: the :class:`qcthermo.survey.SurveyResult` behind ``survey``.
+    """
+
+    settings: dict[str, Any]
+    conditions: Conditions
+    energy_unit: str
+    survey: Any
+    species: Any
+    reactions: Any
+    findings: list[Finding]
+    species_results: dict[str, SpeciesResult]
+    profiles: list[dict[str, Any]] = field(default_factory=list)
+    rates: Any = None
+    arrhenius: Any = None
+    energy_span: Any = None
+    reaction_file: ReactionFile | None = None
+    survey_result: Any = None
+
+    @property
+    def temperatures(self) -> np.ndarray:
+        return np.atleast_1d(np.asarray(self.conditions.temperature, dtype=float))
+
+    @property
+    def errors(self) -> list[Finding]:
+        return [f for f in self.findings if f.severity == "error"]
+
+    @property
+    def exit_status(self) -> int:
+        """0 all good, 1 results but some inputs had errors, 2 nothing usable."""
+        if not any(s.usable for s in self.species_results.values()):
+            return 2
+        return 1 if self.errors else 0
+
+    def input_files(self) -> list[Path]:
+        """Every file the results depend on: the reaction file, frequency logs and single points."""
+        files = [self.reaction_file.path] if self.reaction_file else []
+        for s in self.species_results.values():
+            for c in s.conformers:
+                files.append(Path(c.path))
+                if c.single_point is not None:
+                    files.append(Path(c.single_point.path))
+        return list(dict.fromkeys(p.resolve() for p in files))
+
+    def write(self, out: str | Path, force: bool = False) -> list[Path]:
+        """Write every export into ``out`` (atomically, never over a user's files without ``force``)."""
+        from .fileio import prepare_output_dir
+
+        out_dir = prepare_output_dir(out, force=force)
+        return _write_all(self, out_dir)
+
+
+# -- building the run --------------------------------------------------------------------------------
+
+
+def default_conditions(reaction_file: ReactionFile | None) -> Conditions:
+    """The command line's defaults, overridden by the reaction file's [conditions]."""
+    from .commands.common import conditions_from_args
+
+    return conditions_from_args(argparse.Namespace(), file_settings=reaction_file.conditions if reaction_file else None)
+
+
+class _Calculations:
+    """Calculations by resolved path: the survey's, and files outside it read on demand."""
+
+    def __init__(self, survey_result):
+        root = Path(survey_result.directory)
+        self.by_path = {Path(c.path).resolve(): c for c in survey_result.calculations.values()}
+        self.failed = {(root / rel).resolve(): reason for rel, reason in survey_result.errors.items()}
+        self.findings: list[Finding] = []
+
+    def get(self, path: Path) -> Calculation | None:
+        path = Path(path).resolve()
+        if path in self.by_path:
+            return self.by_path[path]
+        if path in self.failed:
+            return None
+        from .readers import read_log
+
+        try:
+            self.by_path[path] = read_log(path)
+        except LogReadError as err:
+            self.failed[path] = err.reason
+            self.findings.append(Finding("error", str(path), err.reason))
+            return None
+        return self.by_path[path]
+
+
+def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Conditions) -> dict[str, SpeciesResult]:
+    out = {}
+    ts_names = rf.transition_states()
+    for name, spec in rf.species.items():
+        logs = [c for c in (calcs.get(p) for p in spec.logs) if c is not None]
+        sps = [c for c in (calcs.get(p) for p in spec.single_point) if c is not None]
+        pairs = {str(calcs.get(k).path): v for k, p in spec.single_point_pairs.items()
+                 if calcs.get(k) is not None and (v := calcs.get(p)) is not None}
+        is_ts = spec.transition_state if spec.transition_state is not None else name in ts_names
+        options = SpeciesOptions(spec.symmetry_number, spec.electronic_degeneracy, spec.imaginary_policy,
+                                 spec.concentration, is_ts, spec.label)
+        if not logs:
+            out[name] = SpeciesResult(name, spec.label or name, options, [],
+                                      findings=[Finding("error", name, f"species {name!r}: none of its files "
+                                                                       "could be read")])
+            continue
+        out[name] = build_species(name, logs, conditions, options, sps, pairs, rf.ensemble)
+    return out
+
+
+def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, SpeciesResult]:
+    """Without a reaction file: one species per frequency log, named by its path (no suffix)."""
+    out = {}
+    for rel, calc in sorted(survey_result.calculations.items()):
+        if calc.frequencies is None and calc.natoms > 1:
+            continue
+        name = str(Path(rel).with_suffix(""))
+        options = SpeciesOptions(transition_state="saddle-search" in calc.job_types)
+        out[name] = build_species(name, [calc], conditions, options)
+    return out
+
+
+def _check_balance(rf: ReactionFile, species: dict[str, SpeciesResult]) -> None:
+    known = {n: s for n, s in species.items() if s.conformers}
+    check_balance(rf, {n: s.composition for n, s in known.items()}, {n: s.charge for n, s in known.items()})
+
+
+def _reaction_calcs(names: list[str], species: dict[str, SpeciesResult]) -> list[tuple[str, Calculation]]:
+    """(species, calculation) of every used file whose energy enters (single point if composite)."""
+    out = []
+    for n in names:
+        for c in species[n].used:
+            out.append((n, c.single_point or c.calculation))
+    return out
+
+
+def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject: str) -> list[Finding]:
+    """The audit across one reaction or profile: unusable species, mixed levels, solvent models, programs.
+
+    Errors (the reaction is excluded): a species with no usable structure, energies or frequencies
+    at different levels of theory, different implicit solvent models (or solvent and gas phase).
+    Warning: different programs at the same level (grids and defaults differ).
+    """
+    found = []
+    for n in names:
+        if not species[n].usable:
+            reasons = [f.message for f in species[n].findings if f.severity == "error"]
+            found.append(Finding("error", subject, f"species {n!r} has no usable structure"
+                                 + (f" ({reasons[0]})" if reasons else "")))
+    if found:
+        return found
+    levels = {n: species[n].levels[0] for n in names}
+    if len(set(levels.values())) > 1:
+        found.append(Finding("error", subject, "mixed levels of theory: "
+                             + ", ".join(f"{n} {lv}" for n, lv in levels.items())))
+    calcs = _reaction_calcs(names, species)
+    solvents = {(c.solvent_model or "gas") for _, c in calcs}
+    freq_solvents = {(c.calculation.solvent_model or "gas") for n in names for c in species[n].used}
+    if len(solvents) > 1 or len(freq_solvents) > 1:
+        found.append(Finding("error", subject, "mixed solvent models: " + ", ".join(
+            sorted({f"{n} {c.solvent_model or 'gas'}" for n, c in calcs}))))
+    programs = {c.program for _, c in calcs}
+    if len(programs) > 1:
+        found.append(Finding("warning", subject, f"energies from different programs ({', '.join(sorted(programs))})"))
+    return found
+
+
+def _names(reaction: ReactionSpec) -> list[str]:
+    names = [n for _, n in reaction.reactants + reaction.products]
+    return names + ([reaction.transition_state] if reaction.transition_state else [])
+
+
+def _species_notes(names: list[str], species: dict[str, SpeciesResult]) -> list[str]:
+    notes = []
+    for n in dict.fromkeys(names):
+        notes += [f.message if f.message.startswith("species") else f"{n}: {f.message}"
+                  for f in species[n].findings if f.severity == "warning"]
+    return notes
+
+
+def _energy_columns(out: dict[str, Any], model: str, unit: str, n_t: int) -> dict[str, np.ndarray]:
+    """The energy columns of reactions.csv from :func:`reaction_energetics` output (Eh -> unit)."""
+    u, m = unit_suffix(unit), model_tag(model)
+    plan = [("dE", "dE"), ("dE_zpe", "dE_zpe"), ("dH", "dH_rrho"), ("dG", "dG_rrho")]
+    if model in ("qrrho-enthalpy", "quasi-harmonic"):
+        plan.append((f"dH_{m}", "dH"))
+    if model != "rrho":
+        plan.append((f"dG_{m}", "dG"))
+    for direction in ("act", "act_rev"):
+        plan += [(f"dE_zpe_{direction}", f"dE_zpe_{direction}"), (f"dH_{direction}", f"dH_rrho_{direction}"),
+                 (f"dG_{direction}", f"dG_rrho_{direction}")]
+        if model != "rrho":
+            plan.append((f"dG_{m}_{direction}", f"dG_{direction}"))
+    nan = np.full(n_t, np.nan)
+    cols = {}
+    for column, key in plan:
+        value = out.get(key) if out else None
+        cols[f"{column}_{u}"] = nan if value is None else hartree_to(np.asarray(value, dtype=float), unit)
+    return cols
+
+
+def _reactions_table(rf: ReactionFile | None, species: dict[str, SpeciesResult], conditions: Conditions,
+                     unit: str, findings: list[Finding]) -> tuple[Any, dict[str, dict]]:
+    """reactions.csv as a long DataFrame, and the energetics (Eh) of every included reaction."""
+    import pandas as pd
+
+    t = np.atleast_1d(np.asarray(conditions.temperature, dtype=float))
+    rows, energetics = [], {}
+    for r in rf.reactions if rf else []:
+        names = _names(r)
+        problems = audit_reaction(names, species, r.name)
+        findings.extend(problems)
+        errors = [p.message for p in problems if p.severity == "error"]
+        values = None if errors else reaction_energetics(r, _values(species))
+        notes = [p.message for p in problems if p.severity == "warning"] + _species_notes(names, species)
+        if values is not None:
+            energetics[r.name] = values
+        level = species[names[0]].levels[0] if not errors and species[names[0]].levels else None
+        cols = _energy_columns(values, conditions.low_mode_model, unit, len(t))
+        for i, temp in enumerate(t):
+            row = {"reaction": r.name, "T_K": float(temp), "equation": r.equation, "level": level}
+            row.update({k: float(v[i]) for k, v in cols.items()})
+            row["status"] = "excluded" if errors else "ok"
+            row["notes"] = "; ".join(errors or notes)
+            rows.append(row)
+    return pd.DataFrame(rows), energetics
+
+
+def _values(species: dict[str, SpeciesResult]) -> dict[str, dict[str, np.ndarray]]:
+    """Species values keyed as reactions.QUANTITIES expects."""
+    return {n: {"E": s.values["E"], "E_zpe": s.values["E_zpe"], "H": s.values["H"], "H_rrho": s.values["H_rrho"],
+                "G_rrho": s.values["G_rrho"], "G": s.values["G"]}
+            for n, s in species.items() if s.usable}
+
+
+def _profiles(rf: ReactionFile | None, species: dict[str, SpeciesResult], findings: list[Finding]) -> list[dict]:
+    out = []
+    for p in rf.profiles if rf else []:
+        names = [n for s in p.states for _, n in s]
+        problems = audit_reaction(list(dict.fromkeys(names)), species, f"profile {p.name}")
+        findings.extend(problems)
+        if any(f.severity == "error" for f in problems):
+            continue
+        out.append(_profile_record(p, species))
+    return out
+
+
+def _profile_record(p: ProfileSpec, species: dict[str, SpeciesResult]) -> dict[str, Any]:
+    relative = state_values(p.states, _values(species))
+    states = [
+        {"label": label, "value_Eh": {"G": v["G"], "G_rrho": v["G_rrho"], "H": v["H"], "E_zpe": v["E_zpe"],
+                                      "E": v["E"]},
+         "is_ts": any(species[n].options.transition_state for _, n in terms),
+         "species": [n for _, n in terms]}
+        for label, terms, v in zip(p.labels, p.states, relative, strict=True)
+    ]
+    return {"name": p.name, "states": states, "cyclic": p.cyclic, **p.presentation}
+
+
+def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) -> Any:
+    """species.csv as a long DataFrame (one row per species and temperature)."""
+    import pandas as pd
+
+    t = np.atleast_1d(np.asarray(conditions.temperature, dtype=float))
+    m = model_tag(conditions.low_mode_model)
+    rows = []
+    for s in species.values():
+        low = s.lowest
+        thermo = low.thermo if low is not None else None
+        imag = thermo.imaginary_frequency if thermo is not None else None
+        state = f"{s.options.concentration:g}M" if s.options.concentration else conditions.standard_state
+        n_dup = sum(c.status == "duplicate" for c in s.conformers)
+        for i, temp in enumerate(t):
+            row = {"species": s.name, "T_K": float(temp), "formula": s.formula if s.conformers else None,
+                   "charge": s.charge if s.conformers else None,
+                   "multiplicity": s.multiplicity if s.conformers else None,
+                   "conformers": len(s.used), "duplicates": n_dup,
+                   "level": ", ".join(s.levels) or None}
+            v = s.values
+            quantities = [("E_elec_Eh", "E"), ("ZPE_Eh", "ZPE"), ("H_Eh", "H_rrho"), ("S_Eh_K", "S_rrho"),
+                          ("G_Eh", "G_rrho")]
+            if conditions.low_mode_model != "rrho":
+                quantities += [(f"H_{m}_Eh", "H"), (f"S_{m}_Eh_K", "S"), (f"G_{m}_Eh", "G")]
+            row.update({col: float(v[key][i]) if v else np.nan for col, key in quantities})
+            row.update({
+                "point_group": thermo.point_group if thermo else None,
+                "symmetry_number": thermo.symmetry_number if thermo else None,
+                "imaginary_frequency_cm1": imag,
+                "standard_state": state,
+                "transition_state": s.options.transition_state,
+                "populations": s.population_text(),
+                "status": "ok" if s.usable else "excluded",
+                "notes": "; ".join(f.message for f in s.findings),
+            })
+            rows.append(row)
+    return pd.DataFrame(rows)
+
+
+def run(directory: str | Path, reactions: str | Path | ReactionFile | None = None,
+        conditions: Conditions | None = None, *, energy_unit: str = "kcal/mol", jobs: int | None = None,
+        cache: bool = True, progress: bool = False) -> RunResults:
+    """The main job: survey ``directory``, build species, reactions and profiles; see :class:`RunResults`.
+
+    ``reactions``: a reaction file (TOML path, or a parsed ReactionFile); without it every frequency
+    log is a species and there are no reactions. ``conditions``: None takes the command line's defaults and the file's
+    [conditions]. Raises ReactionFileError for a bad reaction file (with its line), QcthermoError
+    for a missing directory; bad logs become findings.
+    """
+    from .survey import survey
+
+    try:
+        check_energy_unit(energy_unit)
+    except ValueError as err:
+        raise QcthermoError(str(err)) from None
+    rf = reactions if isinstance(reactions, ReactionFile) or reactions is None else load_reaction_file(reactions)
+    conditions = conditions if conditions is not None else default_conditions(rf)
+    survey_result = survey(directory, jobs=jobs, cache=cache, progress=progress)
+    calcs = _Calculations(survey_result)
+    findings = [Finding("error", str(Path(survey_result.directory) / rel), reason)
+                for rel, reason in survey_result.errors.items()]
+    species = _species_from_file(rf, calcs, conditions) if rf else _species_from_survey(survey_result, conditions)
+    if rf:
+        _check_balance(rf, species)
+    findings += calcs.findings
+    for s in species.values():
+        findings += s.findings
+    reactions_df, energetics = _reactions_table(rf, species, conditions, energy_unit, findings)
+    results = RunResults(
+        settings=_settings(directory, rf, conditions, energy_unit, jobs, cache),
+        conditions=conditions, energy_unit=energy_unit, survey=survey_result.to_frame(),
+        species=_species_table(species, conditions), reactions=reactions_df, findings=findings,
+        species_results=species, profiles=_profiles(rf, species, findings), reaction_file=rf,
+        survey_result=survey_result,
+    )
+    add_kinetics(results, energetics)
+    results.findings = _sorted_findings(results.findings)
+    return results
+
+
+def _sorted_findings(findings: list[Finding]) -> list[Finding]:
+    """Errors first, then warnings; each kept once, in the order found."""
+    unique = list(dict.fromkeys(findings))
+    return [f for f in unique if f.severity == "error"] + [f for f in unique if f.severity != "error"]
+
+
+def _library_versions() -> dict[str, str]:
+    from importlib.metadata import PackageNotFoundError, version
+
+    out = {"python": platform.python_version()}
+    for lib in ("numpy", "scipy", "pandas", "cclib", "ase"):
+        try:
+            out[lib] = version(lib)
+        except PackageNotFoundError:
+            out[lib] = "absent"
+    return out
+
+
+def conditions_dict(conditions: Conditions) -> dict[str, Any]:
+    """The Conditions as JSON-ready values (temperature arrays as lists)."""
+    from dataclasses import asdict
+
+    out = asdict(conditions)
+    t = np.asarray(conditions.temperature, dtype=float)
+    out["temperature"] = t.tolist()
+    return out
+
+
+def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, Any]:
+    return {
+        "qcthermo_version": __version__,
+        "libraries": _library_versions(),
+        "directory": str(Path(directory).resolve()),
+        "reaction_file": str(rf.path) if rf else None,
+        "conditions": conditions_dict(conditions),
+        "energy_unit": energy_unit,
+        "ensemble": dict(rf.ensemble) if rf else dict(ENSEMBLE_DEFAULTS),
+        "jobs": jobs,
+        "cache": cache,
+    }
+
+
+# -- kinetics -------------------------------------------------------------------------------------
+
+
+def _pseudo_molecularity(terms, species: dict[str, SpeciesResult]) -> int:
+    """Molecularity of one side, leaving out species at their own concentration (already in G)."""
+    m = sum(c for c, n in terms if species[n].options.concentration is None)
+    return max(1, round(m))
+
+
+def _sigmas(terms, species: dict[str, SpeciesResult]) -> list[int]:
+    out = []
+    for c, n in terms:
+        low = species[n].lowest
+        out += [low.thermo.symmetry_number if low and low.thermo else 1] * max(1, round(c))
+    return out
+
+
+def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
+    """Add kappa, k_forward, k_reverse, k_unit to ``results.reactions`` and the rates/Arrhenius/energy-span
+    tables (qcthermo.kinetics): Eyring TST with the reaction's tunnelling model, in the run's standard
+    state; a user's degeneracy is the total reaction-path degeneracy L, of which only
+    L sigma_TS / prod sigma_R is applied (the symmetry numbers are already in G)."""
+    import pandas as pd
+
+    from . import kinetics
+
+    df, species, cond = results.reactions, results.species_results, results.conditions
+    t = results.temperatures
+    if df.empty:
+        return
+    for col in ("kappa", "k_forward", "k_reverse"):
+        df[col] = np.nan
+    df["k_unit"] = None
+    rf = results.reaction_file
+    rate_rows, fits = [], []
+    for r in rf.reactions:
+        e = energetics.get(r.name)
+        if e is None or not r.transition_state:
+            continue
+        ts = species[r.transition_state].lowest
+        sigma_r, sigma_ts = _sigmas(r.reactants, species), ts.thermo.symmetry_number
+        extra = kinetics.degeneracy_beyond_free_energy(r.degeneracy, sigma_r, sigma_ts) if r.degeneracy else 1.0
+        try:
+            k = kinetics.reaction_rates(e["dG_act"], e["dG_act_rev"], t, _pseudo_molecularity(r.reactants, species),
+                                        _pseudo_molecularity(r.products, species), cond.standard_state,
+                                        ts.thermo.imaginary_frequency, _first(e["dE_zpe_act"]),
+                                        _first(e["dE_zpe_act_rev"]),
+                                        degeneracy=extra, tunnelling=r.tunnelling)
+        except ValueError as err:
+            results.findings.append(Finding("warning", r.name, f"no rate constant: {err}"))
+            continue
+        mask = df["reaction"] == r.name
+        for col in ("kappa", "k_forward", "k_reverse"):
+            df.loc[mask, col] = np.atleast_1d(k[col])
+        df.loc[mask, "k_unit"] = f"{k['k_unit_forward']} (forward), {k['k_unit_reverse']} (reverse)"
+        results.findings += [Finding("warning", r.name, n) for n in k["notes"] if r.tunnelling != "none"]
+        for i, temp in enumerate(t):
+            rate_rows.append({"reaction": r.name, "T_K": temp, "kappa": np.atleast_1d(k["kappa"])[i],
+                              "kappa_wigner": np.atleast_1d(k["kappa_wigner"])[i],
+                              "kappa_eckart": np.atleast_1d(k["kappa_eckart"])[i],
+                              "k_forward": np.atleast_1d(k["k_forward"])[i], "k_unit_forward": k["k_unit_forward"],
+                              "k_reverse": np.atleast_1d(k["k_reverse"])[i], "k_unit_reverse": k["k_unit_reverse"]})
+        if len(t) >= 3:
+            fits += _arrhenius_rows(r.name, t, k, kinetics)
+    results.reactions = df[[c for c in df.columns if c not in ("status", "notes")] + ["status", "notes"]]
+    if len(t) > 1:
+        results.rates = pd.DataFrame(rate_rows)
+        results.arrhenius = pd.DataFrame(fits)
+    results.energy_span = _energy_span(results, kinetics)
+
+
+def _first(value) -> float:
+    """The value at the first temperature: Eckart barriers are one number (E+ZPE barely depends on T,
+    only through conformer populations)."""
+    return float(np.atleast_1d(value)[0])
+
+
+def _arrhenius_rows(name: str, t: np.ndarray, k: dict, kinetics) -> list[dict]:
+    rows = []
+    for direction in ("forward", "reverse"):
+        try:
+            fit = kinetics.fit_arrhenius(t, np.atleast_1d(k[f"k_{direction}"]), unit=k[f"k_unit_{direction}"])
+        except ValueError:
+            continue
+        rows.append({"reaction": name, "direction": direction, "A": fit.A, "A_unit": f"{fit.unit} K^-n", "n": fit.n,
+                     "Ea_kcal_mol": fit.Ea_kcal_mol, "Ea_kJ_mol": fit.Ea_kJ_mol, "T_min_K": fit.T_min,
+                     "T_max_K": fit.T_max, "max_rel_error": fit.max_rel_error})
+    return rows
+
+
+def _energy_span(results: RunResults, kinetics) -> Any:
+    """Energy span of every cyclic profile: the last state closes the cycle (dG_r = its G)."""
+    import pandas as pd
+
+    rows = []
+    for record in results.profiles:
+        if not record.get("cyclic"):
+            continue
+        states = record["states"]
+        for i, temp in enumerate(results.temperatures):
+            cycle = [(s["label"], float(np.atleast_1d(s["value_Eh"]["G"])[i]), s["is_ts"]) for s in states[:-1]]
+            d_gr = float(np.atleast_1d(states[-1]["value_Eh"]["G"])[i])
+            try:
+                es = kinetics.energy_span(cycle, d_gr, temp)
+            except ValueError as err:
+                results.findings.append(Finding("warning", f"profile {record['name']}", f"no energy span: {err}"))
+                break
+            if i == 0:
+                record["marks"] = {"tdts": es.tdts, "tdi": es.tdi}
+            rows.append({"profile": record["name"], "T_K": float(temp), "TOF_s-1": es.tof,
+                         "TOF_energy_span_s-1": es.tof_energy_span,
+                         f"energy_span_{unit_suffix(results.energy_unit)}": hartree_to(es.energy_span,
+                                                                                      results.energy_unit),
+                         "TDTS": es.tdts, "TDI": es.tdi,
+                         "degree_of_control": "; ".join(f"{k} {v:.3f}" for k, v in es.degree_of_control.items())})
+    return pd.DataFrame(rows) if rows else None
+
+
+# -- writing ----------------------------------------------------------------------------------------
+
+
+def _temperature_text(t: np.ndarray) -> str:
+    return f"T = {t[0]:g} K" if len(t) == 1 else f"T = {t[0]:g}-{t[-1]:g} K ({len(t)} temperatures)"
+
+
+def caption_context(results: RunResults) -> str:
+    """"T = 298.15 K, standard state 1M, low-mode model ..., frequency scale ..., level ..." for captions."""
+    c = results.conditions
+    levels = sorted({lv for s in results.species_results.values() for lv in s.levels})
+    model = MODEL_NAMES[c.low_mode_model] + (f", threshold {c.low_mode_threshold:g} cm^-1"
+                                             if c.low_mode_model != "rrho" else "")
+    scale = c.frequency_scale if c.zpe_scale is None else f"{c.frequency_scale} (ZPE {c.zpe_scale})"
+    return (f"{_temperature_text(results.temperatures)}; standard state {c.standard_state}; low-mode model {model}; "
+            f"frequency scale factor {scale}; level of theory {', '.join(levels) or 'n/a'}")
+
+
+def _table_notes(results: RunResults) -> list[str]:
+    notes = [f"{f.severity}: {_display(f.subject)}: {f.message}" for f in results.findings]
+    own = [s.name for s in results.species_results.values() if s.options.concentration]
+    if own:
+        notes.insert(0, "at their own concentration (not the standard state): " + ", ".join(own))
+    return notes
+
+
+def _display(subject: str) -> str:
+    return Path(subject).name if ("/" in subject or "\\" in subject) else subject
+
+
+def _write_table(df, out_dir: Path, stem: str, caption: str, notes: list[str]) -> list[Path]:
+    """species/reactions tables via qcthermo.export.tables when present, else CSV alone."""
+    try:
+        from .export.tables import write_tables
+    except ImportError:
+        from .fileio import atomic_write
+
+        return [atomic_write(out_dir / f"{stem}.csv", df.to_csv(index=False))]
+    return list(write_tables(df, out_dir, stem, caption=caption, notes=notes, label=f"tab:{stem}"))
+
+
+def _xyz_blocks(results: RunResults) -> list:
+    from .export.xyz import XyzBlock
+
+    blocks = []
+    for s in results.species_results.values():
+        for c in s.used:
+            v = c.values
+            name = s.name if len(s.used) == 1 else f"{s.name}/{Path(c.path).stem}"
+            blocks.append(XyzBlock(name, c.calculation.symbols, c.calculation.coordinates, {
+                "level": c.level, "charge": c.calculation.charge, "multiplicity": c.calculation.multiplicity,
+                "E_Eh": f"{v['E'][0]:.8f}" if v else None,
+                f"G_{model_tag(results.conditions.low_mode_model)}_Eh": f"{v['G'][0]:.8f}" if v else None,
+                "T_K": f"{results.temperatures[0]:g}",
+                "population": f"{float(np.atleast_1d(c.population)[0]):.4f}",
+                "source": Path(c.path).name,
+            }))
+    return blocks
+
+
+def _sha256(path: Path) -> str:
+    digest = hashlib.sha256()
+    with open(path, "rb") as handle:
+        for chunk in iter(lambda: handle.read(1 << 20), b""):
+            digest.update(chunk)
+    return digest.hexdigest()
+
+
+def _json_default(value: Any) -> Any:
+    if isinstance(value, np.ndarray):
+        return value.tolist()
+    if isinstance(value, (np.floating, np.integer, np.bool_)):
+        return value.item()
+    return str(value)
+
+
+def run_json(results: RunResults, written: list[Path]) -> str:
+    """run.json: tool version, every setting, sha256 of every input file, all findings, what was written."""
+    inputs = [{"path": str(p), "sha256": _sha256(p), "bytes": p.stat().st_size} for p in results.input_files()
+              if p.is_file()]
+    doc = {
+        "tool": "qcthermo",
+        "version": __version__,
+        "settings": results.settings,
+        "inputs": inputs,
+        "findings": [f._asdict() for f in results.findings],
+        "exit_status": results.exit_status,
+        "species": {n: {"status": "ok" if s.usable else "excluded", "level": s.levels,
+                        "conformers": [{"path": c.path, "status": c.status, "reason": c.reason,
+                                        "duplicate_of": c.duplicate_of, "mirror_of": c.mirror_of,
+                                        "single_point": c.single_point.path if c.single_point else None,
+                                        "population": np.atleast_1d(c.population)}
+                                       for c in s.conformers]}
+                    for n, s in results.species_results.items()},
+        "reactions": results.reactions.to_dict(orient="records") if len(results.reactions) else [],
+        "files": sorted(p.name for p in written),
+    }
+    return json.dumps(_finite(doc), indent=2, default=_json_default, allow_nan=False) + "\n"
+
+
+def _finite(value: Any) -> Any:
+    """NaN and inf become null, so run.json is strict JSON."""
+    if isinstance(value, dict):
+        return {k: _finite(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_finite(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return _finite(value.tolist())
+    if isinstance(value, (float, np.floating)) and not np.isfinite(value):
+        return None
+    return value
+
+
+def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
+    from .export.xyz import write_xyz_file
+    from .fileio import atomic_write
+
+    context = caption_context(results)
+    notes = _table_notes(results)
+    written = [atomic_write(out_dir / "survey.csv", results.survey.to_csv(index=False))]
+    written += _write_table(results.species, out_dir, "species", f"Species thermochemistry, hartree per molecule; "
+                                                                 f"{context}.", notes)
+    if len(results.reactions):
+        unit = results.energy_unit
+        written += _write_table(results.reactions, out_dir, "reactions", f"Reaction energies and free energies of "
+                                                                         f"activation, {unit}; {context}.", notes)
+    for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
+                     ("energy_span", results.energy_span)):
+        if df is not None and len(df):
+            written.append(atomic_write(out_dir / f"{stem}.csv", df.to_csv(index=False)))
+    blocks = _xyz_blocks(results)
+    if blocks:
+        written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))
+    written += _optional_exports(results, out_dir)
+    written.append(atomic_write(out_dir / "run.json", run_json(results, written)))
+    return written
+
+
+def _optional_exports(results: RunResults, out_dir: Path) -> list[Path]:
+    """Figures, report and NASA-7 files, from their modules when those are installed."""
+    import importlib
+
+    written: list[Path] = []
+    for module, function in (("qcthermo.export.figures", "write_profile_figures"),
+                             ("qcthermo.export.report", "write_report"),
+                             ("qcthermo.export.nasa7", "write_run_thermo")):
+        try:
+            writer = getattr(importlib.import_module(module), function)
+        except (ImportError, AttributeError):
+            continue
+        produced = writer(results, out_dir) or []
+        written += [produced] if isinstance(produced, Path) else list(produced)
+    return written
+
+
+__all__ = ["RunResults", "audit_reaction", "run"]
