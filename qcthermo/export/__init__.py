@@ -1,0 +1,1 @@
+"""Exporters: tables, coordinates, figures, thermodynamic fits (only format results)."""

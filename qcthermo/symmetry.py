@@ -1,0 +1,359 @@
+"""Point group, rotational symmetry number and chirality from a geometry.
+
+The rotational symmetry number sigma is the order of the rotational subgroup of the point group
+(the number of proper rotations, identity included). It divides the rotational partition function:
+q_rot = (sqrt(pi)/sigma) (T^3 / (Theta_A Theta_B Theta_C))^(1/2) (D. A. McQuarrie, Statistical
+Mechanics, Harper & Row 1976, ch. 8; the table of sigma per point group: Fernandez-Ramos, Ellingson,
+Meana-Paneda, Marques, Truhlar, Theor. Chem. Acc. 2007, 118, 813).
+
+Symmetry elements are found without symmetrising the structure, so that the noise of a real
+optimisation (~0.005 angstrom) does not hide them:
+
+* candidate axes come from the principal axes of inertia, the atom positions and the midpoints of
+  pairs of equivalent atoms (a C2 axis passes through the midpoint of every pair it swaps; a mirror
+  plane is perpendicular to the difference of every pair it swaps);
+* an operation is tested by mapping every atom onto the nearest atom of the same element and mass;
+  the mapping, when it is a permutation, is refined to the best-fitting orthogonal operation of the
+  same kind (Kabsch, Acta Cryst. A 1976, 32, 922) and the operation is accepted when no atom moves
+  more than ``tolerance`` angstrom from its image;
+* the point group follows from the elements found with the usual flow chart (highest-order axis,
+  perpendicular C2 axes, horizontal / vertical mirrors, improper axes, inversion).
+
+The reasoning and the tolerances are written down in docs/symmetry.md.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .errors import QcthermoError
+from .geometry import center_of_mass, is_linear, principal_moments
+
+#: default tolerance: the largest displacement (angstrom) of any atom from its image that still counts
+#: as symmetric; optimiser noise is ~0.005 A, a genuinely lower-symmetry conformer moves atoms by tenths
+DEFAULT_TOLERANCE = 0.1
+#: moments of inertia closer than this (relative) are treated as possibly degenerate; a loose value
+#: only costs a wider search (an accidental near-degeneracy is then resolved by the operations found)
+DEGENERACY_TOLERANCE = 0.05
+#: |cos| of the angle below which two directions count as perpendicular / above which as parallel
+PERPENDICULAR_COS = 0.1
+PARALLEL_COS = math.cos(math.radians(3.0))
+#: candidate directions closer than this are screened once; kept tight because a candidate a few degrees
+#: off a true axis moves outer atoms by more than the screening limit
+CANDIDATE_COS = math.cos(math.radians(0.5))
+#: screening accepts an unrefined operation up to this multiple of the tolerance (axis errors of the
+#: candidates), the refined operation must then meet the tolerance itself
+SCREEN_FACTOR = 3.0
+#: a refined operation further than this (Frobenius norm) from the tested one is another operation
+#: (a planar molecule maps onto itself by the reflection through its plane as well): rejected
+REFINE_DRIFT = 0.5
+#: largest number of floats of one screening block (memory bound for big molecules)
+_SCREEN_BLOCK = 2_000_000
+
+
+@dataclass(frozen=True)
+class SymmetryInfo:
+    """What the geometry's symmetry means for the thermochemistry.
+
+    Attributes:
+        point_group: Schoenflies symbol ("C1", "Cs", "Ci", "C2v", "D3h", "Td", ...); "C*v" and "D*h"
+            for the linear groups C_inf_v and D_inf_h; "Kh" for a single atom.
+        symmetry_number: rotational symmetry number sigma (order of the rotational subgroup; 1 for an atom).
+        chiral: True when the point group holds no improper operation (no mirror plane, no inversion
+            centre, no improper axis S_n): the molecule is not superimposable on its mirror image.
+        linear: True for a linear molecule (two rotational degrees of freedom).
+    """
+
+    point_group: str
+    symmetry_number: int
+    chiral: bool
+    linear: bool
+
+
+def analyse_symmetry(symbols, coordinates, masses=None, tolerance: float = DEFAULT_TOLERANCE) -> SymmetryInfo:
+    """Point group, symmetry number, chirality and linearity of one structure.
+
+    Args:
+        symbols: element symbols, one per atom.
+        coordinates: (N, 3) angstrom.
+        masses: dalton per atom; None means the most abundant isotopes. Atoms of one element with
+            different masses (isotopologues, e.g. HDO) are not equivalent.
+        tolerance: angstrom, the largest distance of any atom from its image under an operation
+            (after the best fit of that operation) for the operation to count as a symmetry.
+    """
+    from .records import atomic_masses
+
+    symbols = tuple(symbols)
+    xyz = np.asarray(coordinates, dtype=float)
+    if xyz.ndim != 2 or xyz.shape != (len(symbols), 3):
+        raise QcthermoError(f"{len(symbols)} atoms need an ({len(symbols)}, 3) coordinate array, got {xyz.shape}")
+    m = atomic_masses(symbols) if masses is None else np.asarray(masses, dtype=float)
+    if m.shape != (len(symbols),):
+        raise QcthermoError(f"{len(symbols)} atoms but {m.size} masses")
+    if len(symbols) == 1:
+        return _info("Kh", linear=False)
+    x = xyz - center_of_mass(xyz, m)
+    labels = _equivalence_labels(symbols, m)
+    if is_linear(x, m):
+        # no refinement: the best-fitting operation of collinear points is not unique
+        inversion = len(_screen(x, labels, -np.eye(3)[None], tolerance)) > 0
+        return _info("D*h" if inversion else "C*v", linear=True)
+    return _info(_point_group(x, m, labels, tolerance), linear=False)
+
+
+def symmetry_number(point_group: str) -> int:
+    """Rotational symmetry number of a Schoenflies point group: the order of its rotational subgroup.
+
+    C1, Cs, Ci, C*v, Kh: 1; Cn, Cnv, Cnh, S2n: n; Dn, Dnh, Dnd: 2n; D*h: 2; T, Td, Th: 12; O, Oh: 24;
+    I, Ih: 60 (Fernandez-Ramos et al., Theor. Chem. Acc. 2007, 118, 813, table 1).
+    """
+    fixed = {
+        "C1": 1,
+        "Cs": 1,
+        "Ci": 1,
+        "C*v": 1,
+        "Kh": 1,
+        "D*h": 2,
+        "T": 12,
+        "Td": 12,
+        "Th": 12,
+        "O": 24,
+        "Oh": 24,
+        "I": 60,
+        "Ih": 60,
+    }
+    if point_group in fixed:
+        return fixed[point_group]
+    family, order = point_group[0], int("".join(ch for ch in point_group if ch.isdigit()))
+    if family == "D":
+        return 2 * order
+    if family == "S":
+        return order // 2
+    return order
+
+
+def is_chiral_group(point_group: str) -> bool:
+    """True for the purely rotational groups (C1, Cn, Dn, T, O, I): no improper operation."""
+    return point_group[0] in "CDTOI" and (point_group[1:].isdigit() or len(point_group) == 1)
+
+
+def _info(point_group: str, linear: bool) -> SymmetryInfo:
+    return SymmetryInfo(point_group, symmetry_number(point_group), is_chiral_group(point_group), linear)
+
+
+def _equivalence_labels(symbols: tuple[str, ...], masses: np.ndarray) -> np.ndarray:
+    """One integer per atom; atoms may be exchanged by a symmetry only when their labels agree."""
+    keys = [(s, round(float(mi), 3)) for s, mi in zip(symbols, masses, strict=True)]
+    index = {k: i for i, k in enumerate(dict.fromkeys(keys))}
+    return np.array([index[k] for k in keys])
+
+
+# ---------------------------------------------------------------------------------------------------
+# operations
+
+
+def rotation_matrices(axes: np.ndarray, angle: float) -> np.ndarray:
+    """(M, 3, 3) proper rotations by ``angle`` (radians) about unit ``axes`` (M, 3), Rodrigues' formula
+    R = cos(a) 1 + sin(a) [u]_x + (1 - cos(a)) u u^T."""
+    u = np.atleast_2d(axes)
+    cross = np.zeros((len(u), 3, 3))
+    cross[:, 0, 1], cross[:, 0, 2], cross[:, 1, 2] = -u[:, 2], u[:, 1], -u[:, 0]
+    cross -= cross.transpose(0, 2, 1)
+    outer = u[:, :, None] * u[:, None, :]
+    return math.cos(angle) * np.eye(3) + math.sin(angle) * cross + (1 - math.cos(angle)) * outer
+
+
+def reflection_matrices(normals: np.ndarray) -> np.ndarray:
+    """(M, 3, 3) reflections through the planes with unit ``normals`` (M, 3): 1 - 2 n n^T."""
+    n = np.atleast_2d(normals)
+    return np.eye(3) - 2 * n[:, :, None] * n[:, None, :]
+
+
+def _nearest_partner(x: np.ndarray, labels: np.ndarray, images: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """For images (M, N, 3) of the atoms: index of, and squared distance to, the nearest equivalent atom."""
+    d2 = (
+        np.einsum("mij,mij->mi", images, images)[:, :, None]
+        + np.einsum("ij,ij->i", x, x)[None, None, :]
+        - 2 * np.einsum("mik,jk->mij", images, x)
+    )
+    d2 = np.where(labels[:, None] == labels[None, :], d2, np.inf)
+    return np.argmin(d2, axis=2), np.min(d2, axis=2)
+
+
+def _screen(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, limit: float) -> np.ndarray:
+    """Indices of the operations (M, 3, 3) that move no atom more than ``limit`` from an equivalent atom.
+
+    Unrefined and vectorised over operations, in blocks that bound the memory for large molecules.
+    """
+    block = max(1, _SCREEN_BLOCK // max(1, len(x) ** 2))
+    keep = []
+    for start in range(0, len(ops), block):
+        images = np.einsum("mij,nj->mni", ops[start : start + block], x)
+        _, d2 = _nearest_partner(x, labels, images)
+        keep.append(start + np.flatnonzero(d2.max(axis=1) <= limit**2))
+    return np.concatenate(keep) if keep else np.zeros(0, dtype=int)
+
+
+def _refine(x: np.ndarray, labels: np.ndarray, op: np.ndarray) -> tuple[float, np.ndarray]:
+    """Best-fitting operation of the same kind as ``op`` and the largest atom displacement under it.
+
+    The atom mapping is taken from ``op`` (nearest equivalent atom; it must be a permutation); the
+    operation is refitted to that mapping with the Kabsch algorithm, proper or improper like ``op``,
+    and must stay close to ``op``.
+    """
+    perm, _ = _nearest_partner(x, labels, (x @ op.T)[None])
+    perm = perm[0]
+    if len(np.unique(perm)) != len(perm):
+        return math.inf, op
+    improper = np.linalg.det(op) < 0
+    target = -x[perm] if improper else x[perm]
+    u, _, vt = np.linalg.svd(x.T @ target)
+    d = np.sign(np.linalg.det(vt.T @ u.T)) or 1.0
+    fitted = vt.T @ np.diag([1.0, 1.0, d]) @ u.T
+    fitted = -fitted if improper else fitted
+    if np.linalg.norm(fitted - op) > REFINE_DRIFT:
+        return math.inf, op
+    return float(np.sqrt(np.max(np.sum((x @ fitted.T - x[perm]) ** 2, axis=1)))), fitted
+
+
+def _deviation(x: np.ndarray, labels: np.ndarray, op: np.ndarray) -> float:
+    """Largest displacement (angstrom) of an atom from its image under the refined ``op``."""
+    return _refine(x, labels, op)[0]
+
+
+def _accepted(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, tolerance: float) -> list[np.ndarray]:
+    """The refined operations among ``ops`` that are symmetries within ``tolerance``."""
+    found = []
+    for i in _screen(x, labels, ops, SCREEN_FACTOR * tolerance):
+        dev, fitted = _refine(x, labels, ops[i])
+        if dev <= tolerance:
+            found.append(fitted)
+    return found
+
+
+def _axis_of(op: np.ndarray, improper: bool = False) -> np.ndarray:
+    """Rotation axis of a proper operation (eigenvalue +1) or normal of a reflection (eigenvalue -1)."""
+    _, vectors = np.linalg.eigh((op + op.T) / 2)
+    return vectors[:, 0] if improper else vectors[:, -1]
+
+
+def _unique_directions(vectors: np.ndarray, parallel_cos: float = PARALLEL_COS) -> np.ndarray:
+    """Unit vectors of ``vectors`` (longest first: the best-defined), one per line through the origin."""
+    norms = np.linalg.norm(vectors, axis=1)
+    vectors = vectors[norms > 1e-6]
+    norms = norms[norms > 1e-6]
+    units = (vectors / norms[:, None])[np.argsort(-norms, kind="stable")]
+    close = np.abs(units @ units.T) > parallel_cos
+    return units[~np.any(np.tril(close, -1), axis=1)]
+
+
+def _pairs(x: np.ndarray, labels: np.ndarray, tolerance: float) -> tuple[np.ndarray, np.ndarray]:
+    """Index pairs (i < j) of equivalent atoms at the same distance from the centre of mass."""
+    i, j = np.triu_indices(len(x), k=1)
+    r = np.linalg.norm(x, axis=1)
+    ok = (labels[i] == labels[j]) & (np.abs(r[i] - r[j]) <= SCREEN_FACTOR * tolerance)
+    return i[ok], j[ok]
+
+
+# ---------------------------------------------------------------------------------------------------
+# classification
+
+
+def _point_group(x: np.ndarray, masses: np.ndarray, labels: np.ndarray, tolerance: float) -> str:
+    moments, principal = principal_moments(x, masses)
+    principal = principal.T
+    i, j = _pairs(x, labels, tolerance)
+    atom_dirs = x[np.linalg.norm(x, axis=1) > tolerance]
+    # principal axes are scaled up so that they are kept first among near-parallel candidates
+    c2_axes = _found_axes(
+        x, labels, rotation_matrices(_candidates(principal * 10, atom_dirs, (x[i] + x[j]) / 2), math.pi), tolerance
+    )
+    mirrors = _found_axes(x, labels, reflection_matrices(_candidates(principal * 10, x[i] - x[j])), tolerance)
+    inversion = _deviation(x, labels, -np.eye(3)) <= tolerance
+    degenerate = np.abs(np.diff(moments)) <= DEGENERACY_TOLERANCE * moments[2]
+    if degenerate.all():
+        cubic = _cubic_group(x, labels, c2_axes, mirrors, inversion, tolerance)
+        if cubic:
+            return cubic
+    axis, order = _main_axis(x, labels, principal, atom_dirs, c2_axes, degenerate, tolerance)
+    if order == 1:
+        return "Cs" if len(mirrors) else "Ci" if inversion else "C1"
+    return _axial_group(x, labels, axis, order, c2_axes, mirrors, tolerance)
+
+
+def _candidates(*vectors: np.ndarray) -> np.ndarray:
+    """Candidate directions for axes or mirror normals, near-duplicates dropped."""
+    return _unique_directions(np.vstack(vectors), CANDIDATE_COS)
+
+
+def _found_axes(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, tolerance: float) -> np.ndarray:
+    """(K, 3) distinct axes (rotations) or normals (reflections) of the symmetries among ``ops``."""
+    found = _accepted(x, labels, ops, tolerance)
+    improper = bool(len(ops)) and np.linalg.det(ops[0]) < 0
+    return _unique_directions(np.array([_axis_of(op, improper) for op in found]).reshape(-1, 3))
+
+
+def _main_axis(x, labels, principal, atom_dirs, c2_axes, degenerate, tolerance) -> tuple[np.ndarray, int]:
+    """The axis of highest order n and n (1 when there is no proper axis).
+
+    An axis of order 3 or more implies two equal moments of inertia, so it is looked for only then,
+    among the principal axes and the atom directions, highest order first. Otherwise a C2 axis along
+    the unique principal axis of a symmetric top is preferred (D2d), then any C2 axis.
+    """
+    if degenerate.any():
+        candidates = _candidates(principal * 10, atom_dirs)
+        for n in _possible_orders(x, labels, candidates, tolerance):
+            found = _accepted(x, labels, rotation_matrices(candidates, 2 * math.pi / n), tolerance)
+            if found:
+                return _axis_of(found[0]), n
+    if not len(c2_axes):
+        return np.zeros(3), 1
+    if degenerate.any():
+        unique = principal[2] if degenerate[0] else principal[0]
+        along = np.abs(c2_axes @ unique) > PARALLEL_COS
+        if along.any():
+            return c2_axes[np.argmax(along)], 2
+    return c2_axes[0], 2
+
+
+def _possible_orders(x, labels, axes, tolerance) -> list[int]:
+    """Orders n >= 3 worth testing on any of ``axes``, highest first: n must divide the number of
+    atoms of every kind that lie off the axis."""
+    off_axis = np.linalg.norm(x[None] - (x @ axes.T).T[:, :, None] * axes[:, None, :], axis=2) > tolerance
+    counts = off_axis.astype(int) @ (labels[:, None] == np.unique(labels)[None, :]).astype(int)
+    largest = int(np.gcd.reduce(counts, axis=1).max())
+    return [n for n in range(largest, 2, -1) if np.any(np.gcd.reduce(counts, axis=1) % n == 0)]
+
+
+def _axial_group(x, labels, axis, n, c2_axes, mirrors, tolerance) -> str:
+    """Cn, Cnv, Cnh, S2n, Dn, Dnh, Dnd from the main axis of order n >= 2 and the other elements."""
+    perpendicular_c2 = bool(len(c2_axes)) and bool(np.any(np.abs(c2_axes @ axis) < PERPENDICULAR_COS))
+    horizontal = _deviation(x, labels, reflection_matrices(axis)[0]) <= tolerance
+    vertical = bool(len(mirrors)) and bool(np.any(np.abs(mirrors @ axis) < PERPENDICULAR_COS))
+    if perpendicular_c2:
+        return f"D{n}h" if horizontal else f"D{n}d" if vertical else f"D{n}"
+    if horizontal:
+        return f"C{n}h"
+    if vertical:
+        return f"C{n}v"
+    improper = -rotation_matrices(axis, math.pi + math.pi / n)[0]  # S2n = sigma_h C2n = -C2n'
+    return f"S{2 * n}" if _deviation(x, labels, improper) <= tolerance else f"C{n}"
+
+
+def _cubic_group(x, labels, c2_axes, mirrors, inversion, tolerance) -> str | None:
+    """T, Td, Th, O, Oh, I, Ih for a spherical top, recognised by its C2 axes (3, 9 or 15) and a check
+    of the axes of higher order (C3 along a body diagonal of the C2 frame for T, C4 for O); None when
+    the spherical top is accidental."""
+    if len(c2_axes) == 15:
+        return "Ih" if inversion else "I"
+    if len(c2_axes) == 9:
+        has_c4 = any(_deviation(x, labels, rotation_matrices(a, math.pi / 2)[0]) <= tolerance for a in c2_axes)
+        return ("Oh" if inversion else "O") if has_c4 else None
+    if len(c2_axes) == 3 and np.all(np.abs(np.triu(c2_axes @ c2_axes.T, 1)) < PERPENDICULAR_COS):
+        diagonal = c2_axes.sum(axis=0) / math.sqrt(3)
+        if _deviation(x, labels, rotation_matrices(diagonal, 2 * math.pi / 3)[0]) <= tolerance:
+            return "Th" if inversion else "Td" if len(mirrors) else "T"
+    return None

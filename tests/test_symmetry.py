@@ -1,0 +1,248 @@
+"""Point group, rotational symmetry number and chirality from a geometry.
+
+Geometries are built from standard bond lengths and angles (values from memory, rounded to the
+precision that matters here); the expected point groups and symmetry numbers are common practice
+(sigma = order of the rotational subgroup of the point group).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from qcthermo.symmetry import SymmetryInfo, analyse_symmetry
+
+#: unit vectors to the corners of a regular tetrahedron
+TETRAHEDRON = np.array([[1, 1, 1], [1, -1, -1], [-1, 1, -1], [-1, -1, 1]]) / np.sqrt(3)
+
+
+def _ring(radius: float, z: float, angles_deg) -> list[list[float]]:
+    a = np.radians(np.asarray(angles_deg, dtype=float))
+    return np.column_stack([radius * np.cos(a), radius * np.sin(a), np.full(len(a), z)]).tolist()
+
+
+def _bent(center: str, ligand: str, r: float, angle_deg: float):
+    half = np.radians(angle_deg / 2)
+    xyz = [[0, 0, 0], [r * np.sin(half), 0, r * np.cos(half)], [-r * np.sin(half), 0, r * np.cos(half)]]
+    return (center, ligand, ligand), np.array(xyz)
+
+
+def water():
+    # O-H 0.9572 A, H-O-H 104.52 deg (from memory)
+    return _bent("O", "H", 0.9572, 104.52)
+
+
+def ammonia():
+    # N-H 1.012 A, H-N-H 106.7 deg (from memory)
+    r, angle = 1.012, np.radians(106.7)
+    rho = 2 * r * np.sin(angle / 2) / np.sqrt(3)
+    return ("N", "H", "H", "H"), np.array([[0, 0, 0], *_ring(rho, -np.sqrt(r**2 - rho**2), [0, 120, 240])])
+
+
+def methane():
+    # C-H 1.087 A, tetrahedral (from memory)
+    return ("C", "H", "H", "H", "H"), np.vstack([[0, 0, 0], 1.087 * TETRAHEDRON])
+
+
+def ethylene():
+    # C=C 1.339 A, C-H 1.086 A, H-C-H 117.6 deg (from memory)
+    c, r, half = 1.339 / 2, 1.086, np.radians(117.6 / 2)
+    dx, dz = r * np.sin(half), c + r * np.cos(half)
+    xyz = [[0, 0, c], [0, 0, -c], [dx, 0, dz], [-dx, 0, dz], [dx, 0, -dz], [-dx, 0, -dz]]
+    return ("C", "C", "H", "H", "H", "H"), np.array(xyz)
+
+
+def benzene():
+    # C-C 1.397 A, C-H 1.084 A (from memory)
+    angles = range(0, 360, 60)
+    return ("C",) * 6 + ("H",) * 6, np.array(_ring(1.397, 0, angles) + _ring(1.397 + 1.084, 0, angles))
+
+
+def sulfur_hexafluoride():
+    # S-F 1.561 A (from memory)
+    axes = np.vstack([np.eye(3), -np.eye(3)])
+    return ("S",) + ("F",) * 6, np.vstack([[0, 0, 0], 1.561 * axes])
+
+
+def carbon_dioxide():
+    # C=O 1.160 A (from memory)
+    return ("O", "C", "O"), np.array([[0, 0, -1.160], [0, 0, 0], [0, 0, 1.160]])
+
+
+def hydrogen_cyanide():
+    # H-C 1.064 A, C-N 1.156 A (from memory)
+    return ("H", "C", "N"), np.array([[0, 0, -1.064], [0, 0, 0], [0, 0, 1.156]])
+
+
+def carbon_monoxide():
+    # C-O 1.128 A (from memory)
+    return ("C", "O"), np.array([[0, 0, 0], [0, 0, 1.128]])
+
+
+def allene():
+    # C=C 1.308 A, C-H 1.087 A, H-C-H 118.2 deg (from memory); the CH2 planes are perpendicular
+    c, r, half = 1.308, 1.087, np.radians(118.2 / 2)
+    d, z = r * np.sin(half), c + r * np.cos(half)
+    xyz = [[0, 0, 0], [0, 0, c], [0, 0, -c], [d, 0, z], [-d, 0, z], [0, d, -z], [0, -d, -z]]
+    return ("C", "C", "C", "H", "H", "H", "H"), np.array(xyz)
+
+
+def _staggered_ethane_frame():
+    # C-C 1.536 A, C-H 1.091 A, H-C-C 110.9 deg (from memory)
+    c, r, angle = 1.536 / 2, 1.091, np.radians(180 - 110.9)
+    rho, z = r * np.sin(angle), c + r * np.cos(angle)
+    return c, rho, z
+
+
+def ethane():
+    c, rho, z = _staggered_ethane_frame()
+    xyz = [[0, 0, c], [0, 0, -c], *_ring(rho, z, [0, 120, 240]), *_ring(rho, -z, [60, 180, 300])]
+    return ("C", "C") + ("H",) * 6, np.array(xyz)
+
+
+def dichlorodifluoroethane_anti():
+    """meso-CHFCl-CHFCl, anti conformer: the two halves are related by inversion (Ci)."""
+    c, rho, z = _staggered_ethane_frame()  # same frame; substituent bond lengths do not matter for Ci
+    xyz = [[0, 0, c], [0, 0, -c], *_ring(rho, z, [0, 120, 240]), *_ring(rho, -z, [180, 300, 60])]
+    return ("C", "C", "H", "F", "Cl", "H", "F", "Cl"), np.array(xyz)
+
+
+def _tetrahedral(center: str, ligands, lengths):
+    return (center, *ligands), np.vstack([[0, 0, 0], np.asarray(lengths)[:, None] * TETRAHEDRON])
+
+
+def bromochlorofluoromethane():
+    # C-H 1.08, C-F 1.35, C-Cl 1.76, C-Br 1.93 A on tetrahedral directions (from memory)
+    return _tetrahedral("C", ("H", "F", "Cl", "Br"), [1.08, 1.35, 1.76, 1.93])
+
+
+def chlorofluoromethane():
+    # CH2FCl: C-H 1.09, C-F 1.36, C-Cl 1.76 A on tetrahedral directions (from memory)
+    return _tetrahedral("C", ("H", "H", "F", "Cl"), [1.09, 1.09, 1.36, 1.76])
+
+
+def hydrogen_peroxide():
+    # O-O 1.475 A, O-H 0.950 A, O-O-H 94.8 deg, dihedral 111.5 deg (from memory)
+    d, r, angle, phi = 1.475 / 2, 0.950, np.radians(94.8), np.radians(111.5 / 2)
+    s, c = r * np.sin(angle), r * np.cos(angle)
+    h1 = [s * np.cos(phi), -d + c, -s * np.sin(phi)]
+    h2 = [s * np.cos(phi), d - c, s * np.sin(phi)]
+    xyz = [[0, -d, 0], [0, d, 0], h1, h2]
+    return ("O", "O", "H", "H"), np.array(xyz)
+
+
+def boron_trifluoride():
+    # B-F 1.307 A (from memory)
+    return ("B", "F", "F", "F"), np.array([[0, 0, 0], *_ring(1.307, 0, [0, 120, 240])])
+
+
+def trans_diazene():
+    # HN=NH: N=N 1.252 A, N-H 1.028 A, N-N-H 106.9 deg (from memory)
+    d, r, angle = 1.252 / 2, 1.028, np.radians(106.9)
+    hx, hy = d - r * np.cos(angle), r * np.sin(angle)
+    return ("N", "N", "H", "H"), np.array([[d, 0, 0], [-d, 0, 0], [hx, hy, 0], [-hx, -hy, 0]])
+
+
+def buckminsterfullerene():
+    """C60: the truncated icosahedron, all even permutations of (0, ±1, ±3φ), (±1, ±(2+φ), ±2φ),
+    (±φ, ±2, ±φ^3) for edge length 2 (published construction), scaled to a mean C-C of 1.42 A."""
+    phi = (1 + np.sqrt(5)) / 2
+    seeds = [(0, 1, 3 * phi), (1, 2 + phi, 2 * phi), (phi, 2, phi**3)]
+    points = set()
+    for seed in seeds:
+        for signs in np.ndindex(2, 2, 2):
+            v = [x * (-1) ** s for x, s in zip(seed, signs, strict=True)]
+            for shift in range(3):  # cyclic (even) permutations
+                points.add(tuple(round(v[(i + shift) % 3], 9) for i in range(3)))
+    xyz = np.array(sorted(points)) * 1.42 / 2
+    assert len(xyz) == 60
+    return ("C",) * 60, xyz
+
+
+#: (geometry, point group, symmetry number, chiral)
+TABLE = [
+    (water, "C2v", 2, False),
+    (ammonia, "C3v", 3, False),
+    (methane, "Td", 12, False),
+    (ethylene, "D2h", 4, False),
+    (benzene, "D6h", 12, False),
+    (sulfur_hexafluoride, "Oh", 24, False),
+    (carbon_dioxide, "D*h", 2, False),
+    (hydrogen_cyanide, "C*v", 1, False),
+    (carbon_monoxide, "C*v", 1, False),
+    (allene, "D2d", 4, False),
+    (ethane, "D3d", 6, False),
+    (bromochlorofluoromethane, "C1", 1, True),
+    (chlorofluoromethane, "Cs", 1, False),
+    (hydrogen_peroxide, "C2", 2, True),
+    (boron_trifluoride, "D3h", 6, False),
+    (trans_diazene, "C2h", 2, False),
+    (dichlorodifluoroethane_anti, "Ci", 1, False),
+    (buckminsterfullerene, "Ih", 60, False),
+]
+
+IDS = [row[0].__name__ for row in TABLE]
+
+
+def _random_pose(coordinates: np.ndarray, rng: np.random.Generator) -> np.ndarray:
+    """The same molecule turned and moved at random (the answer must not depend on the frame)."""
+    q, r = np.linalg.qr(rng.normal(size=(3, 3)))
+    rotation = q * np.sign(np.diag(r))
+    if np.linalg.det(rotation) < 0:
+        rotation[:, 0] *= -1
+    return coordinates @ rotation.T + rng.normal(scale=3.0, size=3)
+
+
+@pytest.mark.parametrize(("build", "group", "sigma", "chiral"), TABLE, ids=IDS)
+def test_clean_geometry(build, group, sigma, chiral):
+    symbols, xyz = build()
+    info = analyse_symmetry(symbols, xyz)
+    assert (info.point_group, info.symmetry_number, info.chiral) == (group, sigma, chiral)
+    assert info.linear == (group in ("C*v", "D*h"))
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3, 4, 5])
+@pytest.mark.parametrize(("build", "group", "sigma", "chiral"), TABLE, ids=IDS)
+def test_noisy_geometry(build, group, sigma, chiral, seed):
+    """Optimiser noise: every coordinate displaced at random by 0.005 A (normal, standard deviation
+    0.005 A per Cartesian component), in a random orientation and position."""
+    symbols, xyz = build()
+    rng = np.random.default_rng(seed)
+    noisy = _random_pose(xyz, rng) + rng.normal(scale=0.005, size=xyz.shape)
+    info = analyse_symmetry(symbols, noisy)
+    assert (info.point_group, info.symmetry_number, info.chiral) == (group, sigma, chiral)
+
+
+def test_distorted_geometry_loses_symmetry():
+    """A water with one O-H stretched by 0.3 A is no longer C2v but Cs (sigma 1)."""
+    symbols, xyz = water()
+    xyz[1] *= (0.9572 + 0.3) / 0.9572
+    info = analyse_symmetry(symbols, xyz)
+    assert (info.point_group, info.symmetry_number) == ("Cs", 1)
+
+
+def test_isotopes_break_symmetry():
+    """HDO: with a deuterium mass the two hydrogens are no longer equivalent (Cs, sigma 1)."""
+    symbols, xyz = water()
+    info = analyse_symmetry(symbols, xyz, masses=[15.995, 1.008, 2.014])
+    assert (info.point_group, info.symmetry_number) == ("Cs", 1)
+
+
+def test_atom():
+    info = analyse_symmetry(("Ar",), np.zeros((1, 3)))
+    assert info == SymmetryInfo(point_group="Kh", symmetry_number=1, chiral=False, linear=False)
+
+
+def test_bad_input():
+    with pytest.raises(ValueError, match="coordinate"):
+        analyse_symmetry(("O", "H"), np.zeros((3, 3)))
+
+
+def test_dvb_from_gaussian_log(third_party):
+    """p-divinylbenzene from a real Gaussian 16 frequency log: C2h, sigma 2 (the folder's README)."""
+    readers = pytest.importorskip("qcthermo.readers")
+    if not hasattr(readers, "read_log"):
+        pytest.skip("qcthermo.readers.read_log is not available yet")
+    calc = readers.read_log(third_party / "gaussian16" / "dvb_ir.out")
+    info = analyse_symmetry(calc.symbols, calc.coordinates)
+    assert (info.point_group, info.symmetry_number, info.chiral) == ("C2h", 2, False)
