@@ -175,4 +175,3 @@ def last_s2(text: str) -> float | None:
     for m in _S2.finditer(text):
         value = float(next(g for g in m.groups() if g is not None))
     return value
-
