@@ -1,0 +1,123 @@
+"""Supporting-information document (si.md, si.tex) from real third-party logs."""
+
+import re
+import shutil
+import subprocess
+from types import SimpleNamespace
+
+import numpy as np
+import pytest
+
+import qcthermo
+from qcthermo.export.si import tex_escape, write_si
+from qcthermo.records import Conditions
+from qcthermo.species import SpeciesOptions, build_species
+
+
+def _printed(path, pattern):
+    """A number as the program printed it in its own output (the check is the log itself)."""
+    return float(re.findall(pattern, path.read_text(errors="replace"))[-1])
+
+
+@pytest.fixture
+def run_like(third_party):
+    dvb = qcthermo.read_log(third_party / "gaussian16/dvb_ir.out")
+    ts = qcthermo.read_log(third_party / "gamess-us2018/nh3_ts_ir.out")
+    cond = Conditions(low_mode_model="qrrho", standard_state="1M")
+    species = {"dvb": build_species("dvb", [dvb], cond),
+               "nh3_ts": build_species("nh3_ts", [ts], cond, SpeciesOptions(transition_state=True)),
+               "na_me&_%x": build_species("na_me&_%x", [dvb], cond)}
+    return SimpleNamespace(conditions=cond, species_results=species, settings={"directory": str(third_party)})
+
+
+def _block(text, name):
+    start = text.index(f"## {name}\n")
+    end = text.find("\n## ", start + 1)
+    return text[start:] if end < 0 else text[start:end]
+
+
+def test_markdown_block_holds_the_logs_numbers(run_like, third_party, tmp_path):
+    md, tex = write_si(run_like, tmp_path)
+    assert (md.name, tex.name) == ("si.md", "si.tex")
+    text = md.read_text()
+    assert "T = 298.15 K, standard state 1M" in text and "qrrho" in text
+    dvb = _block(text, "dvb")
+    log = third_party / "gaussian16/dvb_ir.out"
+    # energy as printed by Gaussian ("SCF Done"), to the microhartree
+    energy = _printed(log, r"SCF Done:\s+E\(\w+\)\s+=\s+(-?\d+\.\d+)")
+    assert f"| E / Eh | {energy:.6f} |" in dvb
+    # the lowest wavenumber Gaussian prints (54 real modes: no imaginary ones; README of the logs)
+    lowest = float(re.findall(r"Frequencies --\s+(-?\d+\.\d+)", log.read_text(errors="replace"))[0])
+    assert f"| lowest real frequency / cm-1 | {lowest:.1f} |" in dvb
+    assert "| imaginary frequencies / cm-1 | none |" in dvb
+    # p-divinylbenzene is C2h, symmetry number 2 (README of the third-party logs)
+    assert "| point group (symmetry number) | C2h (2) |" in dvb
+    assert "| file | gaussian16/dvb\\_ir.out |" in dvb  # relative to the run's directory
+    assert "| charge, multiplicity | 0, 1 |" in dvb
+    for key in ("ZPE", "H", "G (qrrho)", "G (rrho)"):
+        assert re.search(rf"\| {re.escape(key)} / Eh \| -?\d+\.\d{{6}} \|", dvb), key
+
+
+def test_markdown_coordinates_are_the_final_geometry(run_like, tmp_path):
+    md, _ = write_si(run_like, tmp_path)
+    dvb = _block(md.read_text(), "dvb")
+    rows = re.search(r"```\n(.*?)```", dvb, flags=re.S).group(1).splitlines()
+    calc = run_like.species_results["dvb"].lowest.calculation
+    assert len(rows) == 20  # C10H10 (README of the third-party logs)
+    symbols = [r.split()[0] for r in rows]
+    xyz = np.array([[float(v) for v in r.split()[1:]] for r in rows])
+    assert symbols.count("C") == 10 and symbols.count("H") == 10
+    assert np.allclose(xyz, calc.coordinates, atol=5e-7)  # 6 decimals
+    assert all(re.fullmatch(r"[A-Z][a-z]?\s+(-?\d+\.\d{6}\s*){3}", r) for r in rows)
+
+
+def test_transition_state_lists_its_imaginary_mode(run_like, third_party, tmp_path):
+    md, _ = write_si(run_like, tmp_path)
+    block = _block(md.read_text(), "nh3\\_ts")
+    # GAMESS prints the mode as "825.18 I"; exactly one imaginary mode (README of the third-party logs)
+    printed = _printed(third_party / "gamess-us2018/nh3_ts_ir.out", r"FREQUENCY:\s+(\d+\.\d+) I")
+    assert f"| imaginary frequencies / cm-1 | {printed:.1f}i |" in block
+
+
+def _environments(tex):
+    """(name, column spec, body) of every tabular/longtable; raises if begin/end do not balance."""
+    stack, found = [], []
+    for m in re.finditer(r"\\(begin|end)\{(\w+)\}(\{[^}]*\})?", tex):
+        kind, name, spec = m.groups()
+        if kind == "begin":
+            stack.append((name, spec, m.end()))
+        else:
+            top, top_spec, start = stack.pop()
+            assert top == name, f"\\end{{{name}}} closes \\begin{{{top}}}"
+            if name in ("tabular", "longtable"):
+                found.append((name, top_spec.strip("{}"), tex[start:m.start()]))
+    assert not stack, f"unclosed {stack}"
+    return found
+
+
+def test_latex_environments_balance_with_the_right_column_count(run_like, tmp_path):
+    _, tex = write_si(run_like, tmp_path)
+    text = tex.read_text()
+    tables = _environments(text)
+    assert [t[0] for t in tables].count("longtable") == 3  # one coordinate table per species
+    for _name, spec, body in tables:
+        ncols = len(re.findall(r"[lrc]", spec))
+        rows = [r for r in body.split("\\\\") if re.search(r"(?<!\\)&", r)]  # skip the caption line
+        assert rows
+        for row in rows:
+            assert len(re.findall(r"(?<!\\)&", row)) == ncols - 1, row
+    assert r"\subsection*{na\_me\&\_\%x}" in text
+
+
+def test_tex_escape_handles_the_special_characters():
+    assert tex_escape("a_b & 50% $x$ #1 {y} ~ ^ \\") == (
+        r"a\_b \& 50\% \$x\$ \#1 \{y\} \textasciitilde{} \textasciicircum{} \textbackslash{}")
+
+
+@pytest.mark.skipif(shutil.which("pdflatex") is None, reason="no TeX engine (pdflatex) installed")
+def test_latex_compiles(run_like, tmp_path):
+    _, tex = write_si(run_like, tmp_path)
+    done = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", tex.name], cwd=tmp_path,
+                          capture_output=True, text=True, timeout=120)
+    assert done.returncode == 0, done.stdout[-2000:]
+    assert (tmp_path / "si.pdf").read_bytes().startswith(b"%PDF-")
