@@ -1,0 +1,141 @@
+"""``qcthermo init DIR [-o FILE] [--force]``: a starter reaction file listing the species found.
+
+Frequency logs are grouped by formula, charge and multiplicity into candidate conformer ensembles
+(transition states, from saddle-search jobs, apart from minima); single points are listed with the
+group whose geometry they match. Everything the program cannot know (the reactions) is a commented
+example. The file parses back with :func:`qcthermo.reactions.load_reaction_file`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import re
+from collections import defaultdict
+from itertools import takewhile
+from pathlib import Path
+
+from ..errors import QcthermoError
+from ..records import Calculation
+
+
+def _group_key(calc: Calculation) -> tuple:
+    """Structures that may be conformers of one species: same formula, charge, multiplicity, kind
+    (minimum or saddle point), level of theory and solvent model."""
+    return (calc.formula, calc.charge, calc.multiplicity, "saddle-search" in calc.job_types,
+            calc.level_of_theory, calc.solvent_model)
+
+
+def _relative(path: Path, base: Path) -> str:
+    """``path`` relative to ``base`` when inside it, else absolute (POSIX separators)."""
+    path, base = path.resolve(), base.resolve()
+    return (path.relative_to(base) if path.is_relative_to(base) else path).as_posix()
+
+
+def _species_name(paths: list[str], formula: str, taken: set[str]) -> str:
+    """A TOML-safe name: the files' common stem prefix, else the formula; made unique."""
+    tokens = [re.split(r"[_\-. ]+", Path(p).stem) for p in paths]
+    shared = takewhile(lambda words: len(set(words)) == 1, zip(*tokens, strict=False))  # leading words of all
+    prefix = "_".join(words[0] for words in shared)
+    base = re.sub(r"[^A-Za-z0-9_]+", "_", prefix or formula.lower()).strip("_") or "species"
+    if base[0].isdigit():
+        base = "s_" + base
+    name, k = base, 2
+    while name in taken:
+        name, k = f"{base}_{k}", k + 1
+    taken.add(name)
+    return name
+
+
+def _toml_list(items: list[str]) -> str:
+    return "[" + ", ".join(json.dumps(i) for i in items) + "]"
+
+
+def starter_text(survey_result, base: Path) -> str:
+    """The reaction file for the calculations of ``survey_result``, paths relative to ``base``."""
+    from ..ensemble import pair_single_point
+
+    groups: dict[tuple, list[tuple[str, Calculation]]] = defaultdict(list)
+    single_points: list[tuple[str, Calculation]] = []
+    skipped: list[str] = []
+    root = Path(survey_result.directory)
+    for rel, calc in sorted(survey_result.calculations.items()):
+        path = _relative(root / rel, base)
+        if calc.frequencies is not None or calc.natoms == 1:  # an atom needs no frequency job
+            groups[_group_key(calc)].append((path, calc))
+        elif "single-point" in calc.job_types and calc.energy is not None:
+            single_points.append((path, calc))
+        else:
+            skipped.append(path)
+    lines = [
+        "# Starter reaction file written by `qcthermo init`: check every species before use.",
+        "# Schema: docs/reactions.md. Paths are relative to this file; globs are allowed.",
+        "",
+        "[conditions]            # defaults for every reaction; command-line options override them",
+        "temperature = 298.15    # K",
+        'standard_state = "1M"   # "1atm" | "1bar" | "1M" (1M for solution chemistry)',
+        'low_mode_model = "qrrho"',
+        "",
+    ]
+    taken: set[str] = set()
+    names = []
+    for (formula, charge, mult, saddle, level, solvent), members in groups.items():
+        name = _species_name([p for p, _ in members], formula, taken)
+        names.append((name, saddle))
+        what = "transition state (saddle-search job)" if saddle else (
+            f"{len(members)} structures: a conformer ensemble?" if len(members) > 1 else "one structure")
+        lines += [f"[species.{name}]   # {formula}, charge {charge}, multiplicity {mult}, {level or '?'}"
+                  f"{', ' + solvent if solvent else ''}: {what}",
+                  f"logs = {_toml_list([p for p, _ in members])}"]
+        if saddle:
+            lines.append("transition_state = true")
+        matched = [pair_single_point(c, [s for _, s in single_points]) for _, c in members]
+        if single_points and all(i is not None for i, _ in matched):
+            lines.append(f"single_point = {_toml_list(sorted({single_points[i][0] for i, _ in matched}))}"
+                         "   # paired by geometry")
+        lines.append("")
+    unmatched = [p for p, s in single_points
+                 if not any(pair_single_point(c, [s])[0] is not None for m in groups.values() for _, c in m)]
+    if unmatched:
+        lines += ["# single points that match no frequency geometry (not used):"]
+        lines += [f"#   {p}" for p in unmatched] + [""]
+    if skipped:
+        lines += ["# files without frequencies that are not single points (not usable as species):"]
+        lines += [f"#   {p}" for p in skipped] + [""]
+    minima = [n for n, saddle in names if not saddle]
+    ts = next((n for n, saddle in names if saddle), "TS_NAME")
+    a = minima[0] if minima else "REACTANT"
+    b = minima[1] if len(minima) > 1 else "PRODUCT"
+    lines += [
+        "# An example reaction (edit the names; \"2 water\" for stoichiometry):",
+        "# [[reaction]]",
+        '# name = "step1"',
+        f"# reactants = [{json.dumps(a)}]",
+        f"# transition_state = {json.dumps(ts)}",
+        f"# products = [{json.dumps(b)}]",
+        "",
+        "# An example profile (states in order, each a list of species):",
+        "# [[profile]]",
+        '# name = "path"',
+        f"# states = [[{json.dumps(a)}], [{json.dumps(ts)}], [{json.dumps(b)}]]",
+        "",
+    ]
+    return "\n".join(lines)
+
+
+def main(args: argparse.Namespace) -> int:
+    from ..fileio import atomic_write
+    from ..survey import survey
+
+    directory = Path(args.directory)
+    output = Path(args.output) if args.output else directory / "reactions.toml"
+    if output.exists() and not args.force:
+        raise QcthermoError(f"{output} exists; use --force to overwrite it")
+    result = survey(directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
+    if not result.calculations:
+        raise QcthermoError(f"no readable log under {directory}")
+    atomic_write(output, starter_text(result, output.parent))
+    n_err = len(result.errors)
+    print(f"wrote {output} ({len(result.calculations)} files read"
+          + (f", {n_err} unreadable: see `qcthermo survey {directory}`" if n_err else "") + ")")
+    return 1 if n_err else 0
