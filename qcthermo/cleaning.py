@@ -112,6 +112,8 @@ def clean_modes(molecule: Molecule, conditions: Conditions) -> CleanModes:
     imaginary mode follows the policy (the molecule's own, else the conditions').
     """
     label = molecule.name or molecule.source or molecule.formula
+    if not (np.all(np.isfinite(molecule.coordinates)) and np.all(np.isfinite(molecule.frequencies))):
+        raise ThermoError(f"{label}: coordinates or frequencies are not finite numbers")
     linear = molecule.natoms > 1 and is_linear(molecule.coordinates, molecule.masses, LINEAR_TOLERANCE)
     notes = [f"linear geometry: {expected_mode_count(molecule.natoms, True)} modes expected"] if linear else []
     freqs, removed = remove_residual_modes(
