@@ -25,6 +25,7 @@ The reasoning and the tolerances are written down in docs/symmetry.md.
 from __future__ import annotations
 
 import math
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -50,6 +51,14 @@ SCREEN_FACTOR = 3.0
 #: a refined operation further than this (Frobenius norm) from the tested one is another operation
 #: (a planar molecule maps onto itself by the reflection through its plane as well): rejected
 REFINE_DRIFT = 0.5
+#: symmetry numbers of the groups without an order in their name
+_SYMMETRY_NUMBERS = {
+    **dict.fromkeys(("C1", "Cs", "Ci", "C*v", "Kh"), 1),
+    "D*h": 2,
+    **dict.fromkeys(("T", "Td", "Th"), 12),
+    **dict.fromkeys(("O", "Oh"), 24),
+    **dict.fromkeys(("I", "Ih"), 60),
+}
 #: largest number of floats of one screening block (memory bound for big molecules)
 _SCREEN_BLOCK = 2_000_000
 
@@ -110,24 +119,12 @@ def symmetry_number(point_group: str) -> int:
     C1, Cs, Ci, C*v, Kh: 1; Cn, Cnv, Cnh, S2n: n; Dn, Dnh, Dnd: 2n; D*h: 2; T, Td, Th: 12; O, Oh: 24;
     I, Ih: 60 (Fernandez-Ramos et al., Theor. Chem. Acc. 2007, 118, 813, table 1).
     """
-    fixed = {
-        "C1": 1,
-        "Cs": 1,
-        "Ci": 1,
-        "C*v": 1,
-        "Kh": 1,
-        "D*h": 2,
-        "T": 12,
-        "Td": 12,
-        "Th": 12,
-        "O": 24,
-        "Oh": 24,
-        "I": 60,
-        "Ih": 60,
-    }
-    if point_group in fixed:
-        return fixed[point_group]
-    family, order = point_group[0], int("".join(ch for ch in point_group if ch.isdigit()))
+    if point_group in _SYMMETRY_NUMBERS:
+        return _SYMMETRY_NUMBERS[point_group]
+    match = re.fullmatch(r"([CDS])(\d+)[vhd]?", point_group)
+    if not match:
+        raise QcthermoError(f"unknown point group {point_group!r}")
+    family, order = match.group(1), int(match.group(2))
     if family == "D":
         return 2 * order
     if family == "S":
@@ -324,8 +321,8 @@ def _possible_orders(x, labels, axes, tolerance) -> list[int]:
     atoms of every kind that lie off the axis."""
     off_axis = np.linalg.norm(x[None] - (x @ axes.T).T[:, :, None] * axes[:, None, :], axis=2) > tolerance
     counts = off_axis.astype(int) @ (labels[:, None] == np.unique(labels)[None, :]).astype(int)
-    largest = int(np.gcd.reduce(counts, axis=1).max())
-    return [n for n in range(largest, 2, -1) if np.any(np.gcd.reduce(counts, axis=1) % n == 0)]
+    per_axis = np.gcd.reduce(counts, axis=1)
+    return [n for n in range(int(per_axis.max()), 2, -1) if np.any(per_axis % n == 0)]
 
 
 def _axial_group(x, labels, axis, n, c2_axes, mirrors, tolerance) -> str:

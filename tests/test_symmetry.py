@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from qcthermo.symmetry import SymmetryInfo, analyse_symmetry
+from qcthermo.symmetry import SymmetryInfo, analyse_symmetry, is_chiral_group, symmetry_number
 
 #: unit vectors to the corners of a regular tetrahedron
 TETRAHEDRON = np.array([[1, 1, 1], [1, -1, -1], [-1, 1, -1], [-1, -1, 1]]) / np.sqrt(3)
@@ -246,3 +246,57 @@ def test_dvb_from_gaussian_log(third_party):
     calc = readers.read_log(third_party / "gaussian16" / "dvb_ir.out")
     info = analyse_symmetry(calc.symbols, calc.coordinates)
     assert (info.point_group, info.symmetry_number, info.chiral) == ("C2h", 2, False)
+
+
+@pytest.mark.parametrize(
+    ("group", "sigma", "chiral"),
+    # order of the rotational subgroup (Fernandez-Ramos et al., Theor. Chem. Acc. 2007, 118, 813, table 1)
+    [
+        ("C1", 1, True),
+        ("Cs", 1, False),
+        ("Ci", 1, False),
+        ("C5", 5, True),
+        ("C4v", 4, False),
+        ("C3h", 3, False),
+        ("S4", 2, False),
+        ("S6", 3, False),
+        ("D3", 6, True),
+        ("D5d", 10, False),
+        ("D4h", 8, False),
+        ("T", 12, True),
+        ("Th", 12, False),
+        ("O", 24, True),
+        ("I", 60, True),
+        ("D*h", 2, False),
+        ("C*v", 1, False),
+        ("Kh", 1, False),
+    ],
+)
+def test_symmetry_number_table(group, sigma, chiral):
+    assert symmetry_number(group) == sigma
+    assert is_chiral_group(group) == chiral
+
+
+def test_unknown_point_group_name():
+    with pytest.raises(ValueError, match="unknown point group"):
+        symmetry_number("Cinfv")
+
+
+def test_tolerance_decides():
+    """Ammonia with noise of 0.005 A is C3v at the default tolerance but C1 at 0.001 A."""
+    symbols, xyz = ammonia()
+    noisy = xyz + np.random.default_rng(7).normal(scale=0.005, size=xyz.shape)
+    assert analyse_symmetry(symbols, noisy).point_group == "C3v"
+    assert analyse_symmetry(symbols, noisy, tolerance=0.001).point_group == "C1"
+
+
+def test_s4_without_mirror_or_inversion():
+    """Four C-H units generated from one by the S4 operation (x, y, z) -> (-y, x, -z): the H atoms
+    are twisted off every plane, so no mirror, no inversion and no C2 perpendicular to z remain; the
+    group is S4 (sigma 2), achiral although it has no mirror plane."""
+    s4 = np.array([[0, -1, 0], [1, 0, 0], [0, 0, -1]])
+    carbon, hydrogen = np.array([1.0, 0.0, 0.6]), np.array([1.3, 0.4, 1.1])
+    powers = [np.linalg.matrix_power(s4, k) for k in range(4)]
+    xyz = np.vstack([[p @ carbon for p in powers], [p @ hydrogen for p in powers]])
+    info = analyse_symmetry(("C",) * 4 + ("H",) * 4, xyz)
+    assert (info.point_group, info.symmetry_number, info.chiral) == ("S4", 2, False)
