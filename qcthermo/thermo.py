@@ -260,13 +260,8 @@ class MoleculeInfo:
 
 def _symmetry(molecule: Molecule, linear: bool) -> tuple[str | None, int, bool | None, list[str]]:
     """Point group, symmetry number, chirality and notes; an explicit symmetry number wins."""
-    if molecule.natoms == 1:
-        return "Kh", 1, False, []
-    try:
-        from .symmetry import analyse_symmetry
-    except ImportError:  # temporary: the symmetry module is not in the tree yet
-        sigma = molecule.symmetry_number or 1
-        return None, int(sigma), None, [f"warning: no symmetry analysis available; symmetry number {sigma}"]
+    from .symmetry import analyse_symmetry
+
     info = analyse_symmetry(molecule.symbols, molecule.coordinates, molecule.masses)
     notes = []
     if info.linear != linear:
