@@ -1,0 +1,231 @@
+"""qcthermo.run on real NWChem/xTB outputs of the sample scenario: species, ensembles, reactions, exports."""
+
+import hashlib
+import json
+
+import numpy as np
+import pytest
+
+import qcthermo
+from qcthermo.errors import QcthermoError
+from qcthermo.units import ENERGY_UNITS, K_B_EH
+
+KCAL = ENERGY_UNITS["kcal/mol"]
+
+#: a reaction file over the sample logs (paths filled in per test); only balanced chemistry
+REACTIONS = """\
+[conditions]
+standard_state = "{state}"
+low_mode_model = "qrrho"
+
+[species.ch4]
+logs = "{s}/gas/ch4.out"
+[species.h]
+logs = "{s}/gas/h_atom.out"
+[species.ch3]
+logs = "{s}/gas/ch3.out"
+[species.h2]
+logs = "{s}/gas/h2.out"
+[species.ts_abs]
+logs = "{s}/gas/ts_abstraction.out"
+[species.hcn]
+logs = "{s}/gas/hcn.out"
+[species.hcn_as_ts]
+logs = "{s}/gas/hcn.out"
+transition_state = true
+[species.hnc]
+logs = "{s}/gas/hnc.out"
+[species.water_solvent]
+logs = "{s}/gas/water.out"
+concentration = "55.3M"
+[species.water]
+logs = "{s}/gas/water.out"
+[species.water_cosmo]
+logs = "{s}/solvent/water.out"
+[species.pentane]
+logs = "{s}/conformers/pentane_*.out"
+
+[[reaction]]
+name = "abstraction"
+reactants = ["ch4", "h"]
+transition_state = "ts_abs"
+products = ["ch3", "h2"]
+
+[[reaction]]
+name = "recombination"
+reactants = ["ch3", "h"]
+products = ["ch4"]
+
+[[reaction]]
+name = "bad_ts"
+reactants = ["hcn"]
+transition_state = "hcn_as_ts"
+products = ["hnc"]
+
+[[reaction]]
+name = "solvation"
+reactants = ["water"]
+products = ["water_cosmo"]
+
+[[profile]]
+name = "abstraction"
+states = [["ch4", "h"], ["ts_abs"], ["ch3", "h2"]]
+"""
+
+
+def _run(tmp_path, samples, state="1M", **kwargs):
+    path = tmp_path / f"reactions_{state}.toml"
+    path.write_text(REACTIONS.format(s=samples.as_posix(), state=state))
+    kwargs.setdefault("conditions", None)
+    return qcthermo.run(samples, reactions=path, jobs=1, cache=False, **kwargs)
+
+
+@pytest.fixture(scope="module")
+def results(tmp_path_factory):
+    from conftest import SAMPLES
+
+    return _run(tmp_path_factory.mktemp("run"), SAMPLES)
+
+
+def _species(results, name, column):
+    df = results.species
+    return float(df.loc[df["species"] == name, column].iloc[0])
+
+
+def _reaction(results, name, column):
+    df = results.reactions
+    return float(df.loc[df["reaction"] == name, column].iloc[0])
+
+
+def test_reaction_recomputed_by_hand_from_species_values(results):
+    # Definition of a reaction free energy: dG = sum G(products) - sum G(reactants), in kcal/mol (CODATA Eh).
+    g = {n: _species(results, n, "G_qrrho_Eh") for n in ("ch4", "h", "ch3", "h2", "ts_abs")}
+    assert _reaction(results, "abstraction", "dG_qrrho_kcal_mol") == pytest.approx(
+        (g["ch3"] + g["h2"] - g["ch4"] - g["h"]) * KCAL, abs=1e-9)
+    assert _reaction(results, "abstraction", "dG_qrrho_act_kcal_mol") == pytest.approx(
+        (g["ts_abs"] - g["ch4"] - g["h"]) * KCAL, abs=1e-9)
+    assert _reaction(results, "abstraction", "dG_qrrho_act_rev_kcal_mol") == pytest.approx(
+        (g["ts_abs"] - g["ch3"] - g["h2"]) * KCAL, abs=1e-9)
+    e = {n: _species(results, n, "E_elec_Eh") for n in ("ch4", "h", "ch3", "h2")}
+    assert _reaction(results, "abstraction", "dE_kcal_mol") == pytest.approx(
+        (e["ch3"] + e["h2"] - e["ch4"] - e["h"]) * KCAL, abs=1e-9)
+    h = {n: _species(results, n, "H_Eh") for n in ("ch4", "h", "ch3")}
+    assert _reaction(results, "recombination", "dH_kcal_mol") == pytest.approx((h["ch4"] - h["ch3"] - h["h"]) * KCAL)
+    assert np.isnan(_reaction(results, "recombination", "dG_act_kcal_mol"))  # no transition state: empty
+
+
+def test_standard_state_shift_of_a_reaction(tmp_path, samples):
+    # 1 atm -> 1 M: (n_products - n_reactants) x RT ln(24.465) = 1.894 kcal/mol per species at 298.15 K
+    # (common practice; DESIGN.md section 6).
+    atm = _run(tmp_path, samples, state="1atm")
+    molar = _run(tmp_path, samples, state="1M")
+    shift = _reaction(molar, "recombination", "dG_qrrho_kcal_mol") - _reaction(atm, "recombination",
+                                                                                 "dG_qrrho_kcal_mol")
+    assert shift == pytest.approx(-1 * 1.894, abs=1e-3)
+    shift_act = _reaction(molar, "abstraction", "dG_act_kcal_mol") - _reaction(atm, "abstraction", "dG_act_kcal_mol")
+    assert shift_act == pytest.approx(-1 * 1.894, abs=1e-3)
+    assert _reaction(molar, "abstraction", "dG_kcal_mol") == pytest.approx(
+        _reaction(atm, "abstraction", "dG_kcal_mol"), abs=1e-9)  # 2 -> 2: no shift
+
+
+def test_own_concentration_shifts_g_by_rt_ln_c(results):
+    # G(c) = G(1M) + RT ln(c / 1M) for the translational entropy of an ideal dilute solute (textbook).
+    dg = _species(results, "water_solvent", "G_qrrho_Eh") - _species(results, "water", "G_qrrho_Eh")
+    assert dg == pytest.approx(K_B_EH * 298.15 * np.log(55.3), rel=1e-9)
+
+
+def test_ensemble_merges_duplicates_and_keeps_mirror_images(results):
+    # The sample's inputs say (comment lines of inputs/conformers/*.xyz): pentane_tt_b is the tt basin again,
+    # pentane_tgp_b the tgp basin again; tgm is the mirror image of tgp, gmgm of gpgp.
+    pentane = results.species_results["pentane"]
+    stem = lambda p: p.rsplit("/", 1)[-1].removesuffix(".out")  # noqa: E731
+    dups = {frozenset((stem(c.path), stem(c.duplicate_of))) for c in pentane.conformers if c.status == "duplicate"}
+    assert dups == {frozenset(("pentane_tt", "pentane_tt_b")), frozenset(("pentane_tgp", "pentane_tgp_b"))}
+    mirrors = {frozenset((stem(c.path), stem(c.mirror_of))) for c in pentane.conformers if c.mirror_of}
+    assert frozenset(("pentane_gpgp", "pentane_gmgm")) in mirrors
+    assert len(pentane.used) == 6
+
+
+def test_ensemble_free_energy_is_the_boltzmann_sum(results):
+    # G = -RT ln sum_i exp(-G_i/RT) over the distinct conformers (the canonical ensemble), recomputed here.
+    pentane = results.species_results["pentane"]
+    g_i = np.array([c.values["G"][0] for c in pentane.used])
+    kt = K_B_EH * 298.15
+    expected = g_i.min() - kt * np.log(np.sum(np.exp(-(g_i - g_i.min()) / kt)))
+    assert _species(results, "pentane", "G_qrrho_Eh") == pytest.approx(expected, abs=1e-10)
+    pops = np.array([float(np.atleast_1d(c.population)[0]) for c in pentane.used])
+    assert pops.sum() == pytest.approx(1.0)
+    # the most stable conformer dominates but does not give the whole G: the ensemble lies below it
+    assert _species(results, "pentane", "G_qrrho_Eh") < g_i.min()
+
+
+def test_audit_excludes_bad_reactions_with_reason(results):
+    # A minimum used as transition state has no imaginary mode (3N-6 real modes, common practice); gas phase
+    # against COSMO energies is a mixed solvent model. Both are errors that exclude the reaction.
+    status = dict(zip(results.reactions["reaction"], results.reactions["status"], strict=True))
+    assert status == {"abstraction": "ok", "recombination": "ok", "bad_ts": "excluded", "solvation": "excluded"}
+    notes = dict(zip(results.reactions["reaction"], results.reactions["notes"], strict=True))
+    assert "exactly one imaginary mode" in notes["bad_ts"]
+    assert "solvent" in notes["solvation"]
+    assert results.exit_status == 1
+    assert results.findings[0].severity == "error"
+
+
+def test_profile_states_relative_to_first(results):
+    (profile,) = results.profiles
+    values = [float(np.atleast_1d(s["value_Eh"]["G"])[0]) for s in profile["states"]]
+    assert values[0] == 0.0
+    assert values[1] * KCAL == pytest.approx(_reaction(results, "abstraction", "dG_qrrho_act_kcal_mol"))
+    assert values[2] * KCAL == pytest.approx(_reaction(results, "abstraction", "dG_qrrho_kcal_mol"))
+    assert [s["is_ts"] for s in profile["states"]] == [False, True, False]
+
+
+def test_write_exports_and_run_json(results, tmp_path):
+    out = tmp_path / "out"
+    written = {p.name for p in results.write(out)}
+    for name in ("survey.csv", "species.csv", "reactions.csv", "coordinates.xyz", "run.json"):
+        assert name in written and (out / name).is_file()
+    doc = json.loads((out / "run.json").read_text())
+    assert doc["version"] == qcthermo.__version__
+    assert doc["settings"]["conditions"]["standard_state"] == "1M"
+    assert {f["severity"] for f in doc["findings"]} == {"error", "warning"}
+    ch4 = next(i for i in doc["inputs"] if i["path"].endswith("gas/ch4.out"))
+    with open(ch4["path"], "rb") as handle:
+        assert ch4["sha256"] == hashlib.sha256(handle.read()).hexdigest()
+    # coordinates.xyz reads back with ASE: one frame per used structure
+    from ase.io import read
+
+    frames = read(out / "coordinates.xyz", index=":", format="xyz")
+    assert len(frames) == sum(len(s.used) for s in results.species_results.values())
+
+
+def test_write_does_not_clobber_without_force(results, tmp_path):
+    out = tmp_path / "mine"
+    out.mkdir()
+    (out / "notes.txt").write_text("the user's own file\n")
+    with pytest.raises(QcthermoError, match="--force"):
+        results.write(out)
+    assert (out / "notes.txt").read_text() == "the user's own file\n"
+    results.write(out, force=True)
+    results.write(out)  # a previous run's directory (it has run.json) may be rewritten
+    assert (out / "notes.txt").exists()
+
+
+def test_temperature_range_gives_long_tables(tmp_path, samples):
+    cond = qcthermo.Conditions(temperature=np.array([250.0, 300.0, 350.0, 400.0]), standard_state="1M",
+                               low_mode_model="qrrho")
+    res = _run(tmp_path, samples, conditions=cond)
+    assert sorted(set(res.reactions["T_K"])) == [250.0, 300.0, 350.0, 400.0]
+    assert len(res.species) == 4 * len(res.species_results)
+    assert res.rates is not None and set(res.rates["reaction"]) == {"abstraction"}
+    assert set(res.arrhenius["direction"]) == {"forward", "reverse"}
+    written = {p.name for p in res.write(tmp_path / "range")}
+    assert {"rates.csv", "arrhenius.csv"} <= written
+
+
+def test_without_reaction_file_one_species_per_frequency_log(samples):
+    res = qcthermo.run(samples / "gas", jobs=1, cache=False)
+    assert len(res.reactions) == 0
+    assert set(res.species["species"]) == {"ch3", "ch4", "h2", "h_atom", "hcn", "hnc", "o2", "ts_abstraction",
+                                           "ts_hcn", "water"}
+    assert res.species_results["ts_hcn"].options.transition_state  # a saddle-search job
