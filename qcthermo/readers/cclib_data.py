@@ -83,7 +83,7 @@ def level_and_energy(data) -> tuple[str | None, float | None]:
         return method_name(functional), scf
     named = [m for m in methods if m.upper() != "DFT"]
     if named:
-        return (named[-1] if "xtb" in named[-1].lower() else method_name(named[-1])), scf
+        return method_name(named[-1]), scf
     return ("DFT" if methods else None), scf
 
 

@@ -64,7 +64,11 @@ def orca_method(text: str) -> str | None:
 
 
 def orca_solvent(text: str) -> tuple[str | None, str | None]:
-    """(model, solvent) from ORCA's "!" keywords (CPCM(water), SMD(water), ...) or the %cpcm block."""
+    """(model, solvent): ORCA's printed CPCM section first, else its "!" keywords or the %cpcm block."""
+    if "CPCM SOLVATION MODEL" in text:
+        model = "smd" if re.search(r"SMD-CDS|SMD CDS", text) else "cpcm"
+        name = _last(r"^Solvent:\s+\.\.\.\s+(\S.*?)\s*$", text)
+        return model, name.lower() if name else None
     keywords = " ".join(orca_keywords(text))
     m = _ORCA_SOLVENT.search(keywords)
     if m:

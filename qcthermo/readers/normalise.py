@@ -57,14 +57,33 @@ def vibrational_modes(frequencies, symbols, coordinates, projected: bool) -> tup
     )
 
 
+#: spellings of the field that plain upper-casing gets wrong (common practice, as in the methods' papers)
+_SPELLINGS = {
+    "R2SCAN": "r2SCAN",
+    "R2SCAN-3C": "r2SCAN-3c",
+    "B97-3C": "B97-3c",
+    "PBEH-3C": "PBEh-3c",
+    "HF-3C": "HF-3c",
+    "WB97X-3C": "wB97X-3c",
+    "TPSSH": "TPSSh",
+    "PBEH": "PBEh",
+    "GFN1-XTB": "GFN1-xTB",
+    "GFN2-XTB": "GFN2-xTB",
+    "GFN0-XTB": "GFN0-xTB",
+}
+
+
 def method_name(name: str | None) -> str | None:
-    """Upper-case a method as the field writes it ("b3lyp" -> "B3LYP"); the omega of "wB97X-D" stays."""
+    """A method as the field writes it: upper case ("b3lyp" -> "B3LYP"), the omega of "wB97X-D" kept
+    lower case, and a few mixed-case names spelled as published ("r2SCAN-3c", "GFN2-xTB")."""
     if not name:
         return None
-    name = name.strip()
-    if name[:1] in "wω" and name[1:2].upper() == "B":
-        return "w" + name[1:].upper()
-    return name.upper()
+    upper = name.strip().upper()
+    if upper in _SPELLINGS:
+        return _SPELLINGS[upper]
+    if upper[:2] == "WB":
+        return "w" + upper[1:]
+    return upper
 
 
 def solvent_model_name(name: str | None) -> str | None:

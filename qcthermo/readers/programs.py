@@ -50,10 +50,10 @@ RULES: dict[str, ProgramRules] = {
         converged=r"Optimization completed|Stationary point found",
     ),
     "orca": ProgramRules(
-        keywords=r"^\|\s*\d+>\s*(!.*)$",
+        keywords=r"^\|\s*\d+>\s*(!.*)$|^\s*\*\s*(GEOMETRY OPTIMIZATION CYCLE)",
         jobs=(
             ("saddle-search", r"\boptts\b|\bscants\b"),
-            ("optimization", r"\b(opt|copt|zopt|gdiis-opt|tightopt|verytightopt|looseopt|optts)\b"),
+            ("optimization", r"\b(opt|copt|zopt|gdiis-opt|tightopt|verytightopt|looseopt|optts)\b|optimization cycle"),
             ("frequencies", r"\b(freq|numfreq|anfreq)\b"),
             ("irc", r"\birc\b"),
         ),
@@ -140,6 +140,7 @@ def job_spec(program: str, text: str) -> str | None:
     if pattern is None:
         return None
     found = re.findall(pattern, text, flags=re.MULTILINE | re.DOTALL if program == "gaussian" else re.MULTILINE)
+    found = [" ".join(g for g in m if g) if isinstance(m, tuple) else m for m in found]
     if not found:
         return None
     if program == "gaussian":  # continuation lines of the route
