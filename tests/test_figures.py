@@ -5,6 +5,7 @@ heights of the Line2D artists, the text boxes measured by matplotlib's renderer)
 """
 
 import itertools
+import re
 import struct
 import xml.etree.ElementTree as ET
 from types import SimpleNamespace
@@ -262,3 +263,80 @@ def test_write_profile_figures_writes_the_run_figures(tmp_path):
                              conditions=SimpleNamespace(temperature=298.15))
     assert [p.name for p in figures.write_profile_figures(single, tmp_path / "one")] == ["profile.svg",
                                                                                          "profile.png"]
+
+
+# --- the profile command, on the bundled NWChem sample outputs ------------------------------------
+
+PROFILE_TOML = """
+[species.hcn]
+logs = ["{gas}/hcn.out"]
+[species.hnc]
+logs = ["{gas}/hnc.out"]
+[species.ts_hcn]
+logs = ["{gas}/ts_hcn.out"]
+
+[[reaction]]
+name = "isomerisation"
+reactants = ["hcn"]
+transition_state = "ts_hcn"
+products = ["hnc"]
+
+[[profile]]
+name = "isomerisation"
+states = [["hcn"], ["ts_hcn"], ["hnc"]]
+"""
+
+
+def _last_dft_energy(path):
+    """The last "Total DFT energy" NWChem prints, hartree (the log itself is the reference)."""
+    return float(re.findall(r"Total DFT energy =\s+(-?\d+\.\d+)", path.read_text())[-1])
+
+
+@pytest.fixture
+def profile_file(samples, tmp_path):
+    gas = samples / "gas"
+    if not (gas / "hcn.out").is_file():
+        pytest.skip("sample_outputs/gas is absent")
+    path = tmp_path / "reactions.toml"
+    path.write_text(PROFILE_TOML.format(gas=gas))
+    return path
+
+
+def _run_profile(*argv):
+    from qcthermo.cli import main
+
+    return main(["profile", *map(str, argv), "--no-cache", "--quiet", "--jobs", "1"])
+
+
+def test_profile_command_draws_the_logs_energies(profile_file, samples, tmp_path):
+    out = tmp_path / "fig.svg"
+    assert _run_profile(profile_file, "-o", out, "--directory", samples / "gas", "--quantity", "E",
+                        "--precision", "3") == 0
+    svg = out.read_text()
+    assert ET.fromstring(svg.encode()).tag.endswith("svg")
+    gas = samples / "gas"
+    d_e = (_last_dft_energy(gas / "hnc.out") - _last_dft_energy(gas / "hcn.out")) * KCAL_PER_EH
+    assert f">{figures.format_value(d_e, 3)}<" in svg  # the product's label, ΔE in kcal/mol
+    assert "ts_hcn‡" in svg and "ΔE / kcal mol⁻¹" in svg
+
+
+def test_profile_command_keeps_an_existing_figure(profile_file, samples, tmp_path, capsys):
+    out = tmp_path / "fig.png"
+    out.write_bytes(b"mine")
+    assert _run_profile(profile_file, "-o", out, "--directory", samples / "gas") == 2
+    assert out.read_bytes() == b"mine"
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and "--force" in err[0]
+    assert _run_profile(profile_file, "-o", out, "--directory", samples / "gas", "--force") == 0
+    assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+
+
+def test_profile_command_bad_input_is_one_line(tmp_path, capsys):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[[profile]\nname = 1\n")
+    assert _run_profile(bad, "-o", tmp_path / "f.svg") == 2
+    assert _run_profile(tmp_path / "absent.toml", "-o", tmp_path / "f.svg") == 2
+    assert _run_profile(bad, "-o", tmp_path / "f.gif") == 2
+    lines = capsys.readouterr().err.strip().splitlines()
+    assert len(lines) == 3 and not any("Traceback" in line for line in lines)
+    assert not (tmp_path / "f.svg").exists()

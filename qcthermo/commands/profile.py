@@ -1,0 +1,58 @@
+"""``qcthermo profile F -o fig.svg``: the energy diagram(s) of a reaction file, and nothing else.
+
+The logs are looked for in ``--directory`` (default: the reaction file's folder). Every ``[[profile]]``
+is drawn, overlaid, unless ``--profile NAME`` picks some. An existing figure is kept unless
+``--force``. Exit status: 0 drawn from clean inputs, 1 drawn but some inputs had errors (listed), 2
+nothing drawn (one line saying why).
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+from ..errors import QcthermoError
+from .common import conditions_from_args
+
+
+def _check_output(path: Path, force: bool) -> None:
+    """Refuse, before any work, a bad extension or a file that would be overwritten without --force."""
+    from ..export.figures import FORMATS
+
+    if path.suffix.lower() not in FORMATS:
+        raise QcthermoError(f"{path}: figure format must be .svg, .png or .pdf")
+    if path.exists() and not force:
+        raise QcthermoError(f"{path} already exists; use --force to overwrite it")
+    if path.is_dir():
+        raise QcthermoError(f"{path} is a directory")
+
+
+def main(args: argparse.Namespace) -> int:
+    from ..export.figures import plot_profiles, profiles_from_records, save_figure
+    from ..reactions import load_reaction_file
+    from ..workflow import run
+
+    output = Path(args.output)
+    _check_output(output, args.force)
+    reaction_file = Path(args.reactions)
+    if not reaction_file.is_file():
+        raise QcthermoError(f"{reaction_file}: no such reaction file")
+    rf = load_reaction_file(reaction_file)
+    if not rf.profiles:
+        raise QcthermoError(f"{reaction_file}: no [[profile]] table to draw")
+    directory = Path(args.directory) if args.directory else rf.path.parent
+    conditions = conditions_from_args(args, file_settings=rf.conditions)
+    results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit, jobs=args.jobs,
+                  cache=not args.no_cache, progress=not args.quiet)
+    for severity, subject, message in results.findings:
+        if severity == "error":
+            print(f"error: {subject}: {message}", file=sys.stderr)
+    if not results.profiles:
+        raise QcthermoError(f"{reaction_file}: no profile could be computed (see the errors above)")
+    profiles = profiles_from_records(results.profiles, args.quantity, args.energy_unit, names=args.profiles)
+    fig = plot_profiles(profiles, precision=args.precision)
+    save_figure(fig, output)
+    if not args.quiet:
+        print(f"{output}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit}")
+    return 1 if any(f[0] == "error" for f in results.findings) else 0
