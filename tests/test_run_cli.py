@@ -1,0 +1,110 @@
+"""The run, demo and init commands: exit status, one-line errors, files written, no clobbering."""
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+from qcthermo.cli import main
+from qcthermo.reactions import load_reaction_file
+
+GOOD = """\
+[conditions]
+standard_state = "1M"
+
+[species.hcn]
+logs = "{s}/gas/hcn.out"
+[species.hnc]
+logs = "{s}/gas/hnc.out"
+[species.ts_hcn]
+logs = "{s}/gas/ts_hcn.out"
+
+[[reaction]]
+name = "isomerisation"
+reactants = ["hcn"]
+transition_state = "ts_hcn"
+products = ["hnc"]
+"""
+
+
+def _file(tmp_path, samples, text):
+    path = tmp_path / "reactions.toml"
+    path.write_text(text.format(s=samples.as_posix()))
+    return path
+
+
+def _run(tmp_path, samples, text, *extra):
+    path = _file(tmp_path, samples, text)
+    return main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "out"),
+                 "--no-cache", "--jobs", "1", "--quiet", *extra])
+
+
+@pytest.mark.parametrize(
+    ("change", "line", "name"),
+    [
+        (('reactants = ["hcn"]', 'reactants = ["hcn_x"]'), 13, "'hcn_x'"),  # unknown species
+        (('products = ["hnc"]', 'products = ["hnc", "hcn"]'), 11, "'isomerisation'"),  # unbalanced
+        (('logs = "{s}/gas/hnc.out"', 'logs = "{s}/gas/hnc_*.log"'), 7, "hnc_*.log"),  # glob matching nothing
+        (('[species.hnc]', '[species.hnc'), 6, "syntax"),  # TOML syntax error
+        (('name = "isomerisation"', 'name = "isomerisation"\nrate = 1'), 13, "'rate'"),  # unknown key
+    ],
+)
+def test_bad_reaction_file_exits_2_with_line_and_name(tmp_path, samples, capsys, change, line, name):
+    status = _run(tmp_path, samples, GOOD.replace(*change))
+    err = capsys.readouterr().err.strip().splitlines()
+    assert status == 2
+    assert len(err) == 1 and f"line {line}" in err[0] and name in err[0]
+    assert not (tmp_path / "out").exists()
+
+
+def test_bad_reaction_file_no_traceback_in_a_real_process(tmp_path, samples):
+    path = _file(tmp_path, samples, GOOD.replace('reactants = ["hcn"]', 'reactants = ["nothing"]'))
+    proc = subprocess.run([sys.executable, "-m", "qcthermo", "run", str(samples / "gas"), "--reactions", str(path),
+                           "--out", str(tmp_path / "o"), "--no-cache"], capture_output=True, text=True)
+    assert proc.returncode == 2
+    assert "Traceback" not in proc.stderr and "'nothing'" in proc.stderr
+
+
+def test_run_writes_and_summarises(tmp_path, samples, capsys):
+    assert _run(tmp_path, samples, GOOD, "--temperature", "300") == 0
+    out = capsys.readouterr().out
+    assert "isomerisation" not in out  # --quiet: no table
+    assert str(tmp_path / "out") in out
+    doc = json.loads((tmp_path / "out" / "run.json").read_text())
+    assert doc["settings"]["conditions"]["temperature"] == 300.0
+    assert doc["exit_status"] == 0
+
+
+def test_run_refuses_to_clobber_without_force(tmp_path, samples, capsys):
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / "thesis.tex").write_text("keep me\n")
+    assert _run(tmp_path, samples, GOOD) == 2
+    assert "--force" in capsys.readouterr().err
+    assert (out / "thesis.tex").read_text() == "keep me\n" and not (out / "run.json").exists()
+    assert _run(tmp_path, samples, GOOD, "--force") == 0
+    assert (out / "run.json").exists() and (out / "thesis.tex").exists()
+
+
+def test_init_writes_a_file_that_parses_back(tmp_path, samples, capsys):
+    target = tmp_path / "starter.toml"
+    assert main(["init", str(samples / "gas"), "-o", str(target), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    rf = load_reaction_file(target)
+    assert "ts_hcn" in rf.species and rf.species["ts_hcn"].transition_state
+    assert rf.reactions == []  # the example reaction is a comment
+    assert main(["init", str(samples / "gas"), "-o", str(target), "--no-cache", "--quiet"]) == 2  # exists
+    assert "--force" in capsys.readouterr().err
+
+
+def test_demo_runs_on_the_sample_scenario(tmp_path, samples, capsys):
+    if not (samples / "reactions.toml").is_file():
+        pytest.skip("sample_outputs/reactions.toml is not in this tree")
+    status = main(["demo", "--out", str(tmp_path / "demo"), "--force", "--no-cache", "--quiet"])
+    assert status in (0, 1)  # 1: the scenario's planted flaws are input errors, listed
+    out = capsys.readouterr().out
+    assert str(tmp_path / "demo") in out
+    doc = json.loads((tmp_path / "demo" / "run.json").read_text())
+    assert doc["exit_status"] == status and doc["reactions"]
+    for name in ("survey.csv", "species.csv", "reactions.csv", "coordinates.xyz"):
+        assert (tmp_path / "demo" / name).is_file()
