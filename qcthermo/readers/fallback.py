@@ -220,6 +220,9 @@ def nwchem(text: str) -> dict:
     if charge is not None:
         out["charge"] = charge
     mult = _last_int(r"Spin multiplicity:\s+(\d+)", text)
+    if mult is None:  # the SCF module prints its open shells instead: 2S+1 = open shells + 1 (high spin)
+        open_shells = _last_int(r"^\s*open shells\s+=\s+(\d+)", text)
+        mult = None if open_shells is None else open_shells + 1
     if mult is not None:
         out["multiplicity"] = mult
     freqs = _nwchem_frequencies(text)
