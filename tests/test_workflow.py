@@ -229,3 +229,31 @@ def test_without_reaction_file_one_species_per_frequency_log(samples):
     assert set(res.species["species"]) == {"ch3", "ch4", "h2", "h_atom", "hcn", "hnc", "o2", "ts_abstraction",
                                            "ts_hcn", "water"}
     assert res.species_results["ts_hcn"].options.transition_state  # a saddle-search job
+
+
+def test_composite_energy_high_on_low(third_party):
+    # G = E(high) + [G - E](low), the composite "high//low" scheme (DESIGN.md section 6). The Gaussian 16
+    # dvb single point was run on the frequency job's geometry (both print the same final energy, README).
+    from qcthermo.species import build_species
+
+    freq = qcthermo.read_log(third_party / "gaussian16" / "dvb_ir.out")
+    sp = qcthermo.read_log(third_party / "gaussian16" / "dvb_sp.out")
+    sp.energy = freq.energy + 0.01  # a higher level, in effect: its energy differs by 0.01 Eh
+    cond = qcthermo.Conditions(low_mode_model="qrrho")
+    species = build_species("dvb", [freq], cond, single_points=[sp])
+    alone = qcthermo.thermochemistry(qcthermo.Molecule.from_calculation(freq), cond)
+    assert species.values["G"][0] == pytest.approx(sp.energy + (alone.gibbs - alone.electronic_energy), abs=1e-10)
+    assert species.values["E"][0] == pytest.approx(sp.energy, abs=1e-12)
+    assert species.levels == ["B3LYP/STO-3G//B3LYP/STO-3G"]
+
+
+def test_single_point_on_another_geometry_is_refused(third_party):
+    # The ORCA 5 single point lists the atoms in another order than the Gaussian geometry: no pairing, so the
+    # frequency job is left out with an error rather than mixed with an energy of another structure.
+    from qcthermo.species import build_species
+
+    freq = qcthermo.read_log(third_party / "gaussian16" / "dvb_ir.out")
+    sp = qcthermo.read_log(third_party / "orca5.0" / "dvb_sp.out")
+    species = build_species("dvb", [freq], qcthermo.Conditions(), single_points=[sp])
+    assert not species.usable
+    assert any(f.severity == "error" and "no single point matches" in f.message for f in species.findings)
