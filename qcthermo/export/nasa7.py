@@ -1,0 +1,402 @@
+"""NASA 7-coefficient polynomial fits of computed thermochemistry, written for kinetics codes.
+
+NASA-7 form (McBride, Gordon and Reno, NASA TM-4513, 1993; Gordon and McBride, NASA SP-273, 1971),
+one set of a1..a7 per temperature range:
+
+    cp/R  = a1 + a2 T + a3 T^2 + a4 T^3 + a5 T^4
+    h/RT  = a1 + a2 T/2 + a3 T^2/3 + a4 T^3/4 + a5 T^4/5 + a6/T
+    s/R   = a1 ln T + a2 T + a3 T^2/2 + a4 T^3/3 + a5 T^4/4 + a7
+
+Molar units here (J/mol, J/(mol K), K), as NASA data are. Output: Cantera YAML (an ideal-gas phase
+"gas" with the species) and Chemkin thermo text (the 80-column fixed format). The choices of
+reference pressure and enthalpy reference are explained in docs/kinetics.md.
+"""
+
+from __future__ import annotations
+
+import os
+import statistics
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from ..errors import QcthermoError
+from ..fileio import atomic_write
+from ..records import Conditions, Molecule, hill_formula, parse_standard_state
+from ..units import ATM_PA, HARTREE_J, N_A, R_GAS, entropy_to_j_mol_k
+
+#: hartree per molecule -> J/mol
+_EH_TO_J_MOL = HARTREE_J * N_A
+#: temperature steps of the grid the molecule path fits on, K
+_GRID_STEP_K = 10.0
+
+
+def nasa7_cp(coeffs: Sequence[float], temperature):
+    """cp / R = a1 + a2 T + a3 T^2 + a4 T^3 + a5 T^4 (McBride et al., NASA TM-4513, 1993, eq. 1)."""
+    a = np.asarray(coeffs, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    return a[0] + t * (a[1] + t * (a[2] + t * (a[3] + t * a[4])))
+
+
+def nasa7_enthalpy(coeffs: Sequence[float], temperature):
+    """h / R = a1 T + a2 T^2/2 + a3 T^3/3 + a4 T^4/4 + a5 T^5/5 + a6, K (NASA TM-4513, eq. 2 times T)."""
+    a = np.asarray(coeffs, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    return t * (a[0] + t * (a[1] / 2 + t * (a[2] / 3 + t * (a[3] / 4 + t * a[4] / 5)))) + a[5]
+
+
+def nasa7_entropy(coeffs: Sequence[float], temperature):
+    """s / R = a1 ln T + a2 T + a3 T^2/2 + a4 T^3/3 + a5 T^4/4 + a7 (NASA TM-4513, eq. 3)."""
+    a = np.asarray(coeffs, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    return a[0] * np.log(t) + t * (a[1] + t * (a[2] / 2 + t * (a[3] / 3 + t * a[4] / 4))) + a[6]
+
+
+@dataclass(frozen=True)
+class Nasa7Fit:
+    """Two NASA-7 coefficient sets of one species, continuous in cp, dcp/dT, h and s at ``t_mid``.
+
+    Attributes:
+        name: species name as the kinetics code will see it.
+        composition: {element: count}.
+        t_low, t_mid, t_high: the temperature ranges, K.
+        low, high: a1..a7 of [t_low, t_mid] and [t_mid, t_high].
+        reference_pressure: Pa, the pressure of the standard state of s (and the Gibbs energy).
+        note: provenance and the enthalpy reference, written beside the data.
+        max_cp_rel_error: largest |cp_fit / cp - 1| over the fitted points.
+        max_h_error: largest |h_fit - h| over the fitted points, J/mol.
+        max_s_error: largest |s_fit - s| over the fitted points, J/(mol K).
+    """
+
+    name: str
+    composition: dict[str, int]
+    t_low: float
+    t_mid: float
+    t_high: float
+    low: tuple[float, ...]
+    high: tuple[float, ...]
+    reference_pressure: float = ATM_PA
+    note: str = ""
+    max_cp_rel_error: float = 0.0
+    max_h_error: float = 0.0
+    max_s_error: float = 0.0
+
+    def _pick(self, temperature, quantity):
+        t = np.asarray(temperature, dtype=float)
+        value = np.where(t <= self.t_mid, quantity(self.low, t), quantity(self.high, t))
+        return float(value) if value.ndim == 0 else value
+
+    def cp(self, temperature):
+        """Heat capacity at constant pressure, J/(mol K)."""
+        return self._pick(temperature, nasa7_cp) * R_GAS
+
+    def enthalpy(self, temperature):
+        """Enthalpy, J/mol (on the reference stated in ``note``)."""
+        return self._pick(temperature, nasa7_enthalpy) * R_GAS
+
+    def entropy(self, temperature):
+        """Entropy at ``reference_pressure``, J/(mol K)."""
+        return self._pick(temperature, nasa7_entropy) * R_GAS
+
+
+def _constrained_lstsq(a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray) -> np.ndarray:
+    """min |a x - b|^2 subject to c x = d, by the KKT system [[2 a'a, c'], [c, 0]] [x, l] = [2 a'b, d].
+
+    (Lawson and Hanson, Solving Least Squares Problems, 1974, ch. 20: equality-constrained least squares.)
+    """
+    n, m = a.shape[1], c.shape[0]
+    kkt = np.block([[2.0 * a.T @ a, c.T], [c, np.zeros((m, m))]])
+    return np.linalg.solve(kkt, np.concatenate([2.0 * a.T @ b, d]))[:n]
+
+
+def _fit_offsets(residual_low: np.ndarray, residual_high: np.ndarray, jump: float) -> tuple[float, float]:
+    """Least-squares constants x_low, x_high = x_low + jump fitting two sets of residuals (closed-form KKT)."""
+    x_low = (residual_low.sum() + (residual_high - jump).sum()) / (residual_low.size + residual_high.size)
+    return float(x_low), float(x_low + jump)
+
+
+#: candidate middle temperatures of ``t_mid="auto"``, K
+AUTO_T_MID = tuple(float(x) for x in range(500, 1501, 50))
+
+
+def fit_nasa7(
+    temperature,
+    cp,
+    h,
+    s,
+    t_mid: float | str = 1000.0,
+    name: str = "species",
+    composition: Mapping[str, int] | None = None,
+    note: str = "",
+    reference_pressure: float = ATM_PA,
+) -> Nasa7Fit:
+    """Fit two NASA-7 sets to molar cp (J/(mol K)), h (J/mol) and s (J/(mol K)) at ``temperature`` (K).
+
+    cp/R of both ranges is fitted together by least squares in the relative error (each point
+    weighted 1/cp), constrained to equal values and slopes at ``t_mid``; then a6 and a7 are the
+    least-squares offsets of h/R and s/R, constrained to continuity of h and s at ``t_mid``. The
+    polynomials are fitted in T/t_mid to keep the normal equations well conditioned. The
+    temperatures must cover both sides of ``t_mid``; points at t_mid belong to both ranges.
+    ``t_mid="auto"`` tries each of :data:`AUTO_T_MID` inside the data and keeps the fit with the
+    smallest largest cp error (Chemkin and Cantera read a middle temperature per species).
+    """
+    if t_mid == "auto":
+        t = np.asarray(temperature, dtype=float)
+        candidates = [x for x in AUTO_T_MID if np.count_nonzero(t <= x) >= 6 and np.count_nonzero(t >= x) >= 6]
+        if not candidates:
+            raise ValueError("t_mid='auto' needs temperatures on both sides of 500-1500 K")
+        fits = [fit_nasa7(t, cp, h, s, x, name, composition, note, reference_pressure) for x in candidates]
+        return min(fits, key=lambda fit: fit.max_cp_rel_error)
+    t_mid = float(t_mid)
+    t = np.asarray(temperature, dtype=float)
+    cp_r, h_r, s_r = (np.asarray(x, dtype=float) / R_GAS for x in (cp, h, s))
+    if t.ndim != 1 or not (cp_r.shape == h_r.shape == s_r.shape == t.shape):
+        raise ValueError("a NASA-7 fit needs cp, h and s at each of a 1-D array of temperatures")
+    if np.any(t <= 0) or np.any(~np.isfinite(np.concatenate([cp_r, h_r, s_r]))):
+        raise ValueError("a NASA-7 fit needs positive temperatures and finite cp, h, s")
+    low, high = t <= t_mid, t >= t_mid
+    if np.count_nonzero(low) < 6 or np.count_nonzero(high) < 6:
+        raise ValueError(f"a NASA-7 fit needs at least six temperatures on each side of t_mid = {t_mid} K")
+    tau = t / t_mid
+    powers = tau[:, None] ** np.arange(5)
+    design = np.zeros((t.size, 10))
+    design[low, :5] = powers[low]
+    design[high & ~low, 5:] = powers[high & ~low]
+    rows = [design]
+    target = [cp_r]
+    if np.any(low & high):  # a point at t_mid belongs to both ranges
+        shared = np.zeros((np.count_nonzero(low & high), 10))
+        shared[:, 5:] = powers[low & high]
+        rows.append(shared)
+        target.append(cp_r[low & high])
+    weights = 1.0 / np.concatenate(target)
+    value, slope = np.ones(5), np.arange(5.0)  # d/dtau of tau^k at tau = 1 is k
+    constraints = np.array([np.concatenate([value, -value]), np.concatenate([slope, -slope])])
+    b = _constrained_lstsq(np.vstack(rows) * weights[:, None], np.concatenate(target) * weights, constraints,
+                           np.zeros(2))
+    scale = t_mid ** -np.arange(5.0)
+    a_low, a_high = np.append(b[:5] * scale, [0.0, 0.0]), np.append(b[5:] * scale, [0.0, 0.0])
+    a_low[5], a_high[5] = _fit_offsets(
+        h_r[low] - nasa7_enthalpy(a_low, t[low]),
+        h_r[high] - nasa7_enthalpy(a_high, t[high]),
+        float(nasa7_enthalpy(a_low, t_mid) - nasa7_enthalpy(a_high, t_mid)),
+    )
+    a_low[6], a_high[6] = _fit_offsets(
+        s_r[low] - nasa7_entropy(a_low, t[low]),
+        s_r[high] - nasa7_entropy(a_high, t[high]),
+        float(nasa7_entropy(a_low, t_mid) - nasa7_entropy(a_high, t_mid)),
+    )
+    fit = Nasa7Fit(name, dict(composition or {}), float(t.min()), float(t_mid), float(t.max()),
+                   tuple(a_low.tolist()), tuple(a_high.tolist()), float(reference_pressure), note)
+    return _with_errors(fit, t, cp_r * R_GAS, h_r * R_GAS, s_r * R_GAS)
+
+
+def _with_errors(fit: Nasa7Fit, t: np.ndarray, cp: np.ndarray, h: np.ndarray, s: np.ndarray) -> Nasa7Fit:
+    """The fit with its largest errors against the data it was fitted to."""
+    return replace(
+        fit,
+        max_cp_rel_error=float(np.max(np.abs(fit.cp(t) / cp - 1))),
+        max_h_error=float(np.max(np.abs(fit.enthalpy(t) - h))),
+        max_s_error=float(np.max(np.abs(fit.entropy(t) - s))),
+    )
+
+
+def enthalpy_offset(symbols: Sequence[str], h_reference) -> tuple[float, str]:
+    """The constant (J/mol) added to a molecule's computed enthalpy, and the sentence that states it.
+
+    ``"electronic"``: 0, H keeps the absolute electronic energy of the level of theory. A mapping
+    {element: (H_atom, dHf_atom)} — the computed enthalpy of the free atom at 298.15 K in hartree at
+    the same level of theory, and the atom's standard heat of formation at 298.15 K in kJ/mol —
+    gives the atomisation-based heat of formation (Curtiss, Raghavachari, Redfern, Pople, J. Chem.
+    Phys. 1997, 106, 1063): dHf(M, T) = H(M, T) + sum_atoms [dHf_atom - H_atom]. Both are a constant
+    per element, so reaction enthalpies within one mechanism are the same either way.
+    """
+    if isinstance(h_reference, str):
+        if h_reference != "electronic":
+            raise QcthermoError(f"enthalpy reference {h_reference!r}: use 'electronic' or atomic enthalpies")
+        return 0.0, "H includes the absolute electronic energy of this level of theory (not a heat of formation)"
+    missing = sorted(set(symbols) - set(h_reference))
+    if missing:
+        raise QcthermoError(f"atomic enthalpies missing for {', '.join(missing)}")
+    per_element = {el: 1000.0 * float(h_reference[el][1]) - float(h_reference[el][0]) * _EH_TO_J_MOL
+                   for el in set(symbols)}
+    offset = float(sum(per_element[el] for el in symbols))
+    return offset, "H is the atomisation-based heat of formation from the atomic enthalpies given (298.15 K)"
+
+
+def nasa7_from_molecule(
+    mol: Molecule,
+    conditions: Conditions | None = None,
+    name: str | None = None,
+    t_low: float = 300.0,
+    t_mid: float | str = 1000.0,
+    t_high: float = 3000.0,
+    h_reference="electronic",
+    reference_state: str = "1atm",
+) -> Nasa7Fit:
+    """NASA-7 fit of the ideal-gas thermochemistry of one molecule over [t_low, t_mid, t_high] K.
+
+    The engine (qcthermo.thermochemistry) is evaluated every 10 K (and at t_mid) with ``conditions``
+    (low-mode model, scaling, ...; default Conditions()) but at the gas standard state
+    ``reference_state`` ("1atm", the reference pressure of Chemkin and Cantera, or "1bar"), converted
+    to molar units and fitted by :func:`fit_nasa7`. ``h_reference`` sets the enthalpy zero (see
+    :func:`enthalpy_offset`). ``t_mid="auto"`` picks the middle temperature per species (see
+    :func:`fit_nasa7`).
+    """
+    from ..thermo import thermochemistry
+
+    kind, pressure = parse_standard_state(reference_state)
+    if kind != "pressure":
+        raise QcthermoError(f"NASA-7 data need a gas standard state (1atm or 1bar), not {reference_state!r}")
+    if not t_low < (1000.0 if t_mid == "auto" else t_mid) < t_high:
+        raise QcthermoError(f"NASA-7 temperature ranges need t_low < t_mid < t_high (got {t_low}, {t_mid}, {t_high})")
+    extra = [t_high] if t_mid == "auto" else [t_mid, t_high]
+    grid = np.unique(np.concatenate([np.arange(t_low, t_high, _GRID_STEP_K), extra]))
+    base = conditions or Conditions()
+    result = thermochemistry(mol, base.replace(temperature=grid, standard_state=reference_state, pressure=None))
+    offset, reference_note = enthalpy_offset(mol.symbols, h_reference)
+    label = name or mol.name or mol.formula
+    provenance = ", ".join(x for x in (mol.level_of_theory, f"low-mode model {base.low_mode_model}") if x)
+    counts: dict[str, int] = {}
+    for el in mol.symbols:
+        counts[el] = counts.get(el, 0) + 1
+    return fit_nasa7(
+        grid,
+        entropy_to_j_mol_k(np.asarray(result.cp)),
+        np.asarray(result.enthalpy) * _EH_TO_J_MOL + offset,
+        entropy_to_j_mol_k(np.asarray(result.entropy)),
+        t_mid=t_mid,
+        name=label,
+        composition=counts,
+        note=f"qcthermo {hill_formula(mol.symbols)} ({provenance}); {reference_note}",
+        reference_pressure=pressure,
+    )
+
+
+def _elements(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None) -> list[str]:
+    present = {el for fit in fits for el in fit.composition}
+    if elements is None:
+        return sorted(present, key=lambda el: (el not in ("C", "H"), el != "C", el))
+    missing = sorted(present - set(elements))
+    if missing:
+        raise QcthermoError(f"elements {', '.join(missing)} are in the species but not in the element list")
+    return list(elements)
+
+
+def _check_names(fits: Sequence[Nasa7Fit], max_length: int | None = None) -> None:
+    names = [fit.name for fit in fits]
+    if not fits:
+        raise QcthermoError("no species to write")
+    duplicates = sorted({n for n in names if names.count(n) > 1})
+    if duplicates:
+        raise QcthermoError(f"species names must be unique: {', '.join(duplicates)}")
+    for n in names:
+        if not n or any(c.isspace() for c in n) or (max_length and len(n) > max_length):
+            limit = f" of at most {max_length} characters" if max_length else ""
+            raise QcthermoError(f"species name {n!r}: a kinetics code needs a name without spaces{limit}")
+
+
+def _yaml_list(values: Sequence[float]) -> str:
+    return "[" + ", ".join(repr(float(v)) for v in values) + "]"
+
+
+def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None = None, phase: str = "gas") -> str:
+    """Cantera YAML text: one ideal-gas phase holding every species, each with its NASA-7 data.
+
+    Follows Cantera's YAML input format (cantera.org, "YAML input file reference": phases, species,
+    thermo model NASA7 with temperature-ranges, data (low range first) and reference-pressure).
+    Strings are written JSON-quoted, which YAML reads as they are.
+    """
+    import json
+
+    _check_names(fits)
+    element_list = _elements(fits, elements)
+    lines = [
+        "description: " + json.dumps("NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo"),
+        "generator: qcthermo",
+        "units: {length: cm, time: s, quantity: mol, activation-energy: cal/mol}",
+        "",
+        "phases:",
+        f"- name: {json.dumps(phase)}",
+        "  thermo: ideal-gas",
+        f"  elements: [{', '.join(element_list)}]",
+        f"  species: [{', '.join(json.dumps(f.name) for f in fits)}]",
+        f"  state: {{T: {fits[0].t_low!r}, P: {fits[0].reference_pressure!r}}}",
+        "",
+        "species:",
+    ]
+    for fit in fits:
+        composition = ", ".join(f"{el}: {n}" for el, n in fit.composition.items())
+        lines += [
+            f"- name: {json.dumps(fit.name)}",
+            f"  composition: {{{composition}}}",
+            "  thermo:",
+            "    model: NASA7",
+            f"    reference-pressure: {fit.reference_pressure!r}",
+            f"    temperature-ranges: {_yaml_list([fit.t_low, fit.t_mid, fit.t_high])}",
+            "    data:",
+            f"    - {_yaml_list(fit.low)}",
+            f"    - {_yaml_list(fit.high)}",
+        ]
+        if fit.note:
+            lines.append(f"  note: {json.dumps(fit.note)}")
+    return "\n".join(lines) + "\n"
+
+
+def write_cantera_yaml(
+    fits: Sequence[Nasa7Fit], path: str | os.PathLike, elements: Sequence[str] | None = None, phase: str = "gas"
+):
+    """Write :func:`cantera_yaml_text` atomically to ``path`` (e.g. thermo.yaml); return the path."""
+    return atomic_write(path, cantera_yaml_text(fits, elements, phase))
+
+
+def _fortran_e(value: float) -> str:
+    """Fortran E15.8: ' 3.38684249E+00' (15 characters, a sign column)."""
+    text = f"{value:15.8E}"
+    if len(text) != 15:
+        raise QcthermoError(f"coefficient {value!r} does not fit the 15 columns of the Chemkin format")
+    return text
+
+
+def _chemkin_entry(fit: Nasa7Fit) -> list[str]:
+    """One species in the Chemkin thermo format (Kee, Rupley, Miller, Chemkin-II, Sandia SAND89-8009,
+    1989): line 1 name (cols 1-18), four element/count pairs (cols 25-44), phase G (col 45),
+    T_low, T_high (F10), T_mid (F8), '1' in col 80; lines 2-4 a1..a7 high range then a1..a7 low range
+    in E15.8, the line number in col 80. More than four elements go on a continuation line flagged
+    by '&' after col 80 (the extended form Cantera's ck2yaml reads)."""
+    items = list(fit.composition.items())
+    for el, n in items:
+        if len(el) > 2 or not 0 < n < 1000:
+            raise QcthermoError(f"{fit.name}: element {el} x {n} does not fit the Chemkin columns")
+    pairs = "".join(f"{el:<2s}{n:>3d}" for el, n in items) if len(items) <= 4 else ""
+    head = f"{fit.name:<24s}{pairs:<20s}G{fit.t_low:10.3f}{fit.t_high:10.3f}{fit.t_mid:8.3f}"
+    lines = [f"{head:<79s}1" + ("&" if len(items) > 4 else "")]
+    if len(items) > 4:
+        lines.append(" ".join(f"{el} {n}" for el, n in items))
+    coeffs = [*fit.high, *fit.low]
+    for number, chunk in enumerate((coeffs[0:5], coeffs[5:10], coeffs[10:14]), start=2):
+        lines.append(f"{''.join(_fortran_e(c) for c in chunk):<79s}{number}")
+    return lines
+
+
+def chemkin_text(fits: Sequence[Nasa7Fit]) -> str:
+    """Chemkin thermo text (thermo.dat): header, the common temperature ranges, one entry per species."""
+    _check_names(fits, max_length=18)
+    if any(abs(fit.reference_pressure - ATM_PA) > 1e-6 for fit in fits):
+        raise QcthermoError("Chemkin thermo data are at 1 atm; these fits are at another reference pressure")
+    lines = ["! NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo (reference 1 atm)"]
+    lines += [f"! {fit.name}: {fit.note}" for fit in fits if fit.note]
+    # the default ranges line: every entry carries its own ranges, which readers prefer
+    t_mid = statistics.mode(fit.t_mid for fit in fits)
+    t_low, t_high = min(fit.t_low for fit in fits), max(fit.t_high for fit in fits)
+    lines += ["THERMO ALL", f"{t_low:10.3f}{t_mid:10.3f}{t_high:10.3f}"]
+    for fit in fits:
+        lines += _chemkin_entry(fit)
+    lines.append("END")
+    return "\n".join(lines) + "\n"
+
+
+def write_chemkin(fits: Sequence[Nasa7Fit], path: str | os.PathLike):
+    """Write :func:`chemkin_text` atomically to ``path`` (e.g. thermo.dat); return the path."""
+    return atomic_write(path, chemkin_text(fits))
