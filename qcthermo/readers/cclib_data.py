@@ -135,7 +135,12 @@ def fields(data, program: str) -> dict:
         out["solvent"] = meta.get("solvent_name")
     if "success" in meta:
         out["normal_termination"] = bool(meta["success"])
+    # cclib's eV energies are converted for every file alike: documented, not noted per file
+    notes: list[str] = []
     thermo = thermo_printed(data, program, energy)
     if thermo:
         out["thermo_printed"] = thermo
+        if rules(program).thermo_corrections:
+            notes.append("the program's enthalpy and free energy are thermal corrections: E_elec added")
+    out["notes"] = notes
     return out

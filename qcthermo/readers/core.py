@@ -50,7 +50,7 @@ def read_log(path: str | Path) -> Calculation:
 def _read(source: LogSource) -> Calculation:
     data, failure = cclib_data.parse(source)
     found = cclib_data.fields(data, source.program) if data is not None else {}
-    notes: list[str] = []
+    notes: list[str] = found.pop("notes", [])
     if source.program == "xtb" and "symbols" in found and "coordinates" not in found:
         found["coordinates"] = _xtb_coordinate_file(source, found["symbols"], notes)
     extractor = fallback.EXTRACTORS.get(source.program)
@@ -59,7 +59,7 @@ def _read(source: LogSource) -> Calculation:
         if extractor is None:
             raise LogReadError(source.path, f"cannot read this {source.program} output: {reason}")
         found = extractor(source.text)
-        notes.append(f"fallback extractor used: {reason}")
+        notes = [f"fallback extractor used: {reason}"]
     if "coordinates" not in found:
         raise LogReadError(source.path, f"no geometry in this {source.program} output (truncated or not a job log?)")
     if "energy" not in found:
@@ -85,7 +85,7 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
             notes.append("COSMO solvent model read from the text (cclib reports none)")
         found.update(cosmo)
     elif source.program == "xtb":
-        _amend_xtb(text, found)
+        _amend_xtb(text, found, notes)
     elif source.program == "psi4" and found.get("method") in (None, "DFT"):
         functional = re.search(r"^\s+(\S+) (?:Hyb-)?(?:GGA|LSDA|Meta-GGA|LDA) Exchange-Correlation", text, re.M)
         if functional:
@@ -94,7 +94,7 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
             found["method"] = "HF"
 
 
-def _amend_xtb(text: str, found: dict) -> None:
+def _amend_xtb(text: str, found: dict, notes: list[str]) -> None:
     call = re.search(r"program call\s*:\s*(.*)$", text, re.M)
     flags = call.group(1) if call else ""
     solvation = re.search(r"(?:^|\s)--?(alpb|gbsa|gbe|cosmo|cpcmx)\s+(\S+)|(?:^|\s)-g\s+(\S+)", flags)
@@ -111,6 +111,7 @@ def _amend_xtb(text: str, found: dict) -> None:
     if thermo:
         temperature = found.get("thermo_printed", {}).get("temperature")
         found["thermo_printed"] = thermo if temperature is None else {**thermo, "temperature": temperature}
+        notes.append("thermochemistry read from the text in hartree (cclib gives xTB's in eV)")
 
 
 def _xtb_coordinate_file(source: LogSource, symbols: tuple[str, ...], notes: list[str]) -> np.ndarray:
