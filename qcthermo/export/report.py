@@ -28,6 +28,9 @@ FIGURE_CAPTIONS = {
     "arrhenius": "Arrhenius plot: ln k against 1000 K / T (k in the units of the reactions table).",
 }
 
+#: text columns whose cells may wrap (long prose); every other cell stays on one line
+WRAPPED_COLUMNS = {"finding", "value", "notes", "populations", "message"}
+
 CSS = """
 body { font: 14px/1.45 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", sans-serif; color: #222;
        max-width: 1200px; margin: 2em auto; padding: 0 1em; }
@@ -38,7 +41,7 @@ h1 { font-size: 1.5em; margin-bottom: 0.2em; } h2 { font-size: 1.2em; margin-top
 table { border-collapse: collapse; font-size: 12px; margin: 0.5em 0; }
 th, td { padding: 2px 8px; border-bottom: 1px solid #e5e5e5; text-align: right; white-space: nowrap; }
 th { border-bottom: 1px solid #999; background: #f7f7f7; }
-td.text, th.text { text-align: left; white-space: normal; }
+td.text, th.text { text-align: left; } td.wrap { white-space: normal; min-width: 20em; }
 tr.error td { background: #fdecea; } tr.warning td { background: #fff8e1; }
 .count { font-weight: 600; } .ok { color: #1b5e20; }
 figure { margin: 1em 0; } figure svg { width: 100%; max-width: 680px; height: auto; }
@@ -47,8 +50,8 @@ figcaption { color: #555; font-size: 12px; }
 
 
 def _cell(value: Any, column: str = "") -> str:
-    """One table cell's text: hartree columns to the microhartree, temperatures to 0.01 K, other numbers
-    to four decimals or
+    """One table cell's text: hartree columns to the microhartree, hartree/K in exponent form,
+    temperatures to 0.01 K, other numbers to four decimals or
     in exponent form when tiny or huge (rate constants), everything else as escaped text."""
     if value is None:
         return ""
@@ -57,7 +60,9 @@ def _cell(value: Any, column: str = "") -> str:
             return ""
         if column.endswith("_Eh"):
             return f"{value:.6f}"
-        if column.endswith("_K"):
+        if column.endswith("_Eh_K"):  # entropies and heat capacities, hartree/K
+            return f"{value:.6e}"
+        if column.endswith("_K"):  # temperatures
             return f"{value:.2f}"
         if value != 0 and not 1e-3 <= abs(value) < 1e6:
             return f"{value:.4e}"
@@ -72,13 +77,14 @@ def _is_number(value: Any) -> bool:
 def _table(columns: list[str], rows: Iterable[Iterable[Any]], row_classes: Iterable[str] | None = None) -> str:
     rows = [list(r) for r in rows]
     text_cols = [not all(_is_number(r[j]) or r[j] is None for r in rows) for j in range(len(columns))]
-    head = "".join(f'<th class="{"text" if t else "num"}">{html.escape(str(c))}</th>'
-                   for c, t in zip(columns, text_cols, strict=True))
+    kinds = [("text wrap" if c in WRAPPED_COLUMNS else "text") if t else "num"
+             for c, t in zip(columns, text_cols, strict=True)]
+    head = "".join(f'<th class="{k}">{html.escape(str(c))}</th>' for c, k in zip(columns, kinds, strict=True))
     classes = list(row_classes) if row_classes is not None else [""] * len(rows)
     body = []
     for row, cls in zip(rows, classes, strict=True):
-        cells = "".join(f'<td class="{"text" if t else "num"}">{_cell(v, str(c))}</td>'
-                        for v, c, t in zip(row, columns, text_cols, strict=True))
+        cells = "".join(f'<td class="{k}">{_cell(v, str(c))}</td>' for v, c, k in zip(row, columns, kinds,
+                                                                                        strict=True))
         body.append(f'<tr class="{html.escape(cls)}">{cells}</tr>')
     return f'<div class="scroll"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
 
