@@ -498,7 +498,9 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
         mask = df["reaction"] == r.name
         for col in ("kappa", "k_forward", "k_reverse"):
             df.loc[mask, col] = np.atleast_1d(k[col])
-        df.loc[mask, "k_unit"] = f"{k['k_unit_forward']} (forward), {k['k_unit_reverse']} (reverse)"
+        same = k["k_unit_forward"] == k["k_unit_reverse"]
+        df.loc[mask, "k_unit"] = k["k_unit_forward"] if same else \
+            f"{k['k_unit_forward']} (forward), {k['k_unit_reverse']} (reverse)"
         results.findings += [Finding("warning", r.name, n) for n in k["notes"] if r.tunnelling != "none"]
         for i, temp in enumerate(t):
             rate_rows.append({"reaction": r.name, "T_K": temp, "kappa": np.atleast_1d(k["kappa"])[i],
@@ -569,10 +571,12 @@ def _temperature_text(t: np.ndarray) -> str:
     return f"T = {t[0]:g} K" if len(t) == 1 else f"T = {t[0]:g}-{t[-1]:g} K ({len(t)} temperatures)"
 
 
-def caption_context(results: RunResults) -> str:
-    """"T = 298.15 K, standard state 1M, low-mode model ..., frequency scale ..., level ..." for captions."""
+def caption_context(results: RunResults, names: set[str] | None = None) -> str:
+    """"T = 298.15 K, standard state 1M, low-mode model ..., frequency scale ..., level ..." for captions;
+    the levels of theory are those of species ``names`` (default: all)."""
     c = results.conditions
-    levels = sorted({lv for s in results.species_results.values() for lv in s.levels})
+    levels = sorted({lv for n, s in results.species_results.items() if names is None or n in names
+                     for lv in s.levels})
     model = MODEL_NAMES[c.low_mode_model] + (f", threshold {c.low_mode_threshold:g} cm^-1"
                                              if c.low_mode_model != "rrho" else "")
     scale = c.frequency_scale if c.zpe_scale is None else f"{c.frequency_scale} (ZPE {c.zpe_scale})"
@@ -580,9 +584,25 @@ def caption_context(results: RunResults) -> str:
             f"frequency scale factor {scale}; level of theory {', '.join(levels) or 'n/a'}")
 
 
-def _table_notes(results: RunResults) -> list[str]:
-    notes = [f"{f.severity}: {_display(f.subject)}: {f.message}" for f in results.findings]
-    own = [s.name for s in results.species_results.values() if s.options.concentration]
+def _reaction_subjects(results: RunResults) -> tuple[set[str], set[str]]:
+    """Species in some reaction or profile, and every subject (reaction, species, file) they stand for."""
+    rf = results.reaction_file
+    if rf is None:
+        return set(), set()
+    names = {n for r in rf.reactions for n in _names(r)} | {n for p in rf.profiles for s in p.states for _, n in s}
+    subjects = names | {r.name for r in rf.reactions} | {f"profile {p.name}" for p in rf.profiles}
+    for n in names:
+        subjects |= {c.path for c in results.species_results[n].conformers}
+        subjects |= {c.single_point.path for c in results.species_results[n].conformers if c.single_point}
+    return names, subjects
+
+
+def _table_notes(results: RunResults, subjects: set[str] | None = None) -> list[str]:
+    """Findings as table notes (those about ``subjects`` only, when given), errors first."""
+    notes = [f"{f.severity}: {_display(f.subject)}: {f.message}" for f in results.findings
+             if subjects is None or f.subject in subjects]
+    own = [s.name for s in results.species_results.values() if s.options.concentration
+           and (subjects is None or s.name in subjects)]
     if own:
         notes.insert(0, "at their own concentration (not the standard state): " + ", ".join(own))
     return notes
@@ -679,15 +699,14 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     from .export.xyz import write_xyz_file
     from .fileio import atomic_write
 
-    context = caption_context(results)
-    notes = _table_notes(results)
     written = [atomic_write(out_dir / "survey.csv", results.survey.to_csv(index=False))]
-    written += _write_table(results.species, out_dir, "species", f"Species thermochemistry, hartree per molecule; "
-                                                                 f"{context}.", notes)
+    written += _write_table(results.species, out_dir, "species", "Species thermochemistry, hartree per molecule; "
+                            f"{caption_context(results)}.", _table_notes(results))
     if len(results.reactions):
-        unit = results.energy_unit
-        written += _write_table(results.reactions, out_dir, "reactions", f"Reaction energies and free energies of "
-                                                                         f"activation, {unit}; {context}.", notes)
+        names, subjects = _reaction_subjects(results)
+        written += _write_table(results.reactions, out_dir, "reactions", "Reaction energies and free energies of "
+                                f"activation, {results.energy_unit}; {caption_context(results, names)}.",
+                                _table_notes(results, subjects))
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):
@@ -700,14 +719,50 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     return written
 
 
+def nasa7_fits(results: RunResults) -> list:
+    """NASA-7 fits (qcthermo.export.nasa7) of every usable minimum: its most populated conformer, with the
+    composite electronic energy, under the run's low-mode model, 300-1000-3000 K at 1 atm. Transition
+    states are left out (a kinetics code has no thermo for them); a species that cannot be fitted is a
+    warning."""
+    from .export.nasa7 import nasa7_from_molecule
+
+    fits = []
+    for s in results.species_results.values():
+        low = s.lowest
+        if low is None or low.molecule is None or s.options.transition_state:
+            continue
+        try:
+            fits.append(nasa7_from_molecule(low.molecule.replace(energy=float(low.values["E"][0])),
+                                            results.conditions, name=s.name))
+        except (QcthermoError, ValueError) as err:
+            results.findings.append(Finding("warning", s.name, f"no NASA-7 fit: {err}"))
+    return fits
+
+
+def _write_nasa7(results: RunResults, out_dir: Path) -> list[Path]:
+    """thermo.yaml (Cantera) and thermo.dat (Chemkin) of :func:`nasa7_fits`, each on its own."""
+    from .export.nasa7 import write_cantera_yaml, write_chemkin
+
+    fits = nasa7_fits(results)
+    written = []
+    for writer, name in ((write_cantera_yaml, "thermo.yaml"), (write_chemkin, "thermo.dat")):
+        if not fits:
+            break
+        try:
+            written.append(Path(writer(fits, out_dir / name)))
+        except QcthermoError as err:
+            results.findings.append(Finding("warning", name, f"not written: {err}"))
+    return written
+
+
 def _optional_exports(results: RunResults, out_dir: Path) -> list[Path]:
-    """Figures, report and NASA-7 files, from their modules when those are installed."""
+    """NASA-7 files, then figures, supporting information and report from their modules when present."""
     import importlib
 
-    written: list[Path] = []
+    written = _write_nasa7(results, out_dir)
     for module, function in (("qcthermo.export.figures", "write_profile_figures"),
-                             ("qcthermo.export.report", "write_report"),
-                             ("qcthermo.export.nasa7", "write_run_thermo")):
+                             ("qcthermo.export.si", "write_si"),
+                             ("qcthermo.export.report", "write_report")):
         try:
             writer = getattr(importlib.import_module(module), function)
         except (ImportError, AttributeError):
