@@ -364,3 +364,56 @@ def test_every_sample_log_reads(samples):
             continue  # the flawed examples are meant to fail, with a reason
         assert calc.program in ("nwchem", "xtb"), path
         assert isinstance(calc.multiplicity, int), path
+
+
+def sample_logs(samples: Path, marker: str) -> list[Path]:
+    """Sample outputs whose text contains ``marker``; skip when there are none yet."""
+    found = [p for p in sorted(samples.rglob("*.out")) if "inputs" not in p.parts and marker in p.read_text()]
+    if not found:
+        pytest.skip(f"no sample output with {marker!r} yet")
+    return found
+
+
+def test_nwchem_correlated_single_points_use_the_highest_level(samples):
+    for path in sample_logs(samples, "Total MP2 energy"):
+        calc = qcthermo.read_log(path)
+        text = path.read_text()
+        ccsd_t = re.findall(r"CCSD\(T\) total energy / hartree\s+=\s+(-?\d+\.\d+)", text)
+        if ccsd_t:
+            assert calc.method == "CCSD(T)", path
+            assert calc.energy == pytest.approx(float(ccsd_t[-1]), abs=1e-8), path
+        else:
+            # printed: NWChem's MP2 total, not the SCF energy underneath it
+            assert calc.method == "MP2", path
+            assert calc.energy == pytest.approx(float(re.findall(r"Total MP2 energy\s+(-?\d+\.\d+)", text)[-1])), path
+
+
+def test_xtb_ohess_samples(samples):
+    for path in sample_logs(samples, "x T B"):
+        calc = qcthermo.read_log(path)
+        text = path.read_text()
+        assert calc.program == "xtb" and calc.method == "GFN2-xTB", path
+        assert np.all(np.isfinite(calc.coordinates)), path  # --ohess prints the final structure
+        assert calc.frequencies.shape == (3 * calc.natoms - 6,), path  # common practice: 3N-6
+        # printed: xTB's own totals, in hartree
+        energy = float(re.findall(r"\|\s+TOTAL ENERGY\s+(-?\d+\.\d+) Eh", text)[-1])
+        gibbs = float(re.findall(r"\|\s+TOTAL FREE ENERGY\s+(-?\d+\.\d+) Eh", text)[-1])
+        assert calc.energy == pytest.approx(energy, abs=1e-10), path
+        assert calc.thermo_printed["gibbs"] == pytest.approx(gibbs, abs=1e-10), path
+        assert calc.multiplicity == 1 and any("multiplicity not printed" in n for n in calc.notes), path
+
+
+def test_optimisation_stopped_at_its_step_limit(samples):
+    path = sample(samples, "flawed/methanol_maxiter.out")
+    calc = qcthermo.read_log(path)
+    assert "Failed to converge in maximum number of steps" in path.read_text()  # printed
+    assert calc.optimization_converged is False
+    assert calc.normal_termination is False
+
+
+def test_hartree_fock_level_read_from_the_scf_module(samples):
+    path = sample(samples, "flawed/hnc_hf.out")
+    calc = qcthermo.read_log(path)
+    assert (calc.method, calc.basis) == ("HF", "3-21G")  # printed: task scf, basis 3-21G
+    assert calc.multiplicity == 1  # printed: "open shells = 0"
+    assert calc.frequencies.shape == (4,)  # common practice: linear HNC, 3N-5
