@@ -478,6 +478,7 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
         df[col] = np.nan
     df["k_unit"] = None
     rf = results.reaction_file
+    state = cond.pressure if cond.pressure is not None else cond.standard_state  # what the free energies used
     rate_rows, fits = [], []
     for r in rf.reactions:
         e = energetics.get(r.name)
@@ -488,7 +489,7 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
         extra = kinetics.degeneracy_beyond_free_energy(r.degeneracy, sigma_r, sigma_ts) if r.degeneracy else 1.0
         try:
             k = kinetics.reaction_rates(e["dG_act"], e["dG_act_rev"], t, _pseudo_molecularity(r.reactants, species),
-                                        _pseudo_molecularity(r.products, species), cond.standard_state,
+                                        _pseudo_molecularity(r.products, species), state,
                                         ts.thermo.imaginary_frequency, _first(e["dE_zpe_act"]),
                                         _first(e["dE_zpe_act_rev"]),
                                         degeneracy=extra, tunnelling=r.tunnelling)

@@ -257,3 +257,31 @@ def test_single_point_on_another_geometry_is_refused(third_party):
     species = build_species("dvb", [freq], qcthermo.Conditions(), single_points=[sp])
     assert not species.usable
     assert any(f.severity == "error" and "no single point matches" in f.message for f in species.findings)
+
+
+def test_cyclic_profile_energy_span_of_one_step(tmp_path, samples):
+    # Energy span model (Kozuch and Shaik, Acc. Chem. Res. 2011, 44, 101): for a one-step cycle I -> TS -> I',
+    # the TS follows the intermediate, so the span is G(TS) - G(I), the free energy of activation.
+    path = tmp_path / "cycle.toml"
+    path.write_text(f"""
+[species.hcn]
+logs = "{samples.as_posix()}/gas/hcn.out"
+[species.hnc]
+logs = "{samples.as_posix()}/gas/hnc.out"
+[species.ts]
+logs = "{samples.as_posix()}/gas/ts_hcn.out"
+[[reaction]]
+name = "iso"
+reactants = ["hcn"]
+transition_state = "ts"
+products = ["hnc"]
+[[profile]]
+name = "cycle"
+states = [["hcn"], ["ts"], ["hnc"]]
+cyclic = true
+""")
+    res = qcthermo.run(samples / "gas", reactions=path, jobs=1, cache=False)
+    (row,) = res.energy_span.to_dict(orient="records")
+    assert row["TDTS"] == "ts" and row["TDI"] == "hcn"
+    assert row["energy_span_kcal_mol"] == pytest.approx(_reaction(res, "iso", "dG_qrrho_act_kcal_mol"), abs=1e-9)
+    assert res.profiles[0]["marks"] == {"tdts": "ts", "tdi": "hcn"}
