@@ -11,7 +11,9 @@ Units: hartree per molecule and hartree/K, arrays over the temperatures of the c
 from __future__ import annotations
 
 from collections import Counter
+from collections.abc import Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any, NamedTuple
 
 import numpy as np
@@ -162,8 +164,6 @@ class SpeciesResult:
 
 
 def _short(path: str) -> str:
-    from pathlib import Path
-
     return Path(path).name
 
 
@@ -324,7 +324,7 @@ def species_conditions(conditions: Conditions, options: SpeciesOptions) -> Condi
 
 
 def build_species(name: str, calcs: list[Calculation], conditions: Conditions, options: SpeciesOptions | None = None,
-                  single_points: list[Calculation] = (), explicit_pairs: dict[str, Calculation] | None = None,
+                  single_points: Sequence[Calculation] = (), explicit_pairs: dict[str, Calculation] | None = None,
                   settings: dict[str, float] | None = None) -> SpeciesResult:
     """Audit, de-duplicate, pair, compute and Boltzmann-weight one species.
 
