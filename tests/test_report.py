@@ -106,3 +106,55 @@ def test_inline_svg_is_well_formed():
     text = render_report(_results())
     svg = re.search(r"<svg.*?</svg>", text, flags=re.S).group(0)
     assert ET.fromstring(svg).tag.endswith("svg")
+
+
+SCENARIO = """
+[species.hcn]
+logs = ["{gas}/hcn.out"]
+[species.hnc]
+logs = ["{gas}/hnc.out"]
+[species.ts_hcn]
+logs = ["{gas}/ts_hcn.out"]
+
+[[reaction]]
+name = "isomerisation"
+reactants = ["hcn"]
+transition_state = "ts_hcn"
+products = ["hnc"]
+
+[[profile]]
+name = "isomerisation"
+states = [["hcn"], ["ts_hcn"], ["hnc"]]
+"""
+
+
+@pytest.fixture
+def sample_run(samples, tmp_path):
+    """The main job on three bundled NWChem outputs over a temperature range."""
+    import qcthermo
+    from qcthermo.records import Conditions
+
+    gas = samples / "gas"
+    if not (gas / "hcn.out").is_file():
+        pytest.skip("sample_outputs/gas is absent")
+    (tmp_path / "reactions.toml").write_text(SCENARIO.format(gas=gas))
+    cond = Conditions(temperature=np.array([250.0, 300.0, 350.0]), low_mode_model="qrrho")
+    return qcthermo.run(gas, reactions=tmp_path / "reactions.toml", conditions=cond, jobs=1, cache=False)
+
+
+@pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install -y chromium)")
+def test_report_of_a_real_run_renders(sample_run, tmp_path):
+    from qcthermo.export.figures import write_profile_figures
+
+    path = write_report(sample_run, tmp_path / "out")
+    names = sorted(p.name for p in write_profile_figures(sample_run, tmp_path / "out"))
+    assert names == ["arrhenius.svg", "dG_T.svg", "profile.png", "profile.svg"]
+    flags = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+             "--disable-background-networking", "--disable-component-update", "--disable-sync",
+             f"--user-data-dir={tmp_path / 'profile'}"]
+    dom = subprocess.run([CHROMIUM, *flags, "--dump-dom", path.resolve().as_uri()], capture_output=True, text=True,
+                         timeout=120, check=True).stdout
+    assert dom.count("<svg") == 3  # profile, dG(T), Arrhenius
+    for name in ("hcn", "hnc", "ts_hcn", "isomerisation"):
+        assert f">{name}</td>" in dom
+    assert "ts_hcn‡" in dom  # the transition state is marked on the profile

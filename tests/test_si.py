@@ -7,11 +7,14 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
+import test_report
 
 import qcthermo
 from qcthermo.export.si import tex_escape, write_si
 from qcthermo.records import Conditions
 from qcthermo.species import SpeciesOptions, build_species
+
+sample_run = test_report.sample_run  # fixture: the main job on the bundled samples
 
 
 def _printed(path, pattern):
@@ -121,3 +124,17 @@ def test_latex_compiles(run_like, tmp_path):
                           capture_output=True, text=True, timeout=120)
     assert done.returncode == 0, done.stdout[-2000:]
     assert (tmp_path / "si.pdf").read_bytes().startswith(b"%PDF-")
+
+
+def test_si_of_a_real_run(sample_run, tmp_path):
+    md, tex = write_si(sample_run, tmp_path)
+    text = md.read_text()
+    assert [line[3:] for line in text.splitlines() if line.startswith("## ")] == ["hcn", "hnc", "ts\\_hcn"]
+    assert "T = 250.00 K" in text  # the first temperature of the range
+    assert "| file | hcn.out |" in text  # relative to the run's directory
+    ts = _block(text, "ts\\_hcn")
+    assert re.search(r"\| imaginary frequencies / cm-1 \| \d+\.\di \|", ts)  # exactly one
+    if shutil.which("pdflatex"):
+        done = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", tex.name], cwd=tmp_path,
+                              capture_output=True, text=True, timeout=120)
+        assert done.returncode == 0, done.stdout[-2000:]
