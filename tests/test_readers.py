@@ -417,3 +417,21 @@ def test_hartree_fock_level_read_from_the_scf_module(samples):
     assert (calc.method, calc.basis) == ("HF", "3-21G")  # printed: task scf, basis 3-21G
     assert calc.multiplicity == 1  # printed: "open shells = 0"
     assert calc.frequencies.shape == (4,)  # common practice: linear HNC, 3N-5
+
+
+@pytest.mark.parametrize(
+    ("route", "jobs"),
+    [
+        ("#p b3lyp/6-31g* opt=(ts,calcfc,noeigentest) freq", {"saddle-search", "optimization", "frequencies"}),
+        ("#p opt(ts,calcfc) freq b3lyp", {"saddle-search", "optimization", "frequencies"}),
+        ("#p opt=qst2 b3lyp", {"saddle-search", "optimization"}),
+        ("#p opt=(calcfc,tight) b3lyp", {"optimization"}),
+        ("#p b3lyp/sto-3g guess=read freq=hpmodes geom=allcheck", {"frequencies"}),
+        ("#p b3lyp/sto-3g irc=(calcfc,maxpoints=20)", {"irc"}),
+    ],
+)
+def test_gaussian_route_keywords(route, jobs):
+    # Gaussian's route syntax (its manual's Opt, Freq and IRC keywords; from memory)
+    from qcthermo.readers.programs import job_types_from_spec
+
+    assert job_types_from_spec("gaussian", route) == jobs

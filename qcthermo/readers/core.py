@@ -146,7 +146,10 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         mult, note = inferred_multiplicity(symbols, charge)
         notes.append(note)
 
-    spec_jobs = job_types_from_spec(program, job_spec(program, text))
+    spec = job_spec(program, text)
+    spec_jobs = job_types_from_spec(program, spec)
+    if spec is None and found.get("optimization_converged") is not None:  # cclib saw an optimiser
+        spec_jobs.add("optimization")
     freqs = found.get("frequencies")
     if freqs is not None:
         freqs, note = vibrational_modes(freqs, symbols, coords, rules(program).projected)

@@ -98,9 +98,8 @@ def _orca_frequencies(text: str) -> np.ndarray | None:
     start = text.rfind("VIBRATIONAL FREQUENCIES")
     if start < 0:
         return None
-    block = text[start : start + 200 * 80]
-    end = block.find("NORMAL MODES")
-    block = block if end < 0 else block[:end]
+    end = text.find("NORMAL MODES", start)
+    block = text[start : end if end > 0 else len(text)]
     values = np.array([float(v) for v in re.findall(r"^\s*\d+:\s+(-?\d+\.\d+) cm\*\*-1", block, re.MULTILINE)])
     if values.size == 0:
         return None

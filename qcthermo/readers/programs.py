@@ -40,7 +40,7 @@ RULES: dict[str, ProgramRules] = {
     "gaussian": ProgramRules(
         keywords=r"^ -{4,}\n (#.*?)\n -{4,}$",
         jobs=(
-            ("saddle-search", r"\bopt\w*\s*=\s*\(?[^ ]*\b(ts|qst2|qst3|saddle)\b|\bqst[23]\b"),
+            ("saddle-search", r"\bopt\w*\s*=?\s*\([^ ]*\b(ts|qst2|qst3|saddle)\b|\bopt\s*=\s*(ts|qst2|qst3)\b"),
             ("optimization", r"\bopt\b|\bopt\s*="),
             ("frequencies", r"\bfreq"),
             ("irc", r"\birc\b"),
