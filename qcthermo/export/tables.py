@@ -1,0 +1,605 @@
+"""Paper tables from a DataFrame: csv (machine names), Markdown, LaTeX (booktabs) and xlsx.
+
+Machine column names are snake_case with the unit last (``dG_act_kcal_mol``, ``S_Eh_K``, ``T_K``); the
+human tables typeset them (ΔG‡ / kcal mol⁻¹ in Markdown and xlsx, ``$\\Delta G^{\\ddagger}$ /
+kcal\\,mol$^{-1}$`` in LaTeX). Every column has one number format chosen from its unit or name
+(hartree 6 decimals, kcal/mol and kJ/mol 2, eV 3, entropies and rate constants scientific), so decimals
+line up when the column is right-aligned. The choices are written down in docs/tables.md.
+
+pandas and openpyxl are imported inside the functions that need them.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Iterable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from ..errors import QcthermoError
+from ..fileio import atomic_open, atomic_write
+
+FORMATS = ("csv", "md", "tex", "xlsx")
+#: from this many rows on, LaTeX tables are written as a longtable that breaks across pages
+LONGTABLE_ROWS = 40
+#: LaTeX packages a document needs for the tables written here
+LATEX_PACKAGES = ("booktabs",)
+LATEX_LONG_PACKAGES = ("booktabs", "longtable")
+#: text columns with a cell longer than this are set as wrapping paragraphs of WRAP_WIDTH
+WRAP_CHARACTERS = 40
+WRAP_WIDTH = "5cm"
+
+
+# ---------------------------------------------------------------------------------------------------
+# units and symbols
+
+
+@dataclass(frozen=True)
+class Unit:
+    """A unit suffix of a machine column name, its typeset forms and the number format it implies."""
+
+    suffix: str
+    text: str  # Markdown / xlsx (Unicode)
+    tex: str
+    kind: str  # number format, see NUMBER_FORMATS
+
+
+#: longest suffixes first, so that "_Eh_K" wins over "_K"
+UNITS = (
+    Unit("J_mol_K", "J mol⁻¹ K⁻¹", r"J\,mol$^{-1}$\,K$^{-1}$", "fixed2"),
+    Unit("cal_mol_K", "cal mol⁻¹ K⁻¹", r"cal\,mol$^{-1}$\,K$^{-1}$", "fixed2"),
+    Unit("kcal_mol", "kcal mol⁻¹", r"kcal\,mol$^{-1}$", "fixed2"),
+    Unit("kJ_mol", "kJ mol⁻¹", r"kJ\,mol$^{-1}$", "fixed2"),
+    Unit("Eh_K", "Eₕ K⁻¹", r"$E_\mathrm{h}$\,K$^{-1}$", "sci5"),
+    Unit("Eh", "Eₕ", r"$E_\mathrm{h}$", "fixed6"),
+    Unit("eV", "eV", "eV", "fixed3"),
+    Unit("cm1", "cm⁻¹", r"cm$^{-1}$", "fixed1"),
+    Unit("s-1", "s⁻¹", r"s$^{-1}$", "sci3"),
+    Unit("K", "K", "K", "fixed2"),
+)
+
+#: quantity symbols: machine token -> (Unicode, LaTeX math)
+SYMBOLS = {
+    "E": ("E", "E"),
+    "H": ("H", "H"),
+    "G": ("G", "G"),
+    "S": ("S", "S"),
+    "U": ("U", "U"),
+    "A": ("A", "A"),
+    "T": ("T", "T"),
+    "Cv": ("Cᵥ", r"C_{V}"),
+    "Cp": ("Cₚ", r"C_{p}"),
+    "ZPE": ("ZPE", r"\mathrm{ZPE}"),
+    "Ea": ("Eₐ", r"E_{\mathrm{a}}"),
+    "k": ("k", "k"),
+    "kappa": ("κ", r"\kappa"),
+}
+
+#: qualifiers that become a subscript (LaTeX) or a parenthesis (Markdown); multi-token ones first
+QUALIFIERS = (
+    (("qrrho", "enthalpy"), "qRRHO-H"),
+    (("quasi", "harmonic"), "QH"),
+    (("qrrho",), "qRRHO"),
+    (("rrho",), "RRHO"),
+    (("elec",), "elec"),
+    (("forward",), "forward"),
+    (("reverse",), "reverse"),
+    (("rev",), "reverse"),
+    (("min",), "min"),
+    (("max",), "max"),
+    (("wigner",), "Wigner"),
+    (("eckart",), "Eckart"),
+)
+
+#: plain-word headers for the usual descriptive columns
+WORDS = {
+    "species": "Species",
+    "reaction": "Reaction",
+    "equation": "Equation",
+    "level": "Level of theory",
+    "formula": "Formula",
+    "charge": "Charge",
+    "multiplicity": "Multiplicity",
+    "conformers": "Conformers",
+    "duplicates": "Duplicates",
+    "point_group": "Point group",
+    "standard_state": "Standard state",
+    "transition_state": "TS",
+    "populations": "Populations",
+    "population": "Population",
+    "status": "Status",
+    "notes": "Notes",
+    "k_unit": "Unit of k",
+    "symmetry_number": "σ",
+}
+WORDS_TEX = {"symmetry_number": r"$\sigma$"}
+
+#: number formats by name; "int" and "text" are decided from the data
+NUMBER_FORMATS = {
+    "fixed1": "{:.1f}",
+    "fixed2": "{:.2f}",
+    "fixed3": "{:.3f}",
+    "fixed4": "{:.4f}",
+    "fixed6": "{:.6f}",
+    "sci3": "{:.2e}",
+    "sci5": "{:.4e}",
+    "general": "{:.6g}",
+}
+EXCEL_FORMATS = {
+    "fixed1": "0.0",
+    "fixed2": "0.00",
+    "fixed3": "0.000",
+    "fixed4": "0.0000",
+    "fixed6": "0.000000",
+    "sci3": "0.00E+00",
+    "sci5": "0.0000E+00",
+    "general": "General",
+    "int": "0",
+}
+
+
+def split_unit(column: str) -> tuple[str, Unit | None]:
+    """``"dG_act_kcal_mol"`` -> ("dG_act", kcal/mol unit); a name without a known unit -> (name, None)."""
+    for unit in UNITS:
+        if column.endswith("_" + unit.suffix) and len(column) > len(unit.suffix) + 1:
+            return column[: -len(unit.suffix) - 1], unit
+    return column, None
+
+
+def _symbol(stem: str) -> tuple[str, str] | None:
+    """Typeset quantity of a machine stem such as ``dG_qrrho_act_rev``: (Unicode, LaTeX), or None when
+    the stem is not a quantity this module knows (it is then shown as words)."""
+    tokens = stem.split("_")
+    head, rest = tokens[0], tokens[1:]
+    delta = head.startswith("d") and head[1:] in SYMBOLS
+    base = head[1:] if delta else head
+    if base not in SYMBOLS:
+        return None
+    text, tex = SYMBOLS[base]
+    if delta and rest[:1] == ["zpe"]:  # ΔE+ZPE, the zero-point corrected electronic energy
+        text, tex, rest = "(E+ZPE)", r"(E+\mathrm{ZPE})", rest[1:]
+    dagger = False
+    labels = []
+    while rest:
+        if rest[0] == "act":
+            dagger, rest = True, rest[1:]
+            continue
+        for words, label in QUALIFIERS:
+            if tuple(rest[: len(words)]) == words:
+                labels.append(label)
+                rest = rest[len(words) :]
+                break
+        else:
+            return None
+    text = ("Δ" if delta else "") + text + ("‡" if dagger else "") + (f" ({', '.join(labels)})" if labels else "")
+    tex = (
+        (r"\Delta " if delta else "")
+        + tex
+        + (r"^{\ddagger}" if dagger else "")
+        + (r"_{\mathrm{" + ",".join(labels) + "}}" if labels else "")
+    )
+    return text, f"${tex}$"
+
+
+def human_header(column: str, style: str = "md") -> str:
+    """Typeset header of a machine column name, with its unit after a slash.
+
+    ``style`` is "md" or "xlsx" (Unicode: ``ΔG‡ / kcal mol⁻¹``) or "tex" (``$\\Delta G^{\\ddagger}$ /
+    kcal\\,mol$^{-1}$``). Unknown names pass through with underscores as spaces (escaped for LaTeX).
+    """
+    if style not in ("md", "tex", "xlsx"):
+        raise QcthermoError(f"unknown header style {style!r}; use md, tex or xlsx")
+    tex = style == "tex"
+    if tex and column in WORDS_TEX:
+        return WORDS_TEX[column]
+    if column in WORDS:
+        return latex_escape(WORDS[column]) if tex else WORDS[column]
+    stem, unit = split_unit(column)
+    symbol = _symbol(stem)
+    if symbol is not None:
+        name = symbol[1] if tex else symbol[0]
+    else:
+        words = stem.replace("_", " ")
+        name = latex_escape(words) if tex else words
+    if unit is None:
+        return name
+    return f"{name} / {unit.tex if tex else unit.text}"
+
+
+def number_kind(column: str, values: Sequence[Any]) -> str:
+    """The number format of a column: from its unit, else from its name, else from its values."""
+    unit = split_unit(column)[1]
+    if unit is not None:
+        return unit.kind
+    if re.fullmatch(r"k(_[a-z]+)?", column) and column != "k_unit":
+        return "sci3"  # rate constants span many decades: 3 significant digits
+    if column.startswith("kappa") or column in ("population", "degree_of_control"):
+        return "fixed3"
+    numbers = [v for v in values if _is_number(v) and not _missing(v)]
+    if not numbers:
+        return "text"
+    if all(float(v).is_integer() for v in numbers):
+        return "int"
+    return "general"
+
+
+# ---------------------------------------------------------------------------------------------------
+# cells
+
+
+def _missing(value: Any) -> bool:
+    if value is None:
+        return True
+    try:
+        return bool(value != value)  # NaN, pandas NA
+    except (TypeError, ValueError):
+        return False
+
+
+def _is_number(value: Any) -> bool:
+    """A real number (Python or numpy scalar), not a flag."""
+    if isinstance(value, (int, float)):
+        return not isinstance(value, bool)
+    return getattr(getattr(value, "dtype", None), "kind", None) in ("i", "u", "f")
+
+
+def _is_bool(value: Any) -> bool:
+    return isinstance(value, bool) or getattr(getattr(value, "dtype", None), "kind", None) == "b"
+
+
+def format_number(value: Any, kind: str) -> str:
+    """A number as text in the column's format ("int", "fixed2", "sci3", ...)."""
+    if kind == "int":
+        return str(round(float(value)))
+    if not math.isfinite(float(value)):
+        return str(float(value))
+    return NUMBER_FORMATS.get(kind, NUMBER_FORMATS["general"]).format(float(value))
+
+
+def _cell_text(value: Any, kind: str) -> str | None:
+    """Display text of one cell; None for a missing value."""
+    if _missing(value):
+        return None
+    if _is_bool(value):
+        return "yes" if value else "no"
+    if _is_number(value) and kind != "text":
+        return format_number(value, kind)
+    return " ".join(str(value).split())
+
+
+_SCI = re.compile(r"^(-?\d+(?:\.\d+)?)e([+-])0*(\d+)$")
+
+
+def _tex_number(text: str) -> str:
+    """``1.23e+05`` -> ``$1.23\\times10^{5}$``; a minus sign in math mode for negatives."""
+    match = _SCI.match(text)
+    if match:
+        mantissa, sign, exponent = match.groups()
+        return f"${mantissa}\\times10^{{{'-' if sign == '-' else ''}{exponent}}}$"
+    if re.fullmatch(r"-\d+(\.\d+)?", text):
+        return f"${text}$"
+    return text
+
+
+_LATEX_SPECIAL = {
+    "\\": r"\textbackslash{}",
+    "&": r"\&",
+    "%": r"\%",
+    "$": r"\$",
+    "#": r"\#",
+    "_": r"\_",
+    "{": r"\{",
+    "}": r"\}",
+    "~": r"\textasciitilde{}",
+    "^": r"\textasciicircum{}",
+    "<": r"\textless{}",
+    ">": r"\textgreater{}",
+    # characters the tool itself writes into names, captions and notes, spelled for pdflatex too
+    "Δ": r"$\Delta$",
+    "‡": r"\ddag{}",
+    "σ": r"$\sigma$",
+    "κ": r"$\kappa$",
+    "ν": r"$\nu$",
+    "α": r"$\alpha$",
+    "β": r"$\beta$",
+    "γ": r"$\gamma$",
+    "→": r"$\rightarrow$",
+    "±": r"$\pm$",
+    "×": r"$\times$",
+    "°": r"\textdegree{}",
+    "Å": r"\AA{}",
+    "⁻": r"\textsuperscript{-}",
+    "¹": r"\textsuperscript{1}",
+}
+#: "^-1", "^2", "^(-1)" in plain text (units in captions and notes)
+_SUPERSCRIPT = re.compile(r"\^(?:\((-?\d+)\)|(-?\d+))")
+
+
+def latex_escape(text: str) -> str:
+    """Text safe for LaTeX: special characters escaped; ``^-1`` (as in cm^-1) becomes a superscript."""
+    text, out, start = str(text), [], 0
+    for match in _SUPERSCRIPT.finditer(text):
+        out.append(_escape_chars(text[start : match.start()]))
+        out.append(f"$^{{{match.group(1) or match.group(2)}}}$")
+        start = match.end()
+    out.append(_escape_chars(text[start:]))
+    return "".join(out)
+
+
+def _escape_chars(text: str) -> str:
+    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in text)
+
+
+_UNICODE_SUPERSCRIPTS = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def unicode_superscripts(text: str) -> str:
+    """``cm^-1`` -> ``cm⁻¹`` for plain-text captions and notes."""
+    return _SUPERSCRIPT.sub(lambda m: (m.group(1) or m.group(2)).translate(_UNICODE_SUPERSCRIPTS), str(text))
+
+
+def _md_escape(text: str) -> str:
+    return text.replace("\\", "\\\\").replace("|", "\\|")
+
+
+# ---------------------------------------------------------------------------------------------------
+# the table model shared by the writers
+
+
+@dataclass(frozen=True)
+class _Column:
+    name: str
+    kind: str
+    cells: list[str | None]  # formatted text, None when missing
+    values: list[Any]  # the raw values (xlsx writes numbers as numbers)
+
+    @property
+    def numeric(self) -> bool:
+        return self.kind != "text"
+
+
+def _columns(df) -> list[_Column]:
+    out = []
+    for name in df.columns:
+        values = [None if _missing(v) else v for v in df[name].tolist()]
+        kind = number_kind(str(name), values)
+        if any(v is not None and (_is_bool(v) or not _is_number(v)) for v in values):
+            kind = "text"  # words, flags, or numbers mixed with words
+        out.append(_Column(str(name), kind, [_cell_text(v, kind) for v in values], values))
+    return out
+
+
+def _rows(columns: list[_Column]) -> Iterable[list[str | None]]:
+    n = len(columns[0].cells) if columns else 0
+    return ([c.cells[i] for c in columns] for i in range(n))
+
+
+# ---------------------------------------------------------------------------------------------------
+# Markdown
+
+
+def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
+    """A pipe table with a caption line above and the notes as a list below.
+
+    Numbers are right-aligned with a fixed number of decimals per column; missing values are empty cells.
+    """
+    columns = _columns(df)
+    lines = [f"Table: {_md_escape(unicode_superscripts(' '.join(caption.split())))}", ""]
+    lines.append("| " + " | ".join(_md_escape(human_header(c.name, "md")) for c in columns) + " |")
+    lines.append("|" + "|".join("---:" if c.numeric else ":---" for c in columns) + "|")
+    for row in _rows(columns):
+        cells = [_md_cell(cell, c) for cell, c in zip(row, columns, strict=True)]
+        lines.append("| " + " | ".join(cells) + " |")
+    notes = [" ".join(str(n).split()) for n in notes]
+    if notes:
+        lines.append("")
+        lines += [f"- {_md_escape(unicode_superscripts(n))}" for n in notes]
+    return "\n".join(lines) + "\n"
+
+
+_UNICODE_SUBSCRIPTS = str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉")
+
+
+def _md_cell(cell: str | None, column: _Column) -> str:
+    if cell is None:
+        return ""
+    if column.name == "formula":
+        cell = cell.translate(_UNICODE_SUBSCRIPTS)
+    return _md_escape(cell)
+
+
+# ---------------------------------------------------------------------------------------------------
+# LaTeX
+
+
+def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = None) -> str:
+    """A booktabs table: caption, header with typeset symbols and units, right-aligned numbers with a
+    fixed number of decimals per column (so the decimal points line up), "--" for missing values, and
+    the notes as a footnote block below the tabular. Long tables (LONGTABLE_ROWS rows or more) become a
+    longtable that repeats its header on every page. The packages needed are named in the first line.
+    """
+    columns = _columns(df)
+    spec = "".join(_tex_column_spec(c) for c in columns)
+    header = " & ".join(human_header(c.name, "tex") for c in columns) + r" \\"
+    body = [
+        " & ".join("--" if cell is None else _tex_cell(cell, c) for cell, c in zip(row, columns, strict=True)) + r" \\"
+        for row in _rows(columns)
+    ]
+    caption_tex = r"\caption{" + latex_escape(" ".join(caption.split())) + "}"
+    label_tex = r"\label{" + latex_escape(label) + "}" if label else ""
+    footnotes = _tex_notes(notes)
+    if len(body) >= LONGTABLE_ROWS:
+        lines = [
+            f"% requires \\usepackage{{{','.join(LATEX_LONG_PACKAGES)}}}",
+            rf"\begin{{longtable}}{{{spec}}}",
+            caption_tex + label_tex + r" \\",
+            r"\toprule",
+            header,
+            r"\midrule",
+            r"\endfirsthead",
+            r"\toprule",
+            header,
+            r"\midrule",
+            r"\endhead",
+            r"\bottomrule",
+            r"\endlastfoot",
+            *body,
+            r"\end{longtable}",
+            *footnotes,
+        ]
+    else:
+        lines = [
+            f"% requires \\usepackage{{{','.join(LATEX_PACKAGES)}}}",
+            r"\begin{table}[htbp]",
+            r"\centering",
+            r"\small",
+            r"\setlength{\tabcolsep}{4pt}",
+            caption_tex,
+            *([label_tex] if label_tex else []),
+            rf"\begin{{tabular}}{{{spec}}}",
+            r"\toprule",
+            header,
+            r"\midrule",
+            *body,
+            r"\bottomrule",
+            r"\end{tabular}",
+            *footnotes,
+            r"\end{table}",
+        ]
+    return "\n".join(lines) + "\n"
+
+
+def _tex_column_spec(column: _Column) -> str:
+    """r for numbers (fixed decimals: the points line up), l for short text, a wrapping paragraph column
+    for long text such as notes."""
+    if column.numeric:
+        return "r"
+    longest = max((len(c) for c in column.cells if c), default=0)
+    return f"p{{{WRAP_WIDTH}}}" if longest > WRAP_CHARACTERS else "l"
+
+
+def _tex_cell(cell: str, column: _Column) -> str:
+    if column.numeric:
+        return _tex_number(cell)
+    if column.name == "formula":
+        return re.sub(r"(\d+)", r"$_{\1}$", latex_escape(cell))
+    return latex_escape(cell)
+
+
+def _tex_notes(notes: Iterable[str]) -> list[str]:
+    """Notes as a small-print block, each marked with a letter (a, b, ...)."""
+    notes = [" ".join(str(n).split()) for n in notes]
+    if not notes:
+        return []
+    marks = [_note_mark(i) for i in range(len(notes))]
+    block = [r"\par\smallskip", r"\begin{minipage}{\linewidth}\footnotesize"]
+    block += [rf"\textsuperscript{{{m}}}~{latex_escape(n)}\par" for m, n in zip(marks, notes, strict=True)]
+    block.append(r"\end{minipage}")
+    return block
+
+
+def _note_mark(i: int) -> str:
+    """a, b, ..., z, aa, ab, ... for note i (0-based)."""
+    letters = "abcdefghijklmnopqrstuvwxyz"
+    return letters[i] if i < 26 else _note_mark(i // 26 - 1) + letters[i % 26]
+
+
+# ---------------------------------------------------------------------------------------------------
+# xlsx
+
+
+def write_xlsx(df, path: str | Path, caption: str, notes: Iterable[str] = ()) -> Path:
+    """An Excel workbook, written atomically: sheet "table" holds the caption (row 1), the typeset
+    headers with units (row 3), the data (numbers stay numbers, with the column's number format, missing
+    values empty) and the notes below; sheet "columns" maps each header to its machine column name.
+    """
+    from openpyxl import Workbook
+    from openpyxl.styles import Alignment, Font
+    from openpyxl.utils import get_column_letter
+
+    columns = _columns(df)
+    workbook = Workbook()
+    sheet = workbook.active
+    sheet.title = "table"
+    sheet.cell(row=1, column=1, value=unicode_superscripts(" ".join(caption.split()))).font = Font(bold=True)
+    for j, column in enumerate(columns, start=1):
+        cell = sheet.cell(row=HEADER_ROW, column=j, value=human_header(column.name, "xlsx"))
+        cell.font = Font(bold=True)
+        cell.alignment = Alignment(horizontal="right" if column.numeric else "left")
+        for i, value in enumerate(column.values, start=HEADER_ROW + 1):
+            target = sheet.cell(row=i, column=j, value=_xlsx_value(value, column))
+            if column.numeric and target.value is not None:
+                target.number_format = EXCEL_FORMATS.get(column.kind, "General")
+        width = max([len(human_header(column.name, "xlsx"))] + [len(c or "") for c in column.cells])
+        sheet.column_dimensions[get_column_letter(j)].width = min(60, width + 2)
+    sheet.freeze_panes = sheet.cell(row=HEADER_ROW + 1, column=1)
+    row = HEADER_ROW + len(df) + 2
+    for note in notes:
+        sheet.cell(row=row, column=1, value="Note: " + unicode_superscripts(" ".join(str(note).split())))
+        row += 1
+    legend = workbook.create_sheet("columns")
+    legend.append(["header", "column", "unit"])
+    for column in columns:
+        unit = split_unit(column.name)[1]
+        legend.append([human_header(column.name, "xlsx"), column.name, unit.text if unit else None])
+    with atomic_open(path, "wb") as handle:
+        workbook.save(handle)
+    return Path(path)
+
+
+#: the row of the typeset headers in the "table" sheet (row 1 caption, row 2 empty)
+HEADER_ROW = 3
+
+
+def _xlsx_value(value: Any, column: _Column) -> Any:
+    if value is None:
+        return None
+    if _is_bool(value):
+        return "yes" if value else "no"
+    if column.numeric and _is_number(value):
+        number = float(value)
+        if not math.isfinite(number):
+            return str(number)
+        return round(number) if column.kind == "int" else number
+    return str(value)
+
+
+# ---------------------------------------------------------------------------------------------------
+# all formats
+
+
+def write_tables(
+    df,
+    out_dir: str | Path,
+    stem: str,
+    *,
+    caption: str,
+    notes: Iterable[str] = (),
+    formats: Iterable[str] = FORMATS,
+    label: str | None = None,
+) -> list[Path]:
+    """Write ``df`` as ``out_dir/stem.{csv,md,tex,xlsx}`` (atomically) and return the paths written.
+
+    The csv keeps the machine column names and full precision; the others are the human tables. The
+    caller decides whether ``out_dir`` may be written to (qcthermo.fileio.prepare_output_dir).
+    """
+    formats = list(formats)
+    unknown = [f for f in formats if f not in FORMATS]
+    if unknown:
+        raise QcthermoError(f"unknown table format {unknown[0]!r}; choose from {', '.join(FORMATS)}")
+    notes = list(notes)
+    out = Path(out_dir)
+    written = []
+    for fmt in formats:
+        path = out / f"{stem}.{fmt}"
+        if fmt == "csv":
+            written.append(atomic_write(path, df.to_csv(index=False)))
+        elif fmt == "md":
+            written.append(atomic_write(path, to_markdown(df, caption, notes)))
+        elif fmt == "tex":
+            written.append(atomic_write(path, to_latex(df, caption, notes, label=label)))
+        else:
+            written.append(write_xlsx(df, path, caption, notes))
+    return written
