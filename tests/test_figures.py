@@ -192,6 +192,16 @@ def test_profiles_from_records_order_names_and_presentation_keys():
         profiles_from_records(records, "S")
     with pytest.raises(QcthermoError, match="has no H energy"):
         profiles_from_records(records, "H")
+    with pytest.raises(QcthermoError, match="style 'wavy'"):
+        profiles_from_records([rec("p", style="wavy")])
+
+
+def test_connector_style_from_the_file():
+    record = {"name": "p", "style": "dotted",
+              "states": [{"label": "a", "value_Eh": {"G": 0.0}}, {"label": "b", "value_Eh": {"G": 0.01}}]}
+    fig = plot_profiles(profiles_from_records([record]))
+    (connector,) = _artists(fig, "connector:")
+    assert connector.get_linestyle() == ":"
 
 
 def _png_dpi(data: bytes) -> float:

@@ -29,7 +29,7 @@ def _check_output(path: Path, force: bool) -> None:
 
 
 def main(args: argparse.Namespace) -> int:
-    from ..export.figures import plot_profiles, profiles_from_records, save_figure
+    from ..export.figures import plot_profiles, profile_temperature_index, profiles_from_records, save_figure
     from ..reactions import load_reaction_file
     from ..workflow import run
 
@@ -50,7 +50,8 @@ def main(args: argparse.Namespace) -> int:
             print(f"error: {subject}: {message}", file=sys.stderr)
     if not results.profiles:
         raise QcthermoError(f"{reaction_file}: no profile could be computed (see the errors above)")
-    profiles = profiles_from_records(results.profiles, args.quantity, args.energy_unit, names=args.profiles)
+    profiles = profiles_from_records(results.profiles, args.quantity, args.energy_unit, names=args.profiles,
+                                     temperature_index=profile_temperature_index(results))
     fig = plot_profiles(profiles, precision=args.precision)
     save_figure(fig, output)
     if not args.quiet:

@@ -46,6 +46,9 @@ UNIT_LABELS = {"kcal/mol": "kcal mol⁻¹", "kJ/mol": "kJ mol⁻¹", "eV": "eV",
 #: what the marks of the energy-span analysis are called on the figure
 MARK_TAGS = {"tdts": "TDTS", "tdi": "TDI"}
 
+#: line styles a profile's connectors may take (the reaction file's ``style``)
+CONNECTOR_STYLES = ("dashed", "dotted", "solid", "dashdot")
+
 #: colour of a state name shared by several overlaid profiles
 SHARED_NAME_COLOR = "#444444"
 
@@ -167,6 +170,9 @@ def _profile_from_record(record: dict[str, Any], quantity: str, unit: str, index
     for wanted in [*(label_states or []), *(record.get("marks") or {}).values()]:
         if wanted not in labels:
             raise QcthermoError(f"profile {name!r}: no state {wanted!r} (states: {', '.join(labels)})")
+    style = str(record.get("style") or "dashed")
+    if style not in CONNECTOR_STYLES:
+        raise QcthermoError(f"profile {name!r}: style {style!r}; choose one of {', '.join(CONNECTOR_STYLES)}")
     return ProfileData(
         name=name,
         states=states,
@@ -176,7 +182,7 @@ def _profile_from_record(record: dict[str, Any], quantity: str, unit: str, index
         color=record.get("color"),
         label_states=list(label_states) if label_states is not None else None,
         marks=dict(record.get("marks") or {}),
-        style=str(record.get("style") or "dashed"),
+        style=style,
     )
 
 
@@ -556,7 +562,7 @@ def figure_svg(fig: Figure) -> str:
     return re.sub(r"\s*<metadata>.*?</metadata>", "", text[text.index("<svg"):], flags=re.S)
 
 
-def _profile_temperature_index(results) -> int:
+def profile_temperature_index(results) -> int:
     """The temperature a profile shows: the one nearest 298.15 K of the run's (common practice)."""
     temps = np.atleast_1d(np.asarray(getattr(results.conditions, "temperature", 298.15), dtype=float))
     return int(np.argmin(np.abs(temps - 298.15)))
@@ -569,7 +575,7 @@ def run_figures(results) -> dict[str, Figure]:
     """
     figures: dict[str, Figure] = {}
     unit = getattr(results, "energy_unit", "kcal/mol")
-    index = _profile_temperature_index(results)
+    index = profile_temperature_index(results)
     profiles = []
     for record in getattr(results, "profiles", None) or []:
         try:
