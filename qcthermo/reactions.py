@@ -431,6 +431,8 @@ class _Parser:
 def load_reaction_file(path: str | Path) -> ReactionFile:
     """Read and validate a reaction file; raise ReactionFileError with the line and the name."""
     path = Path(path).resolve()
+    if not path.is_file():
+        raise ReactionFileError(f"{path}: no such reaction file")
     try:
         text = path.read_text(encoding="utf-8")
     except (OSError, UnicodeDecodeError) as err:

@@ -158,6 +158,8 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
     ts_names = rf.transition_states()
     for name, spec in rf.species.items():
         logs = [c for c in (calcs.get(p) for p in spec.logs) if c is not None]
+        unread = [Finding("error", str(p), f"species {name!r}: cannot use this file: {calcs.failed[p.resolve()]}")
+                  for p in spec.logs if p.resolve() in calcs.failed]
         sps = [c for c in (calcs.get(p) for p in spec.single_point) if c is not None]
         pairs = {str(calcs.get(k).path): v for k, p in spec.single_point_pairs.items()
                  if calcs.get(k) is not None and (v := calcs.get(p)) is not None}
@@ -165,11 +167,11 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
         options = SpeciesOptions(spec.symmetry_number, spec.electronic_degeneracy, spec.imaginary_policy,
                                  spec.concentration, is_ts, spec.label)
         if not logs:
-            out[name] = SpeciesResult(name, spec.label or name, options, [],
-                                      findings=[Finding("error", name, f"species {name!r}: none of its files "
-                                                                       "could be read")])
+            out[name] = SpeciesResult(name, spec.label or name, options, [], findings=[
+                *unread, Finding("error", name, f"species {name!r}: none of its files could be read")])
             continue
         out[name] = build_species(name, logs, conditions, options, sps, pairs, rf.ensemble)
+        out[name].findings[:0] = unread
     return out
 
 

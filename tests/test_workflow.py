@@ -285,3 +285,16 @@ cyclic = true
     assert row["TDTS"] == "ts" and row["TDI"] == "hcn"
     assert row["energy_span_kcal_mol"] == pytest.approx(_reaction(res, "iso", "dG_qrrho_act_kcal_mol"), abs=1e-9)
     assert res.profiles[0]["marks"] == {"tdts": "ts", "tdi": "hcn"}
+
+
+def test_a_truncated_file_is_an_error_but_not_the_end_of_the_batch(tmp_path, samples):
+    # A job killed mid-way: the first half of a real NWChem output. It is reported (naming the file) and left
+    # out; the species goes on with its other file, and the run says "some inputs had errors" (exit 1).
+    text = (samples / "gas" / "ch4.out").read_text()
+    (tmp_path / "broken.out").write_text(text[: len(text) // 2])
+    path = tmp_path / "reactions.toml"
+    path.write_text(f'[species.ch4]\nlogs = ["broken.out", "{samples.as_posix()}/gas/ch4.out"]\n')
+    res = qcthermo.run(tmp_path, reactions=path, jobs=1, cache=False)
+    assert res.species_results["ch4"].usable and len(res.species_results["ch4"].used) == 1
+    assert any(f.severity == "error" and f.subject.endswith("broken.out") for f in res.findings)
+    assert res.exit_status == 1
