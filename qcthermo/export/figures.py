@@ -262,7 +262,7 @@ def _style_axes(ax) -> None:
 
 
 def _profile_width(n_states: int) -> float:
-    """One column up to six states; wider (up to two columns) so that levels stay ~1.3 cm apart."""
+    """One column up to five states; wider (up to two columns) so that states stay ~1.3 cm apart."""
     return float(np.clip(0.5 + 0.5 * n_states, COLUMN_WIDTH_IN, MAX_WIDTH_IN))
 
 
