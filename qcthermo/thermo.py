@@ -25,8 +25,11 @@ from .units import AMU, C_LIGHT, H_PLANCK, K_B, K_B_EH, N_A
 
 COMPONENTS = ("translational", "rotational", "vibrational", "electronic")
 
-#: largest number of (molecule, temperature, mode) elements evaluated at once (memory bound)
-_CHUNK_ELEMENTS = 2_000_000
+#: largest number of (molecule, temperature, mode) elements evaluated at once (memory and cache bound)
+_CHUNK_ELEMENTS = 200_000
+
+#: cm^-1 given to the padding of shorter mode lists: so stiff that exp(-h c nu / k T) is 0 at any T
+PAD_WAVENUMBER = 1e30
 
 
 # --------------------------------------------------------------------------------------------------
@@ -123,27 +126,47 @@ def harmonic_zpe(theta_v):
     return 0.5 * K_B_EH * np.asarray(theta_v)
 
 
+def harmonic_mode_functions(theta_v, temperature):
+    """Thermal energy, entropy and heat capacity of harmonic modes: (U - ZPE in Eh, S in Eh/K, C_v in Eh/K).
+
+    With x = Theta/T and r = 1 / (e^x - 1) = e^-x / (1 - e^-x) (McQuarrie eqs. 6-23 to 6-25; S = U/T + k ln q):
+    U - ZPE = k Theta r,  S = k [x r - ln(1 - e^-x)],  C_v = k x^2 e^x / (e^x - 1)^2 = k x^2 r (1 + r).
+    ln(1 - e^-x) is taken as log1p(-e^-x), so stiff modes (x >> 1) keep their digits; 1 - e^-x loses
+    only ~1e-16/x relative for soft ones. The three share e^-x, hence one function, written in place
+    because it is the engine's inner loop.
+    """
+    theta_v = np.asarray(theta_v, dtype=float)
+    x = np.atleast_1d(theta_v / np.asarray(temperature, dtype=float))  # an array, for the in-place steps
+    shape = np.broadcast_shapes(theta_v.shape, np.shape(temperature))
+    boltzmann = np.exp(-x)
+    r = 1.0 - boltzmann
+    np.divide(boltzmann, r, out=r)
+    energy = (K_B_EH * theta_v) * r
+    entropy = x * r
+    np.negative(boltzmann, out=boltzmann)
+    entropy -= np.log1p(boltzmann, out=boltzmann)
+    entropy *= K_B_EH
+    x *= x
+    x *= r
+    r += 1.0
+    x *= r
+    x *= K_B_EH
+    return energy.reshape(shape), entropy.reshape(shape), x.reshape(shape)
+
+
 def harmonic_thermal_energy(theta_v, temperature):
     """U_v - ZPE = k Theta / (exp(Theta/T) - 1) per mode (McQuarrie eq. 6-23), Eh."""
-    x = np.asarray(theta_v) / np.asarray(temperature)
-    with np.errstate(over="ignore"):
-        return K_B_EH * np.asarray(theta_v) / np.expm1(x)
+    return harmonic_mode_functions(theta_v, temperature)[0]
 
 
 def harmonic_entropy(theta_v, temperature):
     """S_v = k [x / (e^x - 1) - ln(1 - e^-x)], x = Theta/T, per mode (McQuarrie eq. 6-24 via S = U/T + k ln q), Eh/K."""
-    x = np.asarray(theta_v) / np.asarray(temperature)
-    # ln(1 - e^-x) without cancellation at either end
-    log_one_minus = np.where(x < 1.0, np.log(-np.expm1(-np.minimum(x, 1.0))), np.log1p(-np.exp(-x)))
-    with np.errstate(over="ignore"):
-        return K_B_EH * (x / np.expm1(x) - log_one_minus)
+    return harmonic_mode_functions(theta_v, temperature)[1]
 
 
 def harmonic_heat_capacity(theta_v, temperature):
-    """C_v = k x^2 e^x / (e^x - 1)^2 = k (x/2)^2 / sinh^2(x/2), x = Theta/T, per mode (McQuarrie eq. 6-25), Eh/K."""
-    half = 0.5 * np.asarray(theta_v) / np.asarray(temperature)
-    with np.errstate(over="ignore"):
-        return K_B_EH * (half / np.sinh(half)) ** 2
+    """C_v = k x^2 e^x / (e^x - 1)^2, x = Theta/T, per mode (McQuarrie eq. 6-25), Eh/K."""
+    return harmonic_mode_functions(theta_v, temperature)[2]
 
 
 # --------------------------------------------------------------------------------------------------
@@ -224,7 +247,7 @@ class PreparedMolecules:
         rotational_dof: (n,) 0 (atom), 2 (linear) or 3.
         symmetry_number: (n,) rotational symmetry numbers.
         degeneracy: (n,) electronic ground-level degeneracies.
-        frequencies: (n, m) real wavenumbers, cm^-1, unscaled; padding where ``mask`` is False.
+        frequencies: (n, m) real wavenumbers, cm^-1, unscaled; :data:`PAD_WAVENUMBER` where ``mask`` is False.
         mask: (n, m) True for real modes.
         thermal_scale, zpe_scale: (n,) frequency scale factors.
     """
@@ -258,8 +281,15 @@ class MoleculeInfo:
     notes: list[str] = field(default_factory=list)
 
 
-def _symmetry(molecule: Molecule, linear: bool) -> tuple[str | None, int, bool | None, list[str]]:
-    """Point group, symmetry number, chirality and notes; an explicit symmetry number wins."""
+def _symmetry(molecule: Molecule, linear: bool, trust_given: bool) -> tuple[str | None, int, bool | None, list[str]]:
+    """Point group, symmetry number, chirality and notes; an explicit symmetry number wins.
+
+    With ``trust_given`` a given symmetry number is used without analysing the geometry (the point
+    group and chirality are then unknown); a molecule without one is always analysed.
+    """
+    if trust_given and molecule.symmetry_number is not None:
+        sigma = int(molecule.symmetry_number)
+        return None, sigma, None, [f"symmetry number {sigma} given; geometry not analysed"]
     from .symmetry import analyse_symmetry
 
     info = analyse_symmetry(molecule.symbols, molecule.coordinates, molecule.masses)
@@ -275,12 +305,16 @@ def _symmetry(molecule: Molecule, linear: bool) -> tuple[str | None, int, bool |
     return info.point_group, sigma, bool(info.chiral), notes
 
 
-def prepare_molecule(molecule: Molecule, conditions: Conditions) -> MoleculeInfo:
-    """Clean the modes, find the symmetry and the scale factors of one molecule; raise ThermoError if refused."""
+def prepare_molecule(molecule: Molecule, conditions: Conditions, trust_symmetry_number: bool = False) -> MoleculeInfo:
+    """Clean the modes, find the symmetry and the scale factors of one molecule; raise ThermoError if refused.
+
+    ``trust_symmetry_number`` skips the symmetry analysis of molecules that carry a symmetry number
+    (the slow part of the preparation of large batches).
+    """
     modes = clean_modes(molecule, conditions)
     if molecule.natoms > 1 and len(modes.frequencies) == 0 and not molecule.transition_state:
         raise ThermoError(f"{molecule.name or molecule.source or molecule.formula}: no vibrational frequencies")
-    point_group, sigma, chiral, sym_notes = _symmetry(molecule, modes.linear)
+    point_group, sigma, chiral, sym_notes = _symmetry(molecule, modes.linear, trust_symmetry_number)
     try:
         thermal, zpe, source, scale_notes = resolve_scale_factors(
             conditions.frequency_scale, conditions.zpe_scale, molecule.level_of_theory
@@ -306,7 +340,7 @@ def stack_molecules(molecules: list[Molecule], infos: list[MoleculeInfo]) -> Pre
     """Stack prepared molecules into the arrays of :class:`PreparedMolecules` (modes padded to the longest)."""
     n = len(molecules)
     width = max((len(i.frequencies) for i in infos), default=0)
-    freqs = np.ones((n, width))
+    freqs = np.full((n, width), PAD_WAVENUMBER)
     mask = np.zeros((n, width), dtype=bool)
     for row, info in enumerate(infos):
         freqs[row, : len(info.frequencies)] = info.frequencies
@@ -353,25 +387,26 @@ def _rotational_terms(prepared: PreparedMolecules, t: np.ndarray) -> dict[str, n
 def _vibrational_terms(
     prepared: PreparedMolecules, t: np.ndarray, model: str, threshold: float, b_av: np.ndarray
 ) -> dict[str, np.ndarray]:
-    """Vibrational ZPE (n,), and U (with ZPE), S, Cv (n, nT) under RRHO ("rrho_*") and under ``model``."""
-    mask = prepared.mask[:, None, :]
+    """Vibrational ZPE (n,), and U (with ZPE), S, Cv (n, nT) under RRHO ("rrho_*") and under ``model``.
+
+    Padding modes are given :data:`PAD_WAVENUMBER`, so stiff that every thermal term vanishes; only the
+    ZPE needs the mask.
+    """
     nu = prepared.frequencies * prepared.thermal_scale[:, None]
     nu_zpe = prepared.frequencies * prepared.zpe_scale[:, None]
     tt = t[None, :, None]
 
     def harmonic(nu_t, nu_z):
-        theta = vibrational_temperatures(nu_t)[:, None, :]
-        zpe = harmonic_zpe(vibrational_temperatures(nu_z))[:, None, :]
-        return zpe, zpe + harmonic_thermal_energy(theta, tt), harmonic_entropy(theta, tt), harmonic_heat_capacity(
-            theta, tt
-        )
+        zpe = np.where(prepared.mask, harmonic_zpe(vibrational_temperatures(nu_z)), 0.0)
+        return (zpe, *harmonic_mode_functions(vibrational_temperatures(nu_t)[:, None, :], tt))
 
     zpe_m, u_m, s_m, cv_m = harmonic(nu, nu_zpe)
+    rrho_zpe = zpe_m.sum(axis=-1)
     out = {
-        "rrho_zpe": np.sum(zpe_m[:, 0, :] * mask[:, 0, :], axis=-1),
-        "rrho_U": np.sum(u_m * mask, axis=-1),
-        "rrho_S": np.sum(s_m * mask, axis=-1),
-        "rrho_Cv": np.sum(cv_m * mask, axis=-1),
+        "rrho_zpe": rrho_zpe,
+        "rrho_U": rrho_zpe[:, None] + u_m.sum(axis=-1),
+        "rrho_S": s_m.sum(axis=-1),
+        "rrho_Cv": cv_m.sum(axis=-1),
     }
     if model == "rrho":
         out.update(zpe=out["rrho_zpe"], U=out["rrho_U"], S=out["rrho_S"], Cv=out["rrho_Cv"])
@@ -379,19 +414,16 @@ def _vibrational_terms(
     if model == "quasi-harmonic":
         zpe_m, u_m, s_m, cv_m = harmonic(quasi_harmonic_wavenumbers(nu, threshold),
                                          quasi_harmonic_wavenumbers(nu_zpe, threshold))
+        u = zpe_m.sum(axis=-1)[:, None] + u_m.sum(axis=-1)
     else:
         nu3 = nu[:, None, :]
         s_m = qrrho_entropy(nu3, tt, threshold, b_av[:, None, None])
+        u = out["rrho_U"]
         if model == "qrrho-enthalpy":
-            zpe_m = zpe_m * grimme_weight(nu3, threshold)
-            u_m = head_gordon_energy(u_m, nu3, tt, threshold)
+            u = head_gordon_energy(zpe_m[:, None, :] + u_m, nu3, tt, threshold).sum(axis=-1)
+            zpe_m = zpe_m * grimme_weight(nu, threshold)  # the T -> 0 limit of the interpolated energy
             cv_m = head_gordon_heat_capacity(cv_m, nu3, threshold)
-    out.update(
-        zpe=np.sum(zpe_m[:, 0, :] * mask[:, 0, :], axis=-1),
-        U=np.sum(u_m * mask, axis=-1),
-        S=np.sum(s_m * mask, axis=-1),
-        Cv=np.sum(cv_m * mask, axis=-1),
-    )
+    out.update(zpe=zpe_m.sum(axis=-1), U=u, S=s_m.sum(axis=-1), Cv=cv_m.sum(axis=-1))
     return out
 
 
@@ -457,13 +489,16 @@ def thermochemistry(molecule: Molecule, conditions: Conditions | None = None) ->
     return thermochemistry_many([molecule], conditions)[0]
 
 
-def thermochemistry_many(molecules: list[Molecule], conditions: Conditions) -> list[ThermoResult]:
+def thermochemistry_many(
+    molecules: list[Molecule], conditions: Conditions, trust_symmetry_number: bool = False
+) -> list[ThermoResult]:
     """Thermochemistry of many molecules in one vectorised pass; raises ThermoError on the first refused one.
 
-    The per-molecule work is cleaning and symmetry; the partition functions of all molecules and
-    temperatures are evaluated together by :func:`thermo_arrays`.
+    The per-molecule work is cleaning and symmetry (see :func:`prepare_molecule` for
+    ``trust_symmetry_number``); the partition functions of all molecules and temperatures are evaluated
+    together by :func:`thermo_arrays`.
     """
-    infos = [prepare_molecule(m, conditions) for m in molecules]
+    infos = [prepare_molecule(m, conditions, trust_symmetry_number) for m in molecules]
     arrays = thermo_arrays(stack_molecules(molecules, infos), conditions)
     scalar = np.ndim(conditions.temperature) == 0
     pairs = enumerate(zip(molecules, infos, strict=True))
