@@ -351,10 +351,10 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
             continue
         problems = audit_calculation(calc, options.transition_state, conditions.imaginary_threshold,
                                      options.imaginary_policy or conditions.imaginary_policy)
-        findings.extend(problems)
+        findings.extend(f._replace(message=f"species {name!r}: {f.message}") for f in problems)
         errors = [f.message for f in problems if f.severity == "error"]
         if errors:
-            c.status, c.reason = "excluded", errors[0]
+            c.status, c.reason = "excluded", "; ".join(errors)
     findings.extend(_mark_duplicates(name, result.conformers, settings))
     if single_points or explicit_pairs:
         findings.extend(_pair_single_points(name, result.conformers, list(single_points), explicit_pairs,
