@@ -44,6 +44,7 @@ def species_table() -> pd.DataFrame:
             "ZPE_Eh": [0.0512, 0.0101, np.nan],
             "S_Eh_K": [1.2345678e-4, 6.2e-5, 7.1e-5],
             "G_qrrho_Eh": [-78.55, -1.18, None],
+            "point_group": ["D2h", "D*h", "C2v"],
             "symmetry_number": [4, 2, 2],
             "transition_state": [True, False, False],
             "notes": ["50% conversion", "", "a long note that has to wrap: " + "mixed levels of theory; " * 3],
@@ -124,8 +125,9 @@ def test_latex_headers_units_and_numbers():
     # hartree 6 decimals, entropy scientific, integers plain, flags as words, formula with subscripts
     assert cells[4] == "$-78.587654$"
     assert cells[6] == r"$1.2346\times10^{-4}$"
-    assert cells[3] == "0" and cells[8] == "4" and cells[9] == "yes"
-    assert cells[2] == "C$_{2}$H$_{4}$"
+    assert cells[3] == "0" and cells[9] == "4" and cells[10] == "yes"
+    assert cells[2] == "C$_{2}$H$_{4}$" and cells[8] == "$D_{2h}$"
+    assert r"$D_{\infty h}$" in tex
     water = next(line for line in tex.splitlines() if line.startswith(r"water"))
     assert water.count("--") == 2  # missing ZPE and G
     assert r"p{5cm}" in tex  # the long notes wrap
@@ -222,6 +224,7 @@ def test_markdown_reads_back_with_pandas():
     assert list(back["E (elec) / Eₕ"]) == ["-78.587654", "-1.175400", "-76.408900"]
     assert list(back["ZPE / Eₕ"]) == ["0.051200", "0.010100", ""]
     assert list(back["Formula"]) == ["C₂H₄", "H₂", "H₂O"]
+    assert list(back["Point group"]) == ["D2h", "D∞h", "C2v"]
     assert float(back["S / Eₕ K⁻¹"][0]) == pytest.approx(1.2345678e-4, rel=1e-4)
 
 

@@ -407,6 +407,8 @@ def _md_cell(cell: str | None, column: _Column) -> str:
         return ""
     if column.name == "formula":
         cell = cell.translate(_UNICODE_SUBSCRIPTS)
+    if column.name == "point_group":
+        cell = cell.replace("*", "∞")
     return _md_escape(cell)
 
 
@@ -485,7 +487,20 @@ def _tex_cell(cell: str, column: _Column) -> str:
         return _tex_number(cell)
     if column.name == "formula":
         return re.sub(r"(\d+)", r"$_{\1}$", latex_escape(cell))
+    if column.name == "point_group":
+        return _tex_point_group(cell)
     return latex_escape(cell)
+
+
+def _tex_point_group(name: str) -> str:
+    r"""Schoenflies symbol in math: ``D3h`` -> ``$D_{3h}$``, ``C*v`` -> ``$C_{\infty v}$``."""
+    match = re.fullmatch(r"([CDSTOIK])([0-9]+|\*)?([a-z]?)", name)
+    if not match:
+        return latex_escape(name)
+    letter, order, suffix = match.groups()
+    order = r"\infty " if order == "*" else order or ""
+    sub = (order + suffix).strip()
+    return f"${letter}_{{{sub}}}$" if sub else f"${letter}$"
 
 
 def _tex_notes(notes: Iterable[str]) -> list[str]:
