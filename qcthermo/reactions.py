@@ -122,7 +122,7 @@ class ProfileSpec:
     Attributes:
         name: unique name.
         states: one list of (coefficient, species) terms per state.
-        labels: one display label per state (default: the terms joined by " + ").
+        labels: one display label per state (default: the terms joined by " + ", species by label).
         cyclic: a catalytic cycle (energy-span analysis).
         presentation: ``color``, ``label_states`` (state labels to write), ``style``, ``order`` as
             given, passed to the figures.
@@ -409,7 +409,8 @@ class _Parser:
             if not isinstance(raw, list) or len(raw) < 2:
                 self.fail(f"{what} needs 'states', a list of at least two states", key_line("states"))
             states = [self.terms(s, f"{what} state {i + 1}", key_line("states"), species) for i, s in enumerate(raw)]
-            labels = table.get("labels", [format_terms(s) for s in states])
+            shown = [[(c, species[n].label or n) for c, n in state] for state in states]  # display names
+            labels = table.get("labels", [format_terms(s) for s in shown])
             if not isinstance(labels, list) or len(labels) != len(states) or \
                     not all(isinstance(x, str) for x in labels):
                 self.fail(f"{what} labels must be a list of {len(states)} strings", key_line("labels"))
