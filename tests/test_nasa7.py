@@ -178,3 +178,63 @@ def test_bad_species_names_are_refused_with_a_reason():
     bar = Nasa7Fit("H", {"H": 1}, 300.0, 1000.0, 3000.0, fit.low, fit.high, reference_pressure=1e5)
     with pytest.raises(QcthermoError, match="1 atm"):
         chemkin_text([bar])
+
+
+def _pentane(temperatures):
+    """The sample scenario's n-pentane conformer ensemble (GFN2-xTB), built as the main job builds it."""
+    from qcthermo.species import build_species
+
+    calcs = [qcthermo.read_log(p) for p in sorted((GAS.parent / "conformers").glob("pentane_*.out"))]
+    return build_species("pentane", calcs, Conditions(temperature=temperatures, low_mode_model="rrho"))
+
+
+def test_ensemble_heat_capacity_is_the_derivative_of_the_ensemble_enthalpy():
+    # cp of a Boltzmann ensemble = d<H>/dT (its definition), here by central differences of the main job's
+    # own ensemble enthalpy (qcthermo.species, populations from G_i) against the closed form
+    from qcthermo.ensemble import boltzmann_free_energy
+    from qcthermo.export.nasa7 import ensemble_heat_capacity
+
+    temps = np.array([299.0, 300.0, 301.0, 999.0, 1000.0, 1001.0])
+    sp = _pentane(temps)
+    used = sp.used
+    assert len(used) > 2
+    h = np.array([c.values["H"] for c in used])
+    cp = np.array([np.asarray(c.thermo.cp) for c in used])
+    _, pops = boltzmann_free_energy(np.array([c.values["G"] for c in used]), temps)
+    closed = ensemble_heat_capacity(cp, h, pops, temps)
+    numeric = (sp.values["H"][[2, 5]] - sp.values["H"][[0, 3]]) / 2.0
+    np.testing.assert_allclose(closed[[1, 4]], numeric, rtol=1e-5)
+    assert np.all(closed > (pops * cp).sum(axis=0))  # the conformational term is positive
+
+
+def test_species_fit_follows_the_main_jobs_ensemble():
+    # the NASA-7 fit of a conformer ensemble reproduces the ensemble S and G that the main job computes
+    # (qcthermo.species: Boltzmann sum over distinct conformers, mirror images counted)
+    from qcthermo.export.nasa7 import nasa7_from_species
+
+    temps = np.array([300.0, 500.0, 800.0, 1200.0, 2000.0])
+    sp = _pentane(temps)
+    fit = nasa7_from_species(sp, Conditions(low_mode_model="rrho"))
+    s_main = entropy_to_j_mol_k(sp.values["S"])
+    g_main = sp.values["G"] * HARTREE_J * N_A
+    np.testing.assert_allclose(fit.entropy(temps), s_main, atol=0.1)  # J/(mol K)
+    np.testing.assert_allclose(fit.enthalpy(temps) - temps * fit.entropy(temps), g_main, atol=60.0)  # J/mol
+    assert "conformers" in fit.note
+
+
+def test_run_thermo_files_and_a_name_too_long_for_chemkin(tmp_path):
+    from types import SimpleNamespace
+
+    from qcthermo.export.nasa7 import write_run_thermo
+    from qcthermo.species import SpeciesOptions, build_species
+
+    cond = Conditions(temperature=298.15)
+    species = {name: build_species(name, [qcthermo.read_log(GAS / f"{log}.out")], cond)
+               for name, log in (("water", "water"), ("methyl_radical_long_name", "ch3"))}
+    ts = build_species("ts", [qcthermo.read_log(GAS / "ts_abstraction.out")], cond,
+                       SpeciesOptions(transition_state=True))
+    results = SimpleNamespace(species_results={**species, "ts": ts}, conditions=cond, findings=[])
+    written = write_run_thermo(results, tmp_path)
+    assert [p.name for p in written] == ["thermo.yaml"]
+    assert ct.Solution(str(tmp_path / "thermo.yaml")).species_names == ["water", "methyl_radical_long_name"]
+    assert any(f.subject == "thermo.dat" and "18" in f.message for f in results.findings)

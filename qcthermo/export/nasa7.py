@@ -101,13 +101,16 @@ class Nasa7Fit:
 
 
 def _constrained_lstsq(a: np.ndarray, b: np.ndarray, c: np.ndarray, d: np.ndarray) -> np.ndarray:
-    """min |a x - b|^2 subject to c x = d, by the KKT system [[2 a'a, c'], [c, 0]] [x, l] = [2 a'b, d].
+    """min |a x - b|^2 subject to c x = d, by the null-space method.
 
-    (Lawson and Hanson, Solving Least Squares Problems, 1974, ch. 20: equality-constrained least squares.)
+    x = x_p + N z with c x_p = d and the columns of N spanning the null space of c; z is then an
+    unconstrained least-squares problem (Lawson and Hanson, Solving Least Squares Problems, 1974,
+    ch. 20), solved by SVD without forming the normal equations.
     """
-    n, m = a.shape[1], c.shape[0]
-    kkt = np.block([[2.0 * a.T @ a, c.T], [c, np.zeros((m, m))]])
-    return np.linalg.solve(kkt, np.concatenate([2.0 * a.T @ b, d]))[:n]
+    x_p = np.linalg.lstsq(c, d, rcond=None)[0]
+    null = np.linalg.svd(c)[2][c.shape[0]:].T
+    z = np.linalg.lstsq(a @ null, b - a @ x_p, rcond=None)[0]
+    return x_p + null @ z
 
 
 def _fit_offsets(residual_low: np.ndarray, residual_high: np.ndarray, jump: float) -> tuple[float, float]:
@@ -136,7 +139,7 @@ def fit_nasa7(
     cp/R of both ranges is fitted together by least squares in the relative error (each point
     weighted 1/cp), constrained to equal values and slopes at ``t_mid``; then a6 and a7 are the
     least-squares offsets of h/R and s/R, constrained to continuity of h and s at ``t_mid``. The
-    polynomials are fitted in T/t_mid to keep the normal equations well conditioned. The
+    polynomials are fitted in T/t_mid to keep the least-squares problem well conditioned. The
     temperatures must cover both sides of ``t_mid``; points at t_mid belong to both ranges.
     ``t_mid="auto"`` tries each of :data:`AUTO_T_MID` inside the data and keeps the fit with the
     smallest largest cp error (Chemkin and Cantera read a middle temperature per species).
@@ -225,6 +228,84 @@ def enthalpy_offset(symbols: Sequence[str], h_reference) -> tuple[float, str]:
     return offset, "H is the atomisation-based heat of formation from the atomic enthalpies given (298.15 K)"
 
 
+def ensemble_heat_capacity(cp, h, populations, temperature):
+    """cp of a Boltzmann ensemble of conformers: <cp> + (<H^2> - <H>^2) / (k_B T^2), hartree/K.
+
+    With populations p_i ~ exp(-G_i / k_B T), d(-G_i / k_B T)/dT = H_i / (k_B T^2) gives
+    dp_i/dT = p_i (H_i - <H>) / (k_B T^2), so d<H>/dT = <cp> + <(H - <H>)^2> / (k_B T^2): the
+    conformational heat capacity (Pitzer, J. Chem. Phys. 1937, 5, 469, on rotational isomers).
+    Arrays (conformer, temperature) in hartree and hartree/K.
+    """
+    from ..ensemble import population_average
+    from ..units import K_B_EH
+
+    mean_h = population_average(h, populations)
+    return population_average(cp, populations) + population_average((h - mean_h) ** 2, populations) / (
+        K_B_EH * np.asarray(temperature) ** 2
+    )
+
+
+def _nasa_grid(t_low: float, t_mid, t_high: float) -> np.ndarray:
+    if not t_low < (1000.0 if t_mid == "auto" else t_mid) < t_high:
+        raise QcthermoError(f"NASA-7 temperature ranges need t_low < t_mid < t_high (got {t_low}, {t_mid}, {t_high})")
+    extra = [t_high] if t_mid == "auto" else [t_mid, t_high]
+    return np.unique(np.concatenate([np.arange(t_low, t_high, _GRID_STEP_K), extra]))
+
+
+def _molar_ensemble(molecules: Sequence[Molecule], shifts: Sequence[float], conditions: Conditions, grid: np.ndarray):
+    """Molar cp, h, s of the Boltzmann ensemble of ``molecules`` (energies shifted by ``shifts``, hartree)."""
+    from ..ensemble import boltzmann_free_energy, population_average
+    from ..thermo import thermochemistry_many
+
+    results = thermochemistry_many(list(molecules), conditions)
+    shift = np.asarray(shifts, dtype=float)[:, None]
+    h = np.array([np.broadcast_to(r.enthalpy, grid.shape) for r in results]) + shift
+    g = np.array([np.broadcast_to(r.gibbs, grid.shape) for r in results]) + shift
+    cp = np.array([np.broadcast_to(r.cp, grid.shape) for r in results])
+    g_ens, populations = boltzmann_free_energy(g, grid)
+    h_ens = population_average(h, populations)
+    cp_ens = ensemble_heat_capacity(cp, h, populations, grid)
+    return entropy_to_j_mol_k(cp_ens), h_ens * _EH_TO_J_MOL, entropy_to_j_mol_k((h_ens - g_ens) / grid)
+
+
+#: low-mode models whose S is not the integral of cp/T, and the consistent model NASA-7 fits use instead
+_CONSISTENT_MODEL = {"qrrho": "qrrho-enthalpy"}
+
+
+def _gas_conditions(conditions: Conditions | None, grid: np.ndarray, reference_state: str) -> tuple[Conditions, float]:
+    """The engine's conditions for a fit: the grid, the gas standard state and a consistent low-mode model.
+
+    Grimme's qRRHO changes S alone, so S(T) is not the integral of cp/T and no NASA-7 polynomial
+    (whose s is exactly that integral) can follow both; the fit then uses the same weights on the
+    enthalpy as well (qrrho-enthalpy), which restores the thermodynamic identity.
+    """
+    kind, pressure = parse_standard_state(reference_state)
+    if kind != "pressure":
+        raise QcthermoError(f"NASA-7 data need a gas standard state (1atm or 1bar), not {reference_state!r}")
+    base = conditions or Conditions()
+    model = _CONSISTENT_MODEL.get(base.low_mode_model, base.low_mode_model)
+    return base.replace(temperature=grid, standard_state=reference_state, pressure=None, low_mode_model=model), pressure
+
+
+def _fit_ensemble(molecules, shifts, symbols, name, level, conditions, t_low, t_mid, t_high, h_reference,
+                  reference_state) -> Nasa7Fit:
+    grid = _nasa_grid(t_low, t_mid, t_high)
+    cond, pressure = _gas_conditions(conditions, grid, reference_state)
+    cp, h, s = _molar_ensemble(molecules, shifts, cond, grid)
+    offset, reference_note = enthalpy_offset(symbols, h_reference)
+    counts: dict[str, int] = {}
+    for el in symbols:
+        counts[el] = counts.get(el, 0) + 1
+    provenance = ", ".join(x for x in (level, f"low-mode model {cond.low_mode_model}",
+                                       f"{len(molecules)} conformers" if len(molecules) > 1 else None) if x)
+    fit = fit_nasa7(grid, cp, h + offset, s, t_mid=t_mid, name=name, composition=counts,
+                    note=f"qcthermo {hill_formula(symbols)} ({provenance}); {reference_note}",
+                    reference_pressure=pressure)
+    quality = (f"fit: cp within {100 * fit.max_cp_rel_error:.2g} %, h within {fit.max_h_error:.2g} J/mol, "
+               f"s within {fit.max_s_error:.2g} J/(mol K)")
+    return replace(fit, note=f"{fit.note}; {quality}")
+
+
 def nasa7_from_molecule(
     mol: Molecule,
     conditions: Conditions | None = None,
@@ -244,34 +325,59 @@ def nasa7_from_molecule(
     :func:`enthalpy_offset`). ``t_mid="auto"`` picks the middle temperature per species (see
     :func:`fit_nasa7`).
     """
-    from ..thermo import thermochemistry
+    return _fit_ensemble([mol], [0.0], mol.symbols, name or mol.name or mol.formula, mol.level_of_theory,
+                         conditions, t_low, t_mid, t_high, h_reference, reference_state)
 
-    kind, pressure = parse_standard_state(reference_state)
-    if kind != "pressure":
-        raise QcthermoError(f"NASA-7 data need a gas standard state (1atm or 1bar), not {reference_state!r}")
-    if not t_low < (1000.0 if t_mid == "auto" else t_mid) < t_high:
-        raise QcthermoError(f"NASA-7 temperature ranges need t_low < t_mid < t_high (got {t_low}, {t_mid}, {t_high})")
-    extra = [t_high] if t_mid == "auto" else [t_mid, t_high]
-    grid = np.unique(np.concatenate([np.arange(t_low, t_high, _GRID_STEP_K), extra]))
-    base = conditions or Conditions()
-    result = thermochemistry(mol, base.replace(temperature=grid, standard_state=reference_state, pressure=None))
-    offset, reference_note = enthalpy_offset(mol.symbols, h_reference)
-    label = name or mol.name or mol.formula
-    provenance = ", ".join(x for x in (mol.level_of_theory, f"low-mode model {base.low_mode_model}") if x)
-    counts: dict[str, int] = {}
-    for el in mol.symbols:
-        counts[el] = counts.get(el, 0) + 1
-    return fit_nasa7(
-        grid,
-        entropy_to_j_mol_k(np.asarray(result.cp)),
-        np.asarray(result.enthalpy) * _EH_TO_J_MOL + offset,
-        entropy_to_j_mol_k(np.asarray(result.entropy)),
-        t_mid=t_mid,
-        name=label,
-        composition=counts,
-        note=f"qcthermo {hill_formula(mol.symbols)} ({provenance}); {reference_note}",
-        reference_pressure=pressure,
-    )
+
+def nasa7_from_species(species, conditions: Conditions | None = None, t_low: float = 300.0,
+                       t_mid: float | str = 1000.0, t_high: float = 3000.0, h_reference="electronic",
+                       reference_state: str = "1atm") -> Nasa7Fit:
+    """NASA-7 fit of a species of the main job (qcthermo.species.SpeciesResult) as the run treats it.
+
+    Its used conformers form a Boltzmann ensemble at every temperature (G = -RT ln sum exp(-G_i/RT),
+    H the population average, cp with the conformational term of :func:`ensemble_heat_capacity`,
+    S = (H - G)/T), each conformer's energies shifted by E(high) - E(low) when it has a higher-level
+    single point (the composite scheme). A species at its own concentration is still fitted as an
+    ideal gas at ``reference_state``.
+    """
+    used = [c for c in species.used if c.molecule is not None]
+    if not used:
+        raise QcthermoError(f"species {species.name!r}: no usable conformer to fit")
+    shifts = [0.0 if c.single_point is None or c.single_point.energy is None
+              else c.single_point.energy - c.molecule.energy for c in used]
+    levels = sorted({c.level for c in used if c.level})
+    return _fit_ensemble([c.molecule for c in used], shifts, used[0].molecule.symbols, species.name,
+                         ", ".join(levels) or None, conditions, t_low, t_mid, t_high, h_reference, reference_state)
+
+
+def write_run_thermo(results, out_dir) -> list:
+    """thermo.yaml and thermo.dat of every minimum of a run (qcthermo.workflow.RunResults) into ``out_dir``.
+
+    Transition states are left out (kinetics codes take them through the rate constants). A species
+    that cannot be fitted, or a file that cannot be written (a name too long for Chemkin), becomes a
+    warning finding and the rest goes on.
+    """
+    from pathlib import Path
+
+    from ..species import Finding
+
+    fits = []
+    for name, sp in results.species_results.items():
+        if sp.options.transition_state or not sp.usable:
+            continue
+        try:
+            fits.append(nasa7_from_species(sp, results.conditions))
+        except (QcthermoError, ValueError) as err:
+            results.findings.append(Finding("warning", name, f"no NASA-7 fit: {err}"))
+    if not fits:
+        return []
+    written = []
+    for file_name, writer in (("thermo.yaml", write_cantera_yaml), ("thermo.dat", write_chemkin)):
+        try:
+            written.append(writer(fits, Path(out_dir) / file_name))
+        except QcthermoError as err:
+            results.findings.append(Finding("warning", file_name, f"not written: {err}"))
+    return written
 
 
 def _elements(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None) -> list[str]:
