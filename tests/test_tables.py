@@ -130,6 +130,7 @@ def test_latex_headers_units_and_numbers():
     assert r"$D_{\infty h}$" in tex
     water = next(line for line in tex.splitlines() if line.startswith(r"water"))
     assert water.count("--") == 2  # missing ZPE and G
+    assert next(line for line in tex.splitlines() if line.startswith(r"A\&B")).endswith("-- \\\\")  # empty note
     assert r"p{5cm}" in tex  # the long notes wrap
 
 

@@ -215,7 +215,7 @@ def number_kind(column: str, values: Sequence[Any]) -> str:
         return unit.kind
     if re.fullmatch(r"k(_[a-z]+)?", column) and column != "k_unit":
         return "sci3"  # rate constants span many decades: 3 significant digits
-    if column.startswith("kappa") or column in ("population", "degree_of_control"):
+    if column.startswith("kappa") or column == "population":
         return "fixed3"
     numbers = [v for v in values if _is_number(v) and not _missing(v)]
     if not numbers:
@@ -259,8 +259,8 @@ def format_number(value: Any, kind: str) -> str:
 
 
 def _cell_text(value: Any, kind: str) -> str | None:
-    """Display text of one cell; None for a missing value."""
-    if _missing(value):
+    """Display text of one cell; None for a missing value (an empty text counts as missing)."""
+    if _missing(value) or (isinstance(value, str) and not value.strip()):
         return None
     if _is_bool(value):
         return "yes" if value else "no"
