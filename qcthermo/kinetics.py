@@ -23,8 +23,10 @@ TUNNELLING_MODELS = ("eckart", "wigner", "none")
 #: integrand is within e^-40 (~4e-18) of its peak
 _ECKART_LOG_RANGE = 40.0
 #: points of the coarse grid that brackets the integrand and of the fine grid that integrates it
-_ECKART_COARSE_POINTS = 2001
-_ECKART_FINE_POINTS = 2001
+_ECKART_COARSE_POINTS = 401
+_ECKART_FINE_POINTS = 501
+#: temperatures integrated together
+_ECKART_BLOCK = 32
 
 
 def _temperature(temperature) -> np.ndarray:
@@ -243,12 +245,21 @@ def eckart_kappa(imag_freq_cm, v_forward, v_reverse, temperature):
     underflow on the way; a kappa beyond the float range (deep tunnelling far below the
     crossover temperature) comes back as inf.
     """
-    from scipy.integrate import simpson
-
     t = _temperature(temperature)
     v1, v2 = float(v_forward), float(v_reverse)
     hw, _, _ = _eckart_barrier(v1, v2, imag_freq_cm)
-    kt = K_B_EH * np.atleast_1d(t)[:, None]
+    flat = np.atleast_1d(t)
+    # a few dozen temperatures at a time keep the (temperature, energy) grids small
+    kappa = np.concatenate([_eckart_kappa_block(flat[i:i + _ECKART_BLOCK], v1, v2, imag_freq_cm, hw)
+                            for i in range(0, flat.size, _ECKART_BLOCK)])
+    return _like_input(kappa.reshape(t.shape), temperature)
+
+
+def _eckart_kappa_block(t: np.ndarray, v1: float, v2: float, imag_freq_cm: float, hw: float) -> np.ndarray:
+    """:func:`eckart_kappa` for a 1-D block of temperatures."""
+    from scipy.integrate import simpson
+
+    kt = K_B_EH * t[:, None]
     e0 = max(0.0, v1 - v2)
 
     def log_integrand(u):
@@ -277,8 +288,7 @@ def eckart_kappa(imag_freq_cm, v_forward, v_reverse, temperature):
     peak = np.max(log_f, axis=(1, 2))
     integral = simpson(np.exp(log_f - peak[:, None, None]), x=fine, axis=2).sum(axis=1)
     with np.errstate(over="ignore"):
-        kappa = np.exp(peak + np.log(integral) - np.log(kt[:, 0]))
-    return _like_input(kappa.reshape(t.shape), temperature)
+        return np.exp(peak + np.log(integral) - np.log(kt[:, 0]))
 
 
 def reaction_rates(
