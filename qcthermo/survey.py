@@ -17,7 +17,9 @@ import importlib.util
 import inspect
 import multiprocessing
 import os
+import signal
 import sys
+import tracemalloc
 import types
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
@@ -188,7 +190,17 @@ def _pool(workers: int) -> ProcessPoolExecutor:
     # fork shares the parent's already-imported reader (cclib takes most of a second to import)
     methods = multiprocessing.get_all_start_methods()
     context = multiprocessing.get_context("fork" if "fork" in methods else None)
-    return ProcessPoolExecutor(max_workers=workers, mp_context=context)
+    return ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_start_worker)
+
+
+def _start_worker() -> None:
+    """Undo what a forked worker should not inherit from the parent.
+
+    Ctrl-C is the parent's to handle (one message, not a traceback per worker), and allocation tracing
+    a parent may have switched on to measure itself would slow every worker several-fold.
+    """
+    signal.signal(signal.SIGINT, signal.SIG_IGN)
+    tracemalloc.stop()
 
 
 def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[[int, tuple[str, Any]], None]) -> None:

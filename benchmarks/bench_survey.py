@@ -1,0 +1,132 @@
+"""Survey speed and memory: cold (empty cache) against a plain cclib loop, warm (cached) against cold.
+
+For each tree size a fresh process builds a temporary tree of copies of the real logs (the third-party
+folder beside the project, if present, and sample_outputs/), each copy made distinct by trailing
+newlines so that the cache cannot reuse one copy's entry for another, then times in that one process:
+
+- a plain loop of ``cclib.io.ccread`` over the files (the baseline: one core, no audit, no cache);
+- a cold survey with ``--jobs`` workers and a fresh cache directory;
+- a warm survey (everything cached);
+- a second cold survey under tracemalloc for the parent's peak memory; the workers' peak resident size
+  comes from ``resource.getrusage(RUSAGE_CHILDREN)``.
+
+Targets (printed, not asserted): cold >= 1.7x the loop with 2 jobs, warm >= 20x cold, memory that does
+not grow with the total size of the logs. Run: ``.venv/bin/python benchmarks/bench_survey.py``.
+"""
+
+from __future__ import annotations
+
+import argparse
+import contextlib
+import json
+import logging
+import os
+import resource
+import subprocess
+import sys
+import tempfile
+import time
+import tracemalloc
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+SOURCES = [ROOT.parent / "shared" / "fixtures" / "third-party-logs", ROOT / "sample_outputs"]
+SUFFIXES = (".out", ".log", ".output", ".nwo")
+
+
+def source_logs() -> list[Path]:
+    return sorted(p for d in SOURCES if d.is_dir() for p in d.rglob("*") if p.suffix.lower() in SUFFIXES)
+
+
+def build_tree(root: Path, n_files: int) -> int:
+    """``n_files`` distinct copies of the source logs under ``root``, 50 per folder; total bytes."""
+    logs = source_logs()
+    total = 0
+    for i in range(n_files):
+        src = logs[i % len(logs)]
+        dest = root / f"batch{i // 50:02d}" / f"{i:04d}_{src.name}"
+        dest.parent.mkdir(parents=True, exist_ok=True)
+        data = src.read_bytes() + b"\n" * (1 + i // len(logs))
+        dest.write_bytes(data)
+        total += len(data)
+    return total
+
+
+def timed(func, *args, **kwargs):
+    start = time.perf_counter()
+    value = func(*args, **kwargs)
+    return time.perf_counter() - start, value
+
+
+def cclib_loop(paths: list[Path]) -> int:
+    """The baseline: what a script of five lines does. Returns how many files cclib read."""
+    import cclib
+
+    read = 0
+    for path in paths:
+        with contextlib.suppress(Exception):  # ORCA 6 and some NWChem outputs raise inside cclib
+            read += cclib.io.ccread(str(path), loglevel=logging.CRITICAL) is not None
+    return read
+
+
+def measure(n_files: int, jobs: int) -> dict:
+    import cclib  # noqa: F401  imported before any timing, for the loop and for the workers alike
+
+    import qcthermo.readers  # noqa: F401
+    from qcthermo.survey import survey
+
+    with tempfile.TemporaryDirectory(prefix="qcthermo-bench-") as tmp:
+        tree = Path(tmp) / "logs"
+        total_bytes = build_tree(tree, n_files)
+        paths = sorted(tree.rglob("*.*"))
+        t_loop, _ = timed(cclib_loop, paths)
+        os.environ["QCTHERMO_CACHE_DIR"] = str(Path(tmp) / "cache-timing")
+        t_cold, cold = timed(survey, tree, jobs=jobs)
+        t_warm, warm = timed(survey, tree, jobs=jobs)
+        assert warm.stats["parsed"] == 0, warm.stats
+        os.environ["QCTHERMO_CACHE_DIR"] = str(Path(tmp) / "cache-memory")
+        tracemalloc.start()
+        survey(tree, jobs=jobs)
+        parent_peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.stop()
+        children_kib = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss  # KiB on Linux
+    return {
+        "files": n_files, "MB": total_bytes / 1e6, "jobs": jobs, "loop_s": t_loop, "cold_s": t_cold,
+        "warm_s": t_warm, "counts": cold.counts(), "parent_peak_MB": parent_peak / 1e6,
+        "workers_maxrss_MB": children_kib / 1024, "same_rows": cold.rows == warm.rows,
+    }
+
+
+def report(r: dict) -> None:
+    mb, n = r["MB"], r["files"]
+    print(f"{n} files, {mb:.1f} MB ({r['counts']}), --jobs {r['jobs']}")
+    for label, key in (("cclib loop", "loop_s"), ("cold survey", "cold_s"), ("warm survey", "warm_s")):
+        print(f"  {label:12s} {r[key]:8.3f} s  {n / r[key]:9.1f} files/s  {mb / r[key]:8.1f} MB/s")
+    print(f"  cold vs loop: {r['loop_s'] / r['cold_s']:.2f}x (aim >= 1.7)   "
+          f"warm vs cold: {r['cold_s'] / r['warm_s']:.1f}x (aim >= 20)   warm rows == cold rows: {r['same_rows']}")
+    print(f"  peak memory: parent (tracemalloc) {r['parent_peak_MB']:.1f} MB, "
+          f"workers (max RSS) {r['workers_maxrss_MB']:.1f} MB")
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--sizes", default="150,450", help="tree sizes, files (150,450)")
+    parser.add_argument("--jobs", type=int, default=2)
+    parser.add_argument("--child", type=int, default=None, help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.child is not None:
+        print(json.dumps(measure(args.child, args.jobs)))
+        return 0
+    if not source_logs():
+        print("no source logs found", file=sys.stderr)
+        return 1
+    print(f"sources: {len(source_logs())} logs; {os.cpu_count()} cores; python {sys.version.split()[0]}")
+    for size in (int(s) for s in args.sizes.split(",")):
+        out = subprocess.run([sys.executable, __file__, "--child", str(size), "--jobs", str(args.jobs)],
+                             capture_output=True, text=True, check=True).stdout
+        report(json.loads(out.strip().splitlines()[-1]))
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
