@@ -18,12 +18,14 @@ import numpy as np
 
 from .cleaning import clean_modes
 from .errors import ThermoError
-from .geometry import AMU_ANGSTROM2_KG_M2, principal_moments
+from .geometry import AMU_ANGSTROM2_KG_M2
 from .records import Conditions, Molecule, ThermoResult, parse_standard_state
 from .scaling import resolve_scale_factors
 from .units import AMU, C_LIGHT, H_PLANCK, K_B, K_B_EH, N_A
 
 COMPONENTS = ("translational", "rotational", "vibrational", "electronic")
+#: the totals of :func:`thermo_arrays` (also with the "rrho_" prefix)
+TOTALS = ("zpe", "thermal_energy", "enthalpy", "entropy", "gibbs", "cv", "cp")
 
 #: largest number of (molecule, temperature, mode) elements evaluated at once (memory and cache bound)
 _CHUNK_ELEMENTS = 200_000
@@ -336,6 +338,24 @@ def prepare_molecule(molecule: Molecule, conditions: Conditions, trust_symmetry_
     )
 
 
+def stacked_principal_moments(molecules: list[Molecule]) -> np.ndarray:
+    """Principal moments (n, 3), u*angstrom^2, ascending, of many molecules in one eigenvalue call.
+
+    The batched form of geometry.inertia_tensor, I = sum_i m_i (|r_i|^2 1 - r_i r_i^T) about the centre
+    of mass; shorter molecules are padded with massless atoms, which add nothing.
+    """
+    n, width = len(molecules), max((m.natoms for m in molecules), default=1)
+    xyz = np.zeros((n, width, 3))
+    mass = np.zeros((n, width))
+    for row, m in enumerate(molecules):
+        xyz[row, : m.natoms] = m.coordinates
+        mass[row, : m.natoms] = m.masses
+    r = xyz - np.einsum("na,nai->ni", mass, xyz)[:, None, :] / mass.sum(axis=1)[:, None, None]
+    r2 = np.einsum("na,nai,nai->n", mass, r, r)
+    tensor = r2[:, None, None] * np.eye(3) - np.einsum("na,nai,naj->nij", mass, r, r)
+    return np.clip(np.linalg.eigvalsh(tensor), 0.0, None)
+
+
 def stack_molecules(molecules: list[Molecule], infos: list[MoleculeInfo]) -> PreparedMolecules:
     """Stack prepared molecules into the arrays of :class:`PreparedMolecules` (modes padded to the longest)."""
     n = len(molecules)
@@ -348,7 +368,7 @@ def stack_molecules(molecules: list[Molecule], infos: list[MoleculeInfo]) -> Pre
     return PreparedMolecules(
         energy=np.array([m.energy for m in molecules], dtype=float),
         mass=np.array([m.mass for m in molecules], dtype=float),
-        moments=np.array([principal_moments(m.coordinates, m.masses)[0] for m in molecules]).reshape(n, 3),
+        moments=stacked_principal_moments(molecules),
         rotational_dof=np.array(
             [0 if m.natoms == 1 else 2 if i.linear else 3 for m, i in zip(molecules, infos, strict=True)]
         ),
@@ -446,6 +466,9 @@ def _chunk_arrays(prepared: PreparedMolecules, conditions: Conditions, t: np.nda
         "S_electronic": elec_s, "U_electronic": zeros, "Cv_electronic": zeros,
     }  # fmt: skip
     for prefix, key in (("", ""), ("rrho_", "rrho_")):
+        if prefix and conditions.low_mode_model == "rrho":
+            out.update({f"rrho_{name}": out[name] for name in TOTALS})
+            break
         s = trans_s + rot["S"] + vib[key + "S"] + elec_s
         cv = 1.5 * K_B_EH + rot["Cv"] + vib[key + "Cv"]
         u = e + trans_u + rot["U"] + vib[key + "U"]
@@ -473,10 +496,14 @@ def thermo_arrays(prepared: PreparedMolecules, conditions: Conditions) -> dict[s
     n = len(prepared)
     if n <= step:
         return _chunk_arrays(prepared, conditions, t)
-    parts = [
-        _chunk_arrays(_slice(prepared, slice(start, start + step)), conditions, t) for start in range(0, n, step)
-    ]
-    return {key: np.concatenate([p[key] for p in parts]) for key in parts[0]}
+    out: dict[str, np.ndarray] = {}
+    for start in range(0, n, step):
+        rows = slice(start, start + step)
+        for key, value in _chunk_arrays(_slice(prepared, rows), conditions, t).items():
+            if key not in out:
+                out[key] = np.empty((n, *value.shape[1:]))
+            out[key][rows] = value
+    return out
 
 
 def _slice(prepared: PreparedMolecules, rows: slice) -> PreparedMolecules:
@@ -514,12 +541,11 @@ def _result(
             return float(value)
         return float(value[0]) if scalar else value.copy()
 
-    names = ("zpe", "thermal_energy", "enthalpy", "entropy", "gibbs", "cv", "cp")
     return ThermoResult(
         conditions=conditions,
         electronic_energy=float(molecule.energy),
-        **{name: pick(name) for name in names},
-        rrho={name: pick("rrho_" + name) for name in names},
+        **{name: pick(name) for name in TOTALS},
+        rrho={name: pick("rrho_" + name) for name in TOTALS},
         components={c: {q: pick(f"{q}_{c}") for q in ("U", "S", "Cv")} for c in COMPONENTS},
         point_group=info.point_group,
         symmetry_number=info.symmetry_number,

@@ -207,3 +207,13 @@ def test_harmonic_mode_entropy_matches_ase_per_mode():
                                    atol=1e-20)  # ASE's ln(1 - e^-x) loses digits for x > ~30
         np.testing.assert_allclose(ev(harmonic_thermal_energy(theta, temps)),
                                    [mode.get_vib_energy_contribution(t) for t in temps], rtol=REL, atol=1e-300)
+
+
+def test_stacked_principal_moments_match_ase():
+    # reference: ase.Atoms.get_moments_of_inertia, one molecule at a time
+    from qcthermo.thermo import stacked_principal_moments
+
+    mols = [molecule(n) for n in ("CO", "H2O", "CH4", "C2H4", "NH3")]
+    stacked = stacked_principal_moments(mols)
+    for row, mol in zip(stacked, mols, strict=True):
+        np.testing.assert_allclose(row, np.sort(ase_atoms(mol).get_moments_of_inertia()), rtol=1e-9, atol=1e-9)
