@@ -235,3 +235,39 @@ def test_scaling_applies_separately_to_zpe_and_thermal_terms():
 def test_molar_units_of_entropy():
     # 1 Eh/K per molecule = HARTREE_J * N_A J/(mol K) (CODATA via scipy.constants)
     assert entropy_to_j_mol_k(1.0) == pytest.approx(HARTREE_J * N_A, rel=1e-15)
+
+
+def test_thermo_command_table(third_party, tmp_path, capsys):
+    # real logs (third-party-logs README): dvb is C2h with sigma 2; the GAMESS NH3 run is a
+    # transition-state frequency job with exactly one imaginary mode
+    import shutil
+
+    import pandas as pd
+
+    from qcthermo.cli import main
+
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    shutil.copy(third_party / "gaussian16" / "dvb_ir.out", logs / "dvb_ir.out")
+    shutil.copy(third_party / "gamess-us2018" / "nh3_ts_ir.out", logs / "nh3_ts_ir.out")
+    (logs / "broken.out").write_text("not a quantum-chemistry log\n")
+    csv = tmp_path / "thermo.csv"
+    args = ["thermo", str(logs), "--csv", str(csv), "--no-cache", "--jobs", "1", "--quiet",
+            "--temperature-range", "250:350:50", "--low-mode-model", "qrrho-enthalpy"]
+    assert main(args) == 1  # results written, one input unreadable
+    table = pd.read_csv(csv)
+    dvb = table[table["file"] == "dvb_ir.out"]
+    assert list(dvb["T_K"]) == [250.0, 300.0, 350.0]
+    assert set(dvb["symmetry_number"]) == {2} and set(dvb["point_group"]) == {"C2h"}
+    for column in ("E_elec_Eh", "ZPE_Eh", "H_Eh", "TS_Eh", "G_Eh", "G_qrrho_enthalpy_Eh", "dG_qrrho_enthalpy_kcal_mol"):
+        assert dvb[column].notna().all()
+    assert np.allclose(dvb["G_Eh"], dvb["H_Eh"] - dvb["TS_Eh"])
+    ts = table[table["file"] == "nh3_ts_ir.out"]
+    assert set(ts["imaginary_cm1"]) == {-825.18} and set(ts["status"]) == {"warning"}
+    broken = table[table["file"] == "broken.out"]
+    assert len(broken) == 1 and broken["status"].iloc[0] == "error" and "\n" not in broken["reason"].iloc[0]
+    # an existing CSV is not overwritten without --force
+    before = csv.read_text()
+    assert main(args) == 2
+    assert csv.read_text() == before
+    assert "--force" in capsys.readouterr().err
