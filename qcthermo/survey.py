@@ -33,8 +33,9 @@ from .errors import LogReadError, QcthermoError
 from .progress import ProgressBar
 from .records import JOB_TYPES, Calculation
 
-#: file names (case-insensitive suffixes) read as logs
-CANDIDATE_SUFFIXES = (".out", ".log", ".output", ".nwo")
+#: file names (case-insensitive endings) read as logs; the reader undoes gzip itself
+LOG_SUFFIXES = (".out", ".log", ".output", ".nwo")
+CANDIDATE_SUFFIXES = LOG_SUFFIXES + tuple(s + ".gz" for s in LOG_SUFFIXES)
 #: directory names never entered (besides hidden ones and virtual environments)
 SKIPPED_DIRS = frozenset({"__pycache__", "node_modules", "site-packages"})
 #: columns of the survey table (DESIGN.md section 4)

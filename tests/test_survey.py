@@ -10,6 +10,7 @@ and check the values listed in that folder's README.
 from __future__ import annotations
 
 import dataclasses
+import gzip
 import json
 import os
 import shutil
@@ -81,14 +82,15 @@ def xyz_tree(tmp_path) -> Path:
 
 def test_candidates_by_suffix_skipping_hidden_venv_and_cache_dirs(tmp_path):
     root = tmp_path / "tree"
-    for rel in ("a.out", "B.LOG", "x/c.output", "x/y/d.nwo", "notes.txt", "job.inp", ".hidden.out",
+    for rel in ("a.out", "B.LOG", "x/c.output", "x/y/d.nwo", "old.log.gz", "notes.txt", "job.inp", "job.gz",
+                ".hidden.out",
                 ".git/e.out", "env/f.out", "__pycache__/g.log", "cache/h.out", "x/.snap/i.out"):
         path = root / rel
         path.parent.mkdir(parents=True, exist_ok=True)
         path.write_text("x")
     (root / "env" / "pyvenv.cfg").write_text("home = /usr\n")
     found, notes = find_candidates(root, skip=(root / "cache",))
-    assert [c.relpath for c in found] == ["B.LOG", "a.out", "x/c.output", "x/y/d.nwo"]
+    assert [c.relpath for c in found] == ["B.LOG", "a.out", "old.log.gz", "x/c.output", "x/y/d.nwo"]
     assert notes == []
     assert found[0].key.path == str(root / "B.LOG") and found[0].key.size == 1
 
@@ -263,6 +265,7 @@ def real_tree(third_party, tmp_path) -> Path:
                 "orca6.0/dvb_ir.out"):
         (root / Path(rel).parent).mkdir(exist_ok=True)
         shutil.copy(third_party / rel, root / rel)
+    (root / "qchem.out.gz").write_bytes(gzip.compress((third_party / "qchem5.4" / "dvb_ir.out").read_bytes()))
     (root / "empty.out").write_text("")
     (root / "binary.log").write_bytes(bytes(range(256)) * 16)
     text = (third_party / "gaussian16" / "dvb_ir.out").read_bytes()
@@ -284,6 +287,8 @@ def test_survey_of_real_logs(real_tree):
     assert rows["gamess-us2018/nh3_ts_ir.out"]["n_imaginary"] == 1
     orca6 = rows["orca6.0/dvb_ir.out"]
     assert orca6["n_imaginary"] == 0 and orca6["lowest_frequency_cm1"] == pytest.approx(43.87, abs=0.01)
+    assert rows["qchem.out.gz"]["status"] == "ok" and rows["qchem.out.gz"]["program"] == "qchem"
+    assert len(result.calculations["qchem.out.gz"].frequencies) == 54
     assert rows["empty.out"]["status"] == "error" and rows["empty.out"]["reason"]
     assert rows["binary.log"]["status"] == "error"
     assert rows["truncated.out"]["status"] in ("error", "warning") and rows["truncated.out"]["reason"]

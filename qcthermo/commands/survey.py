@@ -9,7 +9,7 @@ from pathlib import Path
 
 from ..errors import QcthermoError
 from ..fileio import atomic_write
-from ..survey import SurveyResult, survey
+from ..survey import LOG_SUFFIXES, SurveyResult, survey
 
 #: the columns of the terminal table: (heading, how to show a row)
 _TABLE = (
@@ -78,8 +78,8 @@ def main(args: argparse.Namespace) -> int:
     for note in result.notes:
         print(f"qcthermo survey: warning: {note}", file=sys.stderr)
     if not result.rows:
-        print(f"qcthermo survey: no log files (*.out, *.log, *.output, *.nwo) under {args.directory}",
-              file=sys.stderr)
+        patterns = ", ".join(f"*{s}" for s in LOG_SUFFIXES)
+        print(f"qcthermo survey: no log files ({patterns}, also gzipped) under {args.directory}", file=sys.stderr)
         return 2
     if not args.quiet:
         print_table(result)
