@@ -60,7 +60,11 @@ final_geometry() { # final_geometry FILE.out : the last "Output coordinates in a
 
 write_mp2_input() { # write_mp2_input NAME MULT : MP2/cc-pVTZ single point on the geometry of gas/NAME.out
     local name=$1 mult=$2 ref
-    ref=$([ "$mult" = 1 ] && echo "rhf singlet" || echo "uhf doublet")
+    case $mult in
+        1) ref="rhf singlet" ;;
+        2) ref="uhf doublet" ;;
+        3) ref="uhf triplet" ;;
+    esac
     {
         echo "start ${name}_mp2"
         echo "title \"$name, MP2/cc-pVTZ single point on the B3LYP/6-31G* geometry of gas/$name.out\""
@@ -101,7 +105,9 @@ part_sp() {
     write_mp2_input ts_abstraction 2
     write_mp2_input ch3 2
     write_mp2_input h2 1
-    for job in ch4 h_atom ts_abstraction ch3 h2; do
+    write_mp2_input o2 3
+    write_mp2_input water 1
+    for job in ch4 h_atom ts_abstraction ch3 h2 o2 water; do
         nwchem_job "sp/${job}_mp2"
     done
 }
