@@ -15,7 +15,7 @@ import numpy as np
 from ..errors import LogReadError
 from ..records import Calculation
 from . import cclib_data, fallback
-from .normalise import inferred_multiplicity, n_vibrations, solvent_model_name, vibrational_modes
+from .normalise import inferred_multiplicity, method_name, n_vibrations, solvent_model_name, vibrational_modes
 from .programs import (
     job_spec,
     job_types_from_spec,
@@ -89,7 +89,7 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
     elif source.program == "psi4" and found.get("method") in (None, "DFT"):
         functional = re.search(r"^\s+(\S+) (?:Hyb-)?(?:GGA|LSDA|Meta-GGA|LDA) Exchange-Correlation", text, re.M)
         if functional:
-            found["method"] = functional.group(1).upper()
+            found["method"] = method_name(functional.group(1))
         elif re.search(r"@(DF-)?(RHF|UHF|ROHF|CUHF) Final Energy", text):
             found["method"] = "HF"
 
