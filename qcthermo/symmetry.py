@@ -99,6 +99,8 @@ def analyse_symmetry(symbols, coordinates, masses=None, tolerance: float = DEFAU
     xyz = np.asarray(coordinates, dtype=float)
     if xyz.ndim != 2 or xyz.shape != (len(symbols), 3):
         raise QcthermoError(f"{len(symbols)} atoms need an ({len(symbols)}, 3) coordinate array, got {xyz.shape}")
+    if not np.all(np.isfinite(xyz)):
+        raise QcthermoError("the coordinates hold non-finite values (NaN or infinity)")
     m = atomic_masses(symbols) if masses is None else np.asarray(masses, dtype=float)
     if m.shape != (len(symbols),):
         raise QcthermoError(f"{len(symbols)} atoms but {m.size} masses")

@@ -238,12 +238,27 @@ def test_bad_input():
         analyse_symmetry(("O", "H"), np.zeros((3, 3)))
 
 
-def test_dvb_from_gaussian_log(third_party):
-    """p-divinylbenzene from a real Gaussian 16 frequency log: C2h, sigma 2 (the folder's README)."""
+DVB_LOGS = [
+    "gaussian16/dvb_ir.out",
+    "gaussian16/dvb_gopt.out",
+    "orca5.0/dvb_ir.out",
+    "orca6.0/dvb_ir.out",
+    "qchem5.4/dvb_ir.out",
+    "nwchem7.0/dvb_ir.out",
+    "psi4-1.2.1/dvb_ir_rhf.out",
+    "xtb6.6.1/dvb_ir.out",
+]
+
+
+@pytest.mark.parametrize("log", DVB_LOGS)
+def test_dvb_from_real_logs(third_party, log):
+    """p-divinylbenzene optimised by six programs: C2h, sigma 2 (the fixture folder's README)."""
     readers = pytest.importorskip("qcthermo.readers")
     if not hasattr(readers, "read_log"):
         pytest.skip("qcthermo.readers.read_log is not available yet")
-    calc = readers.read_log(third_party / "gaussian16" / "dvb_ir.out")
+    calc = readers.read_log(third_party / log)
+    if not np.isfinite(calc.coordinates).all():
+        pytest.skip(f"the reader gives no finite geometry for {log}")
     info = analyse_symmetry(calc.symbols, calc.coordinates)
     assert (info.point_group, info.symmetry_number, info.chiral) == ("C2h", 2, False)
 
@@ -300,3 +315,10 @@ def test_s4_without_mirror_or_inversion():
     xyz = np.vstack([[p @ carbon for p in powers], [p @ hydrogen for p in powers]])
     info = analyse_symmetry(("C",) * 4 + ("H",) * 4, xyz)
     assert (info.point_group, info.symmetry_number, info.chiral) == ("S4", 2, False)
+
+
+def test_non_finite_coordinates():
+    symbols, xyz = water()
+    xyz[1, 0] = np.nan
+    with pytest.raises(ValueError, match="non-finite"):
+        analyse_symmetry(symbols, xyz)
