@@ -27,7 +27,6 @@ import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg  # figures are files: no window, no pyplot
 from matplotlib.figure import Figure
 from matplotlib.lines import Line2D
-from matplotlib.path import Path as MplPath
 from matplotlib.transforms import Bbox
 
 from ..errors import QcthermoError
@@ -80,11 +79,13 @@ COLUMN_WIDTH_IN = 8.5 / 2.54
 MAX_WIDTH_IN = 17.8 / 2.54
 FIGURE_HEIGHT_IN = 2.6
 
-LEVEL_HALF_WIDTH = 0.3  # data units; states sit at x = 0, 1, 2, ...
+LEVEL_HALF_WIDTH = 0.34  # data units; states sit at x = 0, 1, 2, ...
+WRAP_FRACTION = 0.8  # names wrap to this fraction of a slot: a little wider than the level, clear of connectors
 LEVEL_LINEWIDTH = 1.8  # points
 LABEL_GAP_PT = 1.5  # clearance kept between a label and anything else
 NUDGE_STEP_PT = 1.0
 MAX_NUDGE_STEPS = 200
+MAX_WIDENINGS = 12  # of the y range, by 20 % each, while labels do not fit
 NAME_CROSS_AFTER_PT = 10.0  # a name crosses to below its level only when the space above is crowded
 
 
@@ -270,7 +271,7 @@ def _wrap_width(ax, fig) -> int:
     """How many characters of 7-pt text fit over one state's slot (a DejaVu Sans glyph ~0.55 em wide)."""
     x0, x1 = ax.get_xlim()
     slot_pt = ax.get_window_extent().width / (x1 - x0) * 72.0 / fig.dpi
-    return max(6, int(slot_pt / (0.55 * STYLE["font.size"])))
+    return max(5, int(WRAP_FRACTION * slot_pt / (0.55 * STYLE["font.size"])))
 
 
 def _draw_profile(ax, profile: ProfileData, color: str, precision: int, wrap: int) -> tuple[list, list, list, list]:
@@ -328,81 +329,115 @@ def _draw_names(ax, names: list[tuple[int, str, float, str]]) -> list[_Label]:
     return labels
 
 
-def _padded(box: Bbox, pad_px: float) -> Bbox:
-    return Bbox.from_extents(box.x0 - pad_px, box.y0 - pad_px, box.x1 + pad_px, box.y1 + pad_px)
+def _segments_px(lines: list[Line2D]) -> np.ndarray:
+    """Each two-point line as (x_a, y_a, x_b, y_b) in display (pixel) coordinates, shape (n, 4)."""
+    if not lines:
+        return np.zeros((0, 4))
+    return np.array([line.get_transform().transform(line.get_xydata()).reshape(-1) for line in lines])
 
 
-def _segments_px(lines: list[Line2D]) -> list[MplPath]:
-    """Each line as a path in display (pixel) coordinates."""
-    return [MplPath(line.get_transform().transform(line.get_xydata())) for line in lines]
+def _level_boxes(levels: list[Line2D], fig, pad_px: float) -> np.ndarray:
+    """The ink of each level line (its width in points) plus ``pad_px``, as (x0, x1, y0, y1) rows."""
+    seg = _segments_px(levels)
+    half = LEVEL_LINEWIDTH / 2 * fig.dpi / 72.0 + pad_px
+    x0, x1 = np.minimum(seg[:, 0], seg[:, 2]), np.maximum(seg[:, 0], seg[:, 2])
+    return np.column_stack([x0 - pad_px, x1 + pad_px, seg[:, 1] - half, seg[:, 1] + half])
 
 
-def _level_boxes(levels: list[Line2D], fig) -> list[Bbox]:
-    """The ink of each level line (its width in points) in display coordinates."""
-    half = LEVEL_LINEWIDTH / 2 * fig.dpi / 72.0
-    boxes = []
-    for path in _segments_px(levels):
-        (x0, y0), (x1, _) = path.vertices
-        boxes.append(Bbox.from_extents(min(x0, x1), y0 - half, max(x0, x1), y0 + half))
-    return boxes
+def _blocked_spans(x0: float, x1: float, boxes: np.ndarray, connectors: np.ndarray) -> np.ndarray:
+    """The y ranges (lo, hi) that anything occupies within the vertical slab x0..x1 (display units).
+
+    A box blocks its own y range where it overlaps the slab in x. A straight connector blocks the y
+    range it sweeps between the slab's edges: a label spanning the whole slab crosses it exactly when
+    their y ranges meet.
+    """
+    in_x = (boxes[:, 0] <= x1) & (boxes[:, 1] >= x0)
+    spans = [boxes[in_x][:, 2:4]]
+    if len(connectors):
+        xa, ya, xb, yb = connectors.T
+        left, right = np.maximum(np.minimum(xa, xb), x0), np.minimum(np.maximum(xa, xb), x1)
+        hit = left <= right
+        slope = (yb - ya) / np.where(xb != xa, xb - xa, 1.0)
+        y_left, y_right = ya + slope * (left - xa), ya + slope * (right - xa)
+        spans.append(np.column_stack([np.minimum(y_left, y_right), np.maximum(y_left, y_right)])[hit])
+    return np.concatenate(spans)
 
 
-def _clashes(box: Bbox, placed: list[Bbox], level_boxes: list[Bbox], connector_paths: list[MplPath]) -> bool:
-    return (
-        any(box.overlaps(other) for other in placed)
-        or any(box.overlaps(other) for other in level_boxes)
-        or any(path.intersects_bbox(box, filled=False) for path in connector_paths)
-    )
-
-
-def _candidate_offsets(label: _Label, height_pt: float):
+def _candidate_offsets(label: _Label, height_pt: float) -> np.ndarray:
     """Offsets (points) to try, nearest first: away from the level on its own side, and, once that has
     moved more than ``label.cross_after_pt``, alternately on the level's other side."""
-    d = label.direction
-    lag = int(label.cross_after_pt / NUDGE_STEP_PT)
-    for k in range(MAX_NUDGE_STEPS + lag):
-        if k < MAX_NUDGE_STEPS:
-            yield d * (LABEL_GAP_PT + k * NUDGE_STEP_PT)
-        if k >= lag:
-            yield -d * (LABEL_GAP_PT + height_pt + (k - lag) * NUDGE_STEP_PT)
+    d, k = label.direction, np.arange(MAX_NUDGE_STEPS) * NUDGE_STEP_PT
+    lag = min(int(label.cross_after_pt / NUDGE_STEP_PT), MAX_NUDGE_STEPS)
+    own = d * (LABEL_GAP_PT + k)
+    other = -d * (LABEL_GAP_PT + height_pt + k)
+    interleaved = np.column_stack([own[lag:], other[: MAX_NUDGE_STEPS - lag]]).reshape(-1)
+    return np.concatenate([own[:lag], interleaved, other[MAX_NUDGE_STEPS - lag:]])
 
 
-def _place_labels(fig, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D]) -> list[Bbox]:
+def _place_labels(fig, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D],
+                  bounds: Bbox | None = None) -> tuple[list[Bbox], bool]:
     """Greedy placement: each label takes the first offset at which it clashes with nothing placed.
 
     Values go first (they matter most and sit right under their level), from the lowest level up, then
     names from the highest level down, so that near-degenerate levels stack their labels outwards in
-    order. Returns the final boxes (display coordinates).
+    order. A label's box moves rigidly with its offset, so it is measured once and every candidate
+    offset is tested at once against the occupied y ranges. With ``bounds`` (display units) a label
+    must also stay inside them. Returns the final boxes and whether every label found a free spot.
     """
     renderer = fig.canvas.get_renderer()
-    pad = LABEL_GAP_PT / 2 * fig.dpi / 72.0
-    level_boxes = [_padded(b, pad) for b in _level_boxes(levels, fig)]
-    connector_paths = _segments_px(connectors)
+    px_per_pt = fig.dpi / 72.0
+    pad = LABEL_GAP_PT / 2 * px_per_pt
+    occupied = _level_boxes(levels, fig, pad)  # rows (x0, x1, y0, y1); placed labels are appended
+    segments = _segments_px(connectors)
     order = sorted(labels, key=lambda lab: (lab.direction > 0, -lab.direction * lab.anchor_y))
     placed: list[Bbox] = []
+    all_free = True
     for label in order:
-        label.artist.xyann = (0.0, label.direction * LABEL_GAP_PT)
-        height_pt = label.artist.get_window_extent(renderer).height * 72.0 / fig.dpi
-        for dy in _candidate_offsets(label, height_pt):
-            label.artist.xyann = (0.0, dy)
-            box = _padded(label.artist.get_window_extent(renderer), pad)
-            if not _clashes(box, placed, level_boxes, connector_paths):
-                break
-        placed.append(box)
-    return placed
+        start = label.direction * LABEL_GAP_PT
+        label.artist.xyann = (0.0, start)
+        box = label.artist.get_window_extent(renderer)
+        x0, x1, y0, height = box.x0 - pad, box.x1 + pad, box.y0 - pad, box.height + 2 * pad
+        offsets = _candidate_offsets(label, box.height / px_per_pt)
+        bottoms = y0 + (offsets - start) * px_per_pt
+        spans = _blocked_spans(x0, x1, occupied, segments)
+        clash = ((bottoms[:, None] <= spans[None, :, 1]) & (bottoms[:, None] + height >= spans[None, :, 0])).any(1)
+        if bounds is not None:
+            clash |= (bottoms < bounds.y0) | (bottoms + height > bounds.y1)
+        free = np.flatnonzero(~clash)
+        all_free &= bool(free.size)
+        choice = free[0] if free.size else len(offsets) - 1
+        label.artist.xyann = (0.0, float(offsets[choice]))
+        bottom = float(bottoms[choice])
+        occupied = np.vstack([occupied, [x0, x1, bottom, bottom + height]])
+        placed.append(Bbox.from_extents(x0, bottom, x1, bottom + height))
+    return placed, all_free
 
 
-def _fit_ylim(ax, boxes: list[Bbox]) -> bool:
-    """Widen the y range so that every label box is inside the axes; True when it had to change."""
+def _fit_ylim(ax, boxes: list[Bbox]) -> None:
+    """Widen the y range so that every label box (display units) would be inside the axes."""
     inv = ax.transData.inverted()
     ys = [inv.transform((0.0, y))[1] for b in boxes for y in (b.y0, b.y1)]
     lo, hi = ax.get_ylim()
     new_lo, new_hi = min([lo, *ys]), max([hi, *ys])
-    if new_lo < lo - 1e-12 or new_hi > hi + 1e-12:
-        margin = 0.02 * (new_hi - new_lo)
-        ax.set_ylim(new_lo - margin, new_hi + margin)
-        return True
-    return False
+    margin = 0.02 * (new_hi - new_lo)
+    ax.set_ylim(new_lo - margin, new_hi + margin)
+
+
+def _arrange_labels(ax, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D]) -> None:
+    """Place every label inside the axes without a clash.
+
+    A first free placement shows how much room the labels need; the y range is widened to hold it.
+    Widening moves the levels closer together on the page, so the labels are placed again, now kept
+    inside the axes; while some label finds no free spot the range is widened by a further 20 %.
+    """
+    fig = ax.figure
+    _fit_ylim(ax, _place_labels(fig, labels, levels, connectors)[0])
+    for _ in range(MAX_WIDENINGS):
+        if _place_labels(fig, labels, levels, connectors, ax.get_window_extent())[1]:
+            return
+        lo, hi = ax.get_ylim()
+        ax.set_ylim(lo - 0.1 * (hi - lo), hi + 0.1 * (hi - lo))
+    _fit_ylim(ax, _place_labels(fig, labels, levels, connectors)[0])  # a last resort for absurd crowding
 
 
 def plot_profiles(
@@ -443,10 +478,7 @@ def plot_profiles(
             names += [(i, name, height, color) for i, name, height in nm]
             handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
         labels += _draw_names(ax, names)
-        for _ in range(8):  # widening the y range moves the levels: place again until nothing sticks out
-            boxes = _place_labels(fig, labels, levels, connectors)
-            if not _fit_ylim(ax, boxes):
-                break
+        _arrange_labels(ax, labels, levels, connectors)
         if len(profiles) > 1:
             ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=min(len(profiles), 3),
                       handlelength=1.5, columnspacing=1.2)
