@@ -67,8 +67,8 @@ def test_eyring_vectorised_over_temperature():
 
 
 def test_reaction_path_degeneracy():
-    # Fernandez-Ramos et al., Theor. Chem. Acc. 2007, 118, 813: H abstraction from CH4 by an H atom,
-    # sigma(CH4) = 12, sigma(H) = 1, sigma(C3v TS H3C-H-H) = 3 -> L = 4 (four equivalent H atoms)
+    # the rule of Fernandez-Ramos et al., Theor. Chem. Acc. 2007, 118, 813, on H abstraction from CH4 by an
+    # H atom: sigma(CH4) = 12, sigma(H) = 1, sigma(C3v TS H3C-H-H) = 3 -> L = 4, the four equivalent H atoms
     assert reaction_path_degeneracy([12, 1], 3) == 4.0
     # the same paper: a chiral TS whose mirror image is a distinct path doubles L
     assert reaction_path_degeneracy([12, 1], 3, optical_isomers_ts=2) == 8.0

@@ -238,3 +238,18 @@ def test_run_thermo_files_and_a_name_too_long_for_chemkin(tmp_path):
     assert [p.name for p in written] == ["thermo.yaml"]
     assert ct.Solution(str(tmp_path / "thermo.yaml")).species_names == ["water", "methyl_radical_long_name"]
     assert any(f.subject == "thermo.dat" and "18" in f.message for f in results.findings)
+
+
+def test_real_log_fit_reports_its_own_error_honestly(third_party, tmp_path):
+    # a real Gaussian 16 log (p-divinylbenzene, many low modes): Cantera's values from thermo.yaml differ
+    # from the engine's by no more than the errors the fit reports (checked on a grid the fit did not use)
+    mol = Molecule.from_calculation(qcthermo.read_log(third_party / "gaussian16" / "dvb_ir.out"), name="dvb")
+    fit = nasa7_from_molecule(mol)
+    gas = ct.Solution(str(write_cantera_yaml([fit], tmp_path / "thermo.yaml")))
+    temps = np.linspace(305.0, 2995.0, 37)  # between the fitted 10 K points
+    cp, h, s = _cantera_values(gas.species("dvb"), temps)
+    cp_e, h_e, s_e = _engine_molar(mol, temps)
+    assert np.max(np.abs(cp / cp_e - 1)) <= 1.05 * fit.max_cp_rel_error
+    assert np.max(np.abs(h - h_e)) <= 1.05 * fit.max_h_error
+    assert np.max(np.abs(s - s_e)) <= 1.05 * fit.max_s_error
+    assert fit.max_cp_rel_error < 5e-3  # a few tenths of a percent: the limit of the NASA-7 form
