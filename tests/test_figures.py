@@ -139,6 +139,26 @@ def test_crowded_profiles_labels_do_not_overlap():
     assert len(fig.axes[0].texts) == 8 + 3 * 8  # shared names once, values per pathway: nothing lost
 
 
+def test_many_crossing_pathways_do_not_overlap():
+    # drawing test: random heights (fixed seed) make connectors cross everywhere
+    rng = np.random.default_rng(0)
+    profiles = [_profile(f"p{k}", np.r_[0.0, rng.normal(0.0, 10.0, 14)], ts=range(1, 15, 2)) for k in range(3)]
+    fig = plot_profiles(profiles)
+    _assert_no_overlaps(fig)
+    assert [tuple(line.get_ydata()) for line in _artists(fig, "level:p2:")] == [(v, v) for v in profiles[2].values]
+
+
+def test_draws_into_a_given_axes():
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(7, 3))
+    FigureCanvasAgg(fig)
+    left, right = fig.subplots(1, 2)
+    assert plot_profiles([_profile("p", [0.0, 4.0, -1.0])], ax=right) is fig
+    assert not left.lines and len(right.lines) == 3 + 2
+
+
 def test_wild_spread_and_flat_profiles_do_not_overlap():
     _assert_no_overlaps(plot_profiles([_profile("flat", [0.0, 0.0, 0.0, 0.01])]))
     _assert_no_overlaps(plot_profiles([_profile("p", [0.0, 250.0, 0.3, 0.2, 249.9, -0.1], ts=(1, 4))]))
