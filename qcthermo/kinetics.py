@@ -316,7 +316,7 @@ def reaction_rates(
     ``tunnelling`` chooses the kappa applied ("eckart" | "wigner" | "none"); both corrections are
     always reported when they can be computed (NaN otherwise). When the chosen one cannot be computed
     (no imaginary frequency; a zero-point corrected barrier <= 0, for which an Eckart barrier does
-    not exist) kappa = 1 and ``notes`` says why.
+    not exist) kappa = 1 and ``notes`` says why; ``notes`` speaks of the chosen model only.
 
     Returns a dict: kappa, kappa_wigner, kappa_eckart, k_forward, k_reverse, k_unit_forward,
     k_unit_reverse, degeneracy, tunnelling, notes (floats for a scalar temperature, else arrays).
@@ -325,22 +325,23 @@ def reaction_rates(
         raise ValueError(f"unknown tunnelling model {tunnelling!r}; choose one of {', '.join(TUNNELLING_MODELS)}")
     t = _temperature(temperature)
     nan = _like_input(np.full(t.shape, np.nan), temperature)
-    notes: list[str] = []
     kappa_wigner = kappa_eckart = nan
+    missing = {"none": None, "wigner": None, "eckart": None}  # why a correction could not be computed
     if imaginary_frequency is None or imaginary_frequency == 0:
-        notes.append("no imaginary frequency: no tunnelling correction")
+        missing["wigner"] = missing["eckart"] = "no imaginary frequency"
     else:
         kappa_wigner = wigner_kappa(imaginary_frequency, temperature)
         if barrier_forward_zpe is None or barrier_reverse_zpe is None:
-            notes.append("no zero-point corrected barriers: no Eckart correction")
+            missing["eckart"] = "no zero-point corrected barriers"
         else:
             try:
                 kappa_eckart = eckart_kappa(imaginary_frequency, barrier_forward_zpe, barrier_reverse_zpe, temperature)
             except ValueError as err:
-                notes.append(f"no Eckart correction: {err}")
+                missing["eckart"] = str(err)
     chosen = {"eckart": kappa_eckart, "wigner": kappa_wigner, "none": 1.0}[tunnelling]
-    if np.any(np.isnan(chosen)):
-        notes.append(f"{tunnelling} tunnelling not available; kappa = 1")
+    notes: list[str] = []
+    if missing[tunnelling]:
+        notes.append(f"no {tunnelling.capitalize()} tunnelling correction ({missing[tunnelling]}); kappa = 1")
         chosen = 1.0
     kappa = _like_input(np.broadcast_to(np.asarray(chosen, dtype=float), t.shape).copy(), temperature)
     k_forward, unit_forward = eyring_rate(

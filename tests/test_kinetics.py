@@ -204,6 +204,10 @@ def test_reaction_rates_without_an_eckart_barrier_says_why():
     out = reaction_rates(0.02, 0.03, 298.15, 1, 1, "1M", -900.0, 0.01, -0.002)
     assert out["kappa"] == 1.0 and np.isnan(out["kappa_eckart"]) and out["kappa_wigner"] > 1
     assert any("Eckart" in n for n in out["notes"])
+    # notes speak of the chosen model only
+    assert reaction_rates(0.02, 0.03, 298.15, 1, 1, "1M", -900.0, 0.01, -0.002, tunnelling="wigner")["notes"] == []
+    none = reaction_rates(0.02, 0.03, 298.15, 1, 1, "1M", None, tunnelling="wigner")
+    assert none["kappa"] == 1.0 and "imaginary" in none["notes"][0]
 
 
 def test_arrhenius_fit_recovers_parameters():
