@@ -289,6 +289,9 @@ def _symmetry(molecule: Molecule, linear: bool, trust_given: bool) -> tuple[str 
     With ``trust_given`` a given symmetry number is used without analysing the geometry (the point
     group and chirality are then unknown); a molecule without one is always analysed.
     """
+    if molecule.symmetry_number is not None and (int(molecule.symmetry_number) != molecule.symmetry_number
+                                                 or molecule.symmetry_number < 1):
+        raise ThermoError(f"symmetry number {molecule.symmetry_number!r}: expected a positive integer")
     if trust_given and molecule.symmetry_number is not None:
         sigma = int(molecule.symmetry_number)
         return None, sigma, None, [f"symmetry number {sigma} given; geometry not analysed"]
@@ -489,6 +492,8 @@ def thermo_arrays(prepared: PreparedMolecules, conditions: Conditions) -> dict[s
     "enthalpy", "entropy", "gibbs", "cv", "cp" under the chosen low-mode model, the same with a
     "rrho_" prefix under plain RRHO, and "U_<component>", "S_<component>", "Cv_<component>" for the
     components of :data:`COMPONENTS` (chosen model). Works in chunks of molecules to bound memory.
+    Keys may share one array (the "rrho_" totals under the rrho model, the zero electronic energy):
+    copy before modifying in place.
     """
     t = np.atleast_1d(np.asarray(conditions.temperature, dtype=float))
     width = max(prepared.frequencies.shape[1], 1)
@@ -499,10 +504,13 @@ def thermo_arrays(prepared: PreparedMolecules, conditions: Conditions) -> dict[s
     out: dict[str, np.ndarray] = {}
     for start in range(0, n, step):
         rows = slice(start, start + step)
+        first_key: dict[int, str] = {}  # keys that share one array in a chunk share it in the output
         for key, value in _chunk_arrays(_slice(prepared, rows), conditions, t).items():
+            twin = first_key.setdefault(id(value), key)
             if key not in out:
-                out[key] = np.empty((n, *value.shape[1:]))
-            out[key][rows] = value
+                out[key] = out[twin] if twin != key else np.empty((n, *value.shape[1:]))
+            if twin == key:
+                out[key][rows] = value
     return out
 
 
