@@ -119,6 +119,29 @@ def _fit_offsets(residual_low: np.ndarray, residual_high: np.ndarray, jump: floa
     return float(x_low), float(x_low + jump)
 
 
+def _fit_heat_capacity(tau: np.ndarray, cp_r: np.ndarray, low: np.ndarray, high: np.ndarray):
+    """Scaled cp/R polynomials (b_k of tau^k, tau = T/t_mid) of both ranges, equal in value and slope at tau = 1.
+
+    Least squares in the relative error; a point at t_mid enters both ranges.
+    """
+    powers = tau[:, None] ** np.arange(5)
+    design = np.zeros((tau.size, 10))
+    design[low, :5] = powers[low]
+    design[high & ~low, 5:] = powers[high & ~low]
+    rows, target = [design], [cp_r]
+    if np.any(low & high):
+        shared = np.zeros((np.count_nonzero(low & high), 10))
+        shared[:, 5:] = powers[low & high]
+        rows.append(shared)
+        target.append(cp_r[low & high])
+    weights = 1.0 / np.concatenate(target)
+    value, slope = np.ones(5), np.arange(5.0)  # d/dtau of tau^k at tau = 1 is k
+    constraints = np.array([np.concatenate([value, -value]), np.concatenate([slope, -slope])])
+    b = _constrained_lstsq(np.vstack(rows) * weights[:, None], np.concatenate(target) * weights, constraints,
+                           np.zeros(2))
+    return b[:5], b[5:]
+
+
 #: candidate middle temperatures of ``t_mid="auto"``, K
 AUTO_T_MID = tuple(float(x) for x in range(500, 1501, 50))
 
@@ -161,25 +184,9 @@ def fit_nasa7(
     low, high = t <= t_mid, t >= t_mid
     if np.count_nonzero(low) < 6 or np.count_nonzero(high) < 6:
         raise ValueError(f"a NASA-7 fit needs at least six temperatures on each side of t_mid = {t_mid} K")
-    tau = t / t_mid
-    powers = tau[:, None] ** np.arange(5)
-    design = np.zeros((t.size, 10))
-    design[low, :5] = powers[low]
-    design[high & ~low, 5:] = powers[high & ~low]
-    rows = [design]
-    target = [cp_r]
-    if np.any(low & high):  # a point at t_mid belongs to both ranges
-        shared = np.zeros((np.count_nonzero(low & high), 10))
-        shared[:, 5:] = powers[low & high]
-        rows.append(shared)
-        target.append(cp_r[low & high])
-    weights = 1.0 / np.concatenate(target)
-    value, slope = np.ones(5), np.arange(5.0)  # d/dtau of tau^k at tau = 1 is k
-    constraints = np.array([np.concatenate([value, -value]), np.concatenate([slope, -slope])])
-    b = _constrained_lstsq(np.vstack(rows) * weights[:, None], np.concatenate(target) * weights, constraints,
-                           np.zeros(2))
+    b_low, b_high = _fit_heat_capacity(t / t_mid, cp_r, low, high)
     scale = t_mid ** -np.arange(5.0)
-    a_low, a_high = np.append(b[:5] * scale, [0.0, 0.0]), np.append(b[5:] * scale, [0.0, 0.0])
+    a_low, a_high = np.append(b_low * scale, [0.0, 0.0]), np.append(b_high * scale, [0.0, 0.0])
     a_low[5], a_high[5] = _fit_offsets(
         h_r[low] - nasa7_enthalpy(a_low, t[low]),
         h_r[high] - nasa7_enthalpy(a_high, t[high]),
@@ -233,8 +240,8 @@ def ensemble_heat_capacity(cp, h, populations, temperature):
 
     With populations p_i ~ exp(-G_i / k_B T), d(-G_i / k_B T)/dT = H_i / (k_B T^2) gives
     dp_i/dT = p_i (H_i - <H>) / (k_B T^2), so d<H>/dT = <cp> + <(H - <H>)^2> / (k_B T^2): the
-    conformational heat capacity (Pitzer, J. Chem. Phys. 1937, 5, 469, on rotational isomers).
-    Arrays (conformer, temperature) in hartree and hartree/K.
+    heat capacity of an equilibrium mixture of conformers (the derivation above; the second term is
+    the conformational part). Arrays (conformer, temperature) in hartree and hartree/K.
     """
     from ..ensemble import population_average
     from ..units import K_B_EH
