@@ -271,3 +271,17 @@ def test_thermo_command_table(third_party, tmp_path, capsys):
     assert main(args) == 2
     assert csv.read_text() == before
     assert "--force" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("name", ["H2O", "NH3", "CH4", "C2H4", "CO2", "HCN", "CO", "C6H6"])
+def test_symmetry_number_survives_optimiser_noise(name):
+    # common practice: sigma(H2O) 2, NH3 3, CH4 12, C2H4 4, CO2 2, HCN 1, CO 1, C6H6 12; geometries with
+    # 0.005 angstrom random displacements (DESIGN.md section 6) must give the same sigma and linearity
+    mol = benzene() if name == "C6H6" else molecule(name, with_sigma=False)
+    expected = 12 if name == "C6H6" else MOLECULES[name][3]
+    rng = np.random.default_rng(7)
+    noisy = mol.replace(coordinates=mol.coordinates + rng.uniform(-0.005, 0.005, mol.coordinates.shape))
+    clean, shaken = thermochemistry(mol, Conditions()), thermochemistry(noisy, Conditions())
+    assert clean.symmetry_number == shaken.symmetry_number == expected
+    assert clean.linear == shaken.linear
+    assert entropy_to_j_mol_k(abs(clean.entropy - shaken.entropy)) < 0.05
