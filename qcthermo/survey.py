@@ -429,6 +429,8 @@ def _parse(reader: Reader, candidates: list[Candidate], misses: list[tuple[int, 
     """Read the files the cache did not know, store what was found, fill ``outcomes``."""
     if not misses:
         return
+    # largest files first, so that no big file is left for one worker at the end while the others idle
+    misses = sorted(misses, key=lambda miss: -candidates[miss[0]].key.size)
     paths = [candidates[i].key.path for i, _ in misses]
 
     def report(k: int, outcome: tuple[str, Any]) -> None:
