@@ -435,3 +435,20 @@ def test_gaussian_route_keywords(route, jobs):
     from qcthermo.readers.programs import job_types_from_spec
 
     assert job_types_from_spec("gaussian", route) == jobs
+
+
+def test_mp2_single_points_keep_the_multiplicity_of_their_geometry_job(samples):
+    # the UHF-MP2 outputs print no multiplicity, only alpha and beta electron counts; the B3LYP job of the
+    # same species prints "Spin multiplicity": both must agree (O2 a triplet, CH3 and H doublets)
+    pairs = [(p, samples / "gas" / p.name.replace("_mp2", "")) for p in sample_logs(samples, "Total MP2 energy")]
+    pairs = [(sp, gas) for sp, gas in pairs if gas.is_file()]
+    if not pairs:
+        pytest.skip("no MP2 single point with its gas-phase job yet")
+    for sp, gas in pairs:
+        printed = int(re.findall(r"Spin multiplicity:\s+(\d+)", gas.read_text())[-1])
+        assert qcthermo.read_log(sp).multiplicity == printed, sp
+        text = sp.read_text()
+        alpha = re.findall(r"alpha electrons\s+=\s+(\d+)", text)
+        beta = re.findall(r"beta\s+electrons\s+=\s+(\d+)", text)
+        if alpha and beta:  # printed: 2S+1 = n_alpha - n_beta + 1
+            assert printed == int(alpha[-1]) - int(beta[-1]) + 1, sp

@@ -80,6 +80,8 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
             if model:
                 found["solvent_model"], found["solvent"] = solvent_model_name(model), solvent
     elif source.program == "nwchem":
+        if found.get("multiplicity") is None:
+            found["multiplicity"] = fallback.nwchem_multiplicity(text)
         cosmo = fallback.nwchem_cosmo(text)
         if cosmo and not found.get("solvent_model"):
             notes.append("COSMO solvent model read from the text (cclib reports none)")

@@ -192,6 +192,20 @@ def _nwchem_frequencies(text: str) -> np.ndarray | None:
     return np.array(values) if values else None
 
 
+def nwchem_multiplicity(text: str) -> int | None:
+    """2S+1 as NWChem prints it: the DFT module's "Spin multiplicity", else the SCF module's electron
+    counts (UHF: alpha - beta + 1) or open shells (ROHF/RHF: open shells + 1, high spin)."""
+    mult = _last_int(r"Spin multiplicity:\s+(\d+)", text)
+    if mult is not None:
+        return mult
+    alpha = _last_int(r"^\s*alpha electrons\s+=\s+(\d+)", text)
+    beta = _last_int(r"^\s*beta\s+electrons\s+=\s+(\d+)", text)
+    if alpha is not None and beta is not None:
+        return alpha - beta + 1
+    open_shells = _last_int(r"^\s*open shells\s+=\s+(\d+)", text)
+    return None if open_shells is None else open_shells + 1
+
+
 def nwchem_cosmo(text: str) -> dict:
     """COSMO runs: solvent model, solvent name or dielectric, and the gas-phase energy NWChem printed."""
     if "-cosmo- solvent" not in text:
@@ -218,10 +232,7 @@ def nwchem(text: str) -> dict:
     charge = _last_int(r"^\s*Charge\s+:\s+(-?\d+)", text)
     if charge is not None:
         out["charge"] = charge
-    mult = _last_int(r"Spin multiplicity:\s+(\d+)", text)
-    if mult is None:  # the SCF module prints its open shells instead: 2S+1 = open shells + 1 (high spin)
-        open_shells = _last_int(r"^\s*open shells\s+=\s+(\d+)", text)
-        mult = None if open_shells is None else open_shells + 1
+    mult = nwchem_multiplicity(text)
     if mult is not None:
         out["multiplicity"] = mult
     freqs = _nwchem_frequencies(text)
