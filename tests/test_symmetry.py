@@ -159,6 +159,127 @@ def buckminsterfullerene():
     return ("C",) * 60, xyz
 
 
+def _closure(seeds, generators) -> np.ndarray:
+    """All images of the seed points under the group the generator matrices generate."""
+    points = [np.asarray(p, dtype=float) for p in seeds]
+    grown = True
+    while grown:
+        grown = False
+        for g in generators:
+            for p in list(points):
+                q = g @ p
+                if min(np.linalg.norm(q - r) for r in points) > 1e-6:
+                    points.append(q)
+                    grown = True
+    return np.array(points)
+
+
+#: generators of Td: C3 about (1, 1, 1) and S4 about z
+TD_GENERATORS = [np.array([[0, 0, 1], [1, 0, 0], [0, 1, 0]]), np.array([[0, 1, 0], [-1, 0, 0], [0, 0, -1]])]
+
+
+def cubane():
+    # C-C 1.57 A, C-H 1.10 A (from memory); carbons on the corners of a cube
+    a, h = 1.57 / 2, 1.10 / np.sqrt(3)
+    corners = np.array(list(np.ndindex(2, 2, 2))) * 2 - 1
+    return ("C",) * 8 + ("H",) * 8, np.vstack([a * corners, (a + h) * corners])
+
+
+def adamantane():
+    # C-C 1.54 A, C-H 1.10 A, H-C-H 109.5 deg (from memory): 4 CH on a tetrahedron, 6 CH2 on an octahedron
+    s, h, half = 1.78, 1.10, np.radians(109.5 / 2)
+    t = (2 * s + np.sqrt(4 * s**2 - 12 * (s**2 - 1.54**2))) / 6
+    ch = _closure([[t, t, t]], TD_GENERATORS)
+    ch_h = _closure([[t + h / np.sqrt(3)] * 3], TD_GENERATORS)
+    ch2 = _closure([[s, 0, 0]], TD_GENERATORS)
+    ch2_h = _closure(
+        [[s + h * np.cos(half), h * np.sin(half) / np.sqrt(2), -h * np.sin(half) / np.sqrt(2)]], TD_GENERATORS
+    )
+    return ("C",) * 10 + ("H",) * 16, np.vstack([ch, ch2, ch_h, ch2_h])
+
+
+def dodecahydro_closo_dodecaborate():
+    """B12H12(2-): an icosahedron of B (B-B 1.78 A) with radial H (B-H 1.20 A) (from memory); the
+    vertices are the cyclic permutations of (0, ±1, ±φ) (edge 2)."""
+    phi = (1 + np.sqrt(5)) / 2
+    unit = _closure(
+        [[0, 1, phi]],
+        [np.array([[0, 0, 1], [1, 0, 0], [0, 1, 0]]), np.diag([-1, 1, 1]), np.diag([1, -1, 1]), np.diag([1, 1, -1])],
+    )
+    boron = unit * 1.78 / 2
+    radius = np.linalg.norm(boron[0])
+    return ("B",) * 12 + ("H",) * 12, np.vstack([boron, boron * (radius + 1.20) / radius])
+
+
+def ferrocene(staggered: bool):
+    # Fe-ring 1.66 A, C-C 1.43 A, C-H 1.08 A, H in the ring plane (from memory)
+    r = 1.43 / (2 * np.sin(np.radians(36)))
+    top, bottom = np.arange(0, 360, 72), np.arange(0, 360, 72) + (36 if staggered else 0)
+    xyz = [
+        [0, 0, 0],
+        *_ring(r, 1.66, top),
+        *_ring(r, -1.66, bottom),
+        *_ring(r + 1.08, 1.66, top),
+        *_ring(r + 1.08, -1.66, bottom),
+    ]
+    return ("Fe",) + ("C",) * 10 + ("H",) * 10, np.array(xyz)
+
+
+def ferrocene_staggered():
+    return ferrocene(True)
+
+
+def ferrocene_eclipsed():
+    return ferrocene(False)
+
+
+def biphenyl_twisted():
+    """Biphenyl with the rings turned 44 deg against each other (D2): C-C 1.397 A in the rings, 1.49 A
+    between them, C-H 1.084 A (from memory)."""
+    ring = 1.397 * np.array([[np.sin(a), 0.0, 1.0 - np.cos(a)] for a in np.radians(range(0, 360, 60))])
+    ring[:, 2] += 1.49 / 2
+    hydrogens = ring[1:] + 1.084 * np.array([[np.sin(a), 0.0, -np.cos(a)] for a in np.radians(range(60, 360, 60))])
+    half = np.vstack([ring, hydrogens])
+
+    def turn(deg):
+        c, s_ = np.cos(np.radians(deg)), np.sin(np.radians(deg))
+        return np.array([[c, -s_, 0], [s_, c, 0], [0, 0, 1]])
+
+    upper = half @ turn(22).T
+    lower = (half * [1, 1, -1]) @ turn(-22).T
+    return ("C",) * 6 + ("H",) * 5 + ("C",) * 6 + ("H",) * 5, np.vstack([upper, lower])
+
+
+def cyclohexane_chair():
+    # C-C 1.53 A, chair with the carbons alternately 0.25 A above and below the mean plane,
+    # C-H 1.09 A: axial along z, equatorial outward (from memory)
+    rho = np.sqrt(1.53**2 - 0.5**2)
+    angles = np.arange(0, 360, 60)
+    z = 0.25 * (-1) ** np.arange(6)
+    carbons = np.column_stack([rho * np.cos(np.radians(angles)), rho * np.sin(np.radians(angles)), z])
+    axial = carbons + 1.09 * np.column_stack([np.zeros(6), np.zeros(6), np.sign(z)])
+    tilt = np.radians(19.5)
+    radial = np.column_stack([np.cos(np.radians(angles)), np.sin(np.radians(angles)), np.zeros(6)])
+    equatorial = carbons + 1.09 * (np.cos(tilt) * radial - np.sin(tilt) * np.column_stack([0 * z, 0 * z, np.sign(z)]))
+    return ("C",) * 6 + ("H",) * 12, np.vstack([carbons, axial, equatorial])
+
+
+def phosphorus_pentafluoride():
+    # P-F 1.58 A axial, 1.53 A equatorial (from memory)
+    return ("P",) + ("F",) * 5, np.array([[0, 0, 0], [0, 0, 1.58], [0, 0, -1.58], *_ring(1.53, 0, [0, 120, 240])])
+
+
+def xenon_tetrafluoride():
+    # Xe-F 1.95 A, square planar (from memory)
+    return ("Xe",) + ("F",) * 4, np.array([[0, 0, 0], *_ring(1.95, 0, [0, 90, 180, 270])])
+
+
+def ethane_eclipsed():
+    c, rho, z = _staggered_ethane_frame()
+    xyz = [[0, 0, c], [0, 0, -c], *_ring(rho, z, [0, 120, 240]), *_ring(rho, -z, [0, 120, 240])]
+    return ("C", "C") + ("H",) * 6, np.array(xyz)
+
+
 #: (geometry, point group, symmetry number, chiral)
 TABLE = [
     (water, "C2v", 2, False),
@@ -179,6 +300,16 @@ TABLE = [
     (trans_diazene, "C2h", 2, False),
     (dichlorodifluoroethane_anti, "Ci", 1, False),
     (buckminsterfullerene, "Ih", 60, False),
+    (cubane, "Oh", 24, False),
+    (adamantane, "Td", 12, False),
+    (dodecahydro_closo_dodecaborate, "Ih", 60, False),
+    (ferrocene_staggered, "D5d", 10, False),
+    (ferrocene_eclipsed, "D5h", 10, False),
+    (biphenyl_twisted, "D2", 4, True),
+    (cyclohexane_chair, "D3d", 6, False),
+    (phosphorus_pentafluoride, "D3h", 6, False),
+    (xenon_tetrafluoride, "D4h", 8, False),
+    (ethane_eclipsed, "D3h", 6, False),
 ]
 
 IDS = [row[0].__name__ for row in TABLE]
