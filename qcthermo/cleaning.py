@@ -115,10 +115,9 @@ def clean_modes(molecule: Molecule, conditions: Conditions) -> CleanModes:
     if not (np.all(np.isfinite(molecule.coordinates)) and np.all(np.isfinite(molecule.frequencies))):
         raise ThermoError(f"{label}: coordinates or frequencies are not finite numbers")
     linear = molecule.natoms > 1 and is_linear(molecule.coordinates, molecule.masses, LINEAR_TOLERANCE)
-    notes = [f"linear geometry: {expected_mode_count(molecule.natoms, True)} modes expected"] if linear else []
-    freqs, removed = remove_residual_modes(
-        np.asarray(molecule.frequencies, dtype=float), expected_mode_count(molecule.natoms, linear), label
-    )
+    expected = expected_mode_count(molecule.natoms, linear)
+    notes = [f"linear: 3N-5 = {expected} vibrational modes expected"] if linear else []
+    freqs, removed = remove_residual_modes(np.asarray(molecule.frequencies, dtype=float), expected, label)
     notes += removed
     policy = _policy(molecule, conditions)
     imaginary = freqs[freqs < 0]

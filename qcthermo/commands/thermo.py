@@ -60,7 +60,7 @@ def result_rows(path: str, level: str | None, molecule: Molecule, res: ThermoRes
             row[f"G_{tag}_Eh"] = at(res.gibbs, i)
         row[f"G_corr_{tag}_{suffix}"] = hartree_to(at(res.gibbs, i) - res.electronic_energy, unit)
         row["status"] = "warning" if any(n.startswith("warning") for n in res.notes) else "ok"
-        row["reason"] = "; ".join(res.notes[1:])
+        row["reason"] = "; ".join(n for n in res.notes if not n.startswith("low-mode model"))  # it has a column
         rows.append(row)
     return rows
 
@@ -109,7 +109,7 @@ def thermo_table(calculations: dict[str, Any], read_errors: dict[str, str], cond
         try:
             molecule, notes = molecule_of(path, calc, cond)
             res = thermochemistry(molecule, cond)
-            res.notes[1:1] = notes
+            res.notes[:0] = notes
             rows += result_rows(path, calc.level_of_theory, molecule, res, unit)
         except QcthermoError as err:
             rows.append(error_row(path, calc.formula, str(err).removeprefix(f"{path}: ")))
