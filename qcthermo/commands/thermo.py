@@ -111,8 +111,8 @@ def thermo_table(calculations: dict[str, Any], read_errors: dict[str, str], cond
             res = thermochemistry(molecule, cond)
             res.notes[:0] = notes
             rows += result_rows(path, calc.level_of_theory, molecule, res, unit)
-        except QcthermoError as err:
-            rows.append(error_row(path, calc.formula, str(err).removeprefix(f"{path}: ")))
+        except (QcthermoError, ValueError) as err:  # ValueError: e.g. an element without a mass
+            rows.append(error_row(path, calc.formula, " ".join(str(err).removeprefix(f"{path}: ").split())))
             errors += 1
     for path in sorted(read_errors):
         rows.append(error_row(path, None, read_errors[path]))
