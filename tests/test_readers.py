@@ -452,3 +452,29 @@ def test_mp2_single_points_keep_the_multiplicity_of_their_geometry_job(samples):
         beta = re.findall(r"beta\s+electrons\s+=\s+(\d+)", text)
         if alpha and beta:  # printed: 2S+1 = n_alpha - n_beta + 1
             assert printed == int(alpha[-1]) - int(beta[-1]) + 1, sp
+
+
+@pytest.mark.parametrize("name", ["gaussian16/dvb_ir.out", "orca6.0/dvb_ir.out", "nwchem7.0/dvb_ir.out"])
+def test_damaged_logs_never_raise_anything_but_log_read_error(third_party, tmp_path, name):
+    # lines deleted, numbers garbled, blocks repeated (seeded): a reason or a record, never a traceback
+    import random
+
+    rng = random.Random(7)
+    lines = (third_party / name).read_bytes().split(b"\n")
+    for trial in range(6):
+        damaged = list(lines)
+        at = rng.randrange(len(damaged))
+        if trial % 3 == 0:
+            del damaged[at : at + rng.randrange(1, 300)]
+        elif trial % 3 == 1:
+            for i in rng.sample(range(len(damaged)), 80):
+                damaged[i] = damaged[i].replace(b".", b"x", 1)
+        else:
+            damaged[at:at] = damaged[max(0, at - 150) : at]
+        path = tmp_path / f"{trial}_{Path(name).name}"
+        path.write_bytes(b"\n".join(damaged))
+        try:
+            calc = qcthermo.read_log(path)
+        except qcthermo.LogReadError:
+            continue
+        assert np.isfinite(calc.energy) and calc.coordinates.shape == (calc.natoms, 3)

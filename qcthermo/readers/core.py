@@ -141,7 +141,11 @@ def _xtb_coordinate_file(source: LogSource, symbols: tuple[str, ...], notes: lis
 def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
     """Normalise what was found into a Calculation (same rules whatever the program or extractor)."""
     program, text = source.program, source.text
-    symbols, coords = found["symbols"], found["coordinates"]
+    symbols, coords = found["symbols"], np.asarray(found["coordinates"], dtype=float).reshape(-1, 3)
+    if len(symbols) != len(coords) or not symbols:
+        raise LogReadError(source.path, f"{len(symbols)} atoms but {len(coords)} coordinate rows (damaged log?)")
+    if not np.isfinite(found["energy"]):
+        raise LogReadError(source.path, "the final energy is not a number (damaged log?)")
     charge = int(found.get("charge", 0))
     mult = found.get("multiplicity")
     if mult is None:
@@ -182,7 +186,7 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         path=source.path,
         program=program,
         symbols=tuple(symbols),
-        coordinates=np.asarray(coords, dtype=float).reshape(-1, 3),
+        coordinates=coords,
         charge=charge,
         multiplicity=int(mult),
         energy=float(found["energy"]),
