@@ -478,3 +478,14 @@ def test_damaged_logs_never_raise_anything_but_log_read_error(third_party, tmp_p
         except qcthermo.LogReadError:
             continue
         assert np.isfinite(calc.energy) and calc.coordinates.shape == (calc.natoms, 3)
+
+
+def test_killed_saddle_search_is_returned_unfinished(samples):
+    path = sample(samples, "flawed/ts_abstraction_killed.out")
+    calc = qcthermo.read_log(path)
+    text = path.read_text()
+    assert calc.normal_termination is False  # printed: no "Total times" at the end
+    assert calc.optimization_converged is False and "saddle-search" in calc.job_types
+    # printed: the last energy the job got to
+    assert calc.energy == pytest.approx(float(re.findall(r"Total DFT energy =\s+(-?\d+\.\d+)", text)[-1]), abs=1e-10)
+    assert calc.frequencies is None
