@@ -158,3 +158,4 @@ def test_report_of_a_real_run_renders(sample_run, tmp_path):
     for name in ("hcn", "hnc", "ts_hcn", "isomerisation"):
         assert f">{name}</td>" in dom
     assert "ts_hcn‡" in dom  # the transition state is marked on the profile
+    assert len(sample_run.arrhenius) and 'id="arrhenius-fits"' in dom  # the fits over the range are shown

@@ -2,8 +2,8 @@
 
 The page needs nothing but a browser: the figures are inline SVG, the style sheet is inline, there is
 no script and no network reference. Order, as a reader checks a run: the audit findings first (errors,
-then warnings, each naming its file), then the settings, the species and reaction tables, and the
-figures.
+then warnings, each naming its file), then the settings, the species and reaction tables (and the
+Arrhenius fits and energy spans when the run has them), and the figures.
 """
 
 from __future__ import annotations
@@ -150,6 +150,19 @@ def _figures_section(results) -> str:
     return '<h2 id="figures">Figures</h2>' + ("".join(parts) or "<p>No profiles and no temperature range.</p>")
 
 
+#: further tables of a run, shown only when the run has them: attribute -> (anchor, heading)
+OPTIONAL_TABLES = {"arrhenius": ("arrhenius-fits", "Arrhenius fits"), "energy_span": ("energy-span", "Energy span")}
+
+
+def _optional_tables(results) -> list[str]:
+    out = []
+    for attr, (anchor, heading) in OPTIONAL_TABLES.items():
+        frame = getattr(results, attr, None)
+        if frame is not None and len(frame):
+            out.append(f'<h2 id="{anchor}">{heading}</h2>' + _frame_table(frame, heading.lower()))
+    return out
+
+
 def render_report(results) -> str:
     """The whole page as a string (see the module docstring for its order)."""
     findings = sorted_findings(getattr(results, "findings", None))
@@ -161,6 +174,7 @@ def render_report(results) -> str:
         _settings_section(getattr(results, "settings", None)),
         '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species"),
         '<h2 id="reactions">Reactions</h2>' + _frame_table(getattr(results, "reactions", None), "reactions"),
+        *_optional_tables(results),
         _figures_section(results),
     ]
     return (
