@@ -489,3 +489,12 @@ def test_killed_saddle_search_is_returned_unfinished(samples):
     # printed: the last energy the job got to
     assert calc.energy == pytest.approx(float(re.findall(r"Total DFT energy =\s+(-?\d+\.\d+)", text)[-1]), abs=1e-10)
     assert calc.frequencies is None
+
+
+def test_windows_line_ends_read_the_same(third_party, tmp_path):
+    plain = third_party / "orca6.0/dvb_ir.out"
+    crlf = tmp_path / "dvb_ir.out"
+    crlf.write_bytes(plain.read_bytes().replace(b"\n", b"\r\n"))
+    a, b = qcthermo.read_log(plain), qcthermo.read_log(crlf)
+    assert (a.energy, a.method, a.basis, a.job_types) == (b.energy, b.method, b.basis, b.job_types)
+    assert np.array_equal(a.frequencies, b.frequencies)

@@ -90,6 +90,8 @@ def load(path: str | Path) -> LogSource:
     if b"\x00" in raw[:8192]:
         raise LogReadError(path, "binary file, not a text log")
     text = raw.decode("utf-8", errors="replace")
+    if "\r" in text:  # logs copied from Windows: the parsers and patterns expect "\n" line ends
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
     return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
 
 
