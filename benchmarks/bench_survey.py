@@ -53,10 +53,17 @@ def build_tree(root: Path, n_files: int) -> int:
     return total
 
 
+def cpu_seconds() -> float:
+    """CPU time (user + system) of this process and of its finished children, s."""
+    own, children = resource.getrusage(resource.RUSAGE_SELF), resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
+
+
 def timed(func, *args, **kwargs):
-    start = time.perf_counter()
+    """(wall s, CPU s, value): on a busy machine the CPU time is the steadier of the two."""
+    start, cpu = time.perf_counter(), cpu_seconds()
     value = func(*args, **kwargs)
-    return time.perf_counter() - start, value
+    return time.perf_counter() - start, cpu_seconds() - cpu, value
 
 
 def cclib_loop(paths: list[Path]) -> int:
@@ -88,11 +95,11 @@ def measure(n_files: int, jobs: int) -> dict:
         tree = Path(tmp) / "logs"
         total_bytes = build_tree(tree, n_files)
         paths = sorted(tree.rglob("*.*"))
-        t_loop, cclib_read = timed(cclib_loop, paths)
-        t_reader, _ = timed(reader_loop, paths)
+        t_loop, cpu_loop, cclib_read = timed(cclib_loop, paths)
+        t_reader, cpu_reader, _ = timed(reader_loop, paths)
         os.environ["QCTHERMO_CACHE_DIR"] = str(Path(tmp) / "cache-timing")
-        t_cold, cold = timed(survey, tree, jobs=jobs)
-        t_warm, warm = timed(survey, tree, jobs=jobs)
+        t_cold, cpu_cold, cold = timed(survey, tree, jobs=jobs)
+        t_warm, cpu_warm, warm = timed(survey, tree, jobs=jobs)
         assert warm.stats["parsed"] == 0, warm.stats
         os.environ["QCTHERMO_CACHE_DIR"] = str(Path(tmp) / "cache-memory")
         tracemalloc.start()
@@ -102,7 +109,8 @@ def measure(n_files: int, jobs: int) -> dict:
         children_kib = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss  # KiB on Linux
     return {
         "files": n_files, "MB": total_bytes / 1e6, "jobs": jobs, "loop_s": t_loop, "cclib_read": cclib_read,
-        "reader_s": t_reader, "cold_s": t_cold, "load": os.getloadavg()[0],
+        "reader_s": t_reader, "cold_s": t_cold, "load": os.getloadavg()[0], "loop_cpu": cpu_loop,
+        "reader_cpu": cpu_reader, "cold_cpu": cpu_cold, "warm_cpu": cpu_warm,
         "warm_s": t_warm, "counts": cold.counts(), "parent_peak_MB": parent_peak / 1e6,
         "workers_maxrss_MB": children_kib / 1024, "same_rows": cold.rows == warm.rows,
     }
@@ -113,11 +121,17 @@ def report(r: dict) -> None:
     print(f"{n} files, {mb:.1f} MB ({r['counts']}), --jobs {r['jobs']}, load average {r['load']:.1f}")
     for label, key in (("cclib loop", "loop_s"), ("reader loop", "reader_s"), ("cold survey", "cold_s"),
                        ("warm survey", "warm_s")):
-        print(f"  {label:12s} {r[key]:8.3f} s  {n / r[key]:9.1f} files/s  {mb / r[key]:8.1f} MB/s")
+        cpu = r[key.replace("_s", "_cpu")]
+        print(f"  {label:12s} {r[key]:8.3f} s  {n / r[key]:9.1f} files/s  {mb / r[key]:8.1f} MB/s   CPU {cpu:7.3f} s")
     print(f"  (the cclib loop got a result from {r['cclib_read']} of {n} files; it fails fast on the others)")
     print(f"  cold vs cclib loop: {r['loop_s'] / r['cold_s']:.2f}x (aim >= 1.7)   "
           f"cold vs reader loop: {r['reader_s'] / r['cold_s']:.2f}x   "
           f"warm vs cold: {r['cold_s'] / r['warm_s']:.1f}x (aim >= 20)   warm rows == cold rows: {r['same_rows']}")
+    # what the wall-clock ratio would be on idle cores, from CPU time: the loop uses one core, the survey's
+    # CPU time spreads over `jobs` workers (the parent's share is small)
+    idle = r["loop_cpu"] / (r["cold_cpu"] / r["jobs"])
+    print(f"  from CPU time, on {r['jobs']} idle cores: cold vs cclib loop ~{idle:.2f}x, "
+          f"cold vs reader loop ~{r['reader_cpu'] / (r['cold_cpu'] / r['jobs']):.2f}x")
     print(f"  peak memory: parent (tracemalloc) {r['parent_peak_MB']:.1f} MB, "
           f"workers (max RSS) {r['workers_maxrss_MB']:.1f} MB")
 
