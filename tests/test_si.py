@@ -110,6 +110,9 @@ def test_latex_environments_balance_with_the_right_column_count(run_like, tmp_pa
         for row in rows:
             assert len(re.findall(r"(?<!\\)&", row)) == ncols - 1, row
     assert r"\subsection*{na\_me\&\_\%x}" in text
+    # typeset formula and point group of p-divinylbenzene, C10H10, C2h, sigma 2 (README of the logs)
+    assert r"formula & C$_{10}$H$_{10}$ \\" in text
+    assert r"point group (symmetry number) & C$_{2h}$ (2) \\" in text
 
 
 def test_tex_escape_handles_the_special_characters():

@@ -10,6 +10,7 @@ energy follows when there are several conformers.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -184,6 +185,20 @@ def _tex_label(label: str) -> str:
     return tex_escape(label).replace("/ Eh", r"/ $E_\mathrm{h}$").replace("cm-1", r"cm$^{-1}$")
 
 
+def tex_formula(formula: str) -> str:
+    """A Hill formula with subscript counts: "C10H10" -> "C$_{10}$H$_{10}$"."""
+    return re.sub(r"(\d+)", r"$_{\1}$", tex_escape(formula))
+
+
+def tex_point_group(group: str) -> str:
+    r"""A Schoenflies symbol with its subscript: "C2h" -> "C$_{2h}$", "D*h" -> "D$_{\infty h}$"."""
+    m = re.fullmatch(r"([A-Z])(.+)", group)
+    if not m or group == "Kh":
+        return tex_escape(group)
+    subscript = m.group(2).replace("*", "\\infty ")
+    return m.group(1) + "$_{" + subscript + "}$"
+
+
 def _tex_number(text: str) -> str:
     """Numbers in math mode so that a minus is a minus, not a hyphen."""
     return f"${text}$"
@@ -213,7 +228,10 @@ def render_latex(blocks: list[SpeciesBlock], note: str, left_out: list[str]) -> 
            tex_escape(note).replace("cm-1", r"cm$^{-1}$"), ""]
     for block in blocks:
         out += [rf"\subsection*{{{tex_escape(block.name)}}}", r"\begin{tabular}{ll}", r"\toprule"]
-        out += [rf"{_tex_label(k)} & {_tex_value(v)} \\" for k, v in _properties(block)]
+        typeset = {"formula": tex_formula(block.formula),
+                   "point group (symmetry number)": f"{tex_point_group(block.point_group or 'unknown')} "
+                                                    f"({block.symmetry_number or '?'})"}
+        out += [rf"{_tex_label(k)} & {typeset.get(k) or _tex_value(v)} \\" for k, v in _properties(block)]
         out += [r"\bottomrule", r"\end{tabular}", "", r"\begin{longtable}{lrrr}",
                 rf"\caption*{{Cartesian coordinates of {tex_escape(block.name)} (\AA)}}\\",
                 r"\toprule", r"atom & $x$ & $y$ & $z$ \\", r"\midrule", r"\endhead"]
