@@ -29,13 +29,15 @@ class _NullStream(io.TextIOBase):
 
 
 _NULL = _NullStream()
+#: one handler for cclib's package logger, so nothing reaches the root logger's last-resort output
+_CCLIB_QUIET = logging.NullHandler()
 
 
 def parse(source: LogSource):
     """ccData for ``source`` with the program's cclib parser, or (None, reason) when cclib fails."""
     import cclib.parser
 
-    logging.getLogger("cclib").addHandler(logging.NullHandler())
+    logging.getLogger("cclib").addHandler(_CCLIB_QUIET)  # the same handler object is added only once
     parser_class = getattr(cclib.parser, PROGRAMS[source.program][1])
     try:
         with warnings.catch_warnings(), contextlib.redirect_stdout(_NULL):
