@@ -122,11 +122,12 @@ def _ase_qrrho(freqs, mean_inertia, tau, t, treat_int_energy=False):
     return u, s
 
 
+@pytest.mark.parametrize("name", ["CO2", "C2H4"])
 @pytest.mark.parametrize("rotor_inertia", [1e-44, "molecular"])
-def test_qrrho_entropy_matches_ase_rrho_mode(rotor_inertia):
+def test_qrrho_entropy_matches_ase_rrho_mode(rotor_inertia, name):
     # reference: ase.thermochemistry.RRHOMode (Grimme 2012 entropy interpolation) with the same B_av;
-    # threshold 1000 cm^-1 so that ethylene's lower modes are interpolated (w between 0.3 and 0.8)
-    mol = molecule("C2H4")
+    # threshold 1000 cm^-1 so that the lower modes (CO2's bends, ethylene's CH2 wags) are interpolated
+    mol = molecule(name)
     atoms = ase_atoms(mol)
     if rotor_inertia == "molecular":
         mean_inertia = np.mean(atoms.get_moments_of_inertia())
@@ -175,12 +176,15 @@ def _read_dvb(path):
     return Molecule.from_calculation(read_log(path), symmetry_number=2)
 
 
-@pytest.mark.parametrize("log", ["gaussian16/dvb_ir.out", "orca5.0/dvb_ir.out", "qchem5.4/dvb_ir.out"])
+@pytest.mark.parametrize("log", ["gaussian16/dvb_ir.out", "orca5.0/dvb_ir.out", "qchem5.4/dvb_ir.out",
+                                 "nwchem7.0/dvb_ir.out", "psi4-1.2.1/dvb_ir_rhf.out"])
 def test_dvb_logs_match_ase(third_party, log):
     # reference: IdealGasThermo, QuasiHarmonicThermo and RRHOMode on the frequencies read from real logs
     # (dvb: C2h, symmetry number 2, 54 modes; third-party-logs README)
     mol = _read_dvb(third_party / log)
     assert len(mol.frequencies) == 54
+    inferred = thermochemistry(mol.replace(symmetry_number=None), Conditions())
+    assert (inferred.point_group, inferred.symmetry_number) == ("C2h", 2)
     ase = ase_ideal_gas(mol, "nonlinear", 2)
     res = thermochemistry(mol, Conditions(low_mode_model="qrrho", rotor_inertia="molecular"))
     e = ev(mol.energy)
