@@ -7,7 +7,7 @@ Each physical quantity is one small function with its equation and source. They 
 temperatures on one axis, modes on another, molecules on a third, so a whole batch of molecules over a
 whole temperature grid is a handful of array operations (:func:`thermo_arrays`). The textbook treatment
 follows D. A. McQuarrie, Statistical Mechanics (Harper & Row 1976; University Science Books 2000),
-chapters 5, 8 and 9.
+chapters 5, 6 and 8; the equation numbers cited below are from memory.
 """
 
 from __future__ import annotations
@@ -468,21 +468,26 @@ def _chunk_arrays(prepared: PreparedMolecules, conditions: Conditions, t: np.nda
         "S_vibrational": vib["S"], "U_vibrational": vib["U"], "Cv_vibrational": vib["Cv"],
         "S_electronic": elec_s, "U_electronic": zeros, "Cv_electronic": zeros,
     }  # fmt: skip
-    for prefix, key in (("", ""), ("rrho_", "rrho_")):
-        if prefix and conditions.low_mode_model == "rrho":
-            out.update({f"rrho_{name}": out[name] for name in TOTALS})
-            break
-        s = trans_s + rot["S"] + vib[key + "S"] + elec_s
-        cv = 1.5 * K_B_EH + rot["Cv"] + vib[key + "Cv"]
-        u = e + trans_u + rot["U"] + vib[key + "U"]
-        out[prefix + "zpe"] = vib[key + "zpe"]
-        out[prefix + "thermal_energy"] = u
-        out[prefix + "enthalpy"] = u + kt
-        out[prefix + "entropy"] = s
-        out[prefix + "gibbs"] = u + kt - t2 * s
-        out[prefix + "cv"] = cv
-        out[prefix + "cp"] = cv + K_B_EH
+    fixed = {"e": e, "kt": kt, "t": t2, "S": trans_s + rot["S"] + elec_s, "U": trans_u + rot["U"],
+             "Cv": 1.5 * K_B_EH + rot["Cv"]}  # fmt: skip
+    out.update(_totals(fixed, vib, ""))
+    if conditions.low_mode_model == "rrho":
+        out.update({f"rrho_{name}": out[name] for name in TOTALS})
+    else:
+        out.update(_totals(fixed, vib, "rrho_"))
     return out
+
+
+def _totals(fixed: dict[str, np.ndarray], vib: dict[str, np.ndarray], prefix: str) -> dict[str, np.ndarray]:
+    """The :data:`TOTALS` from the translational + rotational + electronic parts (``fixed``) and the
+    vibrational terms with ``prefix`` ("" for the chosen model, "rrho_"): H = U + kT, G = H - TS, Cp = Cv + k."""
+    s = fixed["S"] + vib[prefix + "S"]
+    u = fixed["e"] + fixed["U"] + vib[prefix + "U"]
+    h = u + fixed["kt"]
+    cv = fixed["Cv"] + vib[prefix + "Cv"]
+    values = {"zpe": vib[prefix + "zpe"], "thermal_energy": u, "enthalpy": h, "entropy": s,
+              "gibbs": h - fixed["t"] * s, "cv": cv, "cp": cv + K_B_EH}  # fmt: skip
+    return {prefix + name: value for name, value in values.items()}
 
 
 def thermo_arrays(prepared: PreparedMolecules, conditions: Conditions) -> dict[str, np.ndarray]:
