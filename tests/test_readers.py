@@ -498,3 +498,20 @@ def test_windows_line_ends_read_the_same(third_party, tmp_path):
     a, b = qcthermo.read_log(plain), qcthermo.read_log(crlf)
     assert (a.energy, a.method, a.basis, a.job_types) == (b.energy, b.method, b.basis, b.job_types)
     assert np.array_equal(a.frequencies, b.frequencies)
+
+
+@pytest.mark.parametrize("name", ["gas/water.out", "gas/ch4.out"])  # read by cclib / by the fallback
+def test_nwchem_thermochemistry_as_totals_on_both_paths(samples, name):
+    from qcthermo.units import HARTREE_J, N_A
+
+    path = sample(samples, name)
+    calc = qcthermo.read_log(path)
+    text = path.read_text()
+    # printed: NWChem's enthalpy correction (au) and total entropy (cal/mol-K); G = H - T S by definition,
+    # thermochemical calorie 4.184 J
+    h_corr = float(re.findall(r"Thermal correction to Enthalpy\s+=.*\(\s*(-?\d+\.\d+) au\)", text)[-1])
+    entropy = float(re.findall(r"Total Entropy\s+=\s+(-?\d+\.\d+) cal/mol-K", text)[-1])
+    h = calc.energy + h_corr
+    assert calc.thermo_printed["enthalpy"] == pytest.approx(h, abs=1e-9)
+    assert calc.thermo_printed["gibbs"] == pytest.approx(h - 298.15 * entropy * 4.184 / (HARTREE_J * N_A), abs=1e-9)
+    assert calc.thermo_printed["temperature"] == pytest.approx(298.15)

@@ -82,6 +82,8 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
     elif source.program == "nwchem":
         if found.get("multiplicity") is None:
             found["multiplicity"] = fallback.nwchem_multiplicity(text)
+        # the same numbers whichever path read the file (cclib has no G for NWChem)
+        found["thermo_printed"] = fallback.nwchem_thermo(text, found["energy"])
         cosmo = fallback.nwchem_cosmo(text)
         if cosmo and not found.get("solvent_model"):
             notes.append("COSMO solvent model read from the text (cclib reports none)")

@@ -243,18 +243,24 @@ def nwchem(text: str) -> dict:
     if basis:
         out["basis"] = basis
     out.update(nwchem_cosmo(text))
+    return out  # the thermochemistry is added for both paths by the reader (nwchem_thermo)
+
+
+def nwchem_thermo(text: str, energy: float) -> dict[str, float]:
+    """NWChem's own thermochemistry as totals: H = E + its enthalpy correction; G = H - T S from its
+    "Total Entropy" (NWChem prints no G); the ZPE as printed; empty without a frequency analysis."""
     temperature = _last_float(rf"^\s*Temperature\s+=\s+{_F}K", text)
     h_corr = _last_float(rf"Thermal correction to Enthalpy\s+=.*\(\s*{_F} au\)", text)
+    if h_corr is None or temperature is None:
+        return {}
+    thermo = {"temperature": temperature, "enthalpy": energy + h_corr}
     zpe = _last_float(rf"Zero-Point correction to Energy\s+=.*\(\s*{_F} au\)", text)
+    if zpe is not None:
+        thermo["zpe"] = zpe
     entropy = _last_float(rf"^\s*Total Entropy\s+=\s+{_F} cal/mol-K", text)
-    if energy is not None and h_corr is not None and temperature is not None:
-        thermo = {"temperature": temperature, "enthalpy": energy + h_corr}
-        if zpe is not None:
-            thermo["zpe"] = zpe
-        if entropy is not None:  # NWChem prints no G: H - T S from its own H and S
-            thermo["gibbs"] = thermo["enthalpy"] - temperature * entropy * _CAL / (HARTREE_J * N_A)
-        out["thermo_printed"] = thermo
-    return out
+    if entropy is not None:
+        thermo["gibbs"] = thermo["enthalpy"] - temperature * entropy * _CAL / (HARTREE_J * N_A)
+    return thermo
 
 
 EXTRACTORS = {"orca": orca, "nwchem": nwchem}
