@@ -515,3 +515,26 @@ def test_nwchem_thermochemistry_as_totals_on_both_paths(samples, name):
     assert calc.thermo_printed["enthalpy"] == pytest.approx(h, abs=1e-9)
     assert calc.thermo_printed["gibbs"] == pytest.approx(h - 298.15 * entropy * 4.184 / (HARTREE_J * N_A), abs=1e-9)
     assert calc.thermo_printed["temperature"] == pytest.approx(298.15)
+
+
+@pytest.mark.parametrize(
+    ("program", "name"),
+    [("orca", "orca5.0/dvb_ir.out"), ("orca", "orca5.0/dvb_sp.out"), ("nwchem", "nwchem7.0/dvb_ir.out")],
+)
+def test_fallback_extractors_agree_with_cclib_where_cclib_works(third_party, program, name):
+    # cclib 1.8.1 reads these files: it is the outside source for what the text extractors find
+    from qcthermo.readers import cclib_data, fallback, source
+
+    src = source.load(third_party / name)
+    data, failure = cclib_data.parse(src)
+    assert failure is None
+    by_cclib = cclib_data.fields(data, program)
+    by_text = fallback.EXTRACTORS[program](src.text)
+    assert by_text["symbols"] == by_cclib["symbols"]
+    assert by_text["coordinates"] == pytest.approx(by_cclib["coordinates"], abs=1e-6)
+    assert by_text["energy"] == pytest.approx(by_cclib["energy"], abs=1e-8)
+    assert (by_text["charge"], by_text["multiplicity"]) == (by_cclib["charge"], by_cclib["multiplicity"])
+    if "frequencies" in by_cclib:
+        kept, _ = vibrational_modes(by_text["frequencies"], by_text["symbols"], by_text["coordinates"], True)
+        expected, _ = vibrational_modes(by_cclib["frequencies"], by_cclib["symbols"], by_cclib["coordinates"], True)
+        assert kept == pytest.approx(expected, abs=0.01)
