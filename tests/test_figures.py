@@ -50,12 +50,12 @@ def _text_boxes(fig):
 
 
 def _assert_no_overlaps(fig):
-    """Text boxes pairwise disjoint, and none touches a level line or crosses a connector."""
+    """Text boxes pairwise disjoint, none touches a level line (or its halo) or crosses a connector."""
     boxes = _text_boxes(fig)
     for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
         assert not a.overlaps(b), f"labels {ta!r} and {tb!r} overlap"
-    half_lw = figures.LEVEL_LINEWIDTH / 2 * fig.dpi / 72
-    for line in _artists(fig, "level:"):
+    for line in _artists(fig, "level:") + _artists(fig, "mark:"):  # levels and energy-span halos, with their ink
+        half_lw = line.get_linewidth() / 2 * fig.dpi / 72
         (x0, y), (x1, _) = line.get_transform().transform(line.get_xydata())
         for text, box in boxes:
             assert not (box.x0 < x1 and box.x1 > x0 and box.y0 < y + half_lw and box.y1 > y - half_lw), (

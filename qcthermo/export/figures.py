@@ -277,8 +277,9 @@ def _wrap_width(ax, fig) -> int:
 def _draw_profile(ax, profile: ProfileData, color: str, precision: int, wrap: int) -> tuple[list, list, list, list]:
     """Levels, connectors and (unplaced) value labels of one profile.
 
-    Returns (levels, connectors, value labels, names) where names are (position, shown name, level
-    height) for the caller to draw: overlaid profiles share a state's name when it is the same.
+    Returns (levels and their energy-span halos, connectors, value labels, names) where names are
+    (position, shown name, level height) for the caller to draw: overlaid profiles share a state's
+    name when it is the same.
     """
     levels, connectors, labels, names = [], [], [], []
     values = profile.values
@@ -286,9 +287,9 @@ def _draw_profile(ax, profile: ProfileData, color: str, precision: int, wrap: in
     shown = None if profile.label_states is None else set(profile.label_states)
     for i, state in enumerate(profile.states):
         x = (i - LEVEL_HALF_WIDTH, i + LEVEL_HALF_WIDTH)
-        if state.label in marked:
-            ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH * 4, alpha=0.18,
-                    solid_capstyle="butt", gid=f"mark:{profile.name}:{i}", zorder=1)
+        if state.label in marked:  # the halo is an obstacle for labels like the level itself
+            levels += ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH * 3, alpha=0.18,
+                              solid_capstyle="butt", gid=f"mark:{profile.name}:{i}", zorder=1)
         (line,) = ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH,
                           solid_capstyle="butt", gid=f"level:{profile.name}:{i}", zorder=3)
         levels.append(line)
@@ -337,9 +338,9 @@ def _segments_px(lines: list[Line2D]) -> np.ndarray:
 
 
 def _level_boxes(levels: list[Line2D], fig, pad_px: float) -> np.ndarray:
-    """The ink of each level line (its width in points) plus ``pad_px``, as (x0, x1, y0, y1) rows."""
+    """The ink of each level line (its own width in points) plus ``pad_px``, as (x0, x1, y0, y1) rows."""
     seg = _segments_px(levels)
-    half = LEVEL_LINEWIDTH / 2 * fig.dpi / 72.0 + pad_px
+    half = np.array([line.get_linewidth() for line in levels]) / 2 * fig.dpi / 72.0 + pad_px
     x0, x1 = np.minimum(seg[:, 0], seg[:, 2]), np.maximum(seg[:, 0], seg[:, 2])
     return np.column_stack([x0 - pad_px, x1 + pad_px, seg[:, 1] - half, seg[:, 1] + half])
 
