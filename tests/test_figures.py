@@ -214,6 +214,8 @@ def test_profiles_from_records_order_names_and_presentation_keys():
         profiles_from_records(records, "H")
     with pytest.raises(QcthermoError, match="style 'wavy'"):
         profiles_from_records([rec("p", style="wavy")])
+    with pytest.raises(QcthermoError, match="'blurple' is not a colour"):
+        profiles_from_records([rec("p", color="blurple")])
 
 
 def test_connector_style_from_the_file():

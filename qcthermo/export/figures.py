@@ -23,6 +23,7 @@ from pathlib import Path
 from typing import Any
 
 import matplotlib
+import matplotlib.colors
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg  # figures are files: no window, no pyplot
 from matplotlib.figure import Figure
@@ -120,7 +121,7 @@ class ProfileData:
         label_states: labels of the states that get text; None labels all.
         marks: results of the energy-span analysis, {"tdts": state label, "tdi": state label}, drawn as
             a faint halo behind the level and a tag under its value.
-        style: line style of the connectors ("dashed", "dotted" or "solid").
+        style: line style of the connectors, one of :data:`CONNECTOR_STYLES`.
     """
 
     name: str
@@ -174,13 +175,16 @@ def _profile_from_record(record: dict[str, Any], quantity: str, unit: str, index
     style = str(record.get("style") or "dashed")
     if style not in CONNECTOR_STYLES:
         raise QcthermoError(f"profile {name!r}: style {style!r}; choose one of {', '.join(CONNECTOR_STYLES)}")
+    color = record.get("color")
+    if color is not None and not matplotlib.colors.is_color_like(color):
+        raise QcthermoError(f"profile {name!r}: {color!r} is not a colour (a name like 'black' or '#0072B2')")
     return ProfileData(
         name=name,
         states=states,
         unit=unit,
         quantity=quantity,
         cyclic=bool(record.get("cyclic", False)),
-        color=record.get("color"),
+        color=color,
         label_states=list(label_states) if label_states is not None else None,
         marks=dict(record.get("marks") or {}),
         style=style,
