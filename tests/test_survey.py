@@ -303,3 +303,15 @@ def test_cached_survey_of_real_logs_gives_the_same_rows(real_tree):
     assert second.rows == first.rows
     calc1, calc2 = first.calculations["gaussian16/dvb_ir.out"], second.calculations["gaussian16/dvb_ir.out"]
     assert np.array_equal(calc1.frequencies, calc2.frequencies) and calc1.job_types == calc2.job_types
+
+
+def test_terminal_table_keeps_the_most_useful_columns_that_fit(xyz_tree):
+    from qcthermo.commands.survey import _TABLE, _fitting_columns
+
+    result = survey(xyz_tree, jobs=1, reader=xyz_reader)
+    cells = [[show(row) for _, show in _TABLE] for row in result.rows]
+    headings = lambda keep: [_TABLE[j][0] for j in keep]  # noqa: E731
+    assert headings(_fitting_columns(cells, 200)) == ["file", "program", "q/2S+1", "formula", "status", "reason"]
+    # 52 = 24 for the reason + file (8+2) + status (6+2) + program (7+2) + 1 spare: no room for q/2S+1 (6+2)
+    assert headings(_fitting_columns(cells, 52)) == ["file", "program", "status", "reason"]
+    assert headings(_fitting_columns(cells, 10)) == ["file", "reason"]  # the file name always

@@ -26,6 +26,9 @@ _TABLE = (
     ("status", lambda r: r["status"]),
     ("reason", lambda r: r["reason"]),
 )
+#: which columns stay when the terminal is narrow, most useful first (indices into _TABLE; reason always)
+_PRIORITY = (0, 10, 1, 6, 7, 9, 8, 5, 3, 2, 4)
+_REASON_MIN = 24
 _STATUS_STYLE = {"warning": "yellow", "error": "red"}
 
 
@@ -53,22 +56,38 @@ def write_json(result: SurveyResult, path: str | Path) -> Path:
     return atomic_write(path, json.dumps(result.rows, indent=1) + "\n")
 
 
+def _fitting_columns(cells: list[list[str]], width: int) -> list[int]:
+    """Indices of the columns to show: never an empty one, and on a narrow terminal the most useful
+    ones (:data:`_PRIORITY`) that fit whole, leaving the reason at least :data:`_REASON_MIN` characters."""
+    widths = [max([len(_TABLE[j][0])] + [len(c[j]) for c in cells]) for j in range(len(_TABLE))]
+    reason = len(_TABLE) - 1
+    budget = width - (min(widths[reason], _REASON_MIN) if any(c[reason] for c in cells) else 0)
+    keep = []
+    for j in _PRIORITY:
+        if any(c[j] for c in cells) and (widths[j] + 2 <= budget or not keep):
+            keep.append(j)
+            budget -= widths[j] + 2
+    if any(c[reason] for c in cells):
+        keep.append(reason)
+    return sorted(keep)
+
+
 def print_table(result: SurveyResult) -> None:
-    """The rows on stdout; columns empty for every file are left out, and a pipe gets 200 characters."""
+    """The rows on stdout, fitted to the terminal (a pipe gets 200 characters)."""
     from rich.console import Console
     from rich.table import Table
 
-    cells = [[show(row) for _, show in _TABLE] for row in result.rows]
-    keep = [j for j in range(len(_TABLE)) if any(c[j] for c in cells)]
-    table = Table(box=None, pad_edge=False, header_style="bold")
-    for j in keep:
-        heading = _TABLE[j][0]
-        table.add_column(heading, overflow="fold", no_wrap=heading not in ("file", "reason"))
-    for row, row_cells in zip(result.rows, cells, strict=True):
-        table.add_row(*(row_cells[j] for j in keep), style=_STATUS_STYLE.get(row["status"]))
     console = Console()
     if not console.is_terminal:
         console = Console(width=200)
+    cells = [[show(row) for _, show in _TABLE] for row in result.rows]
+    keep = _fitting_columns(cells, console.width)
+    table = Table(box=None, pad_edge=False, header_style="bold")
+    for j in keep:
+        heading = _TABLE[j][0]
+        table.add_column(heading, overflow="fold", no_wrap=heading != "reason")
+    for row, row_cells in zip(result.rows, cells, strict=True):
+        table.add_row(*(row_cells[j] for j in keep), style=_STATUS_STYLE.get(row["status"]))
     console.print(table)
 
 
