@@ -285,3 +285,33 @@ def test_symmetry_number_survives_optimiser_noise(name):
     assert clean.symmetry_number == shaken.symmetry_number == expected
     assert clean.linear == shaken.linear
     assert entropy_to_j_mol_k(abs(clean.entropy - shaken.entropy)) < 0.05
+
+
+@pytest.mark.parametrize(
+    ("log", "settings", "tolerance_eh"),
+    [
+        ("gaussian16/dvb_ir.out", {}, 1e-6),  # RRHO, sigma 2 (C2h), 1 atm
+        ("qchem5.4/dvb_ir.out", {}, 1e-6),
+        # ORCA 5 prints "Vibrational entropy computed according to the QRRHO of S. Grimme", sigma 2
+        ("orca5.0/dvb_ir.out", {"low_mode_model": "qrrho"}, 1e-5),
+        # GAMESS prints "THE ROTATIONAL SYMMETRY NUMBER IS 1.0" for this transition state
+        ("gamess-us2018/nh3_ts_ir.out", {"symmetry_number": 1, "transition_state": True}, 2e-6),
+    ],
+)
+def test_programs_own_thermochemistry(third_party, log, settings, tolerance_eh):
+    # reference: the totals each program printed for itself (Calculation.thermo_printed), same model;
+    # the tolerances allow for each program's constants and masses (ORCA: 3e-6 Eh seen)
+    import qcthermo
+
+    try:
+        calc = qcthermo.read_log(third_party / log)
+    except (AttributeError, ImportError):
+        pytest.skip("qcthermo.read_log is not available")
+    printed = calc.thermo_printed
+    mol_settings = {k: v for k, v in settings.items() if k in ("symmetry_number", "transition_state")}
+    mol = Molecule.from_calculation(calc, **mol_settings)
+    cond = Conditions(temperature=printed["temperature"], low_mode_model=settings.get("low_mode_model", "rrho"))
+    res = thermochemistry(mol, cond)
+    assert res.zpe == pytest.approx(printed["zpe"], abs=tolerance_eh)
+    assert res.enthalpy == pytest.approx(printed["enthalpy"], abs=tolerance_eh)
+    assert res.gibbs == pytest.approx(printed["gibbs"], abs=tolerance_eh)
