@@ -29,7 +29,9 @@ def run_like(third_party):
     cond = Conditions(low_mode_model="qrrho", standard_state="1M")
     species = {"dvb": build_species("dvb", [dvb], cond),
                "nh3_ts": build_species("nh3_ts", [ts], cond, SpeciesOptions(transition_state=True)),
-               "na_me&_%x": build_species("na_me&_%x", [dvb], cond)}
+               "na_me&_%x": build_species("na_me&_%x", [dvb], cond),
+               # a single point has no frequencies: no thermochemistry, so no block
+               "sp_only": build_species("sp_only", [qcthermo.read_log(third_party / "gaussian16/dvb_sp.out")], cond)}
     return SimpleNamespace(conditions=cond, species_results=species, settings={"directory": str(third_party)})
 
 
@@ -59,6 +61,13 @@ def test_markdown_block_holds_the_logs_numbers(run_like, third_party, tmp_path):
     assert "| charge, multiplicity | 0, 1 |" in dvb
     for key in ("ZPE", "H", "G (qrrho)", "G (rrho)"):
         assert re.search(rf"\| {re.escape(key)} / Eh \| -?\d+\.\d{{6}} \|", dvb), key
+
+
+def test_species_without_a_usable_calculation_is_listed_not_dropped(run_like, tmp_path):
+    md, tex = write_si(run_like, tmp_path)
+    assert "## sp\\_only" not in md.read_text()
+    assert "Not included (no usable calculation): sp\\_only." in md.read_text()
+    assert r"Not included (no usable calculation): sp\_only." in tex.read_text()
 
 
 def test_markdown_coordinates_are_the_final_geometry(run_like, tmp_path):
