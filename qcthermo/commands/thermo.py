@@ -60,7 +60,8 @@ def result_rows(path: str, level: str | None, molecule: Molecule, res: ThermoRes
             row[f"G_{tag}_Eh"] = at(res.gibbs, i)
         row[f"G_corr_{tag}_{suffix}"] = hartree_to(at(res.gibbs, i) - res.electronic_energy, unit)
         row["status"] = "warning" if any(n.startswith("warning") for n in res.notes) else "ok"
-        row["reason"] = "; ".join(n for n in res.notes if not n.startswith("low-mode model"))  # it has a column
+        # the model is named in the column names already
+        row["reason"] = "; ".join(n for n in res.notes if not n.startswith("low-mode model"))
         rows.append(row)
     return rows
 
