@@ -93,23 +93,8 @@ def _frame_table(frame, what: str) -> str:
     """A DataFrame as an HTML table (every cell escaped), or a line saying there is none."""
     if frame is None or len(frame) == 0:
         return f"<p>No {what}.</p>"
-    rows = [[_plain(v) for v in row] for row in frame.itertuples(index=False, name=None)]
-    return _table([str(c) for c in frame.columns], rows)
-
-
-def _plain(value: Any) -> Any:
-    """numpy scalars to Python ones (so that numbers are recognised), pandas' missing values to None."""
-    if hasattr(value, "item") and getattr(value, "ndim", 1) == 0:
-        value = value.item()
-    if value is not None and not isinstance(value, (str, bytes)):
-        try:
-            import pandas as pd
-
-            if pd.isna(value):
-                return None
-        except (TypeError, ValueError):
-            pass
-    return value
+    cells = frame.astype(object).where(frame.notna(), None)  # Python scalars; missing values as None
+    return _table([str(c) for c in frame.columns], cells.itertuples(index=False, name=None))
 
 
 def sorted_findings(findings: Iterable[Any]) -> list[tuple[str, str, str]]:
