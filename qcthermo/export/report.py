@@ -51,8 +51,8 @@ figcaption { color: #555; font-size: 12px; }
 
 def _cell(value: Any, column: str = "") -> str:
     """One table cell's text: hartree columns to the microhartree, hartree/K in exponent form,
-    temperatures to 0.01 K, other numbers to four decimals or
-    in exponent form when tiny or huge (rate constants), everything else as escaped text."""
+    temperatures to 0.01 K, other numbers to four decimals or in exponent form when tiny or huge
+    (rate constants); everything else as escaped text."""
     if value is None:
         return ""
     if isinstance(value, float):
