@@ -372,3 +372,11 @@ def test_profile_command_bad_input_is_one_line(tmp_path, capsys):
     lines = capsys.readouterr().err.strip().splitlines()
     assert len(lines) == 3 and not any("Traceback" in line for line in lines)
     assert not (tmp_path / "f.svg").exists()
+
+
+def test_profile_command_unwritable_output_is_one_line(profile_file, samples, tmp_path, capsys):
+    blocker = tmp_path / "not_a_directory"
+    blocker.write_text("a file where the figure's folder should be")
+    assert _run_profile(profile_file, "-o", blocker / "fig.svg", "--directory", samples / "gas") == 2
+    (line,) = capsys.readouterr().err.strip().splitlines()
+    assert "cannot write the figure" in line

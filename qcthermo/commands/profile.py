@@ -53,7 +53,10 @@ def main(args: argparse.Namespace) -> int:
     profiles = profiles_from_records(results.profiles, args.quantity, args.energy_unit, names=args.profiles,
                                      temperature_index=profile_temperature_index(results))
     fig = plot_profiles(profiles, precision=args.precision)
-    save_figure(fig, output)
+    try:
+        save_figure(fig, output)
+    except OSError as err:
+        raise QcthermoError(f"{output}: cannot write the figure ({err.strerror or err.__class__.__name__})") from None
     if not args.quiet:
         print(f"{output}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit}")
     return 1 if any(f[0] == "error" for f in results.findings) else 0
