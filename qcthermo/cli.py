@@ -46,6 +46,13 @@ def _add_conditions(p: argparse.ArgumentParser) -> None:
                    help="threshold of the low-mode model, cm^-1 (100)")
     g.add_argument("--frequency-scale", default=None, metavar="F|auto",
                    help="frequency scale factor, or 'auto' to look up the level of theory (1.0)")
+    g.add_argument("--zpe-scale", type=float, default=None, metavar="F",
+                   help="scale factor for the ZPE alone (default: the frequency scale factor)")
+    g.add_argument("--rotor-inertia", default=None, metavar="KG_M2|molecular",
+                   help="B_av of the qRRHO free-rotor limit, kg m^2 (1e-44), or 'molecular'")
+    g.add_argument("--imaginary-policy", default=None, choices=["error", "invert", "drop"],
+                   help="unexpected imaginary modes: refuse, make real, or leave out (default: invert "
+                   "small ones with a warning, refuse large ones)")
     g.add_argument("--energy-unit", default="kcal/mol", choices=["kcal/mol", "kJ/mol", "eV"],
                    help="unit of the human-readable energies (kcal/mol)")
 

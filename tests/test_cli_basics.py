@@ -20,3 +20,29 @@ def test_no_command_prints_help_and_exits_2():
     from qcthermo.cli import main
 
     assert main([]) == 2
+
+
+def test_engine_options_reach_the_conditions():
+    from qcthermo.cli import build_parser
+    from qcthermo.commands.common import conditions_from_args
+
+    args = build_parser().parse_args(
+        ["thermo", "logs", "--rotor-inertia", "molecular", "--zpe-scale", "0.98", "--imaginary-policy", "drop",
+         "--temperature-range", "250:350:50", "--standard-state", "1M"]
+    )
+    cond = conditions_from_args(args)
+    assert cond.rotor_inertia == "molecular"
+    assert cond.zpe_scale == 0.98
+    assert cond.imaginary_policy == "drop"
+    assert cond.standard_state == "1M"
+    assert list(cond.temperature) == [250.0, 300.0, 350.0]
+
+
+def test_bad_option_values_are_one_line_errors(capsys, tmp_path):
+    from qcthermo.cli import main
+
+    assert main(["thermo", str(tmp_path), "--rotor-inertia", "heavy"]) == 2
+    assert main(["thermo", str(tmp_path), "--temperature-range", "300:200:10"]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 2 and all(line.startswith("qcthermo thermo: error:") for line in err)
+    assert "rotor inertia" in err[0] and "--temperature-range" in err[1]

@@ -45,17 +45,33 @@ def parse_scale(value: Any) -> float | str:
     return factor
 
 
+def parse_rotor_inertia(value: Any) -> float | str:
+    """B_av of the free-rotor limit: a positive moment of inertia in kg m^2, or "molecular"."""
+    if isinstance(value, str) and value.strip().lower() == "molecular":
+        return "molecular"
+    try:
+        inertia = float(value)
+    except (TypeError, ValueError):
+        raise QcthermoError(f"rotor inertia {value!r}: expected kg m^2 (e.g. 1e-44) or 'molecular'") from None
+    if not 0 < inertia < 1e-40:
+        raise QcthermoError(f"rotor inertia {inertia}: expected a molecular moment of inertia, kg m^2 (e.g. 1e-44)")
+    return inertia
+
+
 def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any] | None = None) -> Conditions:
     """Conditions from, in rising priority: CLI defaults, a reaction file's [conditions], options."""
     settings = dict(CLI_DEFAULTS)
     settings.update(file_settings or {})
-    for key in ("temperature", "standard_state", "low_mode_model", "low_mode_threshold", "frequency_scale"):
+    for key in ("temperature", "standard_state", "low_mode_model", "low_mode_threshold", "frequency_scale",
+                "zpe_scale", "rotor_inertia", "imaginary_policy"):
         value = getattr(args, key, None)
         if value is not None:
             settings[key] = value
     if getattr(args, "temperature_range", None):
         settings["temperature"] = parse_temperature_range(args.temperature_range)
     settings["frequency_scale"] = parse_scale(settings["frequency_scale"])
+    if "rotor_inertia" in settings:
+        settings["rotor_inertia"] = parse_rotor_inertia(settings["rotor_inertia"])
     try:
         return Conditions(**settings)
     except (TypeError, ValueError) as err:
