@@ -132,7 +132,8 @@ def report(r: dict) -> None:
     idle = r["loop_cpu"] / (r["cold_cpu"] / r["jobs"])
     print(f"  from CPU time, on {r['jobs']} idle cores: cold vs cclib loop ~{idle:.2f}x, "
           f"cold vs reader loop ~{r['reader_cpu'] / (r['cold_cpu'] / r['jobs']):.2f}x")
-    print(f"  peak memory: parent (tracemalloc) {r['parent_peak_MB']:.1f} MB, "
+    print(f"  peak memory: parent (tracemalloc) {r['parent_peak_MB']:.1f} MB "
+          f"({1000 * r['parent_peak_MB'] / n:.1f} kB per file: the records kept, not the {1000 * mb / n:.0f} kB logs), "
           f"workers (max RSS) {r['workers_maxrss_MB']:.1f} MB")
 
 
