@@ -29,11 +29,19 @@ def atomic_open(path: str | os.PathLike, mode: str = "w", encoding: str | None =
             yield handle
             handle.flush()
             os.fsync(handle.fileno())
+        # mkstemp makes the file private (0600); give it the permissions a plain open() would
+        os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def atomic_write(path: str | os.PathLike, data: str | bytes) -> Path:
