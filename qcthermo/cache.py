@@ -8,11 +8,12 @@ nothing but text and numbers.
 Lookup (:meth:`ParseCache.lookup`):
 
 1. path, size and mtime_ns match a row of the same reader version: the row is trusted without opening
-   the file (a warm survey only stats the files);
+   the file (a warm survey only stats the files): :meth:`ParseCache.lookup`, in the parent;
 2. otherwise the file is hashed (BLAKE2b, streamed) and any row with that digest and reader version is
-   reused, whatever its path (a touched, copied or moved file is not parsed again); the row for this
-   path is brought up to date;
-3. otherwise the caller parses the file and :meth:`ParseCache.store` records the result.
+   reused, whatever its path (a touched, copied or moved file is not parsed again): done by the worker
+   that would parse the file (:class:`DigestIndex`, read-only), so hashing runs in parallel too;
+3. otherwise the worker parses the file; either way the parent records the outcome under the file's
+   new key with :meth:`ParseCache.store`.
 
 Several processes may use the file at once: WAL journal, a busy timeout, and writes batched into
 short ``BEGIN IMMEDIATE`` transactions by the parent process (workers never write). A file that is not
@@ -95,17 +96,16 @@ class ParseCache:
     """The SQLite parse cache at ``directory / parse-cache.sqlite`` for one reader version.
 
     Use as a context manager; :meth:`store` queues results, :meth:`flush` (also on exit and every
-    ``batch_size`` stores) writes them in one transaction. Hashes computed during lookups are counted
-    in :attr:`hashed` (a warm survey hashes nothing).
+    ``batch_size`` stores) writes them in one transaction. Lookup step 1 is :meth:`lookup`; step 2 is
+    :meth:`find` here, or :class:`DigestIndex` in a worker process, by whoever hashed the file.
     """
 
     def __init__(self, reader_version: str, directory: str | os.PathLike | None = None, batch_size: int = 64):
-        self.reader_version = f"schema{SCHEMA_VERSION}:{reader_version}"
+        self.reader_version = versioned(reader_version)
         self.directory = Path(directory) if directory is not None else default_cache_dir()
         self.path = self.directory / CACHE_FILE
         self.batch_size = batch_size
         self.warnings: list[str] = []
-        self.hashed = 0
         self._pending: list[tuple] = []
         self._db: sqlite3.Connection | None = self._open()
 
@@ -169,46 +169,38 @@ class ParseCache:
 
     # -- lookups and stores ----------------------------------------------------------------------
 
-    def lookup(self, key: FileKey) -> tuple[Entry | None, str | None]:
-        """(entry, digest): the cached outcome for ``key`` or None, and the digest if one was computed.
-
-        The file is opened only when no row matches path, size and mtime_ns.
-        """
+    def lookup(self, key: FileKey) -> Entry | None:
+        """The cached outcome for a file whose path, size and mtime_ns match a row; never opens the file."""
         if self._db is None:
-            return None, None
+            return None
         try:
             row = self._db.execute(
                 "SELECT ok, payload FROM parsed WHERE path = ? AND size = ? AND mtime_ns = ? AND reader_version = ?",
                 (key.path, key.size, key.mtime_ns, self.reader_version),
             ).fetchone()
-            if row is not None:
-                return _entry(*row), None
-            digest = file_digest(key.path)
-            self.hashed += 1
-            row = self._db.execute(
-                "SELECT ok, payload FROM parsed WHERE digest = ? AND reader_version = ? LIMIT 1",
-                (digest, self.reader_version),
-            ).fetchone()
         except sqlite3.DatabaseError as err:
             self._disable(err)
-            return None, None
-        if row is None:
-            return None, digest
-        entry = _entry(*row)
-        self._queue(key, digest, entry)
-        return entry, digest
+            return None
+        return None if row is None else _entry(*row)
 
-    def store(self, key: FileKey, digest: str | None, entry: Entry) -> None:
-        """Queue the outcome of parsing the file at ``key`` (``digest`` None: hash it now)."""
+    def find(self, digest: str) -> Entry | None:
+        """The cached outcome for any file with these bytes (step 2 of the lookup)."""
         if self._db is None:
-            return
-        if digest is None:
-            try:
-                digest = file_digest(key.path)
-            except OSError:
-                return  # the file went away: nothing worth remembering
-            self.hashed += 1
-        self._queue(key, digest, entry)
+            return None
+        try:
+            return _find(self._db, digest, self.reader_version)
+        except sqlite3.DatabaseError as err:
+            self._disable(err)
+            return None
+
+    def index(self) -> DigestIndex | None:
+        """What a worker process needs for :meth:`find` (it opens its own read-only connection)."""
+        return DigestIndex(str(self.path), self.reader_version) if self._db is not None else None
+
+    def store(self, key: FileKey, digest: str, entry: Entry) -> None:
+        """Queue the outcome for the file at ``key``: parsed now, or found by its digest."""
+        if self._db is not None:
+            self._queue(key, digest, entry)
 
     def _queue(self, key: FileKey, digest: str, entry: Entry) -> None:
         payload = json.dumps(entry.record) if entry.ok else entry.reason
@@ -253,6 +245,39 @@ def _transaction(db: sqlite3.Connection):
             with contextlib.suppress(sqlite3.Error):
                 db.execute("ROLLBACK")
         raise
+
+
+def versioned(reader_version: str) -> str:
+    return f"schema{SCHEMA_VERSION}:{reader_version}"
+
+
+def _find(db: sqlite3.Connection, digest: str, reader_version: str) -> Entry | None:
+    row = db.execute(
+        "SELECT ok, payload FROM parsed WHERE digest = ? AND reader_version = ? LIMIT 1", (digest, reader_version)
+    ).fetchone()
+    return None if row is None else _entry(*row)
+
+
+#: read-only connections of this process, by (pid, database path): a connection never crosses a fork
+_READONLY: dict[tuple[int, str], sqlite3.Connection] = {}
+
+
+@dataclass(frozen=True)
+class DigestIndex:
+    """Lookup step 2 from a worker process: read-only, its own connection (workers never write)."""
+
+    path: str
+    reader_version: str
+
+    def find(self, digest: str) -> Entry | None:
+        try:
+            db = _READONLY.get((os.getpid(), self.path))
+            if db is None:
+                db = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_S)
+                _READONLY[(os.getpid(), self.path)] = db
+            return _find(db, digest, self.reader_version)
+        except sqlite3.Error:
+            return None  # the parent reports a damaged cache; here the file is simply parsed
 
 
 def _entry(ok: int, payload: str) -> Entry:

@@ -25,10 +25,11 @@ from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from . import __version__
-from .cache import Entry, FileKey, ParseCache, default_cache_dir
+from . import cache as parse_cache
+from .cache import DigestIndex, Entry, FileKey, ParseCache, default_cache_dir
 from .errors import LogReadError, QcthermoError
 from .progress import ProgressBar
 from .records import JOB_TYPES, Calculation
@@ -157,11 +158,20 @@ def reader_version(reader: Reader | None = None) -> str:
     return f"qcthermo-{__version__}:cclib-{cclib_version}:{name}:{digest.hexdigest()}"
 
 
-def read_one(reader: Reader, path: str) -> tuple[str, Any]:
-    """("ok", Calculation dict) | ("error", reason) | ("failure", reason); never raises.
+class Outcome(NamedTuple):
+    """What became of one file: kind "ok" (payload: the Calculation dict), "error" (payload: the reason,
+    cached) or "failure" (payload: the reason; not cached, it may not happen again: out of memory, a dead
+    worker, a file that could not be opened). ``digest`` when the file was hashed; ``source`` "parsed"
+    (the reader ran), "digest" (found in the cache by its bytes) or "unread"."""
 
-    "failure" is an outcome that may not repeat (out of memory) and is not cached.
-    """
+    kind: str
+    payload: Any
+    digest: str | None = None
+    source: str = "parsed"
+
+
+def parse_one(reader: Reader, path: str) -> tuple[str, Any]:
+    """(kind, payload) of running the reader on one file; never raises."""
     try:
         calc = reader(path)
     except LogReadError as err:
@@ -173,9 +183,26 @@ def read_one(reader: Reader, path: str) -> tuple[str, Any]:
     return "ok", calc.to_dict()
 
 
-def read_chunk(reader: Reader, paths: list[str]) -> list[tuple[str, Any]]:
+def read_one(reader: Reader, path: str, index: Any = None) -> Outcome:
+    """Steps 2 and 3 of the cache lookup for one file: hash it and ask ``index`` (anything with
+    ``find(digest) -> Entry | None``; None: no cache), else parse it. Never raises."""
+    digest = None
+    if index is not None:
+        try:
+            digest = parse_cache.file_digest(path)
+        except OSError as err:
+            return Outcome("failure", f"cannot read the file ({err.strerror})", source="unread")
+        entry = index.find(digest)
+        if entry is not None:
+            return Outcome("ok", entry.record, digest, "digest") if entry.ok else \
+                Outcome("error", entry.reason, digest, "digest")
+    kind, payload = parse_one(reader, path)
+    return Outcome(kind, payload, digest)
+
+
+def read_chunk(reader: Reader, paths: list[str], index: Any = None) -> list[Outcome]:
     """:func:`read_one` over a few files (the unit of work sent to a worker process)."""
-    return [read_one(reader, p) for p in paths]
+    return [read_one(reader, p, index) for p in paths]
 
 
 def _one_line(text: str) -> str:
@@ -204,8 +231,9 @@ def _start_worker() -> None:
     tracemalloc.stop()
 
 
-def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[[int, tuple[str, Any]], None]) -> None:
-    """Read ``paths`` with ``jobs`` worker processes; ``report(index, outcome)`` as each file is done.
+def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[[int, Outcome], None],
+                  index: DigestIndex | None = None) -> None:
+    """Read ``paths`` with ``jobs`` worker processes; ``report(k, outcome)`` as each file is done.
 
     A worker that dies (a crash in a compiled library, the out-of-memory killer) breaks the pool; the
     files it held are read again one at a time, each in a fresh pool, so only the file that kills its
@@ -215,7 +243,8 @@ def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[
     retry: list[tuple[int, str]] = []
     pool = _pool(min(jobs, len(indexed)))
     try:
-        futures = {pool.submit(read_chunk, reader, [p for _, p in chunk]): chunk for chunk in _chunks(indexed, jobs)}
+        futures = {pool.submit(read_chunk, reader, [p for _, p in chunk], index): chunk
+                   for chunk in _chunks(indexed, jobs)}
         for future in as_completed(futures):
             chunk = futures[future]
             try:
@@ -223,20 +252,21 @@ def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[
             except Exception:  # BrokenProcessPool, or a result that could not be sent back
                 retry.extend(chunk)
                 continue
-            for (index, _), outcome in zip(chunk, outcomes, strict=True):
-                report(index, outcome)
+            for (k, _), outcome in zip(chunk, outcomes, strict=True):
+                report(k, outcome)
     finally:
         pool.shutdown(wait=True, cancel_futures=True)
-    for index, path in sorted(retry):
-        report(index, _read_isolated(reader, path))
+    for k, path in sorted(retry):
+        report(k, _read_isolated(reader, path, index))
 
 
-def _read_isolated(reader: Reader, path: str) -> tuple[str, Any]:
+def _read_isolated(reader: Reader, path: str, index: DigestIndex | None) -> Outcome:
     with _pool(1) as pool:
         try:
-            return pool.submit(read_one, reader, path).result()
+            return pool.submit(read_one, reader, path, index).result()
         except Exception as err:
-            return "failure", _one_line(f"the reading process died ({type(err).__name__}); the file may be damaged")
+            reason = f"the reading process died ({type(err).__name__}); the file may be damaged"
+            return Outcome("failure", _one_line(reason))
 
 
 # -- auditing one file ---------------------------------------------------------------------------
@@ -384,73 +414,66 @@ def survey(
     result = SurveyResult(str(directory), notes=notes)
     outcomes: list[tuple[str, Any] | None] = [None] * len(candidates)
     store = ParseCache(reader_version(reader), cache_dir) if cache and candidates else None
+    stats = dict.fromkeys(("files", "parsed", "cached", "hashed"), 0)
     try:
         with ProgressBar(len(candidates), "reading logs", enabled=progress) as bar:
-            misses = _from_cache(store, candidates, outcomes, bar)
-            _parse(reader, candidates, misses, outcomes, jobs, store, bar)
+            misses = _from_cache(store, candidates, outcomes, bar, stats)
+            _read_misses(reader, candidates, misses, outcomes, jobs, store, bar, stats)
     finally:
         if store is not None:
             store.close()
             result.notes.extend(store.warnings)
     _collect(result, root, candidates, outcomes)
-    result.stats = {
-        "files": len(candidates),
-        "parsed": len(misses),
-        "cached": len(candidates) - len(misses),
-        "hashed": store.hashed if store is not None else 0,
-    }
+    stats["files"] = len(candidates)
+    result.stats = stats
     return result
 
 
-def _from_cache(
-    store: ParseCache | None, candidates: list[Candidate], outcomes: list, bar: ProgressBar
-) -> list[tuple[int, str | None]]:
-    """Fill ``outcomes`` from the cache; return (index, digest) of the files still to parse."""
+def _from_cache(store: ParseCache | None, candidates: list[Candidate], outcomes: list, bar: ProgressBar,
+                stats: dict[str, int]) -> list[int]:
+    """Fill ``outcomes`` for the files whose path, size and mtime match the cache; return the others."""
     misses = []
-    for index, cand in enumerate(candidates):
-        entry, digest = (None, None)
-        if store is not None:
-            try:
-                entry, digest = store.lookup(cand.key)
-            except OSError as err:  # vanished or unreadable since the walk
-                outcomes[index] = ("error", f"cannot read the file ({err.strerror})")
-                bar.advance()
-                continue
+    for i, cand in enumerate(candidates):
+        entry = store.lookup(cand.key) if store is not None else None
         if entry is None:
-            misses.append((index, digest))
+            misses.append(i)
         else:
-            outcomes[index] = ("ok", entry.record) if entry.ok else ("error", entry.reason)
+            outcomes[i] = ("ok", entry.record) if entry.ok else ("error", entry.reason)
+            stats["cached"] += 1
             bar.advance()
     return misses
 
 
-def _parse(reader: Reader, candidates: list[Candidate], misses: list[tuple[int, str | None]], outcomes: list,
-           jobs: int, store: ParseCache | None, bar: ProgressBar) -> None:
-    """Read the files the cache did not know, store what was found, fill ``outcomes``."""
+def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int], outcomes: list, jobs: int,
+                 store: ParseCache | None, bar: ProgressBar, stats: dict[str, int]) -> None:
+    """Hash, look up by digest, or parse the files step 1 did not find; store and count the outcomes."""
     if not misses:
         return
     # largest files first, so that no big file is left for one worker at the end while the others idle
-    misses = sorted(misses, key=lambda miss: -candidates[miss[0]].key.size)
-    paths = [candidates[i].key.path for i, _ in misses]
+    misses = sorted(misses, key=lambda i: -candidates[i].key.size)
+    paths = [candidates[i].key.path for i in misses]
 
-    def report(k: int, outcome: tuple[str, Any]) -> None:
-        index, digest = misses[k]
-        outcomes[index] = outcome
-        kind, payload = outcome
-        if store is not None and kind != "failure":
-            ok = kind == "ok"
-            store.store(candidates[index].key, digest, Entry(ok, record=payload if ok else None,
-                                                             reason="" if ok else payload))
+    def report(k: int, outcome: Outcome) -> None:
+        i = misses[k]
+        outcomes[i] = (outcome.kind, outcome.payload)
+        stats["hashed"] += outcome.digest is not None
+        stats["parsed"] += outcome.source == "parsed"
+        stats["cached"] += outcome.source == "digest"
+        if store is not None and outcome.digest is not None and outcome.kind != "failure":
+            ok = outcome.kind == "ok"
+            store.store(candidates[i].key, outcome.digest,
+                        Entry(ok, record=outcome.payload if ok else None, reason="" if ok else outcome.payload))
         bar.advance()
 
+    index = store if store is not None and store.enabled else None
     if jobs == 1 or len(paths) == 1:
         for k, path in enumerate(paths):
-            report(k, read_one(reader, path))
+            report(k, read_one(reader, path, index))
         return
     if reader is default_reader:
         with contextlib.suppress(ImportError):  # without readers each file reports the failure itself
             importlib.import_module("qcthermo.readers")  # once here, shared by the forked workers
-    read_parallel(reader, paths, jobs, report)
+    read_parallel(reader, paths, jobs, report, index.index() if index is not None else None)
 
 
 def _collect(result: SurveyResult, root: Path, candidates: list[Candidate], outcomes: list) -> None:

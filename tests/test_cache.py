@@ -19,7 +19,7 @@ from pathlib import Path
 import pytest
 
 import qcthermo.cache as cache_module
-from qcthermo.cache import CACHE_FILE, ParseCache, default_cache_dir
+from qcthermo.cache import CACHE_FILE, ParseCache, default_cache_dir, file_digest
 from qcthermo.errors import LogReadError
 from qcthermo.records import Calculation
 from qcthermo.survey import survey
@@ -162,6 +162,17 @@ def test_touched_file_is_hashed_but_not_parsed(tree, hashes):
     assert again.calculations["water.out"].symbols == ("O", "H", "H")
 
 
+def test_worker_processes_find_touched_files_by_digest(tree):
+    reader = CountingReader()
+    survey(tree, jobs=1, reader=reader)
+    for name in ("water.out", "sub/h2.log"):
+        st = os.stat(tree / name)
+        os.utime(tree / name, ns=(st.st_atime_ns, st.st_mtime_ns + 5_000_000_000))
+    again = survey(tree, jobs=2, reader=reader)  # two misses: hashed and looked up in the workers
+    assert again.stats == {"files": 3, "parsed": 0, "cached": 3, "hashed": 2}
+    assert again.calculations["sub/h2.log"].symbols == ("H", "H")
+
+
 def test_changed_file_is_parsed_again(tree):
     reader = CountingReader()
     survey(tree, jobs=1, reader=reader)
@@ -255,15 +266,20 @@ def test_writes_are_batched_and_flushed_on_close(tree, cache_dir):
     from qcthermo.cache import Entry, FileKey
 
     key = FileKey.of(tree / "water.out")
+    digest = file_digest(key.path)
     with ParseCache("v1", cache_dir, batch_size=10) as store:
-        store.store(key, None, Entry(False, reason="a reason"))
+        store.store(key, digest, Entry(False, reason="a reason"))
         peek = sqlite3.connect(store.path)
         assert peek.execute("SELECT count(*) FROM parsed").fetchone() == (0,)  # still queued
     assert peek.execute("SELECT ok, payload FROM parsed").fetchall() == [(0, "a reason")]
     peek.close()
     with ParseCache("v1", cache_dir) as store:
-        entry, digest = store.lookup(key)
-    assert entry.reason == "a reason" and digest is None
+        assert store.lookup(key).reason == "a reason"
+        assert store.find(digest).reason == "a reason"
+        assert store.index().find(digest).reason == "a reason"  # the read-only lookup of a worker
+        assert store.index().find("0" * 128) is None
+    with ParseCache("v2", cache_dir) as store:
+        assert store.lookup(key) is None and store.find(digest) is None  # another reader version
 
 
 def test_cache_location_follows_the_environment(monkeypatch, tmp_path):
