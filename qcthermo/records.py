@@ -42,8 +42,9 @@ class Calculation:
         optimization_converged: for optimisations, whether the optimiser reported convergence.
         s2: <S^2> of the final wavefunction for open shells, when printed.
         gas_energy: for implicit-solvent runs that print it, the gas-phase energy, hartree.
-        thermo_printed: the program's own thermochemistry as totals in hartree ("zpe", "enthalpy",
-            "gibbs" at ``"temperature"`` K), for cross-checks only.
+        thermo_printed: the program's own thermochemistry in hartree, for cross-checks only: "zpe"
+            (the zero-point energy itself), "enthalpy" and "gibbs" (totals, E_elec included) at
+            ``"temperature"`` K.
         notes: what the reader noticed: fallback used, quirks fixed.
     """
 
