@@ -391,6 +391,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     findings += calcs.findings
     for s in species.values():
         findings += s.findings
+    findings += _unused_warnings(survey_result, species)
     reactions_df, energetics = _reactions_table(rf, species, conditions, energy_unit, findings)
     results = RunResults(
         settings=_settings(directory, rf, conditions, energy_unit, jobs, cache),
@@ -402,6 +403,16 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     add_kinetics(results, energetics)
     results.findings = _sorted_findings(results.findings)
     return results
+
+
+def _unused_warnings(survey_result, species: dict[str, SpeciesResult]) -> list[Finding]:
+    """The survey's warnings about files no species uses (a killed job left in the tree, say)."""
+    root = Path(survey_result.directory)
+    used = {Path(p).resolve() for s in species.values() for c in s.conformers
+            for p in (c.path, c.single_point.path if c.single_point else None) if p}
+    return [Finding("warning", str(root / row["path"]), f"{row['reason']} (not used by any species)")
+            for row in survey_result.rows
+            if row["status"] == "warning" and (root / row["path"]).resolve() not in used]
 
 
 def _sorted_findings(findings: list[Finding]) -> list[Finding]:
