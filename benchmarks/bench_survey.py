@@ -150,6 +150,10 @@ def main() -> int:
         print("no source logs found", file=sys.stderr)
         return 1
     print(f"sources: {len(source_logs())} logs; {os.cpu_count()} cores; python {sys.version.split()[0]}")
+    if os.getloadavg()[0] > (os.cpu_count() or 1):
+        # with the kernel's session autogroups, a session's processes share one slice of a saturated machine
+        print(f"note: load average {os.getloadavg()[0]:.1f} on {os.cpu_count()} cores: wall-clock ratios of "
+              "parallel work mean little here; the CPU-time estimates below do not depend on the load")
     for size in (int(s) for s in args.sizes.split(",")):
         out = subprocess.run([sys.executable, __file__, "--child", str(size), "--jobs", str(args.jobs)],
                              capture_output=True, text=True, check=True).stdout
