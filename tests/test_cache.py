@@ -8,6 +8,7 @@ so these tests do not depend on any quantum-chemistry reader; the counts are wha
 from __future__ import annotations
 
 import builtins
+import importlib
 import io
 import os
 import sqlite3
@@ -224,8 +225,9 @@ def test_corrupt_cache_file_is_moved_aside_and_rebuilt(tree, cache_dir):
 
 
 def test_corrupt_cache_warning_reaches_the_command_line(tree, cache_dir, capsys, monkeypatch):
-    import qcthermo.survey as survey_module
     from qcthermo.cli import main
+
+    survey_module = importlib.import_module("qcthermo.survey")
 
     monkeypatch.setattr(survey_module, "default_reader", xyz_reader)
     cache_dir.mkdir()

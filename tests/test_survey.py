@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import dataclasses
 import gzip
+import importlib
 import json
 import os
 import shutil
@@ -21,11 +22,14 @@ import numpy as np
 import pytest
 
 import qcthermo
-import qcthermo.survey as survey_module
 from qcthermo.cli import main
 from qcthermo.errors import LogReadError, QcthermoError
 from qcthermo.records import Calculation
 from qcthermo.survey import COLUMNS, audit, find_candidates, job_types_label, survey
+
+# the module itself: once `qcthermo.survey` has been looked up as the function, `import qcthermo.survey as m`
+# would give the function
+survey_module = importlib.import_module("qcthermo.survey")
 
 # Water near its equilibrium geometry (O-H 0.958 A, H-O-H 104.5 degrees; from memory), as an XYZ file.
 WATER_XYZ = "3\nwater\nO 0 0 0.1173\nH 0 0.7572 -0.4692\nH 0 -0.7572 -0.4692\n"
@@ -315,3 +319,18 @@ def test_terminal_table_keeps_the_most_useful_columns_that_fit(xyz_tree):
     # 52 = 24 for the reason + file (8+2) + status (6+2) + program (7+2) + 1 spare: no room for q/2S+1 (6+2)
     assert headings(_fitting_columns(cells, 52)) == ["file", "program", "status", "reason"]
     assert headings(_fitting_columns(cells, 10)) == ["file", "reason"]  # the file name always
+
+
+@pytest.mark.parametrize("first", ["", "import qcthermo.survey; "])
+def test_qcthermo_survey_is_callable_whether_or_not_its_module_was_imported(tmp_path, first):
+    import subprocess
+    import sys
+
+    (tmp_path / "h.out").write_text("x")
+    code = (
+        f"{first}import sys, qcthermo; from qcthermo.records import Calculation\n"
+        "reader = lambda p: Calculation(path=p, program='stub', symbols=('H',), coordinates=[[0.0, 0.0, 0.0]])\n"
+        "print(qcthermo.survey(sys.argv[1], jobs=1, cache=False, reader=reader).summary())\n"
+    )
+    out = subprocess.run([sys.executable, "-c", code, str(tmp_path)], capture_output=True, text=True, check=True)
+    assert out.stdout.strip() == "1 file: 1 ok, 0 warning, 0 error"
