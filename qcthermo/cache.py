@@ -102,7 +102,8 @@ class ParseCache:
 
     def __init__(self, reader_version: str, directory: str | os.PathLike | None = None, batch_size: int = 64):
         self.reader_version = versioned(reader_version)
-        self.directory = Path(directory) if directory is not None else default_cache_dir()
+        # absolute: worker processes open it by URI
+        self.directory = (Path(directory) if directory is not None else default_cache_dir()).absolute()
         self.path = self.directory / CACHE_FILE
         self.batch_size = batch_size
         self.warnings: list[str] = []
@@ -156,12 +157,20 @@ class ParseCache:
         return aside
 
     def _disable(self, err: sqlite3.Error) -> None:
-        """A damaged page found mid-run: carry on without the cache rather than lose the survey."""
-        self.warnings.append(f"parse cache disabled for the rest of this run: {err}")
+        """An error in the middle of a run: carry on without the cache rather than lose the survey.
+
+        A damaged file (not merely a locked or read-only one) is also moved aside, so the next run
+        rebuilds it instead of tripping over the same page again.
+        """
         with contextlib.suppress(sqlite3.Error):
             self._db.close()
         self._db = None
         self._pending.clear()
+        message = f"parse cache disabled for the rest of this run: {err}"
+        if not isinstance(err, sqlite3.OperationalError):
+            with contextlib.suppress(OSError):
+                message += f"; moved to {self._move_aside().name}, the next run rebuilds it"
+        self.warnings.append(message)
 
     @property
     def enabled(self) -> bool:
@@ -273,7 +282,7 @@ class DigestIndex:
         try:
             db = _READONLY.get((os.getpid(), self.path))
             if db is None:
-                db = sqlite3.connect(f"file:{self.path}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_S)
+                db = sqlite3.connect(f"{Path(self.path).as_uri()}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_S)
                 _READONLY[(os.getpid(), self.path)] = db
             return _find(db, digest, self.reader_version)
         except sqlite3.Error:

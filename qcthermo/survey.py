@@ -215,9 +215,9 @@ def _chunks(items: list, jobs: int) -> list[list]:
 
 
 def _pool(workers: int) -> ProcessPoolExecutor:
-    # fork shares the parent's already-imported reader (cclib takes most of a second to import)
-    methods = multiprocessing.get_all_start_methods()
-    context = multiprocessing.get_context("fork" if "fork" in methods else None)
+    # fork shares the parent's already-imported reader (cclib takes most of a second to import); only on
+    # Linux, where it is safe (macOS system libraries may crash in a forked child)
+    context = multiprocessing.get_context("fork" if sys.platform.startswith("linux") else None)
     return ProcessPoolExecutor(max_workers=workers, mp_context=context, initializer=_start_worker)
 
 

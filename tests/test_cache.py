@@ -224,6 +224,25 @@ def test_corrupt_cache_file_is_moved_aside_and_rebuilt(tree, cache_dir):
     assert reader.calls == [] and again.notes == []
 
 
+def test_cache_damaged_inside_is_set_aside_and_rebuilt_next_time(tree, cache_dir):
+    survey(tree, jobs=1, reader=CountingReader())
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+    (page_size,) = db.execute("PRAGMA page_size").fetchone()
+    db.close()
+    data = bytearray((cache_dir / CACHE_FILE).read_bytes())
+    data[page_size:] = b"\xff" * (len(data) - page_size)  # keep the header page, wreck every other page
+    (cache_dir / CACHE_FILE).write_bytes(bytes(data))
+    reader = CountingReader()
+    damaged = survey(tree, jobs=1, reader=reader)
+    assert len(damaged.rows) == 3 and len(damaged.calculations) == 2  # the survey itself is not lost
+    assert len(damaged.notes) == 1 and "rebuil" in damaged.notes[0]  # found on opening, or in mid-run
+    survey(tree, jobs=1, reader=reader)  # at the latest this run fills the rebuilt cache
+    reader.calls.clear()
+    again = survey(tree, jobs=1, reader=reader)
+    assert again.notes == [] and reader.calls == []
+
+
 def test_corrupt_cache_warning_reaches_the_command_line(tree, cache_dir, capsys, monkeypatch):
     from qcthermo.cli import main
 
@@ -293,3 +312,18 @@ def test_cache_location_follows_the_environment(monkeypatch, tmp_path):
     monkeypatch.delenv("XDG_CACHE_HOME")
     monkeypatch.setenv("HOME", str(tmp_path / "home"))
     assert default_cache_dir() == tmp_path / "home" / ".cache" / "qcthermo"
+
+
+def test_damage_found_mid_run_disables_the_cache_and_sets_the_file_aside(tree, cache_dir):
+    from qcthermo.cache import FileKey
+
+    store = ParseCache("v1", cache_dir)
+    store._db.close()
+    (cache_dir / CACHE_FILE).write_bytes(b"\xff" * 8192)  # wrecked under an open cache, as by a failing disk
+    store._db = sqlite3.connect(cache_dir / CACHE_FILE)
+    assert store.lookup(FileKey.of(tree / "water.out")) is None
+    assert not store.enabled
+    assert len(store.warnings) == 1 and "disabled for the rest of this run" in store.warnings[0]
+    assert "the next run rebuilds it" in store.warnings[0]
+    assert not (cache_dir / CACHE_FILE).exists() and len(list(cache_dir.glob(f"{CACHE_FILE}.corrupt-*"))) == 1
+    store.close()
