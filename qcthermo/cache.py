@@ -116,12 +116,16 @@ class ParseCache:
         # isolation_level=None: autocommit, so every write transaction is an explicit BEGIN IMMEDIATE
         # (a deferred read-then-write transaction can fail under WAL without waiting for the lock).
         db = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_S, isolation_level=None)
-        db.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
-        db.execute("PRAGMA journal_mode = WAL")
-        db.execute("PRAGMA synchronous = NORMAL")
-        with _transaction(db):
-            db.executescript("BEGIN IMMEDIATE;" + _SCHEMA + "COMMIT;")
-        db.execute("SELECT count(*) FROM parsed WHERE rowid = 1").fetchone()
+        try:
+            db.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
+            db.execute("PRAGMA journal_mode = WAL")
+            db.execute("PRAGMA synchronous = NORMAL")
+            with _transaction(db):
+                db.executescript("BEGIN IMMEDIATE;" + _SCHEMA + "COMMIT;")
+            db.execute("SELECT count(*) FROM parsed WHERE rowid = 1").fetchone()
+        except BaseException:
+            db.close()
+            raise
         return db
 
     def _open(self) -> sqlite3.Connection | None:
