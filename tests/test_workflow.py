@@ -298,3 +298,34 @@ def test_a_truncated_file_is_an_error_but_not_the_end_of_the_batch(tmp_path, sam
     assert res.species_results["ch4"].usable and len(res.species_results["ch4"].used) == 1
     assert any(f.severity == "error" and f.subject.endswith("broken.out") for f in res.findings)
     assert res.exit_status == 1
+
+
+@pytest.fixture(scope="module")
+def scenario(tmp_path_factory):
+    """The bundled scenario run with its own reaction file (sample_outputs/README.md describes it)."""
+    from conftest import SAMPLES
+
+    if not (SAMPLES / "reactions.toml").is_file():
+        pytest.skip("sample_outputs/reactions.toml is not in this tree")
+    return qcthermo.run(SAMPLES, reactions=SAMPLES / "reactions.toml", jobs=1, cache=False)
+
+
+def test_scenario_end_to_end(scenario, tmp_path):
+    df = scenario.reactions
+    assert set(df["status"]) == {"ok"}, df[["reaction", "notes"]].to_string()
+    level = dict(zip(df["reaction"], df["level"], strict=True))
+    # the reaction file pairs MP2 single points with the abstraction's species (its comments say so)
+    assert level["h_abstraction"] == "MP2/cc-pVTZ//B3LYP/6-31G*"
+    assert level["hcn_isomerisation"] == "B3LYP/6-31G*"
+    # water at its own 55.3 M: G(c) = G(1M) + RT ln(c/1M) (textbook)
+    water = scenario.species_results["water"]
+    assert water.options.concentration == pytest.approx(55.3)
+    # composite scheme: G = E(MP2) + [G - E](B3LYP) for every conformer with a single point
+    ch4 = scenario.species_results["ch4"].used[0]
+    assert ch4.values["G"][0] == pytest.approx(ch4.single_point.energy + ch4.thermo.gibbs
+                                               - ch4.thermo.electronic_energy, abs=1e-10)
+    written = {p.name for p in scenario.write(tmp_path / "out")}
+    assert {"species.tex", "reactions.xlsx", "coordinates.xyz", "run.json"} <= written
+    doc = json.loads((tmp_path / "out" / "run.json").read_text())
+    paths = {i["path"] for i in doc["inputs"]}
+    assert any(p.endswith("sp/ch4_mp2.out") for p in paths) and any(p.endswith("reactions.toml") for p in paths)
