@@ -32,9 +32,11 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
     if not console.is_terminal:
         console = Console(width=160, highlight=False)
     usable = sum(s.usable for s in results.species_results.values())
-    console.print(f"{len(results.species_results)} species ({usable} usable), "
-                  f"{len(results.reactions)} reaction rows, {results.survey_result.summary()}")
     df = results.reactions
+    n_reactions = df["reaction"].nunique() if len(df) else 0
+    excluded = df.loc[df["status"] != "ok", "reaction"].nunique() if len(df) else 0
+    console.print(f"{len(results.species_results)} species ({usable} usable), {n_reactions} reactions"
+                  + (f" ({excluded} excluded)" if excluded else "") + f"; {results.survey_result.summary()}")
     if not quiet and len(df):
         u = unit_suffix(results.energy_unit)
         m = results.conditions.low_mode_model.replace("-", "_")
