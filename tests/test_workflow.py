@@ -329,3 +329,38 @@ def test_scenario_end_to_end(scenario, tmp_path):
     doc = json.loads((tmp_path / "out" / "run.json").read_text())
     paths = {i["path"] for i in doc["inputs"]}
     assert any(p.endswith("sp/ch4_mp2.out") for p in paths) and any(p.endswith("reactions.toml") for p in paths)
+
+
+def test_planted_flaws_of_the_scenario_are_caught(tmp_path, samples):
+    # Each file under sample_outputs/flawed/ was made for one reason (sample_outputs/README.md, section 6).
+    s = samples.as_posix()
+    path = tmp_path / "flaws.toml"
+    path.write_text(f"""
+[species.hcn]
+logs = "{s}/gas/hcn.out"
+[species.hnc_hf]
+logs = "{s}/flawed/hnc_hf.out"
+[species.ts_killed]
+logs = "{s}/flawed/ts_abstraction_killed.out"
+transition_state = true
+[species.methanol]
+logs = "{s}/flawed/methanol_maxiter.out"
+[species.butyne]
+logs = "{s}/flawed/butyne_eclipsed.out"
+[[reaction]]
+name = "mixed"
+reactants = ["hcn"]
+products = ["hnc_hf"]
+""")
+    res = qcthermo.run(samples / "flawed", reactions=path, jobs=1, cache=False)
+    row = res.reactions.iloc[0]
+    assert row["status"] == "excluded" and "mixed levels of theory" in row["notes"]  # HF/3-21G vs B3LYP/6-31G*
+    messages = {f.subject.rsplit("/", 1)[-1]: [] for f in res.findings}
+    for f in res.findings:
+        messages[f.subject.rsplit("/", 1)[-1]].append((f.severity, f.message))
+    assert ("error", "species 'ts_killed': the job did not terminate normally") in messages["ts_abstraction_killed.out"]
+    assert any(sev == "error" and "did not converge" in m for sev, m in messages["methanol_maxiter.out"])
+    # the spurious 35i cm^-1 torsion: a warning, the engine's default policy inverts it; the species stays usable
+    assert any(sev == "warning" and "imaginary" in m for sev, m in messages["butyne_eclipsed.out"])
+    assert res.species_results["butyne"].usable
+    assert not res.species_results["ts_killed"].usable and not res.species_results["methanol"].usable
