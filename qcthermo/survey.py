@@ -21,6 +21,7 @@ import signal
 import sys
 import tracemalloc
 import types
+from collections import Counter
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
@@ -374,6 +375,14 @@ class SurveyResult:
         c = self.counts()
         n = len(self.rows)
         return f"{n} file{'s' * (n != 1)}: {c['ok']} ok, {c['warning']} warning, {c['error']} error"
+
+    def levels_of_theory(self) -> dict[str, int]:
+        """How many readable files each level of theory ("method/basis") has, most common first.
+
+        A lone file at a level nobody else uses (a structure left at a test level) shows up here.
+        """
+        counts = Counter(calc.level_of_theory or "unknown level" for calc in self.calculations.values())
+        return dict(counts.most_common())
 
     def to_frame(self):
         """The rows as a pandas DataFrame with :data:`COLUMNS` (nullable integer and boolean columns)."""

@@ -107,4 +107,7 @@ def main(args: argparse.Namespace) -> int:
     if args.json:
         write_json(result, args.json)
     print(result.summary())
+    levels = result.levels_of_theory()
+    if levels:
+        print("levels of theory: " + ", ".join(f"{level} ({n})" for level, n in levels.items()))
     return result.exit_status
