@@ -14,6 +14,7 @@ The decisions (thresholds, which energy) are written down in docs/reactions.md.
 
 from __future__ import annotations
 
+from collections import Counter
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -112,16 +113,41 @@ def population_average(values: np.ndarray, populations: np.ndarray) -> np.ndarra
     return np.sum(np.asarray(populations) * np.asarray(values, dtype=float), axis=0)
 
 
+#: two atoms are bonded when closer than this factor times the sum of their covalent radii (common practice)
+BOND_FACTOR = 1.2
+
+
+def bond_signature(calc: Calculation) -> tuple[tuple[str, str, int], ...]:
+    """Counts of bonded element pairs, e.g. (("C", "H", 1), ("C", "N", 1)) for HCN.
+
+    Bonds are distances below :data:`BOND_FACTOR` x (r_i + r_j), covalent radii from ASE's tables
+    (Cordero et al., Dalton Trans. 2008, 2832). Conformers share a signature; most constitutional
+    isomers (HCN and HNC) do not.
+    """
+    from ase.data import atomic_numbers, covalent_radii
+    from scipy.spatial.distance import pdist, squareform
+
+    radii = np.array([covalent_radii[atomic_numbers[s]] for s in calc.symbols])
+    if len(radii) < 2:
+        return ()
+    d = squareform(pdist(np.asarray(calc.coordinates, dtype=float)))
+    i, j = np.nonzero(np.triu(d < BOND_FACTOR * (radii[:, None] + radii[None, :]), k=1))
+    pairs = Counter(tuple(sorted((calc.symbols[a], calc.symbols[b]))) for a, b in zip(i, j, strict=True))
+    return tuple(sorted((a, b, n) for (a, b), n in pairs.items()))
+
+
 def pair_single_point(calc: Calculation, candidates: list[Calculation],
                       max_rmsd: float = SINGLE_POINT_RMSD) -> tuple[int | None, float]:
     """Index of the single point computed on ``calc``'s geometry, and its RMSD (angstrom).
 
-    A candidate must have the same atoms in the same order, charge and multiplicity; of those, the
+    A candidate must have the same atoms in the same order, charge, multiplicity and implicit-solvent
+    model (a gas-phase energy on a solvated geometry is not that structure's energy); of those, the
     one with the smallest aligned RMSD is taken when below ``max_rmsd``; else (None, best RMSD).
     """
     best, best_rmsd = None, float("inf")
     for j, sp in enumerate(candidates):
-        if tuple(sp.symbols) != tuple(calc.symbols) or sp.charge != calc.charge:
+        if tuple(sp.symbols) != tuple(calc.symbols) or sp.charge != calc.charge \
+                or sp.solvent_model != calc.solvent_model:
             continue
         if sp.multiplicity is not None and calc.multiplicity is not None and sp.multiplicity != calc.multiplicity:
             continue

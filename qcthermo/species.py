@@ -355,6 +355,10 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
         errors = [f.message for f in problems if f.severity == "error"]
         if errors:
             c.status, c.reason = "excluded", "; ".join(errors)
+    signatures = {ensemble.bond_signature(c.calculation) for c in result.used}
+    if len(signatures) > 1:
+        findings.append(Finding("warning", name, f"species {name!r}: its structures are bonded differently "
+                                                 "(isomers, not conformers?); all are kept in the ensemble"))
     findings.extend(_mark_duplicates(name, result.conformers, settings))
     if single_points or explicit_pairs:
         findings.extend(_pair_single_points(name, result.conformers, list(single_points), explicit_pairs,

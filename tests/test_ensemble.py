@@ -104,3 +104,16 @@ def test_real_log_geometry_pairs_with_itself(third_party):
     sp = read_log(third_party / "gaussian16" / "dvb_sp.out")
     index, rmsd = ensemble.pair_single_point(freq, [sp])
     assert index == 0 and rmsd < ensemble.SINGLE_POINT_RMSD
+
+
+def test_bond_signature_tells_isomers_from_conformers(samples):
+    # HCN and HNC are constitutional isomers (H on C vs on N); the pentane conformers share their bonds
+    # (the sample's inputs/conformers/*.xyz are torsional variants of one n-pentane).
+    from qcthermo import read_log
+
+    hcn = read_log(samples / "gas" / "hcn.out")
+    hnc = read_log(samples / "gas" / "hnc.out")
+    assert ensemble.bond_signature(hcn) == (("C", "H", 1), ("C", "N", 1))
+    assert ensemble.bond_signature(hnc) == (("C", "N", 1), ("H", "N", 1))
+    pentanes = {ensemble.bond_signature(read_log(p)) for p in sorted((samples / "conformers").glob("pentane_*.out"))}
+    assert pentanes == {(("C", "C", 4), ("C", "H", 12))}

@@ -108,3 +108,15 @@ def test_demo_runs_on_the_sample_scenario(tmp_path, samples, capsys):
     assert doc["exit_status"] == status and doc["reactions"]
     for name in ("survey.csv", "species.csv", "reactions.csv", "coordinates.xyz"):
         assert (tmp_path / "demo" / name).is_file()
+
+
+def test_init_on_the_scenario_groups_conformers_and_pairs_single_points(tmp_path, samples):
+    # The scenario (sample_outputs/README.md): eight pentane conformers, HCN/HNC isomers, MP2 single points
+    # on the B3LYP geometries of the gas-phase species including the H atom.
+    target = tmp_path / "starter.toml"
+    assert main(["init", str(samples), "-o", str(target), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    rf = load_reaction_file(target)
+    assert len(rf.species["pentane"].logs) == 8
+    assert {"hcn", "hnc"} <= set(rf.species)  # isomers, not one ensemble
+    assert [p.name for p in rf.species["h_atom"].single_point] == ["h_atom_mp2.out"]
+    assert [p.name for p in rf.species["ch4"].single_point] == ["ch4_mp2.out"]

@@ -21,9 +21,11 @@ from ..records import Calculation
 
 def _group_key(calc: Calculation) -> tuple:
     """Structures that may be conformers of one species: same formula, charge, multiplicity, kind
-    (minimum or saddle point), level of theory and solvent model."""
+    (minimum or saddle point), level of theory, solvent model and bonds (isomers apart)."""
+    from ..ensemble import bond_signature
+
     return (calc.formula, calc.charge, calc.multiplicity, "saddle-search" in calc.job_types,
-            calc.level_of_theory, calc.solvent_model)
+            calc.level_of_theory, calc.solvent_model, bond_signature(calc))
 
 
 def _relative(path: Path, base: Path) -> str:
@@ -59,9 +61,14 @@ def starter_text(survey_result, base: Path) -> str:
     single_points: list[tuple[str, Calculation]] = []
     skipped: list[str] = []
     root = Path(survey_result.directory)
-    for rel, calc in sorted(survey_result.calculations.items()):
+    calcs = sorted(survey_result.calculations.items())
+    # an atom needs no frequency job, so an atom's single point is a species unless it is at the level of the
+    # tree's molecular single points (then it is the atom's high-level energy)
+    sp_levels = {c.level_of_theory for _, c in calcs if c.frequencies is None and c.natoms > 1
+                 and "single-point" in c.job_types}
+    for rel, calc in calcs:
         path = _relative(root / rel, base)
-        if calc.frequencies is not None or calc.natoms == 1:  # an atom needs no frequency job
+        if calc.frequencies is not None or (calc.natoms == 1 and calc.level_of_theory not in sp_levels):
             groups[_group_key(calc)].append((path, calc))
         elif "single-point" in calc.job_types and calc.energy is not None:
             single_points.append((path, calc))
@@ -79,7 +86,7 @@ def starter_text(survey_result, base: Path) -> str:
     ]
     taken: set[str] = set()
     names = []
-    for (formula, charge, mult, saddle, level, solvent), members in groups.items():
+    for (formula, charge, mult, saddle, level, solvent, _), members in groups.items():
         name = _species_name([p for p, _ in members], formula, taken)
         names.append((name, saddle))
         what = "transition state (saddle-search job)" if saddle else (
