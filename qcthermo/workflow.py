@@ -555,6 +555,7 @@ def _energy_span(results: RunResults, kinetics) -> Any:
     import pandas as pd
 
     rows = []
+    marked = int(np.argmin(np.abs(results.temperatures - 298.15)))  # the temperature the diagram shows
     for record in results.profiles:
         if not record.get("cyclic"):
             continue
@@ -567,7 +568,7 @@ def _energy_span(results: RunResults, kinetics) -> Any:
             except ValueError as err:
                 results.findings.append(Finding("warning", f"profile {record['name']}", f"no energy span: {err}"))
                 break
-            if i == 0:
+            if i == marked:
                 record["marks"] = {"tdts": es.tdts, "tdi": es.tdi}
             rows.append({"profile": record["name"], "T_K": float(temp), "TOF_s-1": es.tof,
                          "TOF_energy_span_s-1": es.tof_energy_span,
