@@ -294,10 +294,8 @@ def _reactions_table(rf: ReactionFile | None, species: dict[str, SpeciesResult],
 
 
 def _values(species: dict[str, SpeciesResult]) -> dict[str, dict[str, np.ndarray]]:
-    """Species values keyed as reactions.QUANTITIES expects."""
-    return {n: {"E": s.values["E"], "E_zpe": s.values["E_zpe"], "H": s.values["H"], "H_rrho": s.values["H_rrho"],
-                "G_rrho": s.values["G_rrho"], "G": s.values["G"]}
-            for n, s in species.items() if s.usable}
+    """The ensemble values of the usable species (they hold every key of reactions.QUANTITIES)."""
+    return {n: s.values for n, s in species.items() if s.usable}
 
 
 def _profiles(rf: ReactionFile | None, species: dict[str, SpeciesResult], findings: list[Finding]) -> list[dict]:
