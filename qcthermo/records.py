@@ -18,8 +18,23 @@ import numpy as np
 JOB_TYPES = ("optimization", "frequencies", "single-point", "saddle-search", "irc", "scan")
 
 
+class _Composition:
+    """What follows from ``symbols`` alone: atom count and Hill formula."""
+
+    symbols: tuple[str, ...]
+
+    @property
+    def natoms(self) -> int:
+        return len(self.symbols)
+
+    @property
+    def formula(self) -> str:
+        """Hill formula (C first, H second, then alphabetical; alphabetical without carbon)."""
+        return hill_formula(self.symbols)
+
+
 @dataclass
-class Calculation:
+class Calculation(_Composition):
     """What one log file holds, normalised to one meaning per field whatever the program.
 
     Attributes:
@@ -68,15 +83,6 @@ class Calculation:
     gas_energy: float | None = None
     thermo_printed: dict[str, float] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
-
-    @property
-    def natoms(self) -> int:
-        return len(self.symbols)
-
-    @property
-    def formula(self) -> str:
-        """Hill formula (C first, H second, then alphabetical; alphabetical without carbon)."""
-        return hill_formula(self.symbols)
 
     @property
     def n_imaginary(self) -> int:
@@ -134,7 +140,7 @@ def atomic_masses(symbols) -> np.ndarray:
 
 
 @dataclass
-class Molecule:
+class Molecule(_Composition):
     """Input of the thermochemistry engine: one structure with its harmonic frequencies.
 
     Attributes:
@@ -180,14 +186,6 @@ class Molecule:
         if len(self.symbols) != len(self.coordinates):
             raise ValueError(f"{len(self.symbols)} symbols but {len(self.coordinates)} coordinate rows")
         self.masses = atomic_masses(self.symbols) if self.masses is None else np.asarray(self.masses, float)
-
-    @property
-    def natoms(self) -> int:
-        return len(self.symbols)
-
-    @property
-    def formula(self) -> str:
-        return hill_formula(self.symbols)
 
     @property
     def mass(self) -> float:

@@ -32,28 +32,28 @@ def parse_temperature_range(text: str) -> np.ndarray:
     return start + step * np.arange(n)
 
 
-def parse_scale(value: Any) -> float | str:
-    """A frequency scale factor: a positive number or "auto"."""
-    if isinstance(value, str) and value.strip().lower() == "auto":
-        return "auto"
+def _number_or_word(value: Any, word: str, what: str, example: str) -> float | str:
+    """``word`` (any case) or a float; anything else is a one-line error naming ``what``."""
+    if isinstance(value, str) and value.strip().lower() == word:
+        return word
     try:
-        factor = float(value)
+        return float(value)
     except (TypeError, ValueError):
-        raise QcthermoError(f"frequency scale {value!r}: expected a number or 'auto'") from None
-    if not 0.5 < factor < 1.5:
+        raise QcthermoError(f"{what} {value!r}: expected {example} or '{word}'") from None
+
+
+def parse_scale(value: Any) -> float | str:
+    """A frequency scale factor: a number near 1, or "auto"."""
+    factor = _number_or_word(value, "auto", "frequency scale", "a number")
+    if factor != "auto" and not 0.5 < factor < 1.5:
         raise QcthermoError(f"frequency scale {factor}: expected a factor near 1 (0.5 to 1.5)")
     return factor
 
 
 def parse_rotor_inertia(value: Any) -> float | str:
-    """B_av of the free-rotor limit: a positive moment of inertia in kg m^2, or "molecular"."""
-    if isinstance(value, str) and value.strip().lower() == "molecular":
-        return "molecular"
-    try:
-        inertia = float(value)
-    except (TypeError, ValueError):
-        raise QcthermoError(f"rotor inertia {value!r}: expected kg m^2 (e.g. 1e-44) or 'molecular'") from None
-    if not 0 < inertia < 1e-40:
+    """B_av of the free-rotor limit: a molecular moment of inertia in kg m^2, or "molecular"."""
+    inertia = _number_or_word(value, "molecular", "rotor inertia", "kg m^2 (e.g. 1e-44)")
+    if inertia != "molecular" and not 0 < inertia < 1e-40:
         raise QcthermoError(f"rotor inertia {inertia}: expected a molecular moment of inertia, kg m^2 (e.g. 1e-44)")
     return inertia
 

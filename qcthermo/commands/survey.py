@@ -106,8 +106,8 @@ def main(args: argparse.Namespace) -> int:
         write_csv(result, args.csv)
     if args.json:
         write_json(result, args.json)
-    print(result.summary())
     levels = result.levels_of_theory()
-    if levels:
+    if levels and not args.quiet:
         print("levels of theory: " + ", ".join(f"{level} ({n})" for level, n in levels.items()))
+    print(result.summary())
     return result.exit_status
