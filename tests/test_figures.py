@@ -287,14 +287,65 @@ def test_write_profile_figures_writes_the_run_figures(tmp_path):
     results = SimpleNamespace(profiles=records, energy_unit="kcal/mol", reactions=_reactions_table(),
                               conditions=SimpleNamespace(temperature=np.array([250.0, 300.0, 350.0])))
     written = figures.write_profile_figures(results, tmp_path)
-    assert sorted(p.name for p in written) == ["arrhenius.svg", "dG_T.svg", "profile.png", "profile.svg"]
+    assert sorted(p.name for p in written) == ["arrhenius.svg", "dG_T.svg", "profile.png", "profile.svg",
+                                               "profile_p.png", "profile_p.svg"]
     # the profile shows the temperature nearest 298.15 K (300 K: index 1)
     fig = figures.run_figures(results)["profile"]
     assert _artists(fig, "level:p:1")[0].get_ydata()[0] == pytest.approx(0.02 * KCAL_PER_EH, rel=1e-6)
     single = SimpleNamespace(profiles=records, energy_unit="kcal/mol", reactions=_reactions_table().iloc[:1],
                              conditions=SimpleNamespace(temperature=298.15))
-    assert [p.name for p in figures.write_profile_figures(single, tmp_path / "one")] == ["profile.svg",
-                                                                                         "profile.png"]
+    assert [p.name for p in figures.write_profile_figures(single, tmp_path / "one")] == [
+        "profile.svg", "profile.png", "profile_p.svg", "profile_p.png"]
+
+
+def _record(name, species_per_state, heights_eh):
+    return {"name": name, "states": [{"label": " + ".join(sp), "value_Eh": {"G": h}, "species": sp}
+                                     for sp, h in zip(species_per_state, heights_eh, strict=True)]}
+
+
+def _run_with(records):
+    return SimpleNamespace(profiles=records, energy_unit="kcal/mol", reactions=None,
+                           conditions=SimpleNamespace(temperature=298.15))
+
+
+def test_unrelated_profiles_get_their_own_figures_and_panels():
+    # the sample reaction file's three unrelated profiles: different first states
+    records = [_record("h_recombination", [["ch4", "h"], ["ts_abstraction", "h"], ["ch4", "h2"]], [0.0, 0.03, -0.1]),
+               _record("hcn/hnc", [["hcn"], ["ts_hcn"], ["hnc"]], [0.0, 0.07, 0.02]),
+               _record("hydration", [["formaldehyde", "water"], ["ts_hydration"], ["methanediol"]], [0.0, 0.06, 0.0])]
+    figs = figures.run_figures(_run_with(records))
+    assert list(figs) == ["profile", "profile_h_recombination", "profile_hcn_hnc", "profile_hydration"]
+    overview = figs["profile"]
+    assert len(overview.axes) == 3  # one panel per profile: no two share an energy axis
+    assert [ax.get_title(loc="left") for ax in overview.axes] == ["h_recombination", "hcn/hnc", "hydration"]
+    for ax, record in zip(overview.axes, records, strict=True):
+        assert {line.get_gid().split(":")[1] for line in ax.lines} == {record["name"]}
+    for stem in list(figs)[1:]:
+        (ax,) = figs[stem].axes
+        assert len({line.get_gid().split(":")[1] for line in ax.lines}) == 1 and ax.get_legend() is None
+    assert figs["profile_hcn_hnc"].get_label() == "hcn/hnc"
+
+
+def test_profiles_from_the_same_start_are_overlaid():
+    start = ["cat", "sub"]
+    records = [_record("path A", [start, ["tsA"], ["prod"]], [0.0, 0.03, -0.01]),
+               _record("other", [["x"], ["y"]], [0.0, 0.01]),
+               _record("path B", [list(reversed(start)), ["tsB"], ["prod"]], [0.0, 0.02, -0.01])]
+    profiles = profiles_from_records(records)
+    assert [[p.name for p in g] for g in figures.overlay_groups(profiles)] == [["path A", "path B"], ["other"]]
+    overview = figures.overview_figure(profiles)
+    assert len(overview.axes) == 2
+    assert [t.get_text() for t in overview.axes[0].get_legend().get_texts()] == ["path A", "path B"]
+    # an explicit overlay group overrides the rule
+    records[1]["overlay"] = records[0]["overlay"] = "compare"
+    groups = figures.overlay_groups(profiles_from_records(records))
+    assert [[p.name for p in g] for g in groups] == [["path A", "other"], ["path B"]]
+
+
+def test_profile_file_stems_are_safe_and_unique():
+    profiles = [_profile(name, [0.0, 1.0]) for name in ("a b/c", "a_b_c", "A B C", "..", "ok-1.2")]
+    assert figures.profile_stems(profiles) == ["profile_a_b_c", "profile_a_b_c-2", "profile_A_B_C-3",
+                                               "profile_unnamed", "profile_ok-1.2"]
 
 
 # --- the profile command, on the bundled NWChem sample outputs ------------------------------------

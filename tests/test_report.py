@@ -73,11 +73,30 @@ def test_report_is_self_contained_and_escaped(tmp_path):
     assert text.index("x.out</td>") < text.index("orca5.0/dvb_ir.out</td>")  # the error comes first
     assert "-382.308250" in text  # hartree to the microhartree
     assert parser.tags.count("svg") == 1  # the profile, inline
+    assert "Energy profile dvb:" in text  # the caption names it
+
+
+def _profile_record(name, start, heights_eh):
+    labels = [start, f"ts_{name}", f"p_{name}"]
+    return {"name": name, "states": [{"label": lab, "value_Eh": {"G": E_GAUSSIAN + h + 0 * np.zeros(1)},
+                                      "species": [lab]} for lab, h in zip(labels, heights_eh, strict=True)]}
+
+
+def test_report_shows_every_profile_and_the_overlay_only_when_there_is_one():
+    results = _results()
+    results.profiles = [_profile_record("a", "r1", [0.0, 0.02, -0.01]), _profile_record("b", "r2", [0.0, 0.03, 0.0])]
+    text = render_report(results)
+    assert 'id="figure-profile_a"' in text and 'id="figure-profile_b"' in text
+    assert 'id="figure-profile"' not in text  # two unrelated profiles: a combined figure would only repeat them
+    results.profiles.append(_profile_record("c", "r1", [0.0, 0.01, -0.02]))  # starts like "a": overlaid with it
+    text = render_report(results)
+    assert [m for m in re.findall(r'id="figure-([^"]+)"', text)] == ["profile", "profile_a", "profile_b", "profile_c"]
+    assert "All energy profiles, those that belong together overlaid (one panel per group): a, b, c;" in text
 
 
 def test_report_with_a_temperature_range_has_the_temperature_plot():
     text = render_report(_results(temperatures=(250.0, 300.0, 350.0)))
-    assert 'id="figure-dG_T"' in text and 'id="figure-profile"' in text
+    assert 'id="figure-dG_T"' in text and 'id="figure-profile_dvb"' in text
     assert 'id="figure-arrhenius"' not in text  # no rate constants in this table
 
 
@@ -148,13 +167,14 @@ def test_report_of_a_real_run_renders(sample_run, tmp_path):
 
     path = write_report(sample_run, tmp_path / "out")
     names = sorted(p.name for p in write_profile_figures(sample_run, tmp_path / "out"))
-    assert names == ["arrhenius.svg", "dG_T.svg", "profile.png", "profile.svg"]
+    assert names == ["arrhenius.svg", "dG_T.svg", "profile.png", "profile.svg", "profile_isomerisation.png",
+                     "profile_isomerisation.svg"]
     flags = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
              "--disable-background-networking", "--disable-component-update", "--disable-sync",
              f"--user-data-dir={tmp_path / 'profile'}"]
     dom = subprocess.run([CHROMIUM, *flags, "--dump-dom", path.resolve().as_uri()], capture_output=True, text=True,
                          timeout=120, check=True).stdout
-    assert dom.count("<svg") == 3  # profile, dG(T), Arrhenius
+    assert dom.count("<svg") == 3  # the one profile (no overlay to show), dG(T), Arrhenius
     for name in ("hcn", "hnc", "ts_hcn", "isomerisation"):
         assert f">{name}</td>" in dom
     assert "ts_hcn‡" in dom  # the transition state is marked on the profile

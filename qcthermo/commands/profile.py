@@ -1,7 +1,9 @@
 """``qcthermo profile F -o fig.svg``: the energy diagram(s) of a reaction file, and nothing else.
 
-The logs are looked for in ``--directory`` (default: the reaction file's folder). Every ``[[profile]]``
-is drawn, overlaid, unless ``--profile NAME`` picks some. An existing figure is kept unless
+The logs are looked for in ``--directory`` (default: the reaction file's folder). ``--profile NAME``
+(repeatable) draws the named profiles, overlaid in the order given. Without it every ``[[profile]]`` is
+drawn: overlaid when all start from the same species, else one panel per group of profiles that do
+(``qcthermo.export.figures.overview_figure``). An existing figure is kept unless
 ``--force``. Exit status: 0 drawn from clean inputs, 1 drawn but some inputs had errors (listed), 2
 nothing drawn (one line saying why).
 """
@@ -29,7 +31,13 @@ def _check_output(path: Path, force: bool) -> None:
 
 
 def main(args: argparse.Namespace) -> int:
-    from ..export.figures import plot_profiles, profile_temperature_index, profiles_from_records, save_figure
+    from ..export.figures import (
+        overview_figure,
+        plot_profiles,
+        profile_temperature_index,
+        profiles_from_records,
+        save_figure,
+    )
     from ..reactions import load_reaction_file
     from ..workflow import run
 
@@ -52,7 +60,10 @@ def main(args: argparse.Namespace) -> int:
         raise QcthermoError(f"{reaction_file}: no profile could be computed (see the errors above)")
     profiles = profiles_from_records(results.profiles, args.quantity, args.energy_unit, names=args.profiles,
                                      temperature_index=profile_temperature_index(results))
-    fig = plot_profiles(profiles, precision=args.precision)
+    if args.profiles:
+        fig = plot_profiles(profiles, precision=args.precision)
+    else:
+        fig = overview_figure(profiles, precision=args.precision)
     try:
         save_figure(fig, output)
     except OSError as err:

@@ -122,6 +122,8 @@ class ProfileData:
         marks: results of the energy-span analysis, {"tdts": state label, "tdi": state label}, drawn as
             a faint halo behind the level and a tag under its value.
         style: line style of the connectors, one of :data:`CONNECTOR_STYLES`.
+        overlay: name of the overlay group the profile is drawn with; None groups it with the profiles
+            that start from the same species (see :func:`overlay_groups`).
     """
 
     name: str
@@ -133,6 +135,7 @@ class ProfileData:
     label_states: list[str] | None = None
     marks: dict[str, str] = field(default_factory=dict)
     style: str = "dashed"
+    overlay: str | None = None
 
     @property
     def values(self) -> np.ndarray:
@@ -188,6 +191,7 @@ def _profile_from_record(record: dict[str, Any], quantity: str, unit: str, index
         label_states=list(label_states) if label_states is not None else None,
         marks=dict(record.get("marks") or {}),
         style=style,
+        overlay=None if record.get("overlay") is None else str(record["overlay"]),
     )
 
 
@@ -218,6 +222,44 @@ def profiles_from_records(
             raise QcthermoError(f"no profile named {missing[0]!r} (profiles: {', '.join(by_name) or 'none'})")
         records = [by_name[n] for n in names]
     return [_profile_from_record(r, quantity, unit, temperature_index) for r in records]
+
+
+def _overlay_key(profile: ProfileData) -> tuple[str, ...]:
+    """What decides which profiles share a figure: the explicit overlay group, else the species of the
+    first state (its label when the state lists no species)."""
+    if profile.overlay is not None:
+        return ("group", profile.overlay)
+    first = profile.states[0]
+    return ("start", *sorted(set(first.species))) if first.species else ("start-label", first.label)
+
+
+def overlay_groups(profiles: Sequence[ProfileData]) -> list[list[ProfileData]]:
+    """Profiles that belong in one overlaid diagram, in drawing order.
+
+    Alternative pathways, catalysts compared on one substrate, or levels of theory of one mechanism start
+    from the same reactants, so by default profiles whose first states hold the same species are
+    overlaid; an explicit ``overlay`` group name overrides that. Unrelated profiles never share axes:
+    their levels would sit side by side on one energy scale and their labels could be read as each
+    other's. Groups keep the order of their first profile.
+    """
+    groups: dict[tuple[str, ...], list[ProfileData]] = {}
+    for profile in profiles:
+        groups.setdefault(_overlay_key(profile), []).append(profile)
+    return list(groups.values())
+
+
+def profile_stems(profiles: Sequence[ProfileData]) -> list[str]:
+    """File stems ``profile_<name>`` of single-profile figures: the name with anything but letters,
+    digits, '.', '-' and '_' replaced by '_' (safe on every file system), numbered when two collide."""
+    stems: list[str] = []
+    for profile in profiles:
+        base = "profile_" + (re.sub(r"[^A-Za-z0-9._-]+", "_", profile.name).strip("._") or "unnamed")
+        stem, n = base, 1
+        while stem.lower() in {x.lower() for x in stems}:  # some file systems ignore case
+            n += 1
+            stem = f"{base}-{n}"
+        stems.append(stem)
+    return stems
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -445,6 +487,21 @@ def _arrange_labels(ax, labels: list[_Label], levels: list[Line2D], connectors: 
     _fit_ylim(ax, _place_labels(fig, labels, levels, connectors)[0])  # a last resort for absurd crowding
 
 
+def _check_shared_axis(profiles: Sequence[ProfileData]) -> None:
+    if not profiles:
+        raise QcthermoError("no profile to draw")
+    if len({(p.quantity, p.unit) for p in profiles}) > 1:
+        raise QcthermoError("profiles drawn together must share one quantity and one unit")
+
+
+def _axes_rect(n_profiles: int, title: str | None, band: tuple[float, float] = (0.0, 1.0)):
+    """(left, bottom, width, height) of a profile's axes inside the vertical ``band`` of the figure:
+    room below for the legend when profiles are overlaid, above for a title."""
+    lo, height = band[0], band[1] - band[0]
+    bottom = 0.08 if n_profiles > 1 else 0.04
+    return (0.15, lo + bottom * height, 0.83, (0.84 if title else 0.9) * height)
+
+
 def plot_profiles(
     profiles: Sequence[ProfileData], *, precision: int = 1, ax=None, title: str | None = None
 ) -> Figure:
@@ -454,42 +511,59 @@ def plot_profiles(
     values; a legend names the profiles when there are several.
     """
     profiles = list(profiles)
-    if not profiles:
-        raise QcthermoError("no profile to draw")
-    kinds = {(p.quantity, p.unit) for p in profiles}
-    if len(kinds) > 1:
-        raise QcthermoError("profiles drawn together must share one quantity and one unit")
-    n_states = max(len(p.states) for p in profiles)
+    _check_shared_axis(profiles)
     with matplotlib.rc_context(STYLE):
-        fig = _new_figure(_profile_width(n_states)) if ax is None else ax.figure
         if ax is None:
-            ax = fig.add_axes((0.15, 0.08 if len(profiles) > 1 else 0.04, 0.83, 0.84 if title else 0.9))
-        _style_axes(ax)
-        ax.spines["bottom"].set_visible(False)
-        ax.set_xticks([])
-        ax.set_xlim(-0.5, n_states - 0.5)
-        values = np.concatenate([p.values for p in profiles])
-        span = max(float(np.ptp(values)), 1e-3)
-        ax.set_ylim(values.min() - 0.1 * span, values.max() + 0.1 * span)
-        ax.set_ylabel(axis_label(profiles[0].quantity, profiles[0].unit))
-        wrap = _wrap_width(ax, fig)
-        levels, connectors, labels, names, handles = [], [], [], [], []
-        for k, profile in enumerate(profiles):
-            color = profile.color or PALETTE[k % len(PALETTE)]
-            lv, cn, lb, nm = _draw_profile(ax, profile, color, precision, wrap)
-            levels += lv
-            connectors += cn
-            labels += lb
-            names += [(i, name, height, color) for i, name, height in nm]
-            handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
-        labels += _draw_names(ax, names)
-        _arrange_labels(ax, labels, levels, connectors)
-        if len(profiles) > 1:
-            ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=min(len(profiles), 3),
-                      handlelength=1.5, columnspacing=1.2)
-        if title:
-            ax.set_title(title, loc="left")
+            fig = _new_figure(_profile_width(max(len(p.states) for p in profiles)))
+            ax = fig.add_axes(_axes_rect(len(profiles), title))
+        _draw_profiles(ax, profiles, precision, title)
+    return ax.figure
+
+
+def plot_profile_panels(groups: Sequence[Sequence[ProfileData]], *, precision: int = 1) -> Figure:
+    """Several unrelated diagrams as small multiples: one panel per group, stacked, each with its own
+    energy axis and a title naming its profile (a legend when the panel overlays several)."""
+    groups = [list(g) for g in groups]
+    _check_shared_axis([p for g in groups for p in g])
+    n_states = max(len(p.states) for g in groups for p in g)
+    with matplotlib.rc_context(STYLE):
+        fig = Figure(figsize=(_profile_width(n_states), FIGURE_HEIGHT_IN * len(groups)))
+        FigureCanvasAgg(fig)
+        for row, group in enumerate(groups):
+            band = (1.0 - (row + 1) / len(groups), 1.0 - row / len(groups))
+            title = group[0].name if len(group) == 1 else None
+            _draw_profiles(fig.add_axes(_axes_rect(len(group), title, band)), group, precision, title)
     return fig
+
+
+def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str | None) -> None:
+    fig = ax.figure
+    n_states = max(len(p.states) for p in profiles)
+    _style_axes(ax)
+    ax.spines["bottom"].set_visible(False)
+    ax.set_xticks([])
+    ax.set_xlim(-0.5, n_states - 0.5)
+    values = np.concatenate([p.values for p in profiles])
+    span = max(float(np.ptp(values)), 1e-3)
+    ax.set_ylim(values.min() - 0.1 * span, values.max() + 0.1 * span)
+    ax.set_ylabel(axis_label(profiles[0].quantity, profiles[0].unit))
+    wrap = _wrap_width(ax, fig)
+    levels, connectors, labels, names, handles = [], [], [], [], []
+    for k, profile in enumerate(profiles):
+        color = profile.color or PALETTE[k % len(PALETTE)]
+        lv, cn, lb, nm = _draw_profile(ax, profile, color, precision, wrap)
+        levels += lv
+        connectors += cn
+        labels += lb
+        names += [(i, name, height, color) for i, name, height in nm]
+        handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
+    labels += _draw_names(ax, names)
+    _arrange_labels(ax, labels, levels, connectors)
+    if len(profiles) > 1:
+        ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=min(len(profiles), 3),
+                  handlelength=1.5, columnspacing=1.2)
+    if title:
+        ax.set_title(title, loc="left")
 
 
 def _reaction_series(reactions, column: str):
@@ -605,12 +679,11 @@ def profile_temperature_index(results) -> int:
     return int(np.argmin(np.abs(temps - 298.15)))
 
 
-def run_figures(results) -> dict[str, Figure]:
-    """Every figure of a run by file stem: "profile", and with several temperatures "dG_T", "arrhenius".
+def run_profiles(results) -> list[ProfileData]:
+    """The run's drawable profiles (free energy under the chosen model, at the temperature nearest 298.15 K).
 
     Profiles that cannot be drawn (a state without energies) are left out; the audit names the cause.
     """
-    figures: dict[str, Figure] = {}
     unit = getattr(results, "energy_unit", "kcal/mol")
     index = profile_temperature_index(results)
     profiles = []
@@ -619,10 +692,33 @@ def run_figures(results) -> dict[str, Figure]:
             profiles += profiles_from_records([record], "G", unit, temperature_index=index)
         except QcthermoError:
             continue
-    if profiles:
-        figures["profile"] = plot_profiles(profiles)
+    return profiles
+
+
+def overview_figure(profiles: Sequence[ProfileData], precision: int = 1) -> Figure:
+    """The diagram of several profiles: overlaid when they form one group (:func:`overlay_groups`),
+    else one panel per group."""
+    groups = overlay_groups(profiles)
+    return plot_profiles(groups[0], precision=precision) if len(groups) == 1 else plot_profile_panels(groups,
+                                                                                                      precision=precision)
+
+
+def run_figures(results, *, overview: bool = True) -> dict[str, Figure]:
+    """Every figure of a run by file stem: "profile" (all profiles: see :func:`overview_figure`; left out
+    with ``overview=False``), "profile_<name>" for each profile alone, and with several temperatures
+    "dG_T" and "arrhenius". A profile figure's label (``Figure.get_label()``) holds its profiles' names.
+    """
+    figures: dict[str, Figure] = {}
+    profiles = run_profiles(results)
+    if profiles and overview:
+        figures["profile"] = overview_figure(profiles)
+        figures["profile"].set_label(", ".join(p.name for p in profiles))
+    for stem, profile in zip(profile_stems(profiles), profiles, strict=True):
+        figures[stem] = plot_profiles([profile])
+        figures[stem].set_label(profile.name)
     reactions = getattr(results, "reactions", None)
     if reactions is not None and len(reactions) and "T_K" in reactions and reactions["T_K"].nunique() > 1:
+        unit = getattr(results, "energy_unit", "kcal/mol")
         figures["dG_T"] = plot_dG_T(reactions, unit, getattr(results.conditions, "low_mode_model", None))
         if "k_forward" in reactions and np.any(np.asarray(reactions["k_forward"], dtype=float) > 0):
             figures["arrhenius"] = plot_arrhenius(reactions)
@@ -630,11 +726,12 @@ def run_figures(results) -> dict[str, Figure]:
 
 
 def write_profile_figures(results, out_dir: str | Path) -> list[Path]:
-    """Write the run's figures into ``out_dir``: profile.svg/.png (all profiles overlaid) and, with a
-    temperature range, dG_T.svg and arrhenius.svg. Returns the paths written."""
+    """Write the run's figures into ``out_dir``: profile.svg/.png (every profile, see
+    :func:`overview_figure`), profile_<name>.svg/.png for each profile and, with a temperature range,
+    dG_T.svg and arrhenius.svg. Returns the paths written."""
     out_dir = Path(out_dir)
     written = []
     for stem, fig in run_figures(results).items():
-        suffixes = (".svg", ".png") if stem == "profile" else (".svg",)
+        suffixes = (".svg", ".png") if stem.startswith("profile") else (".svg",)
         written += [save_figure(fig, out_dir / f"{stem}{suffix}") for suffix in suffixes]
     return written

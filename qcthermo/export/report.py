@@ -21,9 +21,14 @@ from ..fileio import atomic_write
 #: order of the audit findings by severity; anything else comes last
 SEVERITY_ORDER = {"error": 0, "warning": 1, "info": 2, "note": 2}
 
+#: what every energy profile shows
+PROFILE_CAPTION = "free energies under the chosen low-mode model, relative to the first state"
+
 #: captions of the run's figures (stems as in :func:`qcthermo.export.figures.run_figures`)
 FIGURE_CAPTIONS = {
-    "profile": "Energy profile (free energies under the chosen low-mode model, relative to the first state).",
+    "profile": "All energy profiles, those that belong together overlaid (one panel per group): {names}; "
+               + PROFILE_CAPTION + ".",
+    "profile_": "Energy profile {names}: " + PROFILE_CAPTION + ".",
     "dG_T": "Reaction (solid) and activation (dashed) free energies against temperature.",
     "arrhenius": "Arrhenius plot: ln k against 1000 K / T (k in the units of the reactions table).",
 }
@@ -125,12 +130,20 @@ def _settings_section(settings: dict[str, Any] | None) -> str:
     return f'<h2 id="settings">Settings</h2>{_table(["setting", "value"], rows)}'
 
 
-def _figures_section(results) -> str:
-    from .figures import figure_svg, run_figures
+def _caption(stem: str, fig) -> str:
+    key = "profile_" if stem.startswith("profile_") else stem
+    return html.escape(FIGURE_CAPTIONS.get(key, stem).format(names=fig.get_label()))
 
+
+def _figures_section(results) -> str:
+    """Every profile alone, the overlay when some profiles share a diagram (otherwise it would only
+    repeat them), and the temperature plots."""
+    from .figures import figure_svg, overlay_groups, run_figures, run_profiles
+
+    overlaid = any(len(group) > 1 for group in overlay_groups(run_profiles(results)))
     parts = []
-    for stem, fig in run_figures(results).items():
-        caption = html.escape(FIGURE_CAPTIONS.get(stem, stem))
+    for stem, fig in run_figures(results, overview=overlaid).items():
+        caption = _caption(stem, fig)
         parts.append(f'<figure id="figure-{stem}">{figure_svg(fig)}<figcaption>{caption}</figcaption></figure>')
     return '<h2 id="figures">Figures</h2>' + ("".join(parts) or "<p>No profiles and no temperature range.</p>")
 
