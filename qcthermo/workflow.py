@@ -12,6 +12,7 @@ import argparse
 import hashlib
 import json
 import platform
+from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -154,10 +155,13 @@ class _Calculations:
 
 
 def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Conditions) -> dict[str, SpeciesResult]:
+    """Every [species.NAME] of the file, built once atoms and charge of its reactions are known to balance."""
+    logs = {name: [c for c in (calcs.get(p) for p in spec.logs) if c is not None] for name, spec in rf.species.items()}
+    readable = {n: found[0] for n, found in logs.items() if found}
+    check_balance(rf, {n: Counter(c.symbols) for n, c in readable.items()}, {n: c.charge for n, c in readable.items()})
     out = {}
     ts_names = rf.transition_states()
     for name, spec in rf.species.items():
-        logs = [c for c in (calcs.get(p) for p in spec.logs) if c is not None]
         unread = [Finding("error", str(p), f"species {name!r}: cannot use this file: {calcs.failed[p.resolve()]}")
                   for p in spec.logs if p.resolve() in calcs.failed]
         sps = [c for c in (calcs.get(p) for p in spec.single_point) if c is not None]
@@ -166,11 +170,11 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
         is_ts = spec.transition_state if spec.transition_state is not None else name in ts_names
         options = SpeciesOptions(spec.symmetry_number, spec.electronic_degeneracy, spec.imaginary_policy,
                                  spec.concentration, is_ts, spec.label)
-        if not logs:
+        if not logs[name]:
             out[name] = SpeciesResult(name, spec.label or name, options, [], findings=[
                 *unread, Finding("error", name, f"species {name!r}: none of its files could be read")])
             continue
-        out[name] = build_species(name, logs, conditions, options, sps, pairs, rf.ensemble)
+        out[name] = build_species(name, logs[name], conditions, options, sps, pairs, rf.ensemble)
         out[name].findings[:0] = unread
     return out
 
@@ -185,11 +189,6 @@ def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, Spe
         options = SpeciesOptions(transition_state="saddle-search" in calc.job_types)
         out[name] = build_species(name, [calc], conditions, options)
     return out
-
-
-def _check_balance(rf: ReactionFile, species: dict[str, SpeciesResult]) -> None:
-    known = {n: s for n, s in species.items() if s.conformers}
-    check_balance(rf, {n: s.composition for n, s in known.items()}, {n: s.charge for n, s in known.items()})
 
 
 def _reaction_calcs(names: list[str], species: dict[str, SpeciesResult]) -> list[tuple[str, Calculation]]:
@@ -384,8 +383,6 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     findings = [Finding("error", str(Path(survey_result.directory) / rel), reason)
                 for rel, reason in survey_result.errors.items()]
     species = _species_from_file(rf, calcs, conditions) if rf else _species_from_survey(survey_result, conditions)
-    if rf:
-        _check_balance(rf, species)
     findings += calcs.findings
     for s in species.values():
         findings += s.findings
