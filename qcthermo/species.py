@@ -135,10 +135,6 @@ class SpeciesResult:
         return self.reference.formula
 
     @property
-    def composition(self) -> Counter:
-        return Counter(self.reference.symbols)
-
-    @property
     def charge(self) -> int:
         return self.reference.charge
 
