@@ -364,3 +364,24 @@ products = ["hnc_hf"]
     assert any(sev == "warning" and "imaginary" in m for sev, m in messages["butyne_eclipsed.out"])
     assert res.species_results["butyne"].usable
     assert not res.species_results["ts_killed"].usable and not res.species_results["methanol"].usable
+
+
+def test_single_point_named_explicitly_gives_the_same_composite(tmp_path, samples):
+    # An inline table pairs a frequency file with its single point by name; the scenario's sp/ch4_mp2.out was
+    # run on the B3LYP geometry of gas/ch4.out (sample_outputs/README.md), so geometry pairing agrees.
+    s = samples.as_posix()
+    path = tmp_path / "explicit.toml"
+    path.write_text(f"""
+[species.by_name]
+logs = "{s}/gas/ch4.out"
+single_point = {{ "{s}/gas/ch4.out" = "{s}/sp/ch4_mp2.out" }}
+[species.by_geometry]
+logs = "{s}/gas/ch4.out"
+single_point = "{s}/sp/*_mp2.out"
+""")
+    res = qcthermo.run(samples / "gas", reactions=path, jobs=1, cache=False)
+    by_name, by_geometry = res.species_results["by_name"], res.species_results["by_geometry"]
+    assert by_name.levels == by_geometry.levels == ["MP2/cc-pVTZ//B3LYP/6-31G*"]
+    assert by_name.values["G"][0] == pytest.approx(by_geometry.values["G"][0], abs=1e-12)
+    # the other single points of the glob match no CH4 geometry: warnings, not used
+    assert any(f.severity == "warning" and "matches no frequency geometry" in f.message for f in res.findings)
