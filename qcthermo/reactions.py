@@ -221,8 +221,9 @@ class _Parser:
     def parse(self, data: dict) -> ReactionFile:
         for key in data:
             if key not in TOP_KEYS:
-                self.fail(f"unknown table {key!r} (allowed: {', '.join(TOP_KEYS)})",
-                          (_header_lines(self.text, rf"^\[+\s*{re.escape(key)}\b") or [None])[0])
+                headers = _header_lines(self.text, rf"^\[+\s*{re.escape(key)}\b")
+                self.fail(f"unknown table or key {key!r} (allowed: {', '.join(TOP_KEYS)})",
+                          headers[0] if headers else _key_line(self.text, 0, key))
         conditions = self.conditions(data.get("conditions", {}))
         ensemble = self.ensemble(data.get("ensemble", {}))
         species_tables = data.get("species", {})
