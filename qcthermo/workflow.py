@@ -327,6 +327,9 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) ->
 
     t = np.atleast_1d(np.asarray(conditions.temperature, dtype=float))
     m = model_tag(conditions.low_mode_model)
+    quantities = [("E_elec_Eh", "E"), ("ZPE_Eh", "ZPE"), ("H_Eh", "H_rrho"), ("S_Eh_K", "S_rrho"), ("G_Eh", "G_rrho")]
+    if conditions.low_mode_model != "rrho":
+        quantities += [(f"H_{m}_Eh", "H"), (f"S_{m}_Eh_K", "S"), (f"G_{m}_Eh", "G")]
     rows = []
     for s in species.values():
         low = s.lowest
@@ -341,10 +344,6 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) ->
                    "conformers": len(s.used), "duplicates": n_dup,
                    "level": ", ".join(s.levels) or None}
             v = s.values
-            quantities = [("E_elec_Eh", "E"), ("ZPE_Eh", "ZPE"), ("H_Eh", "H_rrho"), ("S_Eh_K", "S_rrho"),
-                          ("G_Eh", "G_rrho")]
-            if conditions.low_mode_model != "rrho":
-                quantities += [(f"H_{m}_Eh", "H"), (f"S_{m}_Eh_K", "S"), (f"G_{m}_Eh", "G")]
             row.update({col: float(v[key][i]) if v else np.nan for col, key in quantities})
             row.update({
                 "point_group": thermo.point_group if thermo else None,
@@ -366,8 +365,8 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     """The main job: survey ``directory``, build species, reactions and profiles; see :class:`RunResults`.
 
     ``reactions``: a reaction file (TOML path, or a parsed ReactionFile); without it every frequency
-    log is a species and there are no reactions. ``conditions``: None takes the command line's defaults and the file's
-    [conditions]. Raises ReactionFileError for a bad reaction file (with its line), QcthermoError
+    log is a species and there are no reactions. ``conditions``: None takes the command line's
+    defaults and the file's [conditions]; given, it is used as it is. Raises ReactionFileError for a bad reaction file (with its line), QcthermoError
     for a missing directory; bad logs become findings.
     """
     from .survey import survey
