@@ -366,8 +366,8 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
 
     ``reactions``: a reaction file (TOML path, or a parsed ReactionFile); without it every frequency
     log is a species and there are no reactions. ``conditions``: None takes the command line's
-    defaults and the file's [conditions]; given, it is used as it is. Raises ReactionFileError for a bad reaction file (with its line), QcthermoError
-    for a missing directory; bad logs become findings.
+    defaults and the file's [conditions]; given, it is used as it is. Raises ReactionFileError for a
+    bad reaction file (with its line), QcthermoError for a missing directory; bad logs become findings.
     """
     from .survey import survey
 
