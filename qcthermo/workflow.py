@@ -676,6 +676,8 @@ def run_json(results: RunResults, written: list[Path]) -> str:
         "version": __version__,
         "settings": results.settings,
         "inputs": inputs,
+        "survey": {"summary": results.survey_result.summary(), "notes": results.survey_result.notes,
+                   "stats": results.survey_result.stats} if results.survey_result is not None else None,
         "findings": [f._asdict() for f in results.findings],
         "exit_status": results.exit_status,
         "species": {n: {"status": "ok" if s.usable else "excluded", "level": s.levels,
