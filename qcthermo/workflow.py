@@ -730,56 +730,17 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     return written
 
 
-def nasa7_fits(results: RunResults) -> list:
-    """NASA-7 fits (qcthermo.export.nasa7) of every usable minimum: its most populated conformer, with the
-    composite electronic energy, under the run's low-mode model, 300-1000-3000 K at 1 atm. Transition
-    states are left out (a kinetics code has no thermo for them); a species that cannot be fitted is a
-    warning."""
-    from .export.nasa7 import nasa7_from_molecule
-
-    fits = []
-    for s in results.species_results.values():
-        low = s.lowest
-        if low is None or low.molecule is None or s.options.transition_state:
-            continue
-        try:
-            fits.append(nasa7_from_molecule(low.molecule.replace(energy=float(low.values["E"][0])),
-                                            results.conditions, name=s.name))
-        except (QcthermoError, ValueError) as err:
-            results.findings.append(Finding("warning", s.name, f"no NASA-7 fit: {err}"))
-    return fits
-
-
-def _write_nasa7(results: RunResults, out_dir: Path) -> list[Path]:
-    """thermo.yaml (Cantera) and thermo.dat (Chemkin) of :func:`nasa7_fits`, each on its own."""
-    from .export.nasa7 import write_cantera_yaml, write_chemkin
-
-    fits = nasa7_fits(results)
-    written = []
-    for writer, name in ((write_cantera_yaml, "thermo.yaml"), (write_chemkin, "thermo.dat")):
-        if not fits:
-            break
-        try:
-            written.append(Path(writer(fits, out_dir / name)))
-        except QcthermoError as err:
-            results.findings.append(Finding("warning", name, f"not written: {err}"))
-    return written
-
-
 def _optional_exports(results: RunResults, out_dir: Path) -> list[Path]:
-    """NASA-7 files, then figures, supporting information and report from their modules when present."""
-    import importlib
+    """NASA-7 files (thermo.yaml, thermo.dat), figures, supporting information and the report."""
+    from .export.figures import write_profile_figures
+    from .export.nasa7 import write_run_thermo
+    from .export.report import write_report
+    from .export.si import write_si
 
-    written = _write_nasa7(results, out_dir)
-    for module, function in (("qcthermo.export.figures", "write_profile_figures"),
-                             ("qcthermo.export.si", "write_si"),
-                             ("qcthermo.export.report", "write_report")):
-        try:
-            writer = getattr(importlib.import_module(module), function)
-        except (ImportError, AttributeError):
-            continue
-        produced = writer(results, out_dir) or []
-        written += [produced] if isinstance(produced, Path) else list(produced)
+    written = [Path(p) for p in write_run_thermo(results, out_dir)]
+    written += write_profile_figures(results, out_dir)
+    written += write_si(results, out_dir)
+    written.append(write_report(results, out_dir))
     return written
 
 
