@@ -538,3 +538,83 @@ def test_fallback_extractors_agree_with_cclib_where_cclib_works(third_party, pro
         kept, _ = vibrational_modes(by_text["frequencies"], by_text["symbols"], by_text["coordinates"], True)
         expected, _ = vibrational_modes(by_cclib["frequencies"], by_cclib["symbols"], by_cclib["coordinates"], True)
         assert kept == pytest.approx(expected, abs=0.01)
+
+
+def all_real_logs(samples: Path) -> list[Path]:
+    from conftest import THIRD_PARTY
+
+    found = sorted(p for p in samples.rglob("*") if p.suffix in (".out", ".log"))
+    if THIRD_PARTY.is_dir():
+        found += sorted(p for p in THIRD_PARTY.rglob("*") if p.suffix in (".out", ".log"))
+    return found
+
+
+def without_fallback_note(calc) -> dict:
+    out = calc.to_dict()
+    out["notes"] = [n for n in out["notes"] if not n.startswith("fallback extractor used")]
+    return out
+
+
+def test_known_cclib_failures_are_exactly_the_logs_cclib_fails_on(samples):
+    # outside source: cclib 1.8.1 itself, run on every real log; the reader skips it only where it raises
+    import cclib
+
+    from qcthermo.readers import cclib_data, source
+
+    if cclib.__version__ != cclib_data.KNOWN_CCLIB:
+        pytest.skip("the known failures are those of cclib 1.8.1")
+    skipped = 0
+    for path in all_real_logs(samples):
+        src = source.load(path)
+        predicted = cclib_data.known_failure(src)
+        _, failure = cclib_data.parse(src)
+        assert (predicted is None) == (failure is None), (path, predicted, failure)
+        if predicted:
+            skipped += 1
+            assert failure.split()[-1] in predicted, (path, predicted, failure)  # the same exception type
+    assert skipped >= 15  # ORCA 6 and the NWChem multi-task samples
+
+
+def test_direct_fallback_gives_what_cclib_then_fallback_gives(samples, monkeypatch):
+    # the route that runs cclib first (and falls back when it raises) is the reference
+    from qcthermo.readers import cclib_data
+
+    paths = [p for p in all_real_logs(samples) if cclib_data.known_failure(load_source(p))]
+    direct = {p: without_fallback_note(qcthermo.read_log(p)) for p in paths}
+    monkeypatch.setattr(cclib_data, "known_failure", lambda source: None)
+    for path in paths:
+        calc = qcthermo.read_log(path)
+        assert any(n.startswith("fallback extractor used: cclib failed with") for n in calc.notes), path
+        assert without_fallback_note(calc) == direct[path], path
+
+
+def load_source(path: Path):
+    from qcthermo.readers import source
+
+    return source.load(path)
+
+
+@pytest.mark.parametrize(
+    ("literal", "pattern"),
+    [
+        ("Total DFT energy =", r"Total DFT energy =\s+(-?\d+\.\d+)"),
+        ("Temperature", r"^\s*Temperature\s+=\s+(-?\d+\.\d+)K"),
+        ("electrons", r"^\s*beta\s+electrons\s+=\s+(\d+)"),
+        ("FINAL SINGLE POINT ENERGY", r"^FINAL SINGLE POINT ENERGY\s+(-?\d+\.\d+)"),
+        ("SCF Done", r"SCF Done:\s+E\(\S+\)\s+=\s+(-?\d+\.\d+)"),
+    ],
+)
+def test_last_line_match_is_the_last_regex_match_of_the_whole_text(samples, literal, pattern):
+    # outside source: Python's re.findall over the whole text
+    from qcthermo.readers.text import last_line_match, lines_with
+
+    regex = re.compile(pattern, re.MULTILINE)
+    checked = 0
+    for path in all_real_logs(samples):
+        text = path.read_text()
+        everywhere = regex.findall(text)
+        found = last_line_match(text, literal, regex)
+        assert (found.group(1) if found else None) == (everywhere[-1] if everywhere else None), path
+        assert regex.findall(lines_with(text, literal)) == everywhere, path
+        checked += bool(everywhere)
+    assert checked > 0

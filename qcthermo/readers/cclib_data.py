@@ -12,6 +12,7 @@ from __future__ import annotations
 import contextlib
 import io
 import logging
+import re
 import warnings
 
 import numpy as np
@@ -46,6 +47,76 @@ def parse(source: LogSource):
             return parser.parse(), None
     except Exception as err:  # cclib raises anything from AssertionError to IndexError on odd files
         return None, f"cclib failed with {type(err).__name__}"
+
+
+#: the cclib release whose failures below were read from its parsers' source and seen on real files
+KNOWN_CCLIB = "1.8.1"
+_ORCA_VERSION = re.compile(r"Program Version (\d+)\.")
+_GROUP_ORDER = re.compile(r" Group order\s+(\d+)")
+
+
+def known_failure(source: LogSource) -> str | None:
+    """Why cclib 1.8.1 would raise on this log, told from a few lines of it; None if it is not known to.
+
+    Reading such a log with cclib first only costs the time cclib spends before it raises (up to the
+    first optimisation or basis-set block), so the reader goes to the fallback extractor at once.
+    Every rule mirrors the statement in cclib 1.8.1 that raises; any other cclib version is run as usual.
+    """
+    import cclib
+
+    if cclib.__version__ != KNOWN_CCLIB:
+        return None
+    if source.program == "orca":
+        version = _ORCA_VERSION.search(source.head)
+        if version and int(version.group(1)) >= 6:  # orcaparser asserts on ORCA 6's changed headers
+            return "cclib 1.8.1 not run, it fails with AssertionError on ORCA 6 outputs"
+    elif source.program == "nwchem":
+        if _nwchem_short_symmetry_table(source.text):
+            return "cclib 1.8.1 not run, it fails with IndexError on NWChem's basis table of a non-abelian group"
+        if _nwchem_untitled_optimisation(source.text):
+            return "cclib 1.8.1 not run, it fails with AssertionError on an untitled NWChem optimisation"
+    return None
+
+
+def _lines_from(text: str, header: str):
+    """For each line that is ``header`` alone (cclib compares stripped lines): that line and the next ones."""
+    at = text.find(header)
+    while at >= 0:
+        start = text.rfind("\n", 0, at) + 1
+        lines = text[start : start + 4000].split("\n")
+        if lines[0].strip() == header:
+            yield start, lines
+        at = text.find(header, at + len(header))
+
+
+def _nwchem_short_symmetry_table(text: str) -> bool:
+    """A "Symmetry analysis of basis" table with fewer rows (irreducible representations) than the group
+    order: cclib 1.8.1 reads one row per group element and splits the blank line after the table."""
+    for start, lines in _lines_from(text, "Symmetry analysis of basis"):
+        at = text.rfind("\n Group order", 0, start)  # the order cclib keeps: the last one printed before
+        order = _GROUP_ORDER.match(text, at + 1) if at >= 0 else None
+        if order is None:
+            continue
+        rows = lines[3 : 3 + int(order.group(1))]
+        if len(rows) == int(order.group(1)) and not all(row.strip() for row in rows):
+            return True
+    return False
+
+
+def _nwchem_untitled_optimisation(text: str) -> bool:
+    """An "NWChem Geometry Optimization" header where cclib 1.8.1 does not find the gradient threshold
+    after skipping the lines of a title (cclib's assertion at that header)."""
+    for _, lines in _lines_from(text, "NWChem Geometry Optimization"):
+        if len(lines) < 11:
+            continue
+        line, rest = lines[4], 5
+        if "maximum gradient threshold" not in line:
+            line, rest = lines[9], 10
+        if "no constraints" in line:
+            line = lines[rest]
+        if "maximum gradient threshold" not in line:
+            return True
+    return False
 
 
 def ev_to_hartree(value: float) -> float:

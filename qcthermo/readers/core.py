@@ -1,8 +1,9 @@
 """read_log(): one log file in, one normalised Calculation out (or a one-line LogReadError).
 
 Order of work: load the file once and recognise the program from its banner (source.py); cclib on the
-text in memory (cclib_data.py); the program's own extractor where cclib fails or misses the geometry
-or energy (fallback.py); then the same normalisation for every program (normalise.py, programs.py).
+text in memory (cclib_data.py), unless the log is of a kind cclib 1.8.1 is known to fail on; the
+program's own extractor where cclib fails (or would) or misses the geometry or energy (fallback.py);
+then the same normalisation for every program (normalise.py, programs.py).
 """
 
 from __future__ import annotations
@@ -25,6 +26,7 @@ from .programs import (
     terminated_normally,
 )
 from .source import LogSource, load
+from .text import lines_with
 
 #: job types that are not a single point
 _NOT_SINGLE_POINT = {"optimization", "frequencies", "saddle-search", "irc", "scan"}
@@ -48,7 +50,8 @@ def read_log(path: str | Path) -> Calculation:
 
 
 def _read(source: LogSource) -> Calculation:
-    data, failure = cclib_data.parse(source)
+    failure = cclib_data.known_failure(source)
+    data, failure = (None, failure) if failure else cclib_data.parse(source)
     found = cclib_data.fields(data, source.program) if data is not None else {}
     notes: list[str] = found.pop("notes", [])
     if source.program == "xtb" and "symbols" in found and "coordinates" not in found:
@@ -72,11 +75,12 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
     """What cclib does not give for some programs, from the text."""
     text = source.text
     if source.program == "orca":
-        method = fallback.orca_method(text)
+        echo = fallback.orca_input_echo(text)
+        method = fallback.orca_method(echo)
         if method:
             found["method"] = method
         if not found.get("solvent_model"):
-            model, solvent = fallback.orca_solvent(text)
+            model, solvent = fallback.orca_solvent(text, echo)
             if model:
                 found["solvent_model"], found["solvent"] = solvent_model_name(model), solvent
     elif source.program == "nwchem":
@@ -91,10 +95,14 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
     elif source.program == "xtb":
         _amend_xtb(text, found, notes)
     elif source.program == "psi4" and found.get("method") in (None, "DFT"):
-        functional = re.search(r"^\s+(\S+) (?:Hyb-)?(?:GGA|LSDA|Meta-GGA|LDA) Exchange-Correlation", text, re.M)
+        functional = re.search(
+            r"^\s+(\S+) (?:Hyb-)?(?:GGA|LSDA|Meta-GGA|LDA) Exchange-Correlation",
+            lines_with(text, " Exchange-Correlation"),
+            re.M,
+        )
         if functional:
             found["method"] = method_name(functional.group(1))
-        elif re.search(r"@(DF-)?(RHF|UHF|ROHF|CUHF) Final Energy", text):
+        elif re.search(r"@(DF-)?(RHF|UHF|ROHF|CUHF) Final Energy", lines_with(text, " Final Energy")):
             found["method"] = "HF"
 
 

@@ -13,24 +13,26 @@ import numpy as np
 
 from ..units import HARTREE_J, N_A
 from .normalise import method_name
+from .text import last_block_match, last_line_match, lines_with
 
 _F = r"(-?\d+\.\d+)"
 #: one thermochemical calorie, J (entropies printed in cal/(mol K))
 _CAL = 4.184
 
 
-def _last(pattern: str, text: str, flags: int = re.MULTILINE) -> str | None:
-    found = re.findall(pattern, text, flags)
-    return found[-1] if found else None
+def _last(text: str, literal: str, pattern: str) -> str | None:
+    """Group 1 of the last match of a one-line ``pattern`` that contains ``literal`` (see text.py)."""
+    found = last_line_match(text, literal, re.compile(pattern, re.MULTILINE))
+    return None if found is None else found.group(1)
 
 
-def _last_float(pattern: str, text: str) -> float | None:
-    value = _last(pattern, text)
+def _last_float(text: str, literal: str, pattern: str) -> float | None:
+    value = _last(text, literal, pattern)
     return None if value is None else float(value)
 
 
-def _last_int(pattern: str, text: str) -> int | None:
-    value = _last(pattern, text)
+def _last_int(text: str, literal: str, pattern: str) -> int | None:
+    value = _last(text, literal, pattern)
     return None if value is None else int(value)
 
 
@@ -48,32 +50,37 @@ _ORCA_SOLVENT = re.compile(r"\b(cpcm|smd|cpcmc|alpb|ddcosmo|cosmors)\s*\(\s*([^)
 _ORCA_HF_ALIASES = {"RHF": "HF", "UHF": "HF", "ROHF": "HF"}
 
 
-def orca_keywords(text: str) -> list[str]:
-    """Lower-case tokens of the "!" lines of ORCA's input echo."""
-    lines = re.findall(r"^\|\s*\d+>\s*!(.*)$", text, re.MULTILINE)
+def orca_input_echo(text: str) -> str:
+    """The lines of ORCA's input echo ("|  1> ! b3lyp ..."), with the few others that hold a ">"."""
+    return lines_with(text, ">")
+
+
+def orca_keywords(echo: str) -> list[str]:
+    """Lower-case tokens of the "!" lines of ORCA's input echo (:func:`orca_input_echo`)."""
+    lines = re.findall(r"^\|\s*\d+>\s*!(.*)$", echo, re.MULTILINE)
     return " ".join(lines).lower().split()
 
 
-def orca_method(text: str) -> str | None:
+def orca_method(echo: str) -> str | None:
     """Method named in ORCA's "!" keywords (upper-cased), e.g. "B3LYP", "DLPNO-CCSD(T)", "R2SCAN-3C"."""
-    for token in orca_keywords(text):
+    for token in orca_keywords(echo):
         if _ORCA_METHOD.match(token):
             name = method_name(token)
             return _ORCA_HF_ALIASES.get(name, name)
     return None
 
 
-def orca_solvent(text: str) -> tuple[str | None, str | None]:
+def orca_solvent(text: str, echo: str) -> tuple[str | None, str | None]:
     """(model, solvent): ORCA's printed CPCM section first, else its "!" keywords or the %cpcm block."""
     if "CPCM SOLVATION MODEL" in text:
-        model = "smd" if re.search(r"SMD-CDS|SMD CDS", text) else "cpcm"
-        name = _last(r"^Solvent:\s+\.\.\.\s+(\S.*?)\s*$", text)
+        model = "smd" if "SMD-CDS" in text or "SMD CDS" in text else "cpcm"
+        name = _last(text, "Solvent:", r"^Solvent:\s+\.\.\.\s+(\S.*?)\s*$")
         return model, name.lower() if name else None
-    keywords = " ".join(orca_keywords(text))
+    keywords = " ".join(orca_keywords(echo))
     m = _ORCA_SOLVENT.search(keywords)
     if m:
         return m.group(1).lower(), m.group(2)
-    block = re.search(r"^\|\s*\d+>\s*%cpcm(.*?)^\|\s*\d+>\s*end", text, re.MULTILINE | re.DOTALL | re.IGNORECASE)
+    block = re.search(r"^\|\s*\d+>\s*%cpcm(.*?)^\|\s*\d+>\s*end", echo, re.MULTILINE | re.DOTALL | re.IGNORECASE)
     if block:
         body = block.group(1)
         smd = re.search(r"\bsmd\s+true", body, re.IGNORECASE)
@@ -82,13 +89,16 @@ def orca_solvent(text: str) -> tuple[str | None, str | None]:
     return None, None
 
 
+_ORCA_GEOMETRY = re.compile(
+    r"^CARTESIAN COORDINATES \(ANGSTROEM\)\n-+\n((?:\s*[A-Za-z]{1,3}\s+\S+\s+\S+\s+\S+\n)+)", re.MULTILINE
+)
+
+
 def _orca_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
-    blocks = re.findall(
-        r"^CARTESIAN COORDINATES \(ANGSTROEM\)\n-+\n((?:\s*[A-Za-z]{1,3}\s+\S+\s+\S+\s+\S+\n)+)", text, re.MULTILINE
-    )
-    if not blocks:
+    block = last_block_match(text, "CARTESIAN COORDINATES (ANGSTROEM)", _ORCA_GEOMETRY)
+    if block is None:
         return None
-    rows = [line.split() for line in blocks[-1].strip().splitlines()]
+    rows = [line.split() for line in block.group(1).strip().splitlines()]
     symbols = tuple(row[0].capitalize() for row in rows)
     return symbols, np.array([[float(x) for x in row[1:4]] for row in rows])
 
@@ -103,7 +113,7 @@ def _orca_frequencies(text: str) -> np.ndarray | None:
     values = np.array([float(v) for v in re.findall(r"^\s*\d+:\s+(-?\d+\.\d+) cm\*\*-1", block, re.MULTILINE)])
     if values.size == 0:
         return None
-    first = _last_int(r"The first frequency considered to be a vibration is (\d+)", block)
+    first = _last_int(block, "The first frequency", r"The first frequency considered to be a vibration is (\d+)")
     return values[first:] if first is not None else values
 
 
@@ -113,13 +123,14 @@ def orca(text: str) -> dict:
     geometry = _orca_geometry(text)
     if geometry is not None:
         out["symbols"], out["coordinates"] = geometry
-    energy = _last_float(rf"^FINAL SINGLE POINT ENERGY\s+{_F}", text)
+    energy = _last_float(text, "FINAL SINGLE POINT ENERGY", rf"^FINAL SINGLE POINT ENERGY\s+{_F}")
     if energy is not None:
         out["energy"] = energy
-    charge = _last_int(r"Total Charge\s+Charge\s+\.+\s+(-?\d+)", text)
-    mult = _last_int(r"Multiplicity\s+Mult\s+\.+\s+(\d+)", text)
+    echo = orca_input_echo(text)
+    charge = _last_int(text, "Total Charge", r"Total Charge\s+Charge\s+\.+\s+(-?\d+)")
+    mult = _last_int(text, "Multiplicity", r"Multiplicity\s+Mult\s+\.+\s+(\d+)")
     if charge is None or mult is None:  # before the SCF printed its settings: the input's "* xyz c m"
-        m = re.search(r"^\|\s*\d+>\s*\*\s*(?:xyz|int|gzmt|xyzfile)\s+(-?\d+)\s+(\d+)", text, re.MULTILINE | re.I)
+        m = re.search(r"^\|\s*\d+>\s*\*\s*(?:xyz|int|gzmt|xyzfile)\s+(-?\d+)\s+(\d+)", echo, re.MULTILINE | re.I)
         if m:
             charge, mult = int(m.group(1)), int(m.group(2))
     if charge is not None:
@@ -129,14 +140,14 @@ def orca(text: str) -> dict:
     freqs = _orca_frequencies(text)
     if freqs is not None:
         out["frequencies"] = freqs
-    out["program_version"] = _last(r"Program Version (\S+)", text)
-    out["basis"] = _last(r"Your calculation utilizes the basis: (\S+)", text)
-    out["method"] = orca_method(text)
+    out["program_version"] = _last(text, "Program Version", r"Program Version (\S+)")
+    out["basis"] = _last(text, "Your calculation utilizes the basis:", r"Your calculation utilizes the basis: (\S+)")
+    out["method"] = orca_method(echo)
     thermo = {
-        "temperature": _last_float(rf"^Temperature\s+\.\.\.\s+{_F} K", text),
-        "zpe": _last_float(rf"^Zero point energy\s+\.\.\.\s+{_F} Eh", text),
-        "enthalpy": _last_float(rf"^Total Enthalpy\s+\.\.\.\s+{_F} Eh", text),
-        "gibbs": _last_float(rf"^Final Gibbs free energy\s+\.\.\.\s+{_F} Eh", text),
+        "temperature": _last_float(text, "Temperature", rf"^Temperature\s+\.\.\.\s+{_F} K"),
+        "zpe": _last_float(text, "Zero point energy", rf"^Zero point energy\s+\.\.\.\s+{_F} Eh"),
+        "enthalpy": _last_float(text, "Total Enthalpy", rf"^Total Enthalpy\s+\.\.\.\s+{_F} Eh"),
+        "gibbs": _last_float(text, "Final Gibbs free energy", rf"^Final Gibbs free energy\s+\.\.\.\s+{_F} Eh"),
     }
     if thermo["enthalpy"] is not None:
         out["thermo_printed"] = {k: v for k, v in thermo.items() if v is not None}
@@ -145,37 +156,41 @@ def orca(text: str) -> dict:
 
 # -------------------------------------------------------------------------------------------- NWChem
 
-#: NWChem energy lines, highest level first: (method, regex of the total energy)
+#: NWChem energy lines, highest level first: (method, literal of the line, regex of the total energy)
 _NWCHEM_ENERGIES = (
-    ("CCSD(T)", rf"CCSD\(T\) total energy / hartree\s+=\s+{_F}"),
-    ("CCSD", rf"CCSD total energy / hartree\s+=\s+{_F}"),
-    ("MP2", rf"Total MP2 energy\s+{_F}"),
-    ("DFT", rf"Total DFT energy =\s+{_F}"),
-    ("HF", rf"Total SCF energy =\s+{_F}"),
+    ("CCSD(T)", "CCSD(T) total energy", rf"CCSD\(T\) total energy / hartree\s+=\s+{_F}"),
+    ("CCSD", "CCSD total energy", rf"CCSD total energy / hartree\s+=\s+{_F}"),
+    ("MP2", "Total MP2 energy", rf"Total MP2 energy\s+{_F}"),
+    ("DFT", "Total DFT energy =", rf"Total DFT energy =\s+{_F}"),
+    ("HF", "Total SCF energy =", rf"Total SCF energy =\s+{_F}"),
 )
 
 
 def nwchem_level(text: str) -> tuple[str | None, float | None]:
     """(method, energy) at the highest level NWChem printed; the DFT functional where the module names it."""
-    for method, pattern in _NWCHEM_ENERGIES:
-        energy = _last_float(pattern, text)
+    for method, literal, pattern in _NWCHEM_ENERGIES:
+        energy = _last_float(text, literal, pattern)
         if energy is not None:
             if method == "DFT":
-                functional = _last(r"^\s+(\S+) Method XC (?:Potential|Functional)", text)
+                functional = _last(text, " Method XC ", r"^\s+(\S+) Method XC (?:Potential|Functional)")
                 method = method_name(functional) if functional else "DFT"
             return method, energy
     return None, None
 
 
+_NWCHEM_GEOMETRY = re.compile(
+    r"Output coordinates in angstroms.*\n\n.*\n\s*-{4}.*\n((?:\s*\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+\S+\n)+)"
+)
+_NWCHEM_BASIS = re.compile(r'Summary of "ao basis".*\n.*\n.*\n.*\n\s*\S+\s+(\S+)')
+
+
 def _nwchem_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
     from ase.data import chemical_symbols
 
-    blocks = re.findall(
-        r"Output coordinates in angstroms.*\n\n.*\n\s*-{4}.*\n((?:\s*\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+\S+\n)+)", text
-    )
-    if not blocks:
+    block = last_block_match(text, "Output coordinates in angstroms", _NWCHEM_GEOMETRY)
+    if block is None:
         return None
-    rows = [line.split() for line in blocks[-1].strip().splitlines()]
+    rows = [line.split() for line in block.group(1).strip().splitlines()]
     # the nuclear charge names the element whatever the tag says ("O1", "H_a", ...)
     symbols = tuple(chemical_symbols[round(float(row[2]))] for row in rows)
     return symbols, np.array([[float(x) for x in row[3:6]] for row in rows])
@@ -195,14 +210,14 @@ def _nwchem_frequencies(text: str) -> np.ndarray | None:
 def nwchem_multiplicity(text: str) -> int | None:
     """2S+1 as NWChem prints it: the DFT module's "Spin multiplicity", else the SCF module's electron
     counts (UHF: alpha - beta + 1) or open shells (ROHF/RHF: open shells + 1, high spin)."""
-    mult = _last_int(r"Spin multiplicity:\s+(\d+)", text)
+    mult = _last_int(text, "Spin multiplicity:", r"Spin multiplicity:\s+(\d+)")
     if mult is not None:
         return mult
-    alpha = _last_int(r"^\s*alpha electrons\s+=\s+(\d+)", text)
-    beta = _last_int(r"^\s*beta\s+electrons\s+=\s+(\d+)", text)
+    alpha = _last_int(text, "electrons", r"^\s*alpha electrons\s+=\s+(\d+)")
+    beta = _last_int(text, "electrons", r"^\s*beta\s+electrons\s+=\s+(\d+)")
     if alpha is not None and beta is not None:
         return alpha - beta + 1
-    open_shells = _last_int(r"^\s*open shells\s+=\s+(\d+)", text)
+    open_shells = _last_int(text, "open shells", r"^\s*open shells\s+=\s+(\d+)")
     return None if open_shells is None else open_shells + 1
 
 
@@ -211,10 +226,10 @@ def nwchem_cosmo(text: str) -> dict:
     if "-cosmo- solvent" not in text:
         return {}
     out: dict = {"solvent_model": "cosmo"}
-    name = _last(r"solvname_long:\s+(\S.*?)\s*$", text)
-    eps = _last(r"dielectric constant -eps-\s+=\s+(\S+)", text)
+    name = _last(text, "solvname_long:", r"solvname_long:\s+(\S.*?)\s*$")
+    eps = _last(text, "dielectric constant -eps-", r"dielectric constant -eps-\s+=\s+(\S+)")
     out["solvent"] = name if name else (f"eps={eps}" if eps else None)
-    gas = _last_float(rf"gas phase energy =\s+{_F}", text)
+    gas = _last_float(text, "gas phase energy =", rf"gas phase energy =\s+{_F}")
     if gas is not None:
         out["gas_energy"] = gas
     return out
@@ -229,7 +244,7 @@ def nwchem(text: str) -> dict:
     method, energy = nwchem_level(text)
     if energy is not None:
         out["energy"], out["method"] = energy, method
-    charge = _last_int(r"^\s*Charge\s+:\s+(-?\d+)", text)
+    charge = _last_int(text, "Charge", r"^\s*Charge\s+:\s+(-?\d+)")
     if charge is not None:
         out["charge"] = charge
     mult = nwchem_multiplicity(text)
@@ -238,10 +253,10 @@ def nwchem(text: str) -> dict:
     freqs = _nwchem_frequencies(text)
     if freqs is not None:
         out["frequencies"] = freqs
-    out["program_version"] = _last(r"\(NWChem\) (\d[\w.]*)", text)
-    basis = _last(r'Summary of "ao basis".*\n.*\n.*\n.*\n\s*\S+\s+(\S+)', text)
+    out["program_version"] = _last(text, "(NWChem) ", r"\(NWChem\) (\d[\w.]*)")
+    basis = last_block_match(text, 'Summary of "ao basis"', _NWCHEM_BASIS)
     if basis:
-        out["basis"] = basis
+        out["basis"] = basis.group(1)
     out.update(nwchem_cosmo(text))
     return out  # the thermochemistry is added for both paths by the reader (nwchem_thermo)
 
@@ -249,15 +264,15 @@ def nwchem(text: str) -> dict:
 def nwchem_thermo(text: str, energy: float) -> dict[str, float]:
     """NWChem's own thermochemistry as totals: H = E + its enthalpy correction; G = H - T S from its
     "Total Entropy" (NWChem prints no G); the ZPE as printed; empty without a frequency analysis."""
-    temperature = _last_float(rf"^\s*Temperature\s+=\s+{_F}K", text)
-    h_corr = _last_float(rf"Thermal correction to Enthalpy\s+=.*\(\s*{_F} au\)", text)
+    temperature = _last_float(text, "Temperature", rf"^\s*Temperature\s+=\s+{_F}K")
+    h_corr = _last_float(text, "Thermal correction to Enthalpy", rf"Thermal correction to Enthalpy\s+=.*\(\s*{_F} au\)")
     if h_corr is None or temperature is None:
         return {}
     thermo = {"temperature": temperature, "enthalpy": energy + h_corr}
-    zpe = _last_float(rf"Zero-Point correction to Energy\s+=.*\(\s*{_F} au\)", text)
+    zpe = _last_float(text, "Zero-Point correction to Energy", rf"Zero-Point correction to Energy\s+=.*\(\s*{_F} au\)")
     if zpe is not None:
         thermo["zpe"] = zpe
-    entropy = _last_float(rf"^\s*Total Entropy\s+=\s+{_F} cal/mol-K", text)
+    entropy = _last_float(text, "Total Entropy", rf"^\s*Total Entropy\s+=\s+{_F} cal/mol-K")
     if entropy is not None:
         thermo["gibbs"] = thermo["enthalpy"] - temperature * entropy * _CAL / (HARTREE_J * N_A)
     return thermo

@@ -48,7 +48,11 @@ UNSUPPORTED: dict[str, str] = {
     "crystal": r"CRYSTAL\d\d",
 }
 
-_PROGRAM_RES = {name: re.compile(pattern, re.MULTILINE) for name, (pattern, _) in PROGRAMS.items()}
+#: every banner in one regex, one named group per program: a single scan finds the earliest banner
+_BANNERS = re.compile(
+    "|".join(f"(?P<{name.replace('-', '_')}>{pattern})" for name, (pattern, _) in PROGRAMS.items()), re.MULTILINE
+)
+_GROUP_PROGRAM = {name.replace("-", "_"): name for name in PROGRAMS}
 _UNSUPPORTED_RES = {name: re.compile(pattern, re.MULTILINE) for name, pattern in UNSUPPORTED.items()}
 
 #: extensions of geometry-only files read with ASE
@@ -101,9 +105,9 @@ def sniff_program(path: str, head: str) -> str | None:
     Raises LogReadError for a recognised but unsupported program and for text that is no log.
     """
     # banners first: the earliest match wins, because inputs and citations may name other programs
-    found = [(m.start(), name) for name, rx in _PROGRAM_RES.items() if (m := rx.search(head))]
+    found = _BANNERS.search(head)
     if found:
-        return min(found)[1]
+        return _GROUP_PROGRAM[found.lastgroup]
     for name, rx in _UNSUPPORTED_RES.items():
         if rx.search(head):
             raise LogReadError(path, f"output of an unsupported program ({name})")
