@@ -70,6 +70,78 @@ def _assert_no_overlaps(fig):
         assert axes_box.y0 <= box.y0 and box.y1 <= axes_box.y1, f"label {text!r} outside the axes"
 
 
+def _ink(line, fig):
+    """A level's ink box (x0, x1, y0, y1) in display units: its segment and its own line width."""
+    (x0, y), (x1, _) = line.get_transform().transform(line.get_xydata())
+    half = line.get_linewidth() / 2 * fig.dpi / 72
+    return min(x0, x1), max(x0, x1), y - half, y + half
+
+
+def _box_distance(box, ink):
+    dx = max(ink[0] - box.x1, box.x0 - ink[1], 0.0)
+    dy = max(ink[2] - box.y1, box.y0 - ink[3], 0.0)
+    return float(np.hypot(dx, dy))
+
+
+def _compact(text):
+    return re.sub(r"\s+", "", text)
+
+
+def _owners(gid, text, profiles, precision):
+    """The column a label belongs to and the names of the profiles it labels, from the drawn text and
+    the input profiles (not from the layout)."""
+    kind, rest = gid.split(":", 1)
+    if kind == "name":
+        column = int(rest.split(":", 1)[0])
+        return column, {p.name for p in profiles if column < len(p.states)
+                        and _compact(figures.state_name(p.states[column])) == _compact(text)}
+    if rest.startswith("*:"):  # a value several overlaid profiles share
+        column = int(rest.split(":")[1])
+        shown = text.split("\n")[0]
+        return column, {p.name for p in profiles if column < len(p.states)
+                        and figures.format_value(p.states[column].value, precision) == shown}
+    name, column = rest.rsplit(":", 1)
+    return int(column), {name}
+
+
+def _assert_labels_attached(fig, profiles, precision=1):
+    """Every label is nearer (box to level ink) one of its own levels than any other level of its state
+    column, or a leader in its colour runs from one of its own levels to it, crossing no other label."""
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    ax = fig.axes[0]
+    levels = [(line, *line.get_gid()[len("level:"):].rsplit(":", 1)) for line in _artists(fig, "level:")]
+    leaders = {line.get_gid()[len("leader:"):]: line for line in _artists(fig, "leader:")}
+    texts = [t for t in ax.texts if t.get_text()]
+    boxes = {t.get_gid(): t.get_window_extent(renderer) for t in texts}
+    checked = 0
+    for t in texts:
+        column, owners = _owners(t.get_gid(), t.get_text(), profiles, precision)
+        assert owners, f"label {t.get_text()!r} matches no profile"
+        box = boxes[t.get_gid()]
+        here = [(name, _box_distance(box, _ink(line, fig)), line) for line, name, i in levels if int(i) == column]
+        own = min(d for name, d, _ in here if name in owners)
+        others = [d for name, d, _ in here if name not in owners]
+        if not others or own < min(others):
+            checked += 1
+            continue
+        leader = leaders.get(t.get_gid())
+        assert leader is not None, f"label {t.get_text()!r} sits nearer another profile's level, with no leader"
+        assert leader.get_color() == t.get_color()
+        start, end = leader.get_transform().transform(leader.get_xydata())
+        own_inks = [_ink(line, fig) for name, _, line in here if name in owners]
+        assert any(i[0] - 1 <= start[0] <= i[1] + 1 and i[2] - 1 <= start[1] <= i[3] + 1 for i in own_inks), (
+            f"the leader of {t.get_text()!r} does not start on its level")
+        assert box.expanded(1.0, 1.0).padded(3.0).contains(*end), f"the leader of {t.get_text()!r} misses it"
+        path = MplPath(np.array([start, end]))
+        for gid, other in boxes.items():
+            assert gid == t.get_gid() or not path.intersects_bbox(other, filled=True), (
+                f"the leader of {t.get_text()!r} crosses the label {gid}")
+        checked += 1
+    assert checked == len(texts)
+    return len(leaders)
+
+
 def test_level_heights_equal_the_values():
     heights = [0.0, 12.5, -3.25, 20.0, -8.0]
     fig = plot_profiles([_profile("path", heights, ts=(1, 3))])
@@ -136,7 +208,10 @@ def test_crowded_profiles_labels_do_not_overlap():
     ]
     fig = plot_profiles(profiles, title="three pathways")
     _assert_no_overlaps(fig)
-    assert len(fig.axes[0].texts) == 8 + 3 * 8  # shared names once, values per pathway: nothing lost
+    assert _assert_labels_attached(fig, profiles) > 0  # near-degenerate levels: some labels need leaders
+    # shared names once; a value once per distinct rounded text at each state: nothing lost
+    shown = {(i, figures.format_value(p.values[i], 1)) for p in profiles for i in range(8)}
+    assert len(fig.axes[0].texts) == 8 + len(shown)
 
 
 def test_many_crossing_pathways_do_not_overlap():
@@ -145,7 +220,30 @@ def test_many_crossing_pathways_do_not_overlap():
     profiles = [_profile(f"p{k}", np.r_[0.0, rng.normal(0.0, 10.0, 14)], ts=range(1, 15, 2)) for k in range(3)]
     fig = plot_profiles(profiles)
     _assert_no_overlaps(fig)
+    _assert_labels_attached(fig, profiles)
     assert [tuple(line.get_ydata()) for line in _artists(fig, "level:p2:")] == [(v, v) for v in profiles[2].values]
+
+
+def test_overlaid_pathways_labels_stay_with_their_levels():
+    # drawing test: three pathways from one start, distinct intermediates, two near-degenerate pairs
+    names = [["cat + sub", f"TS1{c}", f"int-{c}", f"TS2{c}", "cat + prod"] for c in "abc"]
+    heights = [[0.0, 12.3, -4.0, 20.1, -10.0], [0.0, 11.8, -3.2, 24.0, -10.0], [0.0, 15.0, -3.6, 19.7, -10.0]]
+    profiles = [_profile(f"path {c}", h, ts=(1, 3), names=n) for c, h, n in zip("ABC", heights, names, strict=True)]
+    fig = plot_profiles(profiles)
+    _assert_no_overlaps(fig)
+    _assert_labels_attached(fig, profiles)
+    texts = [t.get_text() for t in fig.axes[0].texts]
+    assert texts.count("0.0") == 1 and texts.count("−10.0") == 1  # the same value of all three, written once
+    # levels at the same height are shifted apart along x, so that none hides another
+    starts = [_ink(_artists(fig, f"level:path {c}:0")[0], fig) for c in "ABC"]
+    assert len({round(s[1], 3) for s in starts}) == 3 and len({s[2] for s in starts}) == 1
+
+
+def test_a_single_profile_needs_no_leader():
+    for heights in ([0.0, 15.2, -4.1, 9.8, -12.0], [0.0, 0.0, 0.0, 0.01], [0.0, 250.0, 0.3, 0.2, 249.9, -0.1]):
+        profile = _profile("p", heights, ts=(1,))
+        fig = plot_profiles([profile])
+        assert _assert_labels_attached(fig, [profile]) == 0
 
 
 def test_draws_into_a_given_axes():
@@ -319,10 +417,12 @@ def test_unrelated_profiles_get_their_own_figures_and_panels():
     assert len(overview.axes) == 3  # one panel per profile: no two share an energy axis
     assert [ax.get_title(loc="left") for ax in overview.axes] == ["h_recombination", "hcn/hnc", "hydration"]
     for ax, record in zip(overview.axes, records, strict=True):
-        assert {line.get_gid().split(":")[1] for line in ax.lines} == {record["name"]}
+        assert {line.get_gid().split(":")[1] for line in ax.lines if not line.get_gid().startswith("leader:")} == {
+            record["name"]}
     for stem in list(figs)[1:]:
         (ax,) = figs[stem].axes
-        assert len({line.get_gid().split(":")[1] for line in ax.lines}) == 1 and ax.get_legend() is None
+        assert len({line.get_gid().split(":")[1] for line in _artists(figs[stem], "level:")}) == 1
+        assert ax.get_legend() is None
     assert figs["profile_hcn_hnc"].get_label() == "hcn/hnc"
 
 

@@ -88,6 +88,14 @@ NUDGE_STEP_PT = 1.0
 MAX_NUDGE_STEPS = 200
 MAX_WIDENINGS = 12  # of the y range, by 20 % each, while labels do not fit
 NAME_CROSS_AFTER_PT = 10.0  # a name crosses to below its level only when the space above is crowded
+ATTACH_MARGIN_PT = 0.5  # a label counts as nearest its own level only when nearer by this much
+DODGE_STEP = 0.06  # data units: overlaid profiles' levels shift this much apart along x, so none hides another
+DODGE_SPREAD = 0.18  # ... and at most this much between the first and the last
+LEADER_LINEWIDTH = 0.5  # points
+LEADER_AFTER_PT = 12.0  # a label farther than this from its level gets a leader
+LEADER_REACH_PT = 30.0  # how far a label with a leader may go before an unambiguous spot farther away is preferred
+LEADER_TRIALS = 80  # nearest free spots tried for a label with a leader
+LEADER_CROSSING_COST_PT = 20.0  # a leader may cross another level rather than its label move this much farther
 
 
 @dataclass
@@ -288,12 +296,28 @@ def state_name(state: ProfileState, wrap: int | None = None) -> str:
 
 @dataclass
 class _Label:
-    """A text being placed: its artist, the sign it prefers to move in, its level's height (display)."""
+    """A text being placed: its artist, the sign it prefers to move in, its level's height (display),
+    the state column it labels and the profiles (indices) whose level there it belongs to."""
 
     artist: Any
     direction: int  # +1 above its level, -1 below
     anchor_y: float
     cross_after_pt: float = MAX_NUDGE_STEPS * NUDGE_STEP_PT  # how far it moves on its own side before trying the other
+    column: int = 0
+    owners: frozenset[int] = frozenset()
+    leader: np.ndarray | None = None  # (x0, y0, x1, y1) display units, from its level to the text, when needed
+
+
+@dataclass
+class _Levels:
+    """The obstacles of a diagram: level lines (and energy-span halos) with, per line, its state column,
+    its profile's index and whether it is a level (not a halo); and the connectors."""
+
+    lines: list[Line2D]
+    columns: np.ndarray
+    owners: np.ndarray
+    is_level: np.ndarray
+    connectors: list[Line2D]
 
 
 def _new_figure(width_in: float) -> Figure:
@@ -320,19 +344,13 @@ def _wrap_width(ax, fig) -> int:
     return max(5, int(WRAP_FRACTION * slot_pt / (0.55 * STYLE["font.size"])))
 
 
-def _draw_profile(ax, profile: ProfileData, color: str, precision: int, wrap: int) -> tuple[list, list, list, list]:
-    """Levels, connectors and (unplaced) value labels of one profile.
-
-    Returns (levels and their energy-span halos, connectors, value labels, names) where names are
-    (position, shown name, level height) for the caller to draw: overlaid profiles share a state's
-    name when it is the same.
-    """
-    levels, connectors, labels, names = [], [], [], []
+def _draw_profile(ax, profile: ProfileData, color: str, dx: float) -> tuple[list, list]:
+    """Levels (and energy-span halos) and connectors of one profile, shifted by ``dx`` along x."""
+    levels, connectors = [], []
     values = profile.values
-    marked = {label: MARK_TAGS.get(kind, kind) for kind, label in profile.marks.items()}
-    shown = None if profile.label_states is None else set(profile.label_states)
+    marked = {label for label in profile.marks.values()}
     for i, state in enumerate(profile.states):
-        x = (i - LEVEL_HALF_WIDTH, i + LEVEL_HALF_WIDTH)
+        x = (i + dx - LEVEL_HALF_WIDTH, i + dx + LEVEL_HALF_WIDTH)
         if state.label in marked:  # the halo is an obstacle for labels like the level itself
             levels += ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH * 3, alpha=0.18,
                               solid_capstyle="butt", gid=f"mark:{profile.name}:{i}", zorder=1)
@@ -340,18 +358,41 @@ def _draw_profile(ax, profile: ProfileData, color: str, precision: int, wrap: in
                           solid_capstyle="butt", gid=f"level:{profile.name}:{i}", zorder=3)
         levels.append(line)
         if i:
-            (conn,) = ax.plot((i - 1 + LEVEL_HALF_WIDTH, i - LEVEL_HALF_WIDTH), (values[i - 1], state.value),
+            (conn,) = ax.plot((i - 1 + dx + LEVEL_HALF_WIDTH, i + dx - LEVEL_HALF_WIDTH), (values[i - 1], state.value),
                               color=color, lw=0.6, ls=profile.style, gid=f"connector:{profile.name}:{i}", zorder=2)
             connectors.append(conn)
+    return levels, connectors
+
+
+@dataclass
+class _Text:
+    """A label to be drawn for one profile's state, before labels shared by several profiles merge."""
+
+    column: int
+    text: str
+    height: float  # the level's value
+    x: float  # the level's centre, data units
+    color: str
+    owner: int  # index of the profile
+    gid: str
+
+
+def _state_texts(profile: ProfileData, owner: int, color: str, dx: float, precision: int,
+                 wrap: int) -> tuple[list[_Text], list[_Text]]:
+    """The value and name texts of one profile's labelled states."""
+    marked = {label: MARK_TAGS.get(kind, kind) for kind, label in profile.marks.items()}
+    shown = None if profile.label_states is None else set(profile.label_states)
+    values, names = [], []
+    for i, state in enumerate(profile.states):
         if shown is not None and state.label not in shown:
             continue
         value = format_value(state.value, precision)
         if state.label in marked:
             value = f"{value}\n{marked[state.label]}"
-        text = _annotate(ax, value, (i, state.value), -1, color, f"value:{profile.name}:{i}")
-        labels.append(_Label(text, -1, state.value))
-        names.append((i, state_name(state, wrap), state.value))
-    return levels, connectors, labels, names
+        values.append(_Text(i, value, state.value, i + dx, color, owner, f"value:{profile.name}:{i}"))
+        name = state_name(state, wrap)
+        names.append(_Text(i, name, state.value, i + dx, color, owner, f"name:{i}:{name}"))
+    return values, names
 
 
 def _annotate(ax, text: str, xy: tuple[float, float], direction: int, color: str, gid: str):
@@ -361,18 +402,25 @@ def _annotate(ax, text: str, xy: tuple[float, float], direction: int, color: str
                        fontsize=STYLE["font.size"], zorder=4, annotation_clip=False, gid=gid)
 
 
-def _draw_names(ax, names: list[tuple[int, str, float, str]]) -> list[_Label]:
-    """One name label per (position, name): in the profile's colour, or grey when profiles share it."""
-    groups: dict[tuple[int, str], list[tuple[float, str]]] = {}
-    for i, name, height, color in names:
-        groups.setdefault((i, name), []).append((height, color))
+def _draw_texts(ax, texts: list[_Text], direction: int, cross_after_pt: float) -> list[_Label]:
+    """One label per (column, text): the same name or the same rounded value of several overlaid
+    profiles is written once, in grey, at the column's centre, over the highest (names) or under the
+    lowest (values) of their levels; any other text in its profile's colour at its own level."""
+    groups: dict[tuple[int, str], list[_Text]] = {}
+    for t in texts:
+        groups.setdefault((t.column, t.text), []).append(t)
     labels = []
-    for (i, name), members in groups.items():
-        height = max(h for h, _ in members)
-        colors = {c for _, c in members}
-        color = colors.pop() if len(colors) == 1 else SHARED_NAME_COLOR
-        text = _annotate(ax, name, (i, height), +1, color, f"name:{i}:{name}")
-        labels.append(_Label(text, +1, height, NAME_CROSS_AFTER_PT))
+    for (i, text), members in groups.items():
+        height = (max if direction > 0 else min)(t.height for t in members)
+        if len(members) == 1:
+            (only,) = members
+            artist = _annotate(ax, text, (only.x, height), direction, only.color, only.gid)
+        else:
+            colors = {t.color for t in members}
+            color = colors.pop() if len(colors) == 1 else SHARED_NAME_COLOR
+            gid = members[0].gid if direction > 0 else f"value:*:{i}:{text}"
+            artist = _annotate(ax, text, (i, height), direction, color, gid)
+        labels.append(_Label(artist, direction, height, cross_after_pt, i, frozenset(t.owner for t in members)))
     return labels
 
 
@@ -404,8 +452,10 @@ def _blocked_spans(x0: float, x1: float, boxes: np.ndarray, connectors: np.ndarr
         xa, ya, xb, yb = connectors.T
         left, right = np.maximum(np.minimum(xa, xb), x0), np.minimum(np.maximum(xa, xb), x1)
         hit = left <= right
-        slope = (yb - ya) / np.where(xb != xa, xb - xa, 1.0)
-        y_left, y_right = ya + slope * (left - xa), ya + slope * (right - xa)
+        vertical = xb == xa  # a vertical segment (a leader) sweeps its whole height
+        slope = (yb - ya) / np.where(vertical, 1.0, xb - xa)
+        y_left = np.where(vertical, ya, ya + slope * (left - xa))
+        y_right = np.where(vertical, yb, ya + slope * (right - xa))
         spans.append(np.column_stack([np.minimum(y_left, y_right), np.maximum(y_left, y_right)])[hit])
     return np.concatenate(spans)
 
@@ -421,21 +471,80 @@ def _candidate_offsets(label: _Label, height_pt: float) -> np.ndarray:
     return np.concatenate([own[:lag], interleaved, other[MAX_NUDGE_STEPS - lag:]])
 
 
-def _place_labels(fig, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D],
-                  bounds: Bbox | None = None) -> tuple[list[Bbox], bool]:
-    """Greedy placement: each label takes the first offset at which it clashes with nothing placed.
+def _box_distances(box: tuple[float, float], bottoms: np.ndarray, height: float, ink: np.ndarray) -> np.ndarray:
+    """Distance (display units) between a label box (x range ``box``, one bottom per candidate) and each
+    level's ink box (rows x0, x1, y0, y1): 0 where they touch, else the gap between the rectangles."""
+    dx = np.maximum(np.maximum(ink[:, 0] - box[1], box[0] - ink[:, 1]), 0.0)
+    dy = np.maximum(np.maximum(ink[None, :, 2] - (bottoms + height)[:, None], bottoms[:, None] - ink[None, :, 3]), 0.0)
+    return np.hypot(dx[None, :], dy)
+
+
+def _attachment(label: _Label, box: tuple[float, float], bottoms: np.ndarray, height: float, ink: np.ndarray,
+                levels: _Levels, px_per_pt: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """For every candidate position: is the label attached to its level without a leader, is it at least
+    nearer one of its own levels than any other profile's level of its column, and which own level is
+    nearest (index into ``levels.lines``). A label is attached where its column holds only its own
+    levels, or where it is within :data:`LEADER_AFTER_PT` of one of its own levels and nearer to it than
+    to any other profile's level of the column."""
+    in_column = np.flatnonzero(levels.is_level & (levels.columns == label.column))
+    own = np.isin(levels.owners[in_column], list(label.owners))
+    dist = _box_distances(box, bottoms, height, ink[in_column])
+    own_dist = np.where(own[None, :], dist, np.inf)
+    nearest_own = in_column[np.argmin(own_dist, axis=1)]
+    if own.all():  # no other profile's level to be confused with
+        everywhere = np.ones(len(bottoms), dtype=bool)
+        return everywhere, everywhere, nearest_own
+    near = own_dist.min(axis=1) <= LEADER_AFTER_PT * px_per_pt
+    nearer = own_dist.min(axis=1) + ATTACH_MARGIN_PT * px_per_pt < np.where(own[None, :], np.inf, dist).min(axis=1)
+    return near & nearer, nearer, nearest_own
+
+
+def _crosses_boxes(leaders: np.ndarray, boxes: np.ndarray, skip: np.ndarray | None = None,
+                   samples: int = 24) -> np.ndarray:
+    """Whether each leader passes through any of the boxes (rows x0, x1, y0, y1), tested at points along
+    it; ``skip`` gives, per leader, the index of a box it may touch (its own level)."""
+    near = np.flatnonzero((boxes[:, 1] > leaders[:, [0, 2]].min()) & (boxes[:, 0] < leaders[:, [0, 2]].max()))
+    if not near.size or not len(leaders):
+        return np.zeros(len(leaders), dtype=bool)
+    boxes = boxes[near]
+    t = np.linspace(0.0, 1.0, samples)[None, :]
+    xs = (leaders[:, :1] + t * (leaders[:, 2:3] - leaders[:, :1]))[..., None]
+    ys = (leaders[:, 1:2] + t * (leaders[:, 3:4] - leaders[:, 1:2]))[..., None]
+    inside = ((xs > boxes[:, 0]) & (xs < boxes[:, 1]) & (ys > boxes[:, 2]) & (ys < boxes[:, 3])).any(axis=1)
+    if skip is not None:
+        inside &= near[None, :] != skip[:, None]
+    return inside.any(axis=1)
+
+
+def _clashes(x0: float, x1: float, bottoms: np.ndarray, height: float, occupied: np.ndarray, segments: np.ndarray,
+             bounds: Bbox | None) -> np.ndarray:
+    """For every candidate bottom: does the padded box x0..x1 x bottom..bottom+height touch anything
+    placed, cross a connector or leader, or (with ``bounds``) leave them?"""
+    spans = _blocked_spans(x0, x1, occupied, segments)
+    clash = ((bottoms[:, None] <= spans[None, :, 1]) & (bottoms[:, None] + height >= spans[None, :, 0])).any(1)
+    if bounds is not None:
+        clash |= (bottoms < bounds.y0) | (bottoms + height > bounds.y1) | (x0 < bounds.x0) | (x1 > bounds.x1)
+    return clash
+
+
+def _place_labels(fig, labels: list[_Label], levels: _Levels, bounds: Bbox | None = None) -> tuple[list[Bbox], bool]:
+    """Greedy placement: each label takes the first offset at which it clashes with nothing placed and
+    is close to, and nearer its own level than any other level of its column.
 
     Values go first (they matter most and sit right under their level), from the lowest level up, then
     names from the highest level down, so that near-degenerate levels stack their labels outwards in
     order. A label's box moves rigidly with its offset, so it is measured once and every candidate
     offset is tested at once against the occupied y ranges. With ``bounds`` (display units) a label
-    must also stay inside them. Returns the final boxes and whether every label found a free spot.
+    must also stay inside them. When no offset attaches a label (overlaid, near-degenerate levels),
+    it gets a leader: see :func:`_place_with_leader`. Returns the final boxes and whether every label
+    found a free spot.
     """
     renderer = fig.canvas.get_renderer()
     px_per_pt = fig.dpi / 72.0
     pad = LABEL_GAP_PT / 2 * px_per_pt
-    occupied = _level_boxes(levels, fig, pad)  # rows (x0, x1, y0, y1); placed labels are appended
-    segments = _segments_px(connectors)
+    occupied = _level_boxes(levels.lines, fig, pad)  # rows (x0, x1, y0, y1); placed labels are appended
+    ink = _level_boxes(levels.lines, fig, 0.0)
+    segments = _segments_px(levels.connectors)  # leaders are appended
     order = sorted(labels, key=lambda lab: (lab.direction > 0, -lab.direction * lab.anchor_y))
     placed: list[Bbox] = []
     all_free = True
@@ -443,21 +552,70 @@ def _place_labels(fig, labels: list[_Label], levels: list[Line2D], connectors: l
         start = label.direction * LABEL_GAP_PT
         label.artist.xyann = (0.0, start)
         box = label.artist.get_window_extent(renderer)
-        x0, x1, y0, height = box.x0 - pad, box.x1 + pad, box.y0 - pad, box.height + 2 * pad
+        x0, x1, height = box.x0 - pad, box.x1 + pad, box.height + 2 * pad
         offsets = _candidate_offsets(label, box.height / px_per_pt)
-        bottoms = y0 + (offsets - start) * px_per_pt
-        spans = _blocked_spans(x0, x1, occupied, segments)
-        clash = ((bottoms[:, None] <= spans[None, :, 1]) & (bottoms[:, None] + height >= spans[None, :, 0])).any(1)
-        if bounds is not None:
-            clash |= (bottoms < bounds.y0) | (bottoms + height > bounds.y1)
-        free = np.flatnonzero(~clash)
-        all_free &= bool(free.size)
-        choice = free[0] if free.size else len(offsets) - 1
-        label.artist.xyann = (0.0, float(offsets[choice]))
+        bottoms = box.y0 - pad + (offsets - start) * px_per_pt
+        free = ~_clashes(x0, x1, bottoms, height, occupied, segments, bounds)
+        attached, nearer, nearest = _attachment(label, (box.x0, box.x1), bottoms + pad, box.height, ink, levels,
+                                                px_per_pt)
+        good, unambiguous = np.flatnonzero(free & attached), np.flatnonzero(free & nearer)
+        label.leader, shift, ok = None, 0.0, True
+        if good.size:
+            choice = good[0]
+        else:  # a short leader; else the nearest spot that is unambiguous; else a long leader
+            level = int(nearest[np.flatnonzero(free)[0]] if free.any() else nearest[0])
+            args = ((x0, x1), bottoms, height, offsets, pad, level, ink, occupied, segments, bounds, len(levels.lines))
+            choice, shift, label.leader, ok = _place_with_leader(*args, reach_pt=LEADER_REACH_PT)
+            if not ok and unambiguous.size:
+                choice, label.leader, ok = unambiguous[0], None, True
+            elif not ok:
+                choice, shift, label.leader, ok = _place_with_leader(*args, reach_pt=np.inf)
+        if label.leader is not None:
+            segments = np.vstack([segments, label.leader[None, :]])
+        all_free &= ok
+        label.artist.xyann = (shift / px_per_pt, float(offsets[choice]))
         bottom = float(bottoms[choice])
-        occupied = np.vstack([occupied, [x0, x1, bottom, bottom + height]])
-        placed.append(Bbox.from_extents(x0, bottom, x1, bottom + height))
+        occupied = np.vstack([occupied, [x0 + shift, x1 + shift, bottom, bottom + height]])
+        placed.append(Bbox.from_extents(x0 + shift, bottom, x1 + shift, bottom + height))
     return placed, all_free
+
+
+def _place_with_leader(x_range: tuple[float, float], bottoms: np.ndarray, height: float, offsets: np.ndarray,
+                       pad: float, level: int, ink: np.ndarray, occupied: np.ndarray, segments: np.ndarray,
+                       bounds: Bbox | None, n_levels: int, reach_pt: float) -> tuple[int, float, np.ndarray, bool]:
+    """Where a label that cannot sit by its own level goes, and its leader.
+
+    Three columns are tried: over the level's centre (leader from the level's right end to the
+    label's right side), and beside the level's right and left ends (leader from that end to the
+    label's near side), each at every candidate height. The cheapest wins: the distance moved in
+    points, plus :data:`LEADER_CROSSING_COST_PT` when the leader crosses another level, plus a large
+    cost when it crosses another label; spots farther than ``reach_pt`` from the level are not tried
+    (a long leader would block the room of many labels). ``level`` indexes the level's row in ``ink``, the first
+    ``n_levels`` rows of ``occupied`` are the levels. Returns (candidate index, x shift in display
+    units, leader as (x0, y0, x1, y1) display units from the level to the label, whether the spot is free).
+    """
+    x0, x1 = x_range
+    lx0, lx1, ly = ink[level, 0], ink[level, 1], (ink[level, 2] + ink[level, 3]) / 2
+    labels_placed = occupied[n_levels:]
+    best = (np.inf, len(offsets) - 1, 0.0, np.array([lx1, ly, x1 - pad, bottoms[-1] + height / 2]))
+    # (x shift of the box, the level end the leader starts from, the label side it ends on, extra cost)
+    for shift, start_x, end_x, extra in ((0.0, lx1, x1 - pad, 0.0), (lx1 - x0, lx1, lx1 + pad, 2.0),
+                                         (lx0 - x1, lx0, lx0 - pad, 2.0)):
+        free = np.flatnonzero(~_clashes(x0 + shift, x1 + shift, bottoms, height, occupied, segments, bounds)
+                              & (np.abs(offsets) <= reach_pt))
+        free = free[np.argsort(np.abs(offsets[free]), kind="stable")][:LEADER_TRIALS]  # the nearest free spots
+        if not free.size:
+            continue
+        n = len(free)
+        leaders = np.column_stack([np.full(n, start_x), np.full(n, ly), np.full(n, end_x),
+                                   bottoms[free] + height / 2])
+        cost = (np.abs(offsets[free]) + extra
+                + LEADER_CROSSING_COST_PT * _crosses_boxes(leaders, ink, np.full(n, level))
+                + 1e3 * _crosses_boxes(leaders, labels_placed))
+        k = int(np.argmin(cost))
+        if cost[k] < best[0]:
+            best = (cost[k], int(free[k]), shift, leaders[k])
+    return best[1], best[2], best[3], bool(np.isfinite(best[0]))
 
 
 def _fit_ylim(ax, boxes: list[Bbox]) -> None:
@@ -470,21 +628,34 @@ def _fit_ylim(ax, boxes: list[Bbox]) -> None:
     ax.set_ylim(new_lo - margin, new_hi + margin)
 
 
-def _arrange_labels(ax, labels: list[_Label], levels: list[Line2D], connectors: list[Line2D]) -> None:
-    """Place every label inside the axes without a clash.
+def _arrange_labels(ax, labels: list[_Label], levels: _Levels) -> None:
+    """Place every label inside the axes without a clash, then draw the leaders some of them need.
 
     A first free placement shows how much room the labels need; the y range is widened to hold it.
     Widening moves the levels closer together on the page, so the labels are placed again, now kept
     inside the axes; while some label finds no free spot the range is widened by a further 20 %.
     """
     fig = ax.figure
-    _fit_ylim(ax, _place_labels(fig, labels, levels, connectors)[0])
+    _fit_ylim(ax, _place_labels(fig, labels, levels)[0])
     for _ in range(MAX_WIDENINGS):
-        if _place_labels(fig, labels, levels, connectors, ax.get_window_extent())[1]:
-            return
+        if _place_labels(fig, labels, levels, ax.get_window_extent())[1]:
+            break
         lo, hi = ax.get_ylim()
         ax.set_ylim(lo - 0.1 * (hi - lo), hi + 0.1 * (hi - lo))
-    _fit_ylim(ax, _place_labels(fig, labels, levels, connectors)[0])  # a last resort for absurd crowding
+    else:  # a last resort for absurd crowding: room for everything, labels placed for the final range
+        _fit_ylim(ax, _place_labels(fig, labels, levels)[0])
+        _place_labels(fig, labels, levels)
+    _draw_leaders(ax, labels)
+
+
+def _draw_leaders(ax, labels: list[_Label]) -> None:
+    """A thin line in the label's colour from its level to each label that sits nearer another level."""
+    to_data = ax.transData.inverted()
+    for label in labels:
+        if label.leader is not None:
+            (x0, y0), (x1, y1) = to_data.transform(label.leader.reshape(2, 2))
+            ax.plot((x0, x1), (y0, y1), color=label.artist.get_color(), lw=LEADER_LINEWIDTH, zorder=2.5,
+                    solid_capstyle="butt", gid=f"leader:{label.artist.get_gid()}")
 
 
 def _check_shared_axis(profiles: Sequence[ProfileData]) -> None:
@@ -536,6 +707,12 @@ def plot_profile_panels(groups: Sequence[Sequence[ProfileData]], *, precision: i
     return fig
 
 
+def _dodges(n_profiles: int) -> np.ndarray:
+    """Shifts along x (data units) of overlaid profiles' levels, centred on each state's slot."""
+    step = DODGE_STEP if n_profiles < 2 else min(DODGE_STEP, DODGE_SPREAD / (n_profiles - 1))
+    return (np.arange(n_profiles) - (n_profiles - 1) / 2) * step
+
+
 def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str | None) -> None:
     fig = ax.figure
     n_states = max(len(p.states) for p in profiles)
@@ -548,17 +725,23 @@ def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str |
     ax.set_ylim(values.min() - 0.1 * span, values.max() + 0.1 * span)
     ax.set_ylabel(axis_label(profiles[0].quantity, profiles[0].unit))
     wrap = _wrap_width(ax, fig)
-    levels, connectors, labels, names, handles = [], [], [], [], []
-    for k, profile in enumerate(profiles):
+    lines, columns, owners, is_level, connectors = [], [], [], [], []
+    values_text, names_text, handles = [], [], []
+    for k, (profile, dx) in enumerate(zip(profiles, _dodges(len(profiles)), strict=True)):
         color = profile.color or PALETTE[k % len(PALETTE)]
-        lv, cn, lb, nm = _draw_profile(ax, profile, color, precision, wrap)
-        levels += lv
+        lv, cn = _draw_profile(ax, profile, color, dx)
+        lines += lv
+        columns += [int(line.get_gid().rsplit(":", 1)[1]) for line in lv]
+        owners += [k] * len(lv)
+        is_level += [line.get_gid().startswith("level:") for line in lv]
         connectors += cn
-        labels += lb
-        names += [(i, name, height, color) for i, name, height in nm]
+        vt, nt = _state_texts(profile, k, color, dx, precision, wrap)
+        values_text += vt
+        names_text += nt
         handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
-    labels += _draw_names(ax, names)
-    _arrange_labels(ax, labels, levels, connectors)
+    labels = _draw_texts(ax, values_text, -1, MAX_NUDGE_STEPS * NUDGE_STEP_PT)
+    labels += _draw_texts(ax, names_text, +1, NAME_CROSS_AFTER_PT)
+    _arrange_labels(ax, labels, _Levels(lines, np.array(columns), np.array(owners), np.array(is_level), connectors))
     if len(profiles) > 1:
         ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=min(len(profiles), 3),
                   handlelength=1.5, columnspacing=1.2)
