@@ -503,6 +503,22 @@ def test_profile_command_draws_the_logs_energies(profile_file, samples, tmp_path
     assert "ts_hcn‡" in svg and "ΔE / kcal mol⁻¹" in svg
 
 
+def test_profile_command_overlays_only_related_profiles(profile_file, samples, tmp_path):
+    # the reverse reaction starts from other species: its own panel, unless both are asked for
+    profile_file.write_text(profile_file.read_text() + """
+[[profile]]
+name = "reverse"
+states = [["hnc"], ["ts_hcn"], ["hcn"]]
+""")
+    both, chosen = tmp_path / "both.svg", tmp_path / "chosen.svg"
+    assert _run_profile(profile_file, "-o", both, "--directory", samples / "gas") == 0
+    assert _run_profile(profile_file, "-o", chosen, "--directory", samples / "gas", "--profile", "reverse",
+                        "--profile", "isomerisation") == 0
+    axes = [re.findall(r'<g id="axes_\d+"', path.read_text()) for path in (both, chosen)]
+    assert [len(a) for a in axes] == [2, 1]  # two panels; one axes overlaying what was asked for
+    assert "legend_1" in chosen.read_text() and "legend_1" not in both.read_text()
+
+
 def test_profile_command_keeps_an_existing_figure(profile_file, samples, tmp_path, capsys):
     out = tmp_path / "fig.png"
     out.write_bytes(b"mine")

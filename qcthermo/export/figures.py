@@ -344,24 +344,29 @@ def _wrap_width(ax, fig) -> int:
     return max(5, int(WRAP_FRACTION * slot_pt / (0.55 * STYLE["font.size"])))
 
 
-def _draw_profile(ax, profile: ProfileData, color: str, dx: float) -> tuple[list, list]:
-    """Levels (and energy-span halos) and connectors of one profile, shifted by ``dx`` along x."""
-    levels, connectors = [], []
+def _draw_profile(ax, profile: ProfileData, color: str, dx: float) -> tuple[list, list, list, list]:
+    """Levels and energy-span halos, the state column of each and whether it is a level (not a halo),
+    and the connectors of one profile, shifted by ``dx`` along x."""
+    levels, columns, is_level, connectors = [], [], [], []
     values = profile.values
-    marked = {label for label in profile.marks.values()}
+    marked = set(profile.marks.values())
     for i, state in enumerate(profile.states):
         x = (i + dx - LEVEL_HALF_WIDTH, i + dx + LEVEL_HALF_WIDTH)
         if state.label in marked:  # the halo is an obstacle for labels like the level itself
             levels += ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH * 3, alpha=0.18,
                               solid_capstyle="butt", gid=f"mark:{profile.name}:{i}", zorder=1)
+            columns.append(i)
+            is_level.append(False)
         (line,) = ax.plot(x, (state.value, state.value), color=color, lw=LEVEL_LINEWIDTH,
                           solid_capstyle="butt", gid=f"level:{profile.name}:{i}", zorder=3)
         levels.append(line)
+        columns.append(i)
+        is_level.append(True)
         if i:
             (conn,) = ax.plot((i - 1 + dx + LEVEL_HALF_WIDTH, i + dx - LEVEL_HALF_WIDTH), (values[i - 1], state.value),
                               color=color, lw=0.6, ls=profile.style, gid=f"connector:{profile.name}:{i}", zorder=2)
             connectors.append(conn)
-    return levels, connectors
+    return levels, columns, is_level, connectors
 
 
 @dataclass
@@ -729,11 +734,11 @@ def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str |
     values_text, names_text, handles = [], [], []
     for k, (profile, dx) in enumerate(zip(profiles, _dodges(len(profiles)), strict=True)):
         color = profile.color or PALETTE[k % len(PALETTE)]
-        lv, cn = _draw_profile(ax, profile, color, dx)
+        lv, cols, kinds, cn = _draw_profile(ax, profile, color, dx)
         lines += lv
-        columns += [int(line.get_gid().rsplit(":", 1)[1]) for line in lv]
+        columns += cols
         owners += [k] * len(lv)
-        is_level += [line.get_gid().startswith("level:") for line in lv]
+        is_level += kinds
         connectors += cn
         vt, nt = _state_texts(profile, k, color, dx, precision, wrap)
         values_text += vt
