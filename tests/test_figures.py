@@ -514,6 +514,7 @@ states = [["hnc"], ["ts_hcn"], ["hcn"]]
     assert _run_profile(profile_file, "-o", both, "--directory", samples / "gas") == 0
     assert _run_profile(profile_file, "-o", chosen, "--directory", samples / "gas", "--profile", "reverse",
                         "--profile", "isomerisation") == 0
+    assert all(ET.parse(path).getroot().tag.endswith("svg") for path in (both, chosen))
     axes = [re.findall(r'<g id="axes_\d+"', path.read_text()) for path in (both, chosen)]
     assert [len(a) for a in axes] == [2, 1]  # two panels; one axes overlaying what was asked for
     assert "legend_1" in chosen.read_text() and "legend_1" not in both.read_text()

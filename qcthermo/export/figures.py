@@ -10,7 +10,10 @@ An energy profile is a row of short horizontal levels (one per state, x = its po
 sequence) joined by thin dashed connectors. Each level carries its name above and its value below;
 transition states get a double dagger. Labels are placed by a greedy collision search in display
 space: every label is moved vertically, in steps of a point, away from its level until its box
-touches no other label, no level and no connector (see :func:`_place_labels`).
+touches no other label, no level and no connector, and sits nearer its own level than any other
+profile's level of the same state; where overlaid levels are too close for that, a thin leader joins
+label and level (see :func:`_place_labels`). Only related profiles share axes (see
+:func:`overlay_groups`); a run draws each profile alone as well.
 """
 
 from __future__ import annotations
@@ -96,6 +99,7 @@ LEADER_AFTER_PT = 12.0  # a label farther than this from its level gets a leader
 LEADER_REACH_PT = 30.0  # how far a label with a leader may go before an unambiguous spot farther away is preferred
 LEADER_TRIALS = 80  # nearest free spots tried for a label with a leader
 LEADER_CROSSING_COST_PT = 20.0  # a leader may cross another level rather than its label move this much farther
+LABEL_CROSSING_COST_PT = 1e3  # ... and another label only when no spot is free otherwise
 
 
 @dataclass
@@ -593,11 +597,12 @@ def _place_with_leader(x_range: tuple[float, float], bottoms: np.ndarray, height
     Three columns are tried: over the level's centre (leader from the level's right end to the
     label's right side), and beside the level's right and left ends (leader from that end to the
     label's near side), each at every candidate height. The cheapest wins: the distance moved in
-    points, plus :data:`LEADER_CROSSING_COST_PT` when the leader crosses another level, plus a large
-    cost when it crosses another label; spots farther than ``reach_pt`` from the level are not tried
-    (a long leader would block the room of many labels). ``level`` indexes the level's row in ``ink``, the first
-    ``n_levels`` rows of ``occupied`` are the levels. Returns (candidate index, x shift in display
-    units, leader as (x0, y0, x1, y1) display units from the level to the label, whether the spot is free).
+    points, plus :data:`LEADER_CROSSING_COST_PT` when the leader crosses another level and
+    :data:`LABEL_CROSSING_COST_PT` when it crosses another label; spots farther than ``reach_pt`` from
+    the level are not tried (a long leader takes the room of many labels). ``level`` indexes the
+    level's row in ``ink``; the first ``n_levels`` rows of ``occupied`` are the levels. Returns
+    (candidate index, x shift in display units, leader as (x0, y0, x1, y1) display units from the level
+    to the label, whether the spot is free).
     """
     x0, x1 = x_range
     lx0, lx1, ly = ink[level, 0], ink[level, 1], (ink[level, 2] + ink[level, 3]) / 2
@@ -616,7 +621,7 @@ def _place_with_leader(x_range: tuple[float, float], bottoms: np.ndarray, height
                                    bottoms[free] + height / 2])
         cost = (np.abs(offsets[free]) + extra
                 + LEADER_CROSSING_COST_PT * _crosses_boxes(leaders, ink, np.full(n, level))
-                + 1e3 * _crosses_boxes(leaders, labels_placed))
+                + LABEL_CROSSING_COST_PT * _crosses_boxes(leaders, labels_placed))
         k = int(np.argmin(cost))
         if cost[k] < best[0]:
             best = (cost[k], int(free[k]), shift, leaders[k])
