@@ -489,23 +489,25 @@ def _box_distances(box: tuple[float, float], bottoms: np.ndarray, height: float,
 
 
 def _attachment(label: _Label, box: tuple[float, float], bottoms: np.ndarray, height: float, ink: np.ndarray,
-                levels: _Levels, px_per_pt: float) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """For every candidate position: is the label attached to its level without a leader, is it at least
-    nearer one of its own levels than any other profile's level of its column, and which own level is
-    nearest (index into ``levels.lines``). A label is attached where its column holds only its own
-    levels, or where it is within :data:`LEADER_AFTER_PT` of one of its own levels and nearer to it than
-    to any other profile's level of the column."""
+                levels: _Levels, px_per_pt: float) -> tuple[np.ndarray, np.ndarray, np.ndarray, bool]:
+    """Where a label is attached to its level, for every candidate position.
+
+    Returns: whether it is within :data:`LEADER_AFTER_PT` of one of its own levels and nearer to it than
+    to any other profile's level of its state column (attached, no leader needed); whether it is at
+    least the nearer (unambiguous, though perhaps far); which own level is nearest (index into
+    ``levels.lines``); and whether the column holds other profiles' levels at all (without them
+    every position is unambiguous).
+    """
     in_column = np.flatnonzero(levels.is_level & (levels.columns == label.column))
     own = np.isin(levels.owners[in_column], list(label.owners))
     dist = _box_distances(box, bottoms, height, ink[in_column])
     own_dist = np.where(own[None, :], dist, np.inf)
     nearest_own = in_column[np.argmin(own_dist, axis=1)]
-    if own.all():  # no other profile's level to be confused with
-        everywhere = np.ones(len(bottoms), dtype=bool)
-        return everywhere, everywhere, nearest_own
     near = own_dist.min(axis=1) <= LEADER_AFTER_PT * px_per_pt
+    if own.all():
+        return near, np.ones(len(bottoms), dtype=bool), nearest_own, False
     nearer = own_dist.min(axis=1) + ATTACH_MARGIN_PT * px_per_pt < np.where(own[None, :], np.inf, dist).min(axis=1)
-    return near & nearer, nearer, nearest_own
+    return near & nearer, nearer, nearest_own, True
 
 
 def _crosses_boxes(leaders: np.ndarray, boxes: np.ndarray, skip: np.ndarray | None = None,
@@ -538,7 +540,8 @@ def _clashes(x0: float, x1: float, bottoms: np.ndarray, height: float, occupied:
 
 def _place_labels(fig, labels: list[_Label], levels: _Levels, bounds: Bbox | None = None) -> tuple[list[Bbox], bool]:
     """Greedy placement: each label takes the first offset at which it clashes with nothing placed and
-    is close to, and nearer its own level than any other level of its column.
+    is close to its own level, and nearer to it than to any other profile's level of its column; a
+    label alone in its column takes the first free offset when no close one is free.
 
     Values go first (they matter most and sit right under their level), from the lowest level up, then
     names from the highest level down, so that near-degenerate levels stack their labels outwards in
@@ -565,12 +568,14 @@ def _place_labels(fig, labels: list[_Label], levels: _Levels, bounds: Bbox | Non
         offsets = _candidate_offsets(label, box.height / px_per_pt)
         bottoms = box.y0 - pad + (offsets - start) * px_per_pt
         free = ~_clashes(x0, x1, bottoms, height, occupied, segments, bounds)
-        attached, nearer, nearest = _attachment(label, (box.x0, box.x1), bottoms + pad, box.height, ink, levels,
-                                                px_per_pt)
+        attached, nearer, nearest, rivals = _attachment(label, (box.x0, box.x1), bottoms + pad, box.height, ink,
+                                                        levels, px_per_pt)
         good, unambiguous = np.flatnonzero(free & attached), np.flatnonzero(free & nearer)
         label.leader, shift, ok = None, 0.0, True
         if good.size:
             choice = good[0]
+        elif not rivals and unambiguous.size:  # alone in its column: a far spot is still unambiguous
+            choice = unambiguous[0]
         else:  # a short leader; else the nearest spot that is unambiguous; else a long leader
             level = int(nearest[np.flatnonzero(free)[0]] if free.any() else nearest[0])
             args = ((x0, x1), bottoms, height, offsets, pad, level, ink, occupied, segments, bounds, len(levels.lines))
