@@ -101,7 +101,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--quantity", default="G", choices=["G", "G_rrho", "H", "E_zpe", "E"],
                    help="what the levels show (G under the chosen low-mode model)")
     p.add_argument("--profile", dest="profiles", action="append", metavar="NAME",
-                   help="only this profile (repeatable; default: all, overlaid)")
+                   help="only this profile (repeatable, overlaid); default: every profile, those that start from "
+                   "the same species (or share an `overlay` group) overlaid, the others in panels of their own")
     p.add_argument("--precision", type=int, default=1, help="decimals of the labels (1)")
     p.add_argument("--force", action="store_true", help="overwrite an existing figure")
     _add_conditions(p)

@@ -37,10 +37,10 @@ ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0
 SPECIES_KEYS = ("logs", "single_point", "symmetry_number", "electronic_degeneracy", "imaginary_policy",
                 "concentration", "transition_state", "label")
 REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling")
-PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "style", "order")
+PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "style", "order", "overlay")
 #: presentation keys of a profile, passed to the figures as given (after a type check)
 PRESENTATION_TYPES: dict[str, tuple[type, ...]] = {"color": (str,), "label_states": (list,), "style": (str,),
-                                                   "order": (int, float)}
+                                                   "order": (int, float), "overlay": (str,)}
 TOP_KEYS = ("conditions", "ensemble", "species", "reaction", "profile")
 IMAGINARY_POLICIES = ("error", "invert", "drop")
 TUNNELLING = ("eckart", "wigner", "none")

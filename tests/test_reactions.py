@@ -53,6 +53,7 @@ states = [
 ]
 color = "#0072B2"
 label_states = ["ts"]
+overlay = "oxidation"
 """
 
 
@@ -77,7 +78,7 @@ def test_good_file_parses(tmp_path):
     assert r.molecularity_forward == 3 and r.molecularity_reverse == 2
     (p,) = rf.profiles
     assert p.labels == ["2 h2 + o2", "ts", "2 water"]
-    assert p.presentation == {"color": "#0072B2", "label_states": ["ts"]}
+    assert p.presentation == {"color": "#0072B2", "label_states": ["ts"], "overlay": "oxidation"}
     assert rf.transition_states() == {"ts"}
 
 
