@@ -27,6 +27,7 @@ class ProgramRules:
         jobs: job type -> regex searched in that job specification.
         end_marker: printed once at the end of a run that finished normally.
         converged: printed when a geometry optimisation converged.
+        converged_literals: one of these is on the line of every ``converged`` match (as for keywords).
         projected: the program prints the rigid-body modes as projected zeros among 3N frequencies.
         thermo_ev: cclib 1.8.1 gives this program's zpve/enthalpy/freeenergy in eV, not hartree.
         thermo_corrections: cclib's enthalpy/freeenergy are thermal corrections, not totals.
@@ -37,6 +38,7 @@ class ProgramRules:
     jobs: tuple[tuple[str, str], ...] = ()
     end_marker: str | None = None
     converged: str | None = None
+    converged_literals: tuple[str, ...] = ()
     projected: bool = False
     thermo_ev: bool = False
     thermo_corrections: bool = False
@@ -44,7 +46,8 @@ class ProgramRules:
 
 RULES: dict[str, ProgramRules] = {
     "gaussian": ProgramRules(
-        keywords=r"^ -{4,}\n (#.*?)\n -{4,}$",
+        # the route between two dashed lines ("\n" rather than "^": a literal start the regex engine can seek)
+        keywords=r"\n -{4,}\n (#.*?)\n -{4,}$",
         jobs=(
             ("saddle-search", r"\bopt\w*\s*=?\s*\([^ ]*\b(ts|qst2|qst3|saddle)\b|\bopt\s*=\s*(ts|qst2|qst3)\b"),
             ("optimization", r"\bopt\b|\bopt\s*="),
@@ -54,6 +57,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"Normal termination of Gaussian",
         converged=r"Optimization completed|Stationary point found",
+        converged_literals=("Optimization completed", "Stationary point found"),
     ),
     "orca": ProgramRules(
         keywords=r"^\|\s*\d+>\s*(!.*)$|^\s*\*\s*(GEOMETRY OPTIMIZATION CYCLE)",
@@ -66,6 +70,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"ORCA TERMINATED NORMALLY",
         converged=r"THE OPTIMIZATION HAS CONVERGED|OPTIMIZATION RUN DONE",
+        converged_literals=("THE OPTIMIZATION HAS CONVERGED", "OPTIMIZATION RUN DONE"),
         projected=True,
     ),
     "nwchem": ProgramRules(
@@ -88,6 +93,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"^\s*Total times\s+cpu:",
         converged=r"Optimization converged",
+        converged_literals=("Optimization converged",),
         projected=True,
     ),
     "xtb": ProgramRules(
@@ -100,6 +106,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"\* finished run on",
         converged=r"GEOMETRY OPTIMIZATION CONVERGED",
+        converged_literals=("GEOMETRY OPTIMIZATION CONVERGED",),
         projected=True,
         thermo_ev=True,
     ),
@@ -115,6 +122,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"Thank you very much for using Q-Chem",
         converged=r"\*\*\s+OPTIMIZATION CONVERGED\s+\*\*|TRANSITION STATE CONVERGED",
+        converged_literals=("OPTIMIZATION CONVERGED", "TRANSITION STATE CONVERGED"),
         thermo_corrections=True,
     ),
     "psi4": ProgramRules(
@@ -126,6 +134,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"Psi4 exiting successfully",
         converged=r"Optimization is complete!",
+        converged_literals=("Optimization is complete!",),
     ),
     "gamess": ProgramRules(
         keywords=r"RUNTYP=(\w+)",
@@ -138,6 +147,7 @@ RULES: dict[str, ProgramRules] = {
         ),
         end_marker=r"TERMINATED NORMALLY",
         converged=r"EQUILIBRIUM GEOMETRY LOCATED|SADDLE POINT LOCATED",
+        converged_literals=("EQUILIBRIUM GEOMETRY LOCATED", "SADDLE POINT LOCATED"),
     ),
 }
 
@@ -185,10 +195,10 @@ def terminated_normally(program: str, text: str) -> bool | None:
 
 
 def optimisation_converged(program: str, text: str) -> bool | None:
-    marker = rules(program).converged
-    if marker is None:
+    program_rules = rules(program)
+    if program_rules.converged is None:
         return None
-    return re.search(marker, text) is not None
+    return re.search(program_rules.converged, lines_with(text, *program_rules.converged_literals)) is not None
 
 
 def last_s2(text: str) -> float | None:
