@@ -385,3 +385,23 @@ single_point = "{s}/sp/*_mp2.out"
     assert by_name.values["G"][0] == pytest.approx(by_geometry.values["G"][0], abs=1e-12)
     # the other single points of the glob match no CH4 geometry: warnings, not used
     assert any(f.severity == "warning" and "matches no frequency geometry" in f.message for f in res.findings)
+
+
+def test_paper_tables_keep_the_papers_columns_and_csv_keeps_all(scenario, tmp_path):
+    import pandas as pd
+
+    from qcthermo.workflow import paper_columns
+
+    out = tmp_path / "tables"
+    scenario.write(out)
+    for stem, df in (("reactions", scenario.reactions), ("species", scenario.species)):
+        assert list(pd.read_csv(out / f"{stem}.csv").columns) == list(df.columns)
+        columns = paper_columns(df, stem)
+        header = next(line for line in (out / f"{stem}.md").read_text().splitlines() if line.startswith("| "))
+        assert header.count(" | ") + 1 == len(columns) < len(df.columns)
+    reactions = paper_columns(scenario.reactions, "reactions")
+    # RRHO and the chosen model side by side (DESIGN.md section 6); one reverse barrier, the model's
+    model = scenario.conditions.low_mode_model.replace("-", "_")
+    assert {"dG_kcal_mol", f"dG_{model}_kcal_mol", f"dG_{model}_act_kcal_mol"} <= set(reactions)
+    assert [c for c in reactions if "_rev_" in c] == [f"dG_{model}_act_rev_kcal_mol"]
+    assert "T_K" not in reactions and "k_reverse" not in reactions
