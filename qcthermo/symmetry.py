@@ -24,6 +24,7 @@ The reasoning and the tolerances are written down in docs/symmetry.md.
 
 from __future__ import annotations
 
+import itertools
 import math
 import re
 from dataclasses import dataclass
@@ -42,9 +43,9 @@ DEGENERACY_TOLERANCE = 0.05
 #: |cos| of the angle below which two directions count as perpendicular / above which as parallel
 PERPENDICULAR_COS = 0.1
 PARALLEL_COS = math.cos(math.radians(3.0))
-#: candidate directions closer than this are screened once; kept tight because a candidate a few degrees
-#: off a true axis moves outer atoms by more than the screening limit
-CANDIDATE_COS = math.cos(math.radians(0.5))
+#: grid (on the unit vector's components, ~0.6 degrees) on which candidate directions are screened once;
+#: kept fine because a candidate a few degrees off a true axis moves outer atoms beyond the screening limit
+CANDIDATE_GRID = 0.01
 #: screening accepts an unrefined operation up to this multiple of the tolerance (axis errors of the
 #: candidates), the refined operation must then meet the tolerance itself
 SCREEN_FACTOR = 3.0
@@ -59,6 +60,12 @@ _SYMMETRY_NUMBERS = {
     **dict.fromkeys(("O", "Oh"), 24),
     **dict.fromkeys(("I", "Ih"), 60),
 }
+#: the atoms tried first when screening candidate operations
+PROBE_ATOMS = 8
+#: candidate directions come from the pairs of at least this many atoms (of the smallest kinds)
+REFERENCE_ATOMS = 8
+#: two position vectors span a plane when the sine of their angle is at least this
+SPAN_SIN = 0.2
 #: largest number of floats of one screening block (memory bound for big molecules)
 _SCREEN_BLOCK = 2_000_000
 
@@ -110,7 +117,7 @@ def analyse_symmetry(symbols, coordinates, masses=None, tolerance: float = DEFAU
     labels = _equivalence_labels(symbols, m)
     if is_linear(x, m):
         # no refinement: the best-fitting operation of collinear points is not unique
-        inversion = len(_screen(x, labels, -np.eye(3)[None], tolerance)) > 0
+        inversion = len(_screen(x, labels, -np.eye(3)[None], tolerance)[0]) > 0
         return _info("D*h" if inversion else "C*v", linear=True)
     return _info(_point_group(x, m, labels, tolerance), linear=False)
 
@@ -171,29 +178,46 @@ def reflection_matrices(normals: np.ndarray) -> np.ndarray:
     return np.eye(3) - 2 * n[:, :, None] * n[:, None, :]
 
 
-def _nearest_partner(x: np.ndarray, labels: np.ndarray, images: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """For images (M, N, 3) of the atoms: index of, and squared distance to, the nearest equivalent atom."""
+def _nearest_partner(
+    x: np.ndarray, labels: np.ndarray, images: np.ndarray, rows: np.ndarray
+) -> tuple[np.ndarray, np.ndarray]:
+    """For images (M, R, 3) of the atoms ``rows``: index of, and squared distance to, the nearest
+    equivalent atom."""
     d2 = (
         np.einsum("mij,mij->mi", images, images)[:, :, None]
         + np.einsum("ij,ij->i", x, x)[None, None, :]
         - 2 * np.einsum("mik,jk->mij", images, x)
     )
-    d2 = np.where(labels[:, None] == labels[None, :], d2, np.inf)
+    d2 = np.where(labels[rows][:, None] == labels[None, :], d2, np.inf)
     return np.argmin(d2, axis=2), np.min(d2, axis=2)
 
 
-def _screen(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, limit: float) -> np.ndarray:
-    """Indices of the operations (M, 3, 3) that move no atom more than ``limit`` from an equivalent atom.
-
-    Unrefined and vectorised over operations, in blocks that bound the memory for large molecules.
-    """
-    block = max(1, _SCREEN_BLOCK // max(1, len(x) ** 2))
-    keep = []
+def _largest_miss(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, rows: np.ndarray) -> np.ndarray:
+    """(M,) largest distance of an image of the atoms ``rows`` from its nearest equivalent atom, per
+    operation; vectorised over operations in blocks that bound the memory for large molecules."""
+    block = max(1, _SCREEN_BLOCK // max(1, len(rows) * len(x)))
+    out = np.empty(len(ops))
     for start in range(0, len(ops), block):
-        images = np.einsum("mij,nj->mni", ops[start : start + block], x)
-        _, d2 = _nearest_partner(x, labels, images)
-        keep.append(start + np.flatnonzero(d2.max(axis=1) <= limit**2))
-    return np.concatenate(keep) if keep else np.zeros(0, dtype=int)
+        images = np.einsum("mij,nj->mni", ops[start : start + block], x[rows])
+        # clipped: rounding makes the squared distance of an exact match slightly negative
+        out[start : start + block] = np.sqrt(np.maximum(_nearest_partner(x, labels, images, rows)[1].max(axis=1), 0.0))
+    return out
+
+
+def _screen(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, limit: float) -> tuple[np.ndarray, np.ndarray]:
+    """Indices of the operations (M, 3, 3) that move no atom more than ``limit`` from an equivalent atom,
+    best first, and their (unrefined) largest displacement.
+
+    The atoms farthest from the centre are tried first (they move most under a wrong operation), so most
+    candidates are dropped before the full test.
+    """
+    everyone = np.arange(len(x))
+    probe = np.argsort(-np.einsum("ij,ij->i", x, x), kind="stable")[:PROBE_ATOMS]
+    kept = np.flatnonzero(_largest_miss(x, labels, ops, probe) <= limit)
+    miss = _largest_miss(x, labels, ops[kept], everyone)
+    order = np.argsort(miss, kind="stable")
+    order = order[miss[order] <= limit]
+    return kept[order], miss[order]
 
 
 def _refine(x: np.ndarray, labels: np.ndarray, op: np.ndarray) -> tuple[float, np.ndarray]:
@@ -203,8 +227,8 @@ def _refine(x: np.ndarray, labels: np.ndarray, op: np.ndarray) -> tuple[float, n
     operation is refitted to that mapping with the Kabsch algorithm, proper or improper like ``op``,
     and must stay close to ``op``.
     """
-    perm, _ = _nearest_partner(x, labels, (x @ op.T)[None])
-    perm = perm[0]
+    everyone = np.arange(len(x))
+    perm = _nearest_partner(x, labels, (x @ op.T)[None], everyone)[0][0]
     if len(np.unique(perm)) != len(perm):
         return math.inf, op
     improper = np.linalg.det(op) < 0
@@ -224,9 +248,12 @@ def _deviation(x: np.ndarray, labels: np.ndarray, op: np.ndarray) -> float:
 
 
 def _accepted(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, tolerance: float) -> list[np.ndarray]:
-    """The refined operations among ``ops`` that are symmetries within ``tolerance``."""
-    found = []
-    for i in _screen(x, labels, ops, SCREEN_FACTOR * tolerance):
+    """The refined operations among ``ops`` that are symmetries within ``tolerance``; a candidate close
+    to an operation already accepted is not refined again."""
+    found: list[np.ndarray] = []
+    for i in _screen(x, labels, ops, SCREEN_FACTOR * tolerance)[0]:
+        if any(np.linalg.norm(ops[i] - f) < REFINE_DRIFT for f in found):
+            continue
         dev, fitted = _refine(x, labels, ops[i])
         if dev <= tolerance:
             found.append(fitted)
@@ -239,22 +266,72 @@ def _axis_of(op: np.ndarray, improper: bool = False) -> np.ndarray:
     return vectors[:, 0] if improper else vectors[:, -1]
 
 
-def _unique_directions(vectors: np.ndarray, parallel_cos: float = PARALLEL_COS) -> np.ndarray:
+def _unique_directions(vectors: np.ndarray) -> np.ndarray:
     """Unit vectors of ``vectors`` (longest first: the best-defined), one per line through the origin."""
     norms = np.linalg.norm(vectors, axis=1)
     vectors = vectors[norms > 1e-6]
     norms = norms[norms > 1e-6]
     units = (vectors / norms[:, None])[np.argsort(-norms, kind="stable")]
-    close = np.abs(units @ units.T) > parallel_cos
+    close = np.abs(units @ units.T) > PARALLEL_COS
     return units[~np.any(np.tril(close, -1), axis=1)]
 
 
-def _pairs(x: np.ndarray, labels: np.ndarray, tolerance: float) -> tuple[np.ndarray, np.ndarray]:
-    """Index pairs (i < j) of equivalent atoms at the same distance from the centre of mass."""
-    i, j = np.triu_indices(len(x), k=1)
+def _reference_atoms(x: np.ndarray, labels: np.ndarray, tolerance: float) -> np.ndarray:
+    """The atoms whose pairs supply the candidate directions: the smallest kinds of atoms that span a
+    plane through the centre, until REFERENCE_ATOMS atoms are taken (all atoms if no kind spans one).
+
+    One such kind is enough: a C2 axis passes through one of its atoms, or through the midpoint of a
+    pair it swaps, or (when all of them lie in the plane perpendicular to it) along the cross product of
+    two of them; a mirror contains all of them (normal along a cross product) or is perpendicular to the
+    difference of a pair it swaps.
+    """
+    kinds, counts = np.unique(labels, return_counts=True)
+    chosen: list[np.ndarray] = []
+    for kind in kinds[np.argsort(counts, kind="stable")]:
+        members = np.flatnonzero(labels == kind)
+        if _spans_plane(x[members], tolerance):
+            chosen.append(members)
+            if sum(map(len, chosen)) >= REFERENCE_ATOMS:
+                break
+    return np.sort(np.concatenate(chosen)) if chosen else np.arange(len(x))
+
+
+def _spans_plane(points: np.ndarray, tolerance: float) -> bool:
+    """Two of the position vectors at an angle of SPAN_SIN or more (in sine), both off the centre."""
+    points = points[np.linalg.norm(points, axis=1) > tolerance]
+    units = points / np.linalg.norm(points, axis=1)[:, None]
+    return len(units) > 1 and bool(np.any(np.abs(units @ units.T) < math.sqrt(1 - SPAN_SIN**2)))
+
+
+def _shell_axes(x: np.ndarray, labels: np.ndarray, tolerance: float) -> np.ndarray:
+    """Principal axes of every shell of equivalent atoms (same kind, same distance from the centre).
+
+    A shell is mapped onto itself by every symmetry operation, so each axis of the point group is a
+    principal axis of each shell's inertia tensor; a shell whose tensor is a symmetric top pins down the
+    main axis when the molecule as a whole is (nearly) a spherical top and its own axes are ill-defined.
+    """
     r = np.linalg.norm(x, axis=1)
-    ok = (labels[i] == labels[j]) & (np.abs(r[i] - r[j]) <= SCREEN_FACTOR * tolerance)
-    return i[ok], j[ok]
+    order = np.lexsort((r, labels))
+    breaks = np.flatnonzero((np.diff(labels[order]) != 0) | (np.diff(r[order]) > tolerance)) + 1
+    axes = []
+    for shell in np.split(order, breaks):
+        if len(shell) > 1:
+            p = x[shell]
+            tensor = np.einsum("ij,ij->", p, p) * np.eye(3) - p.T @ p
+            axes.append(np.linalg.eigh(tensor)[1].T)
+    return np.vstack(axes) if axes else np.zeros((0, 3))
+
+
+def _pair_vectors(x: np.ndarray, labels: np.ndarray, atoms: np.ndarray, tolerance: float):
+    """Midpoints, differences and cross products of the pairs of equivalent atoms among ``atoms``;
+    midpoints and differences only for pairs at the same distance from the centre."""
+    i, j = np.triu_indices(len(atoms), k=1)
+    i, j = atoms[i], atoms[j]
+    same = labels[i] == labels[j]
+    i, j = i[same], j[same]
+    r = np.linalg.norm(x, axis=1)
+    level = np.abs(r[i] - r[j]) <= SCREEN_FACTOR * tolerance
+    return (x[i[level]] + x[j[level]]) / 2, x[i[level]] - x[j[level]], np.cross(x[i], x[j])
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -264,28 +341,43 @@ def _pairs(x: np.ndarray, labels: np.ndarray, tolerance: float) -> tuple[np.ndar
 def _point_group(x: np.ndarray, masses: np.ndarray, labels: np.ndarray, tolerance: float) -> str:
     moments, principal = principal_moments(x, masses)
     principal = principal.T
-    i, j = _pairs(x, labels, tolerance)
     atom_dirs = x[np.linalg.norm(x, axis=1) > tolerance]
-    # principal axes are scaled up so that they are kept first among near-parallel candidates
-    c2_axes = _found_axes(
-        x, labels, rotation_matrices(_candidates(principal * 10, atom_dirs, (x[i] + x[j]) / 2), math.pi), tolerance
-    )
-    mirrors = _found_axes(x, labels, reflection_matrices(_candidates(principal * 10, x[i] - x[j])), tolerance)
+    reference = _reference_atoms(x, labels, tolerance)
+    midpoints, differences, normals = _pair_vectors(x, labels, reference, tolerance)
+    # principal axes (of the molecule and of its shells) are scaled up so that they are kept first
+    # among near-parallel candidates
+    preferred = np.vstack([principal, _shell_axes(x, labels, tolerance)]) * 100
+    c2_candidates = _candidates(preferred, x[reference], midpoints, normals)
+    c2_axes = _found_axes(x, labels, rotation_matrices(c2_candidates, math.pi), tolerance)
+    mirrors = _found_axes(x, labels, reflection_matrices(_candidates(preferred, differences, normals)), tolerance)
     inversion = _deviation(x, labels, -np.eye(3)) <= tolerance
     degenerate = np.abs(np.diff(moments)) <= DEGENERACY_TOLERANCE * moments[2]
     if degenerate.all():
         cubic = _cubic_group(x, labels, c2_axes, mirrors, inversion, tolerance)
         if cubic:
             return cubic
-    axis, order = _main_axis(x, labels, principal, atom_dirs, c2_axes, degenerate, tolerance)
+    axis, order = _main_axis(x, labels, _candidates(preferred, atom_dirs), c2_axes, degenerate, reference, tolerance)
     if order == 1:
         return "Cs" if len(mirrors) else "Ci" if inversion else "C1"
     return _axial_group(x, labels, axis, order, c2_axes, mirrors, tolerance)
 
 
 def _candidates(*vectors: np.ndarray) -> np.ndarray:
-    """Candidate directions for axes or mirror normals, near-duplicates dropped."""
-    return _unique_directions(np.vstack(vectors), CANDIDATE_COS)
+    """Candidate directions for axes or mirror normals, longest vectors first, near-duplicates dropped.
+
+    Duplicates are found by rounding the unit vectors (sign fixed) to a grid of CANDIDATE_GRID, which is
+    linear in the number of candidates; a duplicate left in a neighbouring cell only costs a screening.
+    """
+    stacked = np.vstack(vectors)
+    norms = np.linalg.norm(stacked, axis=1)
+    keep = norms > 1e-6
+    stacked, norms = stacked[keep], norms[keep]
+    order = np.argsort(-norms, kind="stable")
+    units = stacked[order] / norms[order][:, None]
+    largest = np.argmax(np.abs(units), axis=1)
+    units *= np.sign(units[np.arange(len(units)), largest])[:, None]
+    _, first = np.unique(np.round(units / CANDIDATE_GRID).astype(np.int64), axis=0, return_index=True)
+    return units[np.sort(first)]
 
 
 def _found_axes(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, tolerance: float) -> np.ndarray:
@@ -295,27 +387,45 @@ def _found_axes(x: np.ndarray, labels: np.ndarray, ops: np.ndarray, tolerance: f
     return _unique_directions(np.array([_axis_of(op, improper) for op in found]).reshape(-1, 3))
 
 
-def _main_axis(x, labels, principal, atom_dirs, c2_axes, degenerate, tolerance) -> tuple[np.ndarray, int]:
+def _main_axis(x, labels, candidates, c2_axes, degenerate, reference, tolerance) -> tuple[np.ndarray, int]:
     """The axis of highest order n and n (1 when there is no proper axis).
 
     An axis of order 3 or more implies two equal moments of inertia, so it is looked for only then,
-    among the principal axes and the atom directions, highest order first. Otherwise a C2 axis along
-    the unique principal axis of a symmetric top is preferred (D2d), then any C2 axis.
+    among ``candidates`` (principal axes of the molecule and its shells, atom directions; for a
+    near-spherical top, whose principal axes mean nothing, also the normals of planes through three
+    equivalent reference atoms: an orbit of the axis lies in such a plane), highest order first.
+    Among several C2 axes the one that is also an S4 axis is the main one (D2d).
     """
     if degenerate.any():
-        candidates = _candidates(principal * 10, atom_dirs)
+        if degenerate.all():
+            candidates = _candidates(candidates, _triple_normals(x, labels, reference, tolerance))
         for n in _possible_orders(x, labels, candidates, tolerance):
             found = _accepted(x, labels, rotation_matrices(candidates, 2 * math.pi / n), tolerance)
             if found:
                 return _axis_of(found[0]), n
     if not len(c2_axes):
         return np.zeros(3), 1
-    if degenerate.any():
-        unique = principal[2] if degenerate[0] else principal[0]
-        along = np.abs(c2_axes @ unique) > PARALLEL_COS
-        if along.any():
-            return c2_axes[np.argmax(along)], 2
+    for axis in c2_axes if len(c2_axes) > 1 else ():
+        if _deviation(x, labels, _improper_rotation(axis, 4)) <= tolerance:
+            return axis, 2
     return c2_axes[0], 2
+
+
+def _triple_normals(x: np.ndarray, labels: np.ndarray, atoms: np.ndarray, tolerance: float) -> np.ndarray:
+    """Normals of the planes through three equivalent atoms at the same distance from the centre."""
+    r = np.linalg.norm(x, axis=1)
+    i, j, k = atoms[np.array(list(itertools.combinations(range(len(atoms)), 3)), dtype=int).reshape(-1, 3)].T
+    level = SCREEN_FACTOR * tolerance
+    same = (labels[i] == labels[j]) & (labels[j] == labels[k])
+    same &= (np.abs(r[i] - r[j]) <= level) & (np.abs(r[j] - r[k]) <= level)
+    i, j, k = i[same], j[same], k[same]
+    return np.cross(x[j] - x[i], x[k] - x[i])
+
+
+def _improper_rotation(axis: np.ndarray, order: int) -> np.ndarray:
+    """S_order about ``axis``: rotation by 2 pi / order followed by the reflection through the plane
+    perpendicular to it; sigma_h = -C2, so S_n = -C(2 pi / n + pi)."""
+    return -rotation_matrices(axis, 2 * math.pi / order + math.pi)[0]
 
 
 def _possible_orders(x, labels, axes, tolerance) -> list[int]:
@@ -338,8 +448,7 @@ def _axial_group(x, labels, axis, n, c2_axes, mirrors, tolerance) -> str:
         return f"C{n}h"
     if vertical:
         return f"C{n}v"
-    improper = -rotation_matrices(axis, math.pi + math.pi / n)[0]  # S2n = sigma_h C2n = -C2n'
-    return f"S{2 * n}" if _deviation(x, labels, improper) <= tolerance else f"C{n}"
+    return f"S{2 * n}" if _deviation(x, labels, _improper_rotation(axis, 2 * n)) <= tolerance else f"C{n}"
 
 
 def _cubic_group(x, labels, c2_axes, mirrors, inversion, tolerance) -> str | None:

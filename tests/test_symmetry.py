@@ -453,3 +453,84 @@ def test_non_finite_coordinates():
     xyz[1, 0] = np.nan
     with pytest.raises(ValueError, match="non-finite"):
         analyse_symmetry(symbols, xyz)
+
+
+def _rotation_z(n: int) -> np.ndarray:
+    a = 2 * np.pi / n
+    return np.array([[np.cos(a), -np.sin(a), 0], [np.sin(a), np.cos(a), 0], [0, 0, 1]])
+
+
+_SIGMA_H, _SIGMA_V, _C2_X, _INVERSION = np.diag([1.0, 1, -1]), np.diag([1.0, -1, 1]), np.diag([1.0, -1, -1]), -np.eye(3)
+
+#: point groups by generators (z the main axis; textbook definitions): every group is made from them
+GENERATED_GROUPS = {
+    "C2": [_rotation_z(2)],
+    "C3": [_rotation_z(3)],
+    "Cs": [_SIGMA_H],
+    "Ci": [_INVERSION],
+    "C2v": [_rotation_z(2), _SIGMA_V],
+    "C3v": [_rotation_z(3), _SIGMA_V],
+    "C4v": [_rotation_z(4), _SIGMA_V],
+    "C2h": [_rotation_z(2), _SIGMA_H],
+    "C3h": [_rotation_z(3), _SIGMA_H],
+    "S4": [_SIGMA_H @ _rotation_z(4)],
+    "S6": [_SIGMA_H @ _rotation_z(6)],
+    "D2": [_rotation_z(2), _C2_X],
+    "D3": [_rotation_z(3), _C2_X],
+    "D2d": [_SIGMA_H @ _rotation_z(4), _C2_X],
+    "D3d": [_rotation_z(3), _C2_X, _INVERSION],
+    "D5d": [_rotation_z(5), _C2_X, _INVERSION],
+    "D2h": [_rotation_z(2), _C2_X, _SIGMA_H],
+    "D3h": [_rotation_z(3), _C2_X, _SIGMA_H],
+    "D4h": [_rotation_z(4), _C2_X, _SIGMA_H],
+    "T": [TD_GENERATORS[0], _C2_X],
+    "Th": [TD_GENERATORS[0], _C2_X, _INVERSION],
+    "Td": TD_GENERATORS,
+    "O": [TD_GENERATORS[0], _rotation_z(4)],
+}
+
+
+def _random_member(generators, rng: np.random.Generator):
+    """Atoms of random kinds at random general positions and all their images under the group; None
+    when two atoms come closer than 0.9 A. Small groups get three orbits (two orbits of a mirror or an
+    inversion centre are coplanar, which adds symmetry), large groups one."""
+    order = len(_closure([[0.31, 0.52, 0.77]], generators))
+    kinds = rng.choice(["C", "H", "N", "O", "Cl"], size=3 if order <= 4 else 2 if order <= 12 else 1)
+    symbols, blocks = [], []
+    for kind in kinds:
+        seed = rng.normal(size=3)
+        orbit = _closure([seed * rng.uniform(0.8, 3.0) / np.linalg.norm(seed)], generators)
+        if len(orbit) != order:
+            return None
+        symbols += [str(kind)] * order
+        blocks.append(orbit)
+    xyz = np.vstack(blocks)
+    distances = np.linalg.norm(xyz[:, None] - xyz[None], axis=2) + 9 * np.eye(len(xyz))
+    return (tuple(symbols), xyz) if distances.min() > 0.9 else None
+
+
+@pytest.mark.parametrize("group", sorted(GENERATED_GROUPS))
+def test_random_molecules_of_each_group(group):
+    """Random arrangements built from each group's generators (three per group, fixed seeds).
+
+    A random arrangement may by accident come close to a larger group (an orbit lying near a mirror),
+    so the checks are what group theory guarantees: the group found contains the one built (its
+    rotational subgroup contains the built one's, so sigma is a multiple: Lagrange's theorem), it is
+    the same with 0.005 A of noise in a random pose, and it is the built group itself for most
+    structures. Arrangements with an element near the tolerance (different groups at 0.05 and 0.2 A)
+    have no clear answer and are skipped."""
+    rng = np.random.default_rng(sum(map(ord, group)))
+    found = []
+    while len(found) < 3:
+        member = _random_member(GENERATED_GROUPS[group], rng)
+        if member is None:
+            continue
+        symbols, xyz = member
+        if analyse_symmetry(symbols, xyz, tolerance=0.05) != analyse_symmetry(symbols, xyz, tolerance=0.2):
+            continue
+        clean = analyse_symmetry(symbols, xyz)
+        noisy = analyse_symmetry(symbols, _random_pose(xyz, rng) + rng.normal(scale=0.005, size=xyz.shape))
+        assert clean.symmetry_number % symmetry_number(group) == 0
+        assert noisy == clean
+        found.append(clean.point_group)
+    assert found.count(group) >= 2, found
