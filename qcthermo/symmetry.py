@@ -4,14 +4,18 @@ The rotational symmetry number sigma is the order of the rotational subgroup of 
 (the number of proper rotations, identity included). It divides the rotational partition function:
 q_rot = (sqrt(pi)/sigma) (T^3 / (Theta_A Theta_B Theta_C))^(1/2) (D. A. McQuarrie, Statistical
 Mechanics, Harper & Row 1976, ch. 8; the table of sigma per point group: Fernandez-Ramos, Ellingson,
-Meana-Paneda, Marques, Truhlar, Theor. Chem. Acc. 2007, 118, 813).
+Meana-Paneda, Marques, Truhlar, Theor. Chem. Acc. 2007, 118, 813; both references from memory).
 
 Symmetry elements are found without symmetrising the structure, so that the noise of a real
 optimisation (~0.005 angstrom) does not hide them:
 
-* candidate axes come from the principal axes of inertia, the atom positions and the midpoints of
-  pairs of equivalent atoms (a C2 axis passes through the midpoint of every pair it swaps; a mirror
-  plane is perpendicular to the difference of every pair it swaps);
+* candidate axes come from the principal axes of inertia (of the molecule and of each shell of
+  equivalent atoms), the atom positions, and the pairs of equivalent atoms of the smallest kinds:
+  their midpoints (a C2 axis passes through the midpoint of every pair it swaps), differences (a
+  mirror is perpendicular to the difference of every pair it swaps) and cross products (an element
+  perpendicular to the plane of the atoms); for near-spherical tops also the normals of planes through
+  three equivalent atoms (an orbit of an n-fold axis lies in such a plane);
+* candidates are screened in one vectorised pass, the atoms farthest from the centre first;
 * an operation is tested by mapping every atom onto the nearest atom of the same element and mass;
   the mapping, when it is a permutation, is refined to the best-fitting orthogonal operation of the
   same kind (Kabsch, Acta Cryst. A 1976, 32, 922) and the operation is accepted when no atom moves
