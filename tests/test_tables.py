@@ -181,6 +181,41 @@ def test_latex_compiles(tmp_path, rows):
     assert (tmp_path / "table.pdf").stat().st_size > 0
 
 
+NASTY_NAMES = [
+    "ts_1",
+    "A&B",
+    "50% yield",
+    "α-pinene → TS‡",
+    "x^2",
+    "{brace}",
+    "back\\slash",
+    "~tilde",
+    "#2",
+    "$5",
+    "a<b>c",
+]
+
+
+def test_latex_with_special_characters_compiles(tmp_path):
+    """Species names with every LaTeX special character (and a few symbols the tool writes) compile."""
+    engine = _tex_engine()
+    df = pd.DataFrame({"species": NASTY_NAMES, "G_Eh": np.linspace(-1, -2, len(NASTY_NAMES))})
+    tex = to_latex(df, "names & symbols: 100% ~ ^-1 _ # $", ["note with ΔG‡ and σ = 2"])
+    check_latex(tex, 2)
+    document = "\n".join(
+        [r"\documentclass{article}", r"\usepackage{booktabs}", r"\begin{document}", tex, r"\end{document}"]
+    )
+    (tmp_path / "names.tex").write_text(document, encoding="utf-8")
+    proc = subprocess.run(
+        [engine, "-interaction=nonstopmode", "-halt-on-error", "names.tex"],
+        cwd=tmp_path,
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert proc.returncode == 0, proc.stdout[-2000:]
+
+
 def test_latex_escape_specials():
     assert latex_escape("a_b & c% $d #e {f} ~g ^h \\i") == (
         r"a\_b \& c\% \$d \#e \{f\} \textasciitilde{}g \textasciicircum{}h \textbackslash{}i"
