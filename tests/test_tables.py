@@ -356,3 +356,12 @@ def test_write_tables_some_formats_and_bad_format(tmp_path):
     with pytest.raises(QcthermoError, match="unknown table format 'html'"):
         write_tables(df, tmp_path, "species", caption=CAPTION, formats=("csv", "html"))
     assert not (tmp_path / "species.csv").exists()  # refused before anything is written
+
+
+def test_reaction_arrows_and_unit_strings():
+    """Equations and unit strings as the run writes them read as typeset text."""
+    df = pd.DataFrame({"equation": ["A + B -> [TS] -> C"], "k_unit": ["cm^3 molecule^-1 s^-1"]})
+    md_row = _pipe_rows(to_markdown(df, "x"))[2]
+    assert md_row == "| A + B → [TS] → C | cm³ molecule⁻¹ s⁻¹ |"
+    tex = to_latex(df, "x")
+    assert r"A + B $\rightarrow$ [TS] $\rightarrow$ C & cm$^{3}$ molecule$^{-1}$ s$^{-1}$ \\" in tex

@@ -318,7 +318,8 @@ _SUPERSCRIPT = re.compile(r"\^(?:\((-?\d+)\)|(-?\d+))")
 
 
 def latex_escape(text: str) -> str:
-    """Text safe for LaTeX: special characters escaped; ``^-1`` (as in cm^-1) becomes a superscript."""
+    """Text safe for LaTeX: special characters escaped; ``^-1`` (as in cm^-1) becomes a superscript and
+    ``->`` an arrow."""
     text, out, start = str(text), [], 0
     for match in _SUPERSCRIPT.finditer(text):
         out.append(_escape_chars(text[start : match.start()]))
@@ -329,15 +330,16 @@ def latex_escape(text: str) -> str:
 
 
 def _escape_chars(text: str) -> str:
-    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in text)
+    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in text.replace("->", "→"))
 
 
 _UNICODE_SUPERSCRIPTS = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
 
 
 def unicode_superscripts(text: str) -> str:
-    """``cm^-1`` -> ``cm⁻¹`` for plain-text captions and notes."""
-    return _SUPERSCRIPT.sub(lambda m: (m.group(1) or m.group(2)).translate(_UNICODE_SUPERSCRIPTS), str(text))
+    """``cm^-1`` -> ``cm⁻¹`` and ``->`` -> ``→`` for plain-text captions, notes and cells."""
+    text = _SUPERSCRIPT.sub(lambda m: (m.group(1) or m.group(2)).translate(_UNICODE_SUPERSCRIPTS), str(text))
+    return text.replace("->", "→")
 
 
 def _md_escape(text: str) -> str:
@@ -409,7 +411,7 @@ def _md_cell(cell: str | None, column: _Column) -> str:
         cell = cell.translate(_UNICODE_SUBSCRIPTS)
     if column.name == "point_group":
         cell = cell.replace("*", "∞")
-    return _md_escape(cell)
+    return _md_escape(cell if column.numeric else unicode_superscripts(cell))
 
 
 # ---------------------------------------------------------------------------------------------------
