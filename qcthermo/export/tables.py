@@ -336,8 +336,8 @@ def _escape_chars(text: str) -> str:
 _UNICODE_SUPERSCRIPTS = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
 
 
-def unicode_superscripts(text: str) -> str:
-    """``cm^-1`` -> ``cm⁻¹`` and ``->`` -> ``→`` for plain-text captions, notes and cells."""
+def plain_typeset(text: str) -> str:
+    """Unicode typesetting of plain text: ``cm^-1`` -> ``cm⁻¹``, ``->`` -> ``→`` (captions, notes, cells)."""
     text = _SUPERSCRIPT.sub(lambda m: (m.group(1) or m.group(2)).translate(_UNICODE_SUPERSCRIPTS), str(text))
     return text.replace("->", "→")
 
@@ -388,7 +388,7 @@ def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
     Numbers are right-aligned with a fixed number of decimals per column; missing values are empty cells.
     """
     columns = _columns(df)
-    lines = [f"Table: {_md_escape(unicode_superscripts(' '.join(caption.split())))}", ""]
+    lines = [f"Table: {_md_escape(plain_typeset(' '.join(caption.split())))}", ""]
     lines.append("| " + " | ".join(_md_escape(human_header(c.name, "md")) for c in columns) + " |")
     lines.append("|" + "|".join("---:" if c.numeric else ":---" for c in columns) + "|")
     for row in _rows(columns):
@@ -397,7 +397,7 @@ def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
     notes = [" ".join(str(n).split()) for n in notes]
     if notes:
         lines.append("")
-        lines += [f"- {_md_escape(unicode_superscripts(n))}" for n in notes]
+        lines += [f"- {_md_escape(plain_typeset(n))}" for n in notes]
     return "\n".join(lines) + "\n"
 
 
@@ -411,7 +411,7 @@ def _md_cell(cell: str | None, column: _Column) -> str:
         cell = cell.translate(_UNICODE_SUBSCRIPTS)
     if column.name == "point_group":
         cell = cell.replace("*", "∞")
-    return _md_escape(cell if column.numeric else unicode_superscripts(cell))
+    return _md_escape(cell if column.numeric else plain_typeset(cell))
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -540,7 +540,7 @@ def write_xlsx(df, path: str | Path, caption: str, notes: Iterable[str] = ()) ->
     workbook = Workbook()
     sheet = workbook.active
     sheet.title = "table"
-    sheet.cell(row=1, column=1, value=unicode_superscripts(" ".join(caption.split()))).font = Font(bold=True)
+    sheet.cell(row=1, column=1, value=plain_typeset(" ".join(caption.split()))).font = Font(bold=True)
     for j, column in enumerate(columns, start=1):
         cell = sheet.cell(row=HEADER_ROW, column=j, value=human_header(column.name, "xlsx"))
         cell.font = Font(bold=True)
@@ -554,7 +554,7 @@ def write_xlsx(df, path: str | Path, caption: str, notes: Iterable[str] = ()) ->
     sheet.freeze_panes = sheet.cell(row=HEADER_ROW + 1, column=1)
     row = HEADER_ROW + len(df) + 2
     for note in notes:
-        sheet.cell(row=row, column=1, value="Note: " + unicode_superscripts(" ".join(str(note).split())))
+        sheet.cell(row=row, column=1, value="Note: " + plain_typeset(" ".join(str(note).split())))
         row += 1
     legend = workbook.create_sheet("columns")
     legend.append(["header", "column", "unit"])
