@@ -28,6 +28,8 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, NamedTuple
 
+import numpy as np
+
 from . import __version__
 from . import cache as parse_cache
 from .cache import DigestIndex, Entry, FileKey, ParseCache, default_cache_dir
@@ -291,6 +293,9 @@ def audit(calc: Calculation) -> list[str]:
                            "on a job that is not a saddle search")
     if calc.multiplicity is None:
         reasons.append("multiplicity unknown")
+    if not np.all(np.isfinite(calc.coordinates)):
+        # some programs (xTB --hess) print no geometry; without one there is no rotational partition function
+        reasons.append("no geometry in the file (thermochemistry impossible without the coordinate file)")
     return reasons
 
 

@@ -342,3 +342,10 @@ def test_levels_of_theory_show_the_lone_structure_at_another_level(samples, cach
     line = capsys.readouterr().out.strip().splitlines()[-2]
     assert line.startswith("levels of theory: B3LYP/6-31G* (")
     assert "HF/3-21G (1)" in line
+
+
+def test_a_log_without_geometry_is_a_warning(third_party, cache_dir):
+    # third-party README: xtb6.6.1/dvb_ir.out is an `xtb dvb_ir.xyz --hess` run; the log prints no coordinates
+    tree = third_party / "xtb6.6.1"
+    (row,) = survey(tree, jobs=1).rows
+    assert row["status"] == "warning" and "no geometry" in row["reason"]
