@@ -33,7 +33,7 @@ def lines_with(text: str, *literals: str) -> str:
         while at >= 0:
             span = _line_bounds(text, at)
             spans.add(span)
-            at = text.find(literal, span[1])
+            at = text.find(literal, span[1] + 1)  # the next line (a literal never holds a newline)
     return "".join(text[start:end] + "\n" for start, end in sorted(spans))
 
 
