@@ -244,6 +244,10 @@ def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[
     """
     indexed = list(enumerate(paths))
     retry: list[tuple[int, str]] = []
+    if reader is default_reader:
+        from .readers import preload
+
+        preload()
     pool = _pool(min(jobs, len(indexed)))
     try:
         futures = {pool.submit(read_chunk, reader, [p for _, p in chunk], index): chunk

@@ -5,4 +5,11 @@ See docs/readers.md for what is read from where in each program's output.
 
 from .core import read_log
 
-__all__ = ["read_log"]
+
+def preload() -> None:
+    """Import the parsing libraries now (cclib takes most of a second), so that worker processes forked
+    afterwards share them instead of each importing its own copy."""
+    import cclib.parser  # noqa: F401
+
+
+__all__ = ["preload", "read_log"]
