@@ -618,3 +618,23 @@ def test_last_line_match_is_the_last_regex_match_of_the_whole_text(samples, lite
         assert regex.findall(lines_with(text, literal)) == everywhere, path
         checked += bool(everywhere)
     assert checked > 0
+
+
+@pytest.mark.parametrize(("printed", "published"), [
+    # basis-set names as their authors spell them (common practice): Pople, Dunning, Karlsruhe
+    ("sto-3g", "STO-3G"), ("6-31g*", "6-31G*"), ("6-311++g(2DF,2P)", "6-311++G(2df,2p)"),
+    ("cc-pvtz", "cc-pVTZ"), ("AUG-CC-PVDZ", "aug-cc-pVDZ"), ("cc-pwcvqz", "cc-pwCVQZ"),
+    ("DEF2-TZVP", "def2-TZVP"), ("LANL2DZ", "LANL2DZ"),
+])
+def test_basis_names_spelled_as_published(printed, published):
+    from qcthermo.readers.normalise import basis_name
+
+    assert basis_name(printed) == published
+
+
+def test_same_level_of_theory_compares_equal_across_programs(third_party):
+    # third-party README: the dvb jobs of Gaussian 16 and NWChem 7.0 are both B3LYP/STO-3G
+    # (the NWChem input spells the basis "sto-3g")
+    gaussian = qcthermo.read_log(third_party / "gaussian16" / "dvb_ir.out")
+    nwchem = qcthermo.read_log(third_party / "nwchem7.0" / "dvb_ir.out")
+    assert gaussian.level_of_theory == nwchem.level_of_theory == "B3LYP/STO-3G"

@@ -16,7 +16,14 @@ import numpy as np
 from ..errors import LogReadError
 from ..records import Calculation
 from . import cclib_data, fallback
-from .normalise import inferred_multiplicity, method_name, n_vibrations, solvent_model_name, vibrational_modes
+from .normalise import (
+    basis_name,
+    inferred_multiplicity,
+    method_name,
+    n_vibrations,
+    solvent_model_name,
+    vibrational_modes,
+)
 from .programs import (
     job_spec,
     job_types_from_spec,
@@ -206,7 +213,7 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         optimization_converged=converged,
         program_version=found.get("program_version"),
         method=found.get("method"),
-        basis=found.get("basis"),
+        basis=basis_name(found.get("basis")),
         solvent_model=found.get("solvent_model"),
         solvent=found.get("solvent"),
         s2=s2,

@@ -5,6 +5,8 @@ Each function fixes one quirk and returns a short note (or None) for ``Calculati
 
 from __future__ import annotations
 
+import re
+
 import numpy as np
 
 from ..geometry import is_linear
@@ -84,6 +86,28 @@ def method_name(name: str | None) -> str | None:
     if upper[:2] == "WB":
         return "w" + upper[1:]
     return upper
+
+
+_POPLE = re.compile(r"(?i)^(sto-\d+g|\d+-\d+\+{0,2}g)(\*{0,2})(\(.*\))?$")
+_DUNNING = re.compile(r"(?i)^((?:aug|jun|may|apr|d-aug|t-aug)-)?cc-p(w?c)?v([dtq56])z(-.*)?$")
+_KARLSRUHE = re.compile(r"(?i)^(ma-|ma-zora-)?def2-([a-z]+)(.*)$")
+
+
+def basis_name(name: str | None) -> str | None:
+    """A basis set spelled as published whatever the program's case ("sto-3g" -> "STO-3G",
+    "6-31g(D,P)" -> "6-31G(d,p)", "AUG-CC-PVTZ" -> "aug-cc-pVTZ", "DEF2-TZVP" -> "def2-TZVP"), so the
+    same level of theory compares equal across programs; other names are kept as printed."""
+    if not name:
+        return None
+    name = name.strip()
+    if m := _POPLE.match(name):
+        return m.group(1).upper() + m.group(2) + (m.group(3) or "").lower()
+    if m := _DUNNING.match(name):
+        core = (m.group(2) or "").replace("c", "C")
+        return f"{(m.group(1) or '').lower()}cc-p{core}V{m.group(3).upper()}Z{m.group(4) or ''}"
+    if m := _KARLSRUHE.match(name):
+        return f"{(m.group(1) or '').lower()}def2-{m.group(2).upper()}{m.group(3)}"
+    return name
 
 
 def solvent_model_name(name: str | None) -> str | None:
