@@ -21,3 +21,11 @@ def third_party() -> Path:
 def samples() -> Path:
     """The bundled sample scenario."""
     return SAMPLES
+
+
+@pytest.fixture
+def cache_dir(tmp_path, monkeypatch) -> Path:
+    """A parse-cache folder of the test's own (QCTHERMO_CACHE_DIR), not yet created."""
+    directory = tmp_path / "cache"
+    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(directory))
+    return directory

@@ -18,34 +18,15 @@ import time
 from pathlib import Path
 
 import pytest
+from xyz_stub import H2_XYZ, WATER_XYZ, xyz_reader
 
 import qcthermo.cache as cache_module
 from qcthermo.cache import CACHE_FILE, ParseCache, default_cache_dir, file_digest
-from qcthermo.errors import LogReadError
 from qcthermo.records import Calculation
 from qcthermo.survey import survey
 
-# Water near its equilibrium geometry (O-H 0.958 A, H-O-H 104.5 degrees; from memory), as an XYZ file.
-WATER_XYZ = """3
-water
-O 0.000000 0.000000 0.117300
-H 0.000000 0.757200 -0.469200
-H 0.000000 -0.757200 -0.469200
-"""
-# Dihydrogen, 0.741 A bond (from memory).
-H2_XYZ = "2\nH2\nH 0 0 0\nH 0 0 0.741\n"
-
-
-def xyz_reader(path: str) -> Calculation:
-    """Stub reader: an XYZ file read by ASE becomes a Calculation; anything else is a LogReadError."""
-    from ase.io import read
-
-    try:
-        atoms = read(path, format="xyz")
-    except Exception as err:
-        raise LogReadError(path, f"not an XYZ file ({type(err).__name__})") from None
-    return Calculation(path=path, program="xyz", symbols=tuple(atoms.get_chemical_symbols()),
-                       coordinates=atoms.positions, normal_termination=True)
+# every test keeps its parse cache in a folder of its own
+pytestmark = pytest.mark.usefixtures("cache_dir")
 
 
 def slow_xyz_reader(path: str) -> Calculation:
@@ -64,13 +45,6 @@ class CountingReader:
     def __call__(self, path: str) -> Calculation:
         self.calls.append(path)
         return xyz_reader(path)
-
-
-@pytest.fixture(autouse=True)
-def cache_dir(tmp_path, monkeypatch) -> Path:
-    directory = tmp_path / "cache"
-    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(directory))
-    return directory
 
 
 @pytest.fixture

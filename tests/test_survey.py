@@ -20,31 +20,20 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from xyz_stub import WATER_XYZ, xyz_reader
 
 import qcthermo
 from qcthermo.cli import main
-from qcthermo.errors import LogReadError, QcthermoError
+from qcthermo.errors import QcthermoError
 from qcthermo.records import Calculation
 from qcthermo.survey import COLUMNS, audit, find_candidates, job_types_label, survey
+
+# every test keeps its parse cache in a folder of its own
+pytestmark = pytest.mark.usefixtures("cache_dir")
 
 # the module itself: once `qcthermo.survey` has been looked up as the function, `import qcthermo.survey as m`
 # would give the function
 survey_module = importlib.import_module("qcthermo.survey")
-
-# Water near its equilibrium geometry (O-H 0.958 A, H-O-H 104.5 degrees; from memory), as an XYZ file.
-WATER_XYZ = "3\nwater\nO 0 0 0.1173\nH 0 0.7572 -0.4692\nH 0 -0.7572 -0.4692\n"
-
-
-def xyz_reader(path: str) -> Calculation:
-    """Stub reader: XYZ text read by ASE becomes a Calculation; anything else is a LogReadError."""
-    from ase.io import read
-
-    try:
-        atoms = read(path, format="xyz")
-    except Exception as err:
-        raise LogReadError(path, f"not an XYZ file ({type(err).__name__})") from None
-    return Calculation(path=path, program="xyz", symbols=tuple(atoms.get_chemical_symbols()),
-                       coordinates=atoms.positions, normal_termination=True)
 
 
 def crashing_reader(path: str) -> Calculation:
@@ -62,13 +51,6 @@ def greedy_reader(path: str) -> Calculation:
     if name.startswith("bug"):
         return {}["missing key"]
     return xyz_reader(path)
-
-
-@pytest.fixture(autouse=True)
-def cache_dir(tmp_path, monkeypatch) -> Path:
-    directory = tmp_path / "cache"
-    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(directory))
-    return directory
 
 
 @pytest.fixture
