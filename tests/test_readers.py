@@ -617,6 +617,11 @@ def test_last_line_match_is_the_last_regex_match_of_the_whole_text(samples, lite
         assert (found.group(1) if found else None) == (everywhere[-1] if everywhere else None), path
         assert regex.findall(lines_with(text, literal)) == everywhere, path
         checked += bool(everywhere)
+    if not checked:
+        from conftest import THIRD_PARTY
+
+        if not THIRD_PARTY.is_dir():
+            pytest.skip(f"no log here prints {literal!r}: only the third-party logs (absent) do")
     assert checked > 0
 
 
