@@ -13,7 +13,7 @@ import numpy as np
 
 from ..units import HARTREE_J, N_A
 from .normalise import method_name
-from .text import last_block_match, last_line_match, lines_with
+from .text import last_block_match, last_line_match, last_section, lines_with
 
 _F = r"(-?\d+\.\d+)"
 #: one thermochemical calorie, J (entropies printed in cal/(mol K))
@@ -105,11 +105,9 @@ def _orca_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
 
 def _orca_frequencies(text: str) -> np.ndarray | None:
     """The last VIBRATIONAL FREQUENCIES block, without the modes ORCA itself says are not vibrations."""
-    start = text.rfind("VIBRATIONAL FREQUENCIES")
-    if start < 0:
+    block = last_section(text, "VIBRATIONAL FREQUENCIES", "NORMAL MODES")
+    if block is None:
         return None
-    end = text.find("NORMAL MODES", start)
-    block = text[start : end if end > 0 else len(text)]
     values = np.array([float(v) for v in re.findall(r"^\s*\d+:\s+(-?\d+\.\d+) cm\*\*-1", block, re.MULTILINE)])
     if values.size == 0:
         return None
@@ -198,11 +196,9 @@ def _nwchem_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
 
 def _nwchem_frequencies(text: str) -> np.ndarray | None:
     """The projected frequencies (P.Frequency) of the last normal-mode analysis."""
-    start = text.rfind("Projected Frequencies expressed in cm-1")
-    if start < 0:
+    block = last_section(text, "Projected Frequencies expressed in cm-1", "Normal Eigenvalue")
+    if block is None:
         return None
-    end = text.find("Normal Eigenvalue", start)
-    block = text[start : end if end > 0 else len(text)]
     values = [float(v) for line in re.findall(r"^\s*P\.Frequency\s+(.*)$", block, re.MULTILINE) for v in line.split()]
     return np.array(values) if values else None
 

@@ -67,3 +67,13 @@ def last_block_match(text: str, header: str, regex: re.Pattern) -> re.Match | No
             return found
         stop = at
     return None
+
+
+def last_section(text: str, header: str, end: str) -> str | None:
+    """The text from the last literal ``header`` to the first ``end`` after it (or to the end of the file,
+    when the log stops before it); None when ``header`` is not in ``text``."""
+    start = text.rfind(header)
+    if start < 0:
+        return None
+    stop = text.find(end, start)
+    return text[start : stop if stop > 0 else len(text)]
