@@ -8,6 +8,26 @@ ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_outputs"
 THIRD_PARTY = ROOT.parent / "shared" / "fixtures" / "third-party-logs"
 
+#: a reaction file over three bundled NWChem outputs: HCN -> HNC through its transition state, and its profile
+ISOMERISATION_TOML = """
+[species.hcn]
+logs = ["{gas}/hcn.out"]
+[species.hnc]
+logs = ["{gas}/hnc.out"]
+[species.ts_hcn]
+logs = ["{gas}/ts_hcn.out"]
+
+[[reaction]]
+name = "isomerisation"
+reactants = ["hcn"]
+transition_state = "ts_hcn"
+products = ["hnc"]
+
+[[profile]]
+name = "isomerisation"
+states = [["hcn"], ["ts_hcn"], ["hnc"]]
+"""
+
 
 @pytest.fixture
 def third_party() -> Path:
@@ -29,3 +49,14 @@ def cache_dir(tmp_path, monkeypatch) -> Path:
     directory = tmp_path / "cache"
     monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(directory))
     return directory
+
+
+@pytest.fixture
+def isomerisation_file(samples, tmp_path) -> Path:
+    """reactions.toml in the test's folder, over the bundled HCN/HNC outputs; skip the test when absent."""
+    gas = samples / "gas"
+    if not (gas / "hcn.out").is_file():
+        pytest.skip("sample_outputs/gas is absent")
+    path = tmp_path / "reactions.toml"
+    path.write_text(ISOMERISATION_TOML.format(gas=gas))
+    return path

@@ -450,39 +450,9 @@ def test_profile_file_stems_are_safe_and_unique():
 
 # --- the profile command, on the bundled NWChem sample outputs ------------------------------------
 
-PROFILE_TOML = """
-[species.hcn]
-logs = ["{gas}/hcn.out"]
-[species.hnc]
-logs = ["{gas}/hnc.out"]
-[species.ts_hcn]
-logs = ["{gas}/ts_hcn.out"]
-
-[[reaction]]
-name = "isomerisation"
-reactants = ["hcn"]
-transition_state = "ts_hcn"
-products = ["hnc"]
-
-[[profile]]
-name = "isomerisation"
-states = [["hcn"], ["ts_hcn"], ["hnc"]]
-"""
-
-
 def _last_dft_energy(path):
     """The last "Total DFT energy" NWChem prints, hartree (the log itself is the reference)."""
     return float(re.findall(r"Total DFT energy =\s+(-?\d+\.\d+)", path.read_text())[-1])
-
-
-@pytest.fixture
-def profile_file(samples, tmp_path):
-    gas = samples / "gas"
-    if not (gas / "hcn.out").is_file():
-        pytest.skip("sample_outputs/gas is absent")
-    path = tmp_path / "reactions.toml"
-    path.write_text(PROFILE_TOML.format(gas=gas))
-    return path
 
 
 def _run_profile(*argv):
@@ -491,9 +461,9 @@ def _run_profile(*argv):
     return main(["profile", *map(str, argv), "--no-cache", "--quiet", "--jobs", "1"])
 
 
-def test_profile_command_draws_the_logs_energies(profile_file, samples, tmp_path):
+def test_profile_command_draws_the_logs_energies(isomerisation_file, samples, tmp_path):
     out = tmp_path / "fig.svg"
-    assert _run_profile(profile_file, "-o", out, "--directory", samples / "gas", "--quantity", "E",
+    assert _run_profile(isomerisation_file, "-o", out, "--directory", samples / "gas", "--quantity", "E",
                         "--precision", "3") == 0
     svg = out.read_text()
     assert ET.fromstring(svg.encode()).tag.endswith("svg")
@@ -503,16 +473,16 @@ def test_profile_command_draws_the_logs_energies(profile_file, samples, tmp_path
     assert "ts_hcn‡" in svg and "ΔE / kcal mol⁻¹" in svg
 
 
-def test_profile_command_overlays_only_related_profiles(profile_file, samples, tmp_path):
+def test_profile_command_overlays_only_related_profiles(isomerisation_file, samples, tmp_path):
     # the reverse reaction starts from other species: its own panel, unless both are asked for
-    profile_file.write_text(profile_file.read_text() + """
+    isomerisation_file.write_text(isomerisation_file.read_text() + """
 [[profile]]
 name = "reverse"
 states = [["hnc"], ["ts_hcn"], ["hcn"]]
 """)
     both, chosen = tmp_path / "both.svg", tmp_path / "chosen.svg"
-    assert _run_profile(profile_file, "-o", both, "--directory", samples / "gas") == 0
-    assert _run_profile(profile_file, "-o", chosen, "--directory", samples / "gas", "--profile", "reverse",
+    assert _run_profile(isomerisation_file, "-o", both, "--directory", samples / "gas") == 0
+    assert _run_profile(isomerisation_file, "-o", chosen, "--directory", samples / "gas", "--profile", "reverse",
                         "--profile", "isomerisation") == 0
     assert all(ET.parse(path).getroot().tag.endswith("svg") for path in (both, chosen))
     axes = [re.findall(r'<g id="axes_\d+"', path.read_text()) for path in (both, chosen)]
@@ -520,14 +490,14 @@ states = [["hnc"], ["ts_hcn"], ["hcn"]]
     assert "legend_1" in chosen.read_text() and "legend_1" not in both.read_text()
 
 
-def test_profile_command_keeps_an_existing_figure(profile_file, samples, tmp_path, capsys):
+def test_profile_command_keeps_an_existing_figure(isomerisation_file, samples, tmp_path, capsys):
     out = tmp_path / "fig.png"
     out.write_bytes(b"mine")
-    assert _run_profile(profile_file, "-o", out, "--directory", samples / "gas") == 2
+    assert _run_profile(isomerisation_file, "-o", out, "--directory", samples / "gas") == 2
     assert out.read_bytes() == b"mine"
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 1 and "--force" in err[0]
-    assert _run_profile(profile_file, "-o", out, "--directory", samples / "gas", "--force") == 0
+    assert _run_profile(isomerisation_file, "-o", out, "--directory", samples / "gas", "--force") == 0
     assert out.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
 
 
@@ -542,9 +512,9 @@ def test_profile_command_bad_input_is_one_line(tmp_path, capsys):
     assert not (tmp_path / "f.svg").exists()
 
 
-def test_profile_command_unwritable_output_is_one_line(profile_file, samples, tmp_path, capsys):
+def test_profile_command_unwritable_output_is_one_line(isomerisation_file, samples, tmp_path, capsys):
     blocker = tmp_path / "not_a_directory"
     blocker.write_text("a file where the figure's folder should be")
-    assert _run_profile(profile_file, "-o", blocker / "fig.svg", "--directory", samples / "gas") == 2
+    assert _run_profile(isomerisation_file, "-o", blocker / "fig.svg", "--directory", samples / "gas") == 2
     (line,) = capsys.readouterr().err.strip().splitlines()
     assert "cannot write the figure" in line

@@ -127,38 +127,14 @@ def test_inline_svg_is_well_formed():
     assert ET.fromstring(svg).tag.endswith("svg")
 
 
-SCENARIO = """
-[species.hcn]
-logs = ["{gas}/hcn.out"]
-[species.hnc]
-logs = ["{gas}/hnc.out"]
-[species.ts_hcn]
-logs = ["{gas}/ts_hcn.out"]
-
-[[reaction]]
-name = "isomerisation"
-reactants = ["hcn"]
-transition_state = "ts_hcn"
-products = ["hnc"]
-
-[[profile]]
-name = "isomerisation"
-states = [["hcn"], ["ts_hcn"], ["hnc"]]
-"""
-
-
 @pytest.fixture
-def sample_run(samples, tmp_path):
+def sample_run(samples, isomerisation_file):
     """The main job on three bundled NWChem outputs over a temperature range."""
     import qcthermo
     from qcthermo.records import Conditions
 
-    gas = samples / "gas"
-    if not (gas / "hcn.out").is_file():
-        pytest.skip("sample_outputs/gas is absent")
-    (tmp_path / "reactions.toml").write_text(SCENARIO.format(gas=gas))
     cond = Conditions(temperature=np.array([250.0, 300.0, 350.0]), low_mode_model="qrrho")
-    return qcthermo.run(gas, reactions=tmp_path / "reactions.toml", conditions=cond, jobs=1, cache=False)
+    return qcthermo.run(samples / "gas", reactions=isomerisation_file, conditions=cond, jobs=1, cache=False)
 
 
 @pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install -y chromium)")
