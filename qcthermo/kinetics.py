@@ -72,10 +72,13 @@ def standard_concentration(standard_state, temperature) -> tuple[np.ndarray, str
 
 def rate_constant_unit(molecularity: int, concentration_unit: str) -> str:
     """Unit of an m-molecular rate constant, e.g. (2, "M") -> "M^-1 s^-1",
-    (2, "molecule cm^-3") -> "cm^3 molecule^-1 s^-1", (1, ...) -> "s^-1"."""
+    (2, "molecule cm^-3") -> "cm^3 molecule^-1 s^-1", (1, ...) -> "s^-1", (0, "M") -> "M s^-1"
+    (a pseudo-zero-order rate constant: every reactant at its own concentration, so k is the rate)."""
     order = molecularity - 1
     if order == 0:
         return "s^-1"
+    if order == -1:
+        return f"{concentration_unit} s^-1"
     if concentration_unit == "M":
         return f"M^-{order} s^-1"
     volume = "cm^3" if order == 1 else f"cm^{3 * order}"
@@ -84,9 +87,10 @@ def rate_constant_unit(molecularity: int, concentration_unit: str) -> str:
 
 
 def _check_molecularity(molecularity) -> int:
+    """A whole number >= 0; 0 is the pseudo-order of a side whose species are all at their own concentration."""
     m = int(molecularity)
-    if m != molecularity or m < 1:
-        raise ValueError(f"molecularity {molecularity!r} must be a positive whole number")
+    if m != molecularity or m < 0:
+        raise ValueError(f"molecularity {molecularity!r} must be a whole number >= 0")
     return m
 
 
@@ -100,7 +104,9 @@ def eyring_rate(dG_act, temperature, molecularity, standard_state="1M", kappa=1.
     of activation in hartree per molecule, in the standard state ``standard_state`` (the one the
     free energies were computed in), ``m`` the molecularity, ``kappa`` the transmission coefficient
     (tunnelling) and ``degeneracy`` L any reaction-path degeneracy not already inside ``dG_act``
-    (see :func:`reaction_path_degeneracy`).
+    (see :func:`reaction_path_degeneracy`). ``m`` may be a pseudo-order: the molecularity less the
+    species whose own concentration c is inside ``dG_act`` (through RT ln(c/c0)); m = 0 gives the
+    rate itself, in concentration per second.
 
     Returns (k, unit): k a float for a scalar temperature, an array over temperature otherwise.
     """

@@ -455,9 +455,14 @@ def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, 
 
 
 def _pseudo_molecularity(terms, species: dict[str, SpeciesResult]) -> int:
-    """Molecularity of one side, leaving out species at their own concentration (already in G)."""
-    m = sum(c for c, n in terms if species[n].options.concentration is None)
-    return max(1, round(m))
+    """Molecularity of one side, leaving out species at their own concentration (already in G).
+
+    Their G(c) = G(c0) + RT ln(c/c0) puts a factor c/c0 into exp(-dG_act/RT), so the Eyring rate with
+    (c0)^(1-m') is k [S] for each left-out species S: a pseudo-order rate constant. A side made only of
+    such species has pseudo-order 0 (k is then the rate, in concentration per second); flooring it at
+    1 would label k1 c/c0 as a first-order k in s^-1.
+    """
+    return round(sum(c for c, n in terms if species[n].options.concentration is None))
 
 
 def _sigmas(terms, species: dict[str, SpeciesResult]) -> list[int]:
