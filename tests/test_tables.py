@@ -10,6 +10,7 @@ import io
 import re
 import shutil
 import subprocess
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
@@ -157,6 +158,24 @@ def _tex_engine():
     pytest.skip("no TeX engine (pdflatex or lualatex) on this machine")
 
 
+def _compile(engine: str, path: Path, packages: str, tex: str) -> Path:
+    """Compile ``tex`` in a minimal document using ``packages``, written to ``path``; assert that the engine
+    succeeds and return the path of the PDF it would write."""
+    document = "\n".join(
+        [r"\documentclass{article}", rf"\usepackage{{{packages}}}", r"\begin{document}", tex, r"\end{document}"]
+    )
+    path.write_text(document, encoding="utf-8")
+    proc = subprocess.run(
+        [engine, "-interaction=nonstopmode", "-halt-on-error", path.name],
+        cwd=path.parent,
+        capture_output=True,
+        text=True,
+        timeout=120,
+    )
+    assert proc.returncode == 0, proc.stdout[-2000:]
+    return path.with_suffix(".pdf")
+
+
 @pytest.mark.parametrize("rows", [3, LONGTABLE_ROWS + 5])
 def test_latex_compiles(tmp_path, rows):
     """The table compiles in a minimal document with the packages its first line names."""
@@ -166,19 +185,7 @@ def test_latex_compiles(tmp_path, rows):
     else:
         tex = to_latex(reactions_table(np.linspace(200, 600, rows)), CAPTION, NOTES, label="tab:reactions")
     packages = re.match(r"% requires \\usepackage\{([\w,]+)\}", tex).group(1)
-    document = "\n".join(
-        [r"\documentclass{article}", rf"\usepackage{{{packages}}}", r"\begin{document}", tex, r"\end{document}"]
-    )
-    (tmp_path / "table.tex").write_text(document, encoding="utf-8")
-    proc = subprocess.run(
-        [engine, "-interaction=nonstopmode", "-halt-on-error", "table.tex"],
-        cwd=tmp_path,
-        capture_output=True,
-        text=True,
-        timeout=120,
-    )
-    assert proc.returncode == 0, proc.stdout[-2000:]
-    assert (tmp_path / "table.pdf").stat().st_size > 0
+    assert _compile(engine, tmp_path / "table.tex", packages, tex).stat().st_size > 0
 
 
 NASTY_NAMES = [
@@ -202,18 +209,7 @@ def test_latex_with_special_characters_compiles(tmp_path):
     df = pd.DataFrame({"species": NASTY_NAMES, "G_Eh": np.linspace(-1, -2, len(NASTY_NAMES))})
     tex = to_latex(df, "names & symbols: 100% ~ ^-1 _ # $", ["note with ΔG‡ and σ = 2"])
     check_latex(tex, 2)
-    document = "\n".join(
-        [r"\documentclass{article}", r"\usepackage{booktabs}", r"\begin{document}", tex, r"\end{document}"]
-    )
-    (tmp_path / "names.tex").write_text(document, encoding="utf-8")
-    proc = subprocess.run(
-        [engine, "-interaction=nonstopmode", "-halt-on-error", "names.tex"],
-        cwd=tmp_path,
-        capture_output=True,
-        text=True,
-        timeout=120,
-    )
-    assert proc.returncode == 0, proc.stdout[-2000:]
+    _compile(engine, tmp_path / "names.tex", "booktabs", tex)
 
 
 def test_latex_escape_specials():
