@@ -31,6 +31,12 @@ logs = "{s}/gas/ch3.out"
 logs = "{s}/gas/h2.out"
 [species.ts_abs]
 logs = "{s}/gas/ts_abstraction.out"
+[species.ch4_sigma1]
+logs = "{s}/gas/ch4.out"
+symmetry_number = 1
+[species.ts_abs_sigma1]
+logs = "{s}/gas/ts_abstraction.out"
+symmetry_number = 1
 [species.hcn]
 logs = "{s}/gas/hcn.out"
 [species.hcn_own]
@@ -50,6 +56,23 @@ products = ["ch3", "h2"]
 name = "abstraction_own"
 reactants = ["ch4", "h_own"]
 transition_state = "ts_abs"
+products = ["ch3", "h2"]
+[[reaction]]
+name = "abstraction_L4"
+reactants = ["ch4", "h"]
+transition_state = "ts_abs"
+products = ["ch3", "h2"]
+degeneracy = 4
+[[reaction]]
+name = "abstraction_L8"
+reactants = ["ch4", "h"]
+transition_state = "ts_abs"
+products = ["ch3", "h2"]
+degeneracy = 8
+[[reaction]]
+name = "abstraction_sigma1"
+reactants = ["ch4_sigma1", "h"]
+transition_state = "ts_abs_sigma1"
 products = ["ch3", "h2"]
 [[reaction]]
 name = "isomerisation"
@@ -93,3 +116,17 @@ def test_own_concentration_gives_pseudo_order_rate_constants(tmp_path, samples, 
     unit = "M s^-1" if state == "1M" else "molecule cm^-3 s^-1"
     assert df.loc["isomerisation_own", "k_unit"] == f"{unit} (forward), s^-1 (reverse)"
     assert np.isfinite(df["k_forward"]).all()
+
+
+def test_reaction_path_degeneracy_is_counted_once(tmp_path, samples):
+    # H + CH4 -> H...H3C: L = sigma(CH4) sigma(H) / sigma(TS) = 12 x 1 / 3 = 4, the four equivalent H atoms
+    # (Fernandez-Ramos, Ellingson, Meana-Paneda, Marques, Truhlar, Theor. Chem. Acc. 2007, 118, 813)
+    df = _reactions(tmp_path, samples, "1M")
+    k = df.loc["abstraction", "k_forward"]
+    # the symmetry numbers inside the rotational partition functions already give k its factor L = 4 ...
+    assert k == pytest.approx(4.0 * df.loc["abstraction_sigma1", "k_forward"], rel=1e-9)
+    # ... so a reaction file's total L = 4 adds nothing more, and L = 8 (say, with a chiral TS) doubles k
+    assert df.loc["abstraction_L4", "k_forward"] == pytest.approx(k, rel=1e-12)
+    assert df.loc["abstraction_L8", "k_forward"] == pytest.approx(2.0 * k, rel=1e-12)
+    # the same L in both directions keeps k_f / k_r the equilibrium constant (Tolman 1924, from memory)
+    assert df.loc["abstraction_L8", "k_reverse"] == pytest.approx(2.0 * df.loc["abstraction", "k_reverse"], rel=1e-12)
