@@ -36,6 +36,11 @@ def _last_int(text: str, literal: str, pattern: str) -> int | None:
     return None if value is None else int(value)
 
 
+def _found(**fields) -> dict:
+    """The fields that were read (a missing item is absent, not None)."""
+    return {name: value for name, value in fields.items() if value is not None}
+
+
 # ---------------------------------------------------------------------------------------------- ORCA
 
 #: ORCA keyword tokens that name the method (a functional, a wavefunction method or a composite)
@@ -121,9 +126,6 @@ def orca(text: str) -> dict:
     geometry = _orca_geometry(text)
     if geometry is not None:
         out["symbols"], out["coordinates"] = geometry
-    energy = _last_float(text, "FINAL SINGLE POINT ENERGY", rf"^FINAL SINGLE POINT ENERGY\s+{_F}")
-    if energy is not None:
-        out["energy"] = energy
     echo = orca_input_echo(text)
     charge = _last_int(text, "Total Charge", r"Total Charge\s+Charge\s+\.+\s+(-?\d+)")
     mult = _last_int(text, "Multiplicity", r"Multiplicity\s+Mult\s+\.+\s+(\d+)")
@@ -131,13 +133,8 @@ def orca(text: str) -> dict:
         m = re.search(r"^\|\s*\d+>\s*\*\s*(?:xyz|int|gzmt|xyzfile)\s+(-?\d+)\s+(\d+)", echo, re.MULTILINE | re.I)
         if m:
             charge, mult = int(m.group(1)), int(m.group(2))
-    if charge is not None:
-        out["charge"] = charge
-    if mult is not None:
-        out["multiplicity"] = mult
-    freqs = _orca_frequencies(text)
-    if freqs is not None:
-        out["frequencies"] = freqs
+    out |= _found(energy=_last_float(text, "FINAL SINGLE POINT ENERGY", rf"^FINAL SINGLE POINT ENERGY\s+{_F}"),
+                  charge=charge, multiplicity=mult, frequencies=_orca_frequencies(text))
     out["program_version"] = _last(text, "Program Version", r"Program Version (\S+)")
     out["basis"] = _last(text, "Your calculation utilizes the basis:", r"Your calculation utilizes the basis: (\S+)")
     out["method"] = orca_method(echo)
@@ -148,7 +145,7 @@ def orca(text: str) -> dict:
         "gibbs": _last_float(text, "Final Gibbs free energy", rf"^Final Gibbs free energy\s+\.\.\.\s+{_F} Eh"),
     }
     if thermo["enthalpy"] is not None:
-        out["thermo_printed"] = {k: v for k, v in thermo.items() if v is not None}
+        out["thermo_printed"] = _found(**thermo)
     return out
 
 
@@ -240,15 +237,8 @@ def nwchem(text: str) -> dict:
     method, energy = nwchem_level(text)
     if energy is not None:
         out["energy"], out["method"] = energy, method
-    charge = _last_int(text, "Charge", r"^\s*Charge\s+:\s+(-?\d+)")
-    if charge is not None:
-        out["charge"] = charge
-    mult = nwchem_multiplicity(text)
-    if mult is not None:
-        out["multiplicity"] = mult
-    freqs = _nwchem_frequencies(text)
-    if freqs is not None:
-        out["frequencies"] = freqs
+    out |= _found(charge=_last_int(text, "Charge", r"^\s*Charge\s+:\s+(-?\d+)"),
+                  multiplicity=nwchem_multiplicity(text), frequencies=_nwchem_frequencies(text))
     out["program_version"] = _last(text, "(NWChem) ", r"\(NWChem\) (\d[\w.]*)")
     basis = last_block_match(text, 'Summary of "ao basis"', _NWCHEM_BASIS)
     if basis:
