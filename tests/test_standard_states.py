@@ -130,3 +130,38 @@ def test_reaction_path_degeneracy_is_counted_once(tmp_path, samples):
     assert df.loc["abstraction_L8", "k_forward"] == pytest.approx(2.0 * k, rel=1e-12)
     # the same L in both directions keeps k_f / k_r the equilibrium constant (Tolman 1924, from memory)
     assert df.loc["abstraction_L8", "k_reverse"] == pytest.approx(2.0 * df.loc["abstraction", "k_reverse"], rel=1e-12)
+
+
+def test_ensemble_entropy_includes_mixing_and_composite_shifts_energies_only():
+    # Boltzmann ensemble of conformers (McQuarrie, Statistical Mechanics, 1976, from memory): with
+    # p_i = exp(-G_i/RT) / sum_j exp(-G_j/RT), H = sum p_i H_i and S = sum p_i S_i - k sum p_i ln p_i (the
+    # Gibbs entropy of the conformer distribution), so that G = H - TS = -kT ln sum exp(-G_i/kT)
+    from types import SimpleNamespace
+
+    from qcthermo.species import Conformer, conformer_values, ensemble_values
+    from qcthermo.units import K_B_EH
+
+    t = np.array([250.0, 298.15, 400.0])
+    kt = K_B_EH * t
+    e_low, e_high = -100.0, -100.25  # hartree, an arbitrary electronic energy and its higher-level value
+    conformers = []
+    for h_rel, s in ((0.0, 3.0e-4), (0.001, 3.2e-4), (0.0015, 3.1e-4)):  # hartree, hartree/K
+        h = e_low + 0.05 + h_rel
+        thermo = SimpleNamespace(electronic_energy=e_low, enthalpy=h, entropy=s, gibbs=h - t * s,
+                                 rrho={"zpe": 0.04, "enthalpy": h, "entropy": s, "gibbs": h - t * s})
+        c = Conformer(calculation=None)
+        c.values = conformer_values(thermo, len(t), e_high)
+        # composite: X = E(high) + [X - E](low) for the energies, the low level's S
+        assert c.values["G"] == pytest.approx(e_high + (h - t * s - e_low), abs=1e-12)
+        assert c.values["S"] == pytest.approx(np.full(3, s), abs=0)
+        conformers.append(c)
+    out = ensemble_values(conformers, t)
+    g = np.array([c.values["G"] for c in conformers])
+    p = np.exp(-(g - g.min(axis=0)) / kt)
+    p /= p.sum(axis=0)
+    s_i = np.array([c.values["S"] for c in conformers])
+    h_i = np.array([c.values["H"] for c in conformers])
+    assert out["H"] == pytest.approx((p * h_i).sum(axis=0), abs=1e-12)
+    assert out["S"] == pytest.approx((p * s_i).sum(axis=0) - K_B_EH * (p * np.log(p)).sum(axis=0), rel=1e-9)
+    assert out["G"] == pytest.approx(g.min(axis=0) - kt * np.log(np.exp(-(g - g.min(axis=0)) / kt).sum(axis=0)),
+                                     abs=1e-12)
