@@ -91,6 +91,9 @@ def test_good_file_parses(tmp_path):
         (('symmetry_number = 2', 'symmetry_number = 0'), 13, "symmetry_number"),
         (('name = "path"', 'name = "path"\nwidth = 3'), 30, "'width'"),
         (('[species.ts]', '[species.ts'), 17, "syntax"),
+        (('[[profile]]', '[[reaction]]\nname = "combustion"\nreactants = ["h2"]\nproducts = ["h2"]\n[[profile]]'), 28,
+         "[[reaction]] 'combustion': the name is used twice"),
+        (('name = "path"\n', ''), 28, "[[profile]] needs a 'name'"),
     ],
 )
 def test_bad_files_name_the_line_and_the_item(tmp_path, change, line, needle):
