@@ -12,6 +12,7 @@ from __future__ import annotations
 import glob
 import re
 from collections import Counter
+from collections.abc import Iterator
 from dataclasses import dataclass, field
 from functools import partial
 from pathlib import Path
@@ -351,26 +352,28 @@ class _Parser:
             out[name] = out.get(name, 0.0) + float(m.group(1) or 1)
         return [(c, n) for n, c in out.items()]
 
-    def table_list(self, value: Any, header: str) -> list[tuple[dict, int | None]]:
+    def named_tables(self, value: Any, header: str, keys: tuple[str, ...]) -> Iterator[tuple[dict, int | None, str]]:
+        """Each ``[[header]]`` table with the line of its header and its name, once its keys are known ones
+        and its name is given and not used before."""
         if not isinstance(value, list) or not all(isinstance(t, dict) for t in value):
             self.fail(f"'{header}' must be written as [[{header}]] tables")
         lines = _header_lines(self.text, rf"^\[\[\s*{header}\s*\]\]")
-        return [(t, lines[i] if i < len(lines) else None) for i, t in enumerate(value)]
-
-    def named(self, table: dict, what: str, line: int | None, seen: set[str]) -> str:
-        name = table.get("name")
-        if not isinstance(name, str) or not name.strip():
-            self.fail(f"{what} needs a 'name'", line)
-        if name in seen:
-            self.fail(f"{what} {name!r}: the name is used twice", line)
-        seen.add(name)
-        return name
+        what = f"[[{header}]]"
+        seen: set[str] = set()
+        for i, table in enumerate(value):
+            line = lines[i] if i < len(lines) else None
+            self.check_keys(table, keys, what, line)
+            name = table.get("name")
+            if not isinstance(name, str) or not name.strip():
+                self.fail(f"{what} needs a 'name'", line)
+            if name in seen:
+                self.fail(f"{what} {name!r}: the name is used twice", line)
+            seen.add(name)
+            yield table, line, name
 
     def reactions(self, value: Any, species: dict) -> list[ReactionSpec]:
-        out, seen = [], set()
-        for table, line in self.table_list(value, "reaction"):
-            self.check_keys(table, REACTION_KEYS, "[[reaction]]", line)
-            name = self.named(table, "[[reaction]]", line, seen)
+        out = []
+        for table, line, name in self.named_tables(value, "reaction", REACTION_KEYS):
             what = f"reaction {name!r}"
             key_line = partial(_key_line, self.text, line)
             for key in ("reactants", "products"):
@@ -400,10 +403,8 @@ class _Parser:
         return out
 
     def profiles(self, value: Any, species: dict) -> list[ProfileSpec]:
-        out, seen = [], set()
-        for table, line in self.table_list(value, "profile"):
-            self.check_keys(table, PROFILE_KEYS, "[[profile]]", line)
-            name = self.named(table, "[[profile]]", line, seen)
+        out = []
+        for table, line, name in self.named_tables(value, "profile", PROFILE_KEYS):
             what = f"profile {name!r}"
             key_line = partial(_key_line, self.text, line)
             raw = table.get("states")
