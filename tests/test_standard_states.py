@@ -165,3 +165,28 @@ def test_ensemble_entropy_includes_mixing_and_composite_shifts_energies_only():
     assert out["S"] == pytest.approx((p * s_i).sum(axis=0) - K_B_EH * (p * np.log(p)).sum(axis=0), rel=1e-9)
     assert out["G"] == pytest.approx(g.min(axis=0) - kt * np.log(np.exp(-(g - g.min(axis=0)) / kt).sum(axis=0)),
                                      abs=1e-12)
+
+
+@pytest.mark.parametrize("second, usable", [(-20.0, True), (-300.0, False)])
+def test_second_imaginary_mode_of_a_transition_state_follows_the_policy(samples, second, usable):
+    # DESIGN.md section 6: a transition state has exactly one imaginary mode, left out of q; any other
+    # imaginary mode follows the policy, whose default inverts small ones (|nu| < 50 cm^-1) with a warning
+    # and refuses large ones (a -300 cm^-1 mode makes a second-order saddle point, not an artefact)
+    from dataclasses import replace
+
+    from qcthermo.readers import read_log
+    from qcthermo.records import Conditions
+    from qcthermo.species import SpeciesOptions, build_species
+
+    calc = read_log(samples / "gas" / "ts_abstraction.out")
+    freqs = np.sort(np.asarray(calc.frequencies, dtype=float))
+    assert freqs[0] < -500 and freqs[1] > 0  # the sample: one reaction mode
+    freqs[1] = second  # the softest real mode turned imaginary
+    ts = build_species("ts", [replace(calc, frequencies=freqs)], Conditions(), SpeciesOptions(transition_state=True))
+    assert ts.usable is usable
+    severities = {f.severity for f in ts.findings if "imaginary" in f.message}
+    assert severities == ({"warning"} if usable else {"error"})
+    if usable:
+        thermo = ts.lowest.thermo
+        assert thermo.imaginary_frequency == pytest.approx(freqs[0])
+        assert any("inverted" in n for n in thermo.notes)
