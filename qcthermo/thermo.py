@@ -385,11 +385,16 @@ def stack_molecules(molecules: list[Molecule], infos: list[MoleculeInfo]) -> Pre
 
 
 def _rotor_inertia(prepared: PreparedMolecules, rotor_inertia) -> np.ndarray:
-    """B_av per molecule, kg m^2: the given constant, or the mean principal moment ("molecular")."""
+    """B_av per molecule, kg m^2: the given constant, or the mean principal moment ("molecular").
+
+    An atom has no moment and no modes; it keeps Grimme's 1e-44 kg m^2 so that the free-rotor term of
+    its padding modes is 0 (weight 0) rather than 0 x log(0) = NaN when it shares a batch with molecules.
+    """
     if isinstance(rotor_inertia, str):
         if rotor_inertia != "molecular":
             raise ThermoError(f"rotor inertia {rotor_inertia!r}: expected a number (kg m^2) or 'molecular'")
-        return prepared.moments.mean(axis=1) * AMU_ANGSTROM2_KG_M2
+        mean = prepared.moments.mean(axis=1) * AMU_ANGSTROM2_KG_M2
+        return np.where(mean > 0, mean, 1e-44)
     return np.full(len(prepared), float(rotor_inertia))
 
 

@@ -190,3 +190,24 @@ def test_second_imaginary_mode_of_a_transition_state_follows_the_policy(samples,
         thermo = ts.lowest.thermo
         assert thermo.imaginary_frequency == pytest.approx(freqs[0])
         assert any("inverted" in n for n in thermo.notes)
+
+
+@pytest.mark.parametrize("model", ["qrrho", "qrrho-enthalpy"])
+def test_atom_batched_with_molecules_under_molecular_rotor_inertia(model):
+    # an H atom: Sackur-Tetrode translation and R ln 2 of its doublet, nothing else, checked against ASE's
+    # IdealGasThermo (geometry "monatomic", spin 1/2), whatever molecules share its batch
+    from ase import Atoms
+    from ase.thermochemistry import IdealGasThermo
+
+    from qcthermo.records import Conditions, Molecule
+    from qcthermo.thermo import thermochemistry_many
+    from qcthermo.units import HARTREE_EV
+
+    h = Molecule(symbols=["H"], coordinates=np.zeros((1, 3)), frequencies=np.zeros(0), multiplicity=2, energy=0.0)
+    h2 = Molecule(symbols=["H", "H"], coordinates=np.array([[0.0, 0.0, 0.0], [0.0, 0.0, 0.7414]]),
+                  frequencies=np.array([4401.0]), multiplicity=1, energy=0.0)
+    conditions = Conditions(low_mode_model=model, rotor_inertia="molecular", standard_state="1atm")
+    atom = thermochemistry_many([h, h2], conditions)[0]
+    ase = IdealGasThermo([], "monatomic", atoms=Atoms("H", masses=h.masses), spin=0.5, symmetrynumber=1)
+    s_ase = ase.get_entropy(298.15, constants.atm, verbose=False) / HARTREE_EV
+    assert atom.entropy == pytest.approx(s_ase, rel=1e-6)
