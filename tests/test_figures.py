@@ -13,6 +13,7 @@ from types import SimpleNamespace
 import numpy as np
 import pandas as pd
 import pytest
+from log_text import last_printed
 from matplotlib.path import Path as MplPath
 
 from qcthermo.errors import QcthermoError
@@ -450,9 +451,8 @@ def test_profile_file_stems_are_safe_and_unique():
 
 # --- the profile command, on the bundled NWChem sample outputs ------------------------------------
 
-def _last_dft_energy(path):
-    """The last "Total DFT energy" NWChem prints, hartree (the log itself is the reference)."""
-    return float(re.findall(r"Total DFT energy =\s+(-?\d+\.\d+)", path.read_text())[-1])
+#: the total energy of NWChem's DFT module, hartree, as it prints it
+NWCHEM_DFT_ENERGY = r"Total DFT energy =\s+(-?\d+\.\d+)"
 
 
 def _run_profile(*argv):
@@ -468,7 +468,8 @@ def test_profile_command_draws_the_logs_energies(isomerisation_file, samples, tm
     svg = out.read_text()
     assert ET.fromstring(svg.encode()).tag.endswith("svg")
     gas = samples / "gas"
-    d_e = (_last_dft_energy(gas / "hnc.out") - _last_dft_energy(gas / "hcn.out")) * KCAL_PER_EH
+    e_hnc, e_hcn = (last_printed(gas / name, NWCHEM_DFT_ENERGY) for name in ("hnc.out", "hcn.out"))
+    d_e = (e_hnc - e_hcn) * KCAL_PER_EH
     assert f">{figures.format_value(d_e, 3)}<" in svg  # the product's label, ΔE in kcal/mol
     assert "ts_hcn‡" in svg and "ΔE / kcal mol⁻¹" in svg
 

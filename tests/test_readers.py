@@ -17,6 +17,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from log_text import last_printed
 
 import qcthermo
 from qcthermo.readers.normalise import vibrational_modes
@@ -60,10 +61,6 @@ B3LYP_DVB = [
 ]
 
 
-def last_printed(path: Path, program: str) -> float:
-    return float(re.findall(PRINTED_ENERGY[program], path.read_text(errors="replace"))[-1])
-
-
 @pytest.mark.parametrize(("name", "program", "n_modes", "energy"), README_CASES)
 def test_third_party_logs_give_the_readme_values(third_party, name, program, n_modes, energy):
     calc = qcthermo.read_log(third_party / name)
@@ -73,7 +70,7 @@ def test_third_party_logs_give_the_readme_values(third_party, name, program, n_m
     else:
         assert calc.frequencies.shape == (n_modes,)  # README
     # printed: energies in hartree exactly as the program printed them (8 or more decimals)
-    assert calc.energy == pytest.approx(last_printed(third_party / name, program), abs=1e-8)
+    assert calc.energy == pytest.approx(last_printed(third_party / name, PRINTED_ENERGY[program]), abs=1e-8)
     if energy is not None:
         # README: its numbers are cclib's eV divided by CODATA 2018's hartree (27.211386 eV), while cclib
         # multiplied by 27.21138505: they sit 4.4e-8 relative (1.7e-5 Eh here) off the printed values

@@ -8,6 +8,7 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 import test_report
+from log_text import last_printed
 
 import qcthermo
 from qcthermo.export.si import tex_escape, write_si
@@ -15,11 +16,6 @@ from qcthermo.records import Conditions
 from qcthermo.species import SpeciesOptions, build_species
 
 sample_run = test_report.sample_run  # fixture: the main job on the bundled samples
-
-
-def _printed(path, pattern):
-    """A number as the program printed it in its own output (the check is the log itself)."""
-    return float(re.findall(pattern, path.read_text(errors="replace"))[-1])
 
 
 @pytest.fixture
@@ -49,7 +45,7 @@ def test_markdown_block_holds_the_logs_numbers(run_like, third_party, tmp_path):
     dvb = _block(text, "dvb")
     log = third_party / "gaussian16/dvb_ir.out"
     # energy as printed by Gaussian ("SCF Done"), to the microhartree
-    energy = _printed(log, r"SCF Done:\s+E\(\w+\)\s+=\s+(-?\d+\.\d+)")
+    energy = last_printed(log, r"SCF Done:\s+E\(\w+\)\s+=\s+(-?\d+\.\d+)")
     assert f"| E / Eh | {energy:.6f} |" in dvb
     # the lowest wavenumber Gaussian prints (54 real modes: no imaginary ones; README of the logs)
     lowest = float(re.findall(r"Frequencies --\s+(-?\d+\.\d+)", log.read_text(errors="replace"))[0])
@@ -87,7 +83,7 @@ def test_transition_state_lists_its_imaginary_mode(run_like, third_party, tmp_pa
     md, _ = write_si(run_like, tmp_path)
     block = _block(md.read_text(), "nh3\\_ts")
     # GAMESS prints the mode as "825.18 I"; exactly one imaginary mode (README of the third-party logs)
-    printed = _printed(third_party / "gamess-us2018/nh3_ts_ir.out", r"FREQUENCY:\s+(\d+\.\d+) I")
+    printed = last_printed(third_party / "gamess-us2018/nh3_ts_ir.out", r"FREQUENCY:\s+(\d+\.\d+) I")
     assert f"| imaginary frequencies / cm-1 | {printed:.1f}i |" in block
 
 
