@@ -60,3 +60,15 @@ def isomerisation_file(samples, tmp_path) -> Path:
     path = tmp_path / "reactions.toml"
     path.write_text(ISOMERISATION_TOML.format(gas=gas))
     return path
+
+
+@pytest.fixture
+def sample_run(samples, isomerisation_file):
+    """The main job on three bundled NWChem outputs (:func:`isomerisation_file`) over a temperature range."""
+    import numpy as np
+
+    import qcthermo
+    from qcthermo.records import Conditions
+
+    cond = Conditions(temperature=np.array([250.0, 300.0, 350.0]), low_mode_model="qrrho")
+    return qcthermo.run(samples / "gas", reactions=isomerisation_file, conditions=cond, jobs=1, cache=False)

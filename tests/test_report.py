@@ -127,16 +127,6 @@ def test_inline_svg_is_well_formed():
     assert ET.fromstring(svg).tag.endswith("svg")
 
 
-@pytest.fixture
-def sample_run(samples, isomerisation_file):
-    """The main job on three bundled NWChem outputs over a temperature range."""
-    import qcthermo
-    from qcthermo.records import Conditions
-
-    cond = Conditions(temperature=np.array([250.0, 300.0, 350.0]), low_mode_model="qrrho")
-    return qcthermo.run(samples / "gas", reactions=isomerisation_file, conditions=cond, jobs=1, cache=False)
-
-
 @pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install -y chromium)")
 def test_report_of_a_real_run_renders(sample_run, tmp_path):
     from qcthermo.export.figures import write_profile_figures

@@ -7,15 +7,12 @@ from types import SimpleNamespace
 
 import numpy as np
 import pytest
-import test_report
 from log_text import last_printed
 
 import qcthermo
 from qcthermo.export.si import tex_escape, write_si
 from qcthermo.records import Conditions
 from qcthermo.species import SpeciesOptions, build_species
-
-sample_run = test_report.sample_run  # fixture: the main job on the bundled samples
 
 
 @pytest.fixture
