@@ -14,7 +14,6 @@ import os
 import sqlite3
 import subprocess
 import sys
-import time
 from pathlib import Path
 
 import pytest
@@ -27,12 +26,6 @@ from qcthermo.survey import survey
 
 # every test keeps its parse cache in a folder of its own
 pytestmark = pytest.mark.usefixtures("cache_dir")
-
-
-def slow_xyz_reader(path: str) -> Calculation:
-    """The stub reader, slowed down so that two surveys started together overlap."""
-    time.sleep(0.005)
-    return xyz_reader(path)
 
 
 class CountingReader:
@@ -237,7 +230,7 @@ def test_two_surveys_at_once_leave_a_sound_cache(tmp_path, cache_dir):
         (root / f"w{i:03d}.out").write_text(WATER_XYZ.replace("water", f"water {i}"))
     code = (
         "import sys; sys.path.insert(0, sys.argv[1]);"
-        "from test_cache import slow_xyz_reader; from qcthermo.survey import survey;"
+        "from xyz_stub import slow_xyz_reader; from qcthermo.survey import survey;"
         "r = survey(sys.argv[2], jobs=1, reader=slow_xyz_reader);"
         "print(len(r.calculations), r.notes)"
     )

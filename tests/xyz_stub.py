@@ -6,6 +6,8 @@ quantum-chemistry reader.
 
 from __future__ import annotations
 
+import time
+
 from qcthermo.errors import LogReadError
 from qcthermo.records import Calculation
 
@@ -30,3 +32,9 @@ def xyz_reader(path: str) -> Calculation:
         raise LogReadError(path, f"not an XYZ file ({type(err).__name__})") from None
     return Calculation(path=path, program="xyz", symbols=tuple(atoms.get_chemical_symbols()),
                        coordinates=atoms.positions, normal_termination=True)
+
+
+def slow_xyz_reader(path: str) -> Calculation:
+    """The stub reader, slowed down so that two surveys started together overlap."""
+    time.sleep(0.005)
+    return xyz_reader(path)
