@@ -626,40 +626,9 @@ def _display(subject: str) -> str:
     return Path(subject).name if ("/" in subject or "\\" in subject) else subject
 
 
-#: columns the csv and xlsx keep but the paper tables (md, tex) leave out, by the start of their name:
-#: what a reader of the paper does not need, or what the caption and notes already say
-_NOT_IN_PAPER_TABLES = {
-    "species": ("charge", "multiplicity", "duplicates", "S_", "H_", "standard_state", "transition_state",
-                "populations"),
-    "reactions": ("dE_zpe_act", "dH_act", "k_reverse"),
-}
-
-
-def paper_columns(df, stem: str) -> list[str]:
-    """The columns of the Markdown and LaTeX tables: those of ``df`` less :data:`_NOT_IN_PAPER_TABLES`
-    (H_Eh stays), of the reverse barriers only the chosen model's ΔG‡ (the last one), no T_K at one
-    temperature (the caption gives it), no status or notes when every row is "ok" and has none."""
-    reverse = [c for c in df.columns if c.startswith("dG") and "_act_rev_" in c]
-
-    def wanted(column: str) -> bool:
-        if column.startswith(_NOT_IN_PAPER_TABLES.get(stem, ())):
-            return column == "H_Eh"
-        if "_act_rev_" in column:
-            return column == reverse[-1]
-        if column == "T_K":
-            return df[column].nunique() > 1
-        if column == "status":
-            return not (df[column] == "ok").all()
-        if column == "notes":
-            return bool(df[column].fillna("").astype(str).str.strip().any())
-        return True
-
-    return [c for c in df.columns if wanted(c)]
-
-
 def _write_table(df, out_dir: Path, stem: str, caption: str, notes: list[str]) -> list[Path]:
     """The full table as csv and xlsx, the paper's columns (:func:`paper_columns`) as Markdown and LaTeX."""
-    from .export.tables import write_tables
+    from .export.tables import paper_columns, write_tables
 
     common = dict(caption=caption, notes=notes, label=f"tab:{stem}")
     return [*write_tables(df, out_dir, stem, formats=("csv", "xlsx"), **common),

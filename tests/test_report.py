@@ -145,3 +145,17 @@ def test_report_of_a_real_run_renders(sample_run, tmp_path):
         assert f">{name}</td>" in dom
     assert "ts_hcn‡" in dom  # the transition state is marked on the profile
     assert len(sample_run.arrhenius) and 'id="arrhenius-fits"' in dom  # the fits over the range are shown
+
+
+def test_report_tables_are_the_tables_for_people(sample_run):
+    # the same typeset headers and number formats as reactions.md (qcthermo.export.tables), not csv names
+    from qcthermo.export.report import render_report
+    from qcthermo.export.tables import human_header
+
+    text = render_report(sample_run)
+    assert f"<th class=\"num\">{human_header('dG_act_kcal_mol', 'md')}</th>" in text
+    headers = re.findall(r"<th[^>]*>([^<]*)</th>", text)
+    assert "dG_act_kcal_mol" not in headers and "E_elec_Eh" not in headers
+    # a hartree energy to the microhartree, as in species.md
+    e = sample_run.species["E_elec_Eh"].iloc[0]
+    assert f">{e:.6f}</td>" in text

@@ -390,7 +390,7 @@ single_point = "{s}/sp/*_mp2.out"
 def test_paper_tables_keep_the_papers_columns_and_csv_keeps_all(scenario, tmp_path):
     import pandas as pd
 
-    from qcthermo.workflow import paper_columns
+    from qcthermo.export.tables import paper_columns
 
     out = tmp_path / "tables"
     scenario.write(out)

@@ -10,13 +10,13 @@ from __future__ import annotations
 
 import html
 import json
-import math
 from collections.abc import Iterable
 from pathlib import Path
 from typing import Any
 
 from .. import __version__
 from ..fileio import atomic_write
+from .tables import display_cells, paper_columns
 
 #: order of the audit findings by severity; anything else comes last
 SEVERITY_ORDER = {"error": 0, "warning": 1, "info": 2, "note": 2}
@@ -54,52 +54,32 @@ figcaption { color: #555; font-size: 12px; }
 """
 
 
-def _cell(value: Any, column: str = "") -> str:
-    """One table cell's text: hartree columns to the microhartree, hartree/K in exponent form,
-    temperatures to 0.01 K, other numbers to four decimals or in exponent form when tiny or huge
-    (rate constants); everything else as escaped text."""
-    if value is None:
-        return ""
-    if isinstance(value, float):
-        if math.isnan(value):
-            return ""
-        if column.endswith("_Eh"):
-            return f"{value:.6f}"
-        if column.endswith("_Eh_K"):  # entropies and heat capacities, hartree/K
-            return f"{value:.6e}"
-        if column.endswith("_K"):  # temperatures
-            return f"{value:.2f}"
-        if value != 0 and not 1e-3 <= abs(value) < 1e6:
-            return f"{value:.4e}"
-        return f"{value:.4f}"
-    return html.escape(str(value))
-
-
-def _is_number(value: Any) -> bool:
-    return isinstance(value, (int, float)) and not isinstance(value, bool)
-
-
-def _table(columns: list[str], rows: Iterable[Iterable[Any]], row_classes: Iterable[str] | None = None) -> str:
+def _table(headers: list[str], rows: Iterable[Iterable[Any]], numeric: list[bool] | None = None,
+           wrapped: list[bool] | None = None, row_classes: Iterable[str] | None = None) -> str:
+    """An HTML table of text cells (escaped here): numeric columns right-aligned, prose columns may wrap."""
     rows = [list(r) for r in rows]
-    text_cols = [not all(_is_number(r[j]) or r[j] is None for r in rows) for j in range(len(columns))]
-    kinds = [("text wrap" if c in WRAPPED_COLUMNS else "text") if t else "num"
-             for c, t in zip(columns, text_cols, strict=True)]
-    head = "".join(f'<th class="{k}">{html.escape(str(c))}</th>' for c, k in zip(columns, kinds, strict=True))
+    numeric = numeric or [False] * len(headers)
+    wrapped = wrapped or [h in WRAPPED_COLUMNS for h in headers]
+    kinds = ["num" if n else ("text wrap" if w else "text") for n, w in zip(numeric, wrapped, strict=True)]
+    head = "".join(f'<th class="{k}">{html.escape(h)}</th>' for h, k in zip(headers, kinds, strict=True))
     classes = list(row_classes) if row_classes is not None else [""] * len(rows)
     body = []
     for row, cls in zip(rows, classes, strict=True):
-        cells = "".join(f'<td class="{k}">{_cell(v, str(c))}</td>' for v, c, k in zip(row, columns, kinds,
-                                                                                        strict=True))
+        cells = "".join(f'<td class="{k}">{html.escape(str(v))}</td>' for v, k in zip(row, kinds, strict=True))
         body.append(f'<tr class="{html.escape(cls)}">{cells}</tr>')
     return f'<div class="scroll"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
 
 
-def _frame_table(frame, what: str) -> str:
-    """A DataFrame as an HTML table (every cell escaped), or a line saying there is none."""
+def _frame_table(frame, what: str, stem: str | None = None) -> str:
+    """A DataFrame as the tables for people show it (typeset headers with units, the same number formats
+    as species.md; for ``stem`` "species"/"reactions" only the paper's columns, the csv has them all), or a
+    line saying there is none."""
     if frame is None or len(frame) == 0:
         return f"<p>No {what}.</p>"
-    cells = frame.astype(object).where(frame.notna(), None)  # Python scalars; missing values as None
-    return _table([str(c) for c in frame.columns], cells.itertuples(index=False, name=None))
+    if stem is not None:
+        frame = frame[paper_columns(frame, stem)]
+    headers, numeric, rows = display_cells(frame)
+    return _table(headers, rows, numeric, [str(c) in WRAPPED_COLUMNS for c in frame.columns])
 
 
 def sorted_findings(findings: Iterable[Any]) -> list[tuple[str, str, str]]:
@@ -113,7 +93,7 @@ def _findings_section(findings: list[tuple[str, str, str]]) -> str:
         return '<h2 id="audit">Audit</h2><p class="ok">No errors and no warnings.</p>'
     counts = {sev: sum(1 for f in findings if f[0].lower() == sev) for sev in ("error", "warning")}
     summary = ", ".join(f'<span class="count">{n}</span> {sev}{"s" if n != 1 else ""}' for sev, n in counts.items())
-    table = _table(["severity", "file or species", "finding"], findings, [f[0].lower() for f in findings])
+    table = _table(["severity", "file or species", "finding"], findings, row_classes=[f[0].lower() for f in findings])
     return f'<h2 id="audit">Audit</h2><p>{summary}.</p>{table}'
 
 
@@ -170,8 +150,9 @@ def render_report(results) -> str:
         f"{html.escape(str(getattr(results, 'energy_unit', 'kcal/mol')))} where a column does not say hartree.</p>",
         _findings_section(findings),
         _settings_section(getattr(results, "settings", None)),
-        '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species"),
-        '<h2 id="reactions">Reactions</h2>' + _frame_table(getattr(results, "reactions", None), "reactions"),
+        '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species", "species"),
+        '<h2 id="reactions">Reactions</h2>'
+        + _frame_table(getattr(results, "reactions", None), "reactions", "reactions"),
         *_optional_tables(results),
         _figures_section(results),
     ]

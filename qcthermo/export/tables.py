@@ -378,6 +378,37 @@ def _rows(columns: list[_Column]) -> Iterable[list[str | None]]:
     return ([c.cells[i] for c in columns] for i in range(n))
 
 
+#: columns the csv and xlsx keep but the tables for people (md, tex, the report) leave out, by the start of their name:
+#: what a reader of the paper does not need, or what the caption and notes already say
+_NOT_IN_PAPER_TABLES = {
+    "species": ("charge", "multiplicity", "duplicates", "S_", "H_", "standard_state", "transition_state",
+                "populations"),
+    "reactions": ("dE_zpe_act", "dH_act", "k_reverse"),
+}
+
+
+def paper_columns(df, stem: str) -> list[str]:
+    """The columns of the Markdown and LaTeX tables: those of ``df`` less :data:`_NOT_IN_PAPER_TABLES`
+    (H_Eh stays), of the reverse barriers only the chosen model's ΔG‡ (the last one), no T_K at one
+    temperature (the caption gives it), no status or notes when every row is "ok" and has none."""
+    reverse = [c for c in df.columns if c.startswith("dG") and "_act_rev_" in c]
+
+    def wanted(column: str) -> bool:
+        if column.startswith(_NOT_IN_PAPER_TABLES.get(stem, ())):
+            return column == "H_Eh"
+        if "_act_rev_" in column:
+            return column == reverse[-1]
+        if column == "T_K":
+            return df[column].nunique() > 1
+        if column == "status":
+            return not (df[column] == "ok").all()
+        if column == "notes":
+            return bool(df[column].fillna("").astype(str).str.strip().any())
+        return True
+
+    return [c for c in df.columns if wanted(c)]
+
+
 # ---------------------------------------------------------------------------------------------------
 # Markdown
 
@@ -404,14 +435,28 @@ def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
 _UNICODE_SUBSCRIPTS = str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉")
 
 
-def _md_cell(cell: str | None, column: _Column) -> str:
+def _typeset_cell(cell: str | None, column: _Column) -> str:
+    """A cell as the human tables show it in Unicode: subscripts in formulas, ∞ in point groups."""
     if cell is None:
         return ""
     if column.name == "formula":
         cell = cell.translate(_UNICODE_SUBSCRIPTS)
     if column.name == "point_group":
         cell = cell.replace("*", "∞")
-    return _md_escape(cell if column.numeric else plain_typeset(cell))
+    return cell if column.numeric else plain_typeset(cell)
+
+
+def _md_cell(cell: str | None, column: _Column) -> str:
+    return _md_escape(_typeset_cell(cell, column))
+
+
+def display_cells(df) -> tuple[list[str], list[bool], list[list[str]]]:
+    """What a view of ``df`` for people shows (the Markdown table without its pipes; the HTML report):
+    typeset headers with units, whether each column is numeric, every cell as formatted text ("" when
+    missing)."""
+    columns = _columns(df)
+    rows = [[_typeset_cell(cell, c) for cell, c in zip(row, columns, strict=True)] for row in _rows(columns)]
+    return [human_header(c.name, "md") for c in columns], [c.numeric for c in columns], rows
 
 
 # ---------------------------------------------------------------------------------------------------
