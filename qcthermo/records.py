@@ -265,8 +265,12 @@ class Conditions:
                 f"unknown low-mode model {self.low_mode_model!r}; choose one of {', '.join(LOW_MODE_MODELS)}"
             )
         t = np.asarray(self.temperature, dtype=float)
-        if t.ndim > 1 or np.any(t <= 0):
+        if t.ndim > 1 or not np.all(np.isfinite(t) & (t > 0)):
             raise ValueError("temperature must be a positive number or a 1-D array of them")
+        if not (np.isfinite(self.low_mode_threshold) and self.low_mode_threshold >= 0):
+            raise ValueError(f"low-mode threshold {self.low_mode_threshold}: expected a wavenumber >= 0 cm^-1")
+        if self.zpe_scale is not None and not 0.5 < self.zpe_scale < 1.5:
+            raise ValueError(f"ZPE scale {self.zpe_scale}: expected a factor near 1 (0.5 to 1.5)")
         parse_standard_state(self.standard_state)
 
     def replace(self, **changes) -> Conditions:

@@ -46,3 +46,18 @@ def test_bad_option_values_are_one_line_errors(capsys, tmp_path):
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == 2 and all(line.startswith("qcthermo thermo: error:") for line in err)
     assert "rotor inertia" in err[0] and "--temperature-range" in err[1]
+
+
+def test_out_of_range_conditions_are_refused(capsys, tmp_path):
+    # A temperature must be a finite positive number; the qRRHO threshold a wavenumber >= 0 (its weight uses
+    # nu_0^4, so -10 would silently act as +10); a ZPE factor sits near 1 like the frequency factor (common practice).
+    from qcthermo.cli import main
+
+    bad = [["--temperature", "nan"], ["--temperature", "inf"], ["--low-mode-threshold", "-10"],
+           ["--zpe-scale", "5"], ["--zpe-scale", "-1"]]
+    for option in bad:
+        assert main(["thermo", str(tmp_path), *option]) == 2, option
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == len(bad) and all(line.startswith("qcthermo thermo: error:") for line in err)
+    assert "temperature" in err[0] and "temperature" in err[1]
+    assert "low-mode threshold" in err[2] and "ZPE scale" in err[3] and "ZPE scale" in err[4]
