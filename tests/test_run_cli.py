@@ -93,6 +93,8 @@ def test_init_writes_a_file_that_parses_back(tmp_path, samples, capsys):
     rf = load_reaction_file(target)
     assert "ts_hcn" in rf.species and rf.species["ts_hcn"].transition_state
     assert rf.reactions == []  # the example reaction is a comment
+    # gas-phase logs (no solvent model): the gas standard state, as on the command line (docs/reactions.md)
+    assert rf.conditions["standard_state"] == "1atm"
     assert main(["init", str(samples / "gas"), "-o", str(target), "--no-cache", "--quiet"]) == 2  # exists
     assert "--force" in capsys.readouterr().err
 
@@ -120,3 +122,4 @@ def test_init_on_the_scenario_groups_conformers_and_pairs_single_points(tmp_path
     assert {"hcn", "hnc"} <= set(rf.species)  # isomers, not one ensemble
     assert [p.name for p in rf.species["h_atom"].single_point] == ["h_atom_mp2.out"]
     assert [p.name for p in rf.species["ch4"].single_point] == ["ch4_mp2.out"]
+    assert rf.conditions["standard_state"] == "1M"  # the scenario's solvent/ logs carry a COSMO model

@@ -74,13 +74,16 @@ def starter_text(survey_result, base: Path) -> str:
             single_points.append((path, calc))
         else:
             skipped.append(path)
+    # 1M is the usual state of solution chemistry; logs without a solvent model are gas-phase work
+    solvated = any(c.solvent_model for _, c in calcs)
+    state, why = ("1M", "some logs have a solvent model") if solvated else ("1atm", "no log has a solvent model")
     lines = [
         "# Starter reaction file written by `qcthermo init`: check every species before use.",
         "# Schema: docs/reactions.md. Paths are relative to this file; globs are allowed.",
         "",
         "[conditions]            # defaults for every reaction; command-line options override them",
         "temperature = 298.15    # K",
-        'standard_state = "1M"   # "1atm" | "1bar" | "1M" (1M for solution chemistry)',
+        f'standard_state = "{state}"{" " * (5 - len(state))}# "1atm" | "1bar" | "1M" ({why})',
         'low_mode_model = "qrrho"',
         "",
     ]
