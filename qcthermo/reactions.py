@@ -9,6 +9,7 @@ The schema as implemented, key by key, is in docs/reactions.md.
 
 from __future__ import annotations
 
+import difflib
 import glob
 import re
 from collections import Counter
@@ -212,6 +213,12 @@ class _Parser:
     def fail(self, message: str, line: int | None = None):
         raise ReactionFileError(_where(self.path, line) + message)
 
+    def unknown_species(self, what: str, name: Any, species: dict, line: int | None):
+        """Fail naming the declared species closest to ``name``: a typo is the usual cause."""
+        close = difflib.get_close_matches(str(name), list(species), n=1)
+        hint = f"did you mean {close[0]!r}?" if close else f"declare it as [species.{name}]"
+        self.fail(f"{what}: unknown species {name!r} ({hint})", line)
+
     def check_keys(self, table: dict, allowed: tuple[str, ...], what: str, line: int | None) -> None:
         for key in table:
             if key not in allowed:
@@ -348,7 +355,7 @@ class _Parser:
                 self.fail(f"{what}: {item!r} is not 'NAME' or 'COEFFICIENT NAME'", line)
             name = m.group(2)
             if name not in species:
-                self.fail(f"{what}: unknown species {name!r} (declare it as [species.{name}])", line)
+                self.unknown_species(what, name, species, line)
             out[name] = out.get(name, 0.0) + float(m.group(1) or 1)
         return [(c, n) for n, c in out.items()]
 
@@ -388,7 +395,7 @@ class _Parser:
             ts = table.get("transition_state")
             if ts is not None:
                 if not isinstance(ts, str) or ts not in species:
-                    self.fail(f"{what} transition_state: unknown species {ts!r}", key_line("transition_state"))
+                    self.unknown_species(f"{what} transition_state", ts, species, key_line("transition_state"))
                 spec.transition_state = ts
             if "degeneracy" in table:
                 d = table["degeneracy"]

@@ -44,6 +44,8 @@ def _run(tmp_path, samples, text, *extra):
     ("change", "line", "name"),
     [
         (('reactants = ["hcn"]', 'reactants = ["hcn_x"]'), 13, "'hcn_x'"),  # unknown species
+        (('reactants = ["hcn"]', 'reactants = ["hcnn"]'), 13, "did you mean 'hcn'?"),  # a typo of a declared one
+        (('transition_state = "ts_hcn"', 'transition_state = "ts_hnc"'), 14, "did you mean 'ts_hcn'?"),
         (('products = ["hnc"]', 'products = ["hnc", "hcn"]'), 11, "'isomerisation'"),  # unbalanced
         (('logs = "{s}/gas/hnc.out"', 'logs = "{s}/gas/hnc_*.log"'), 7, "hnc_*.log"),  # glob matching nothing
         (('[species.hnc]', '[species.hnc'), 6, "syntax"),  # TOML syntax error
