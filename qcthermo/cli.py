@@ -25,9 +25,25 @@ COMMANDS = {
 }
 
 
+def _count(lowest: int, highest: int | None = None):
+    """An argparse type: an integer in [lowest, highest], else the usual one-line usage error."""
+
+    def parse(text: str) -> int:
+        try:
+            value = int(text)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r} is not an integer") from None
+        if value < lowest or (highest is not None and value > highest):
+            bound = f"from {lowest} to {highest}" if highest is not None else f"{lowest} or more"
+            raise argparse.ArgumentTypeError(f"{value}: expected {bound}")
+        return value
+
+    return parse
+
+
 def _add_reading(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("reading")
-    g.add_argument("--jobs", type=int, default=None, metavar="N", help="worker processes (default: all cores)")
+    g.add_argument("--jobs", type=_count(1), default=None, metavar="N", help="worker processes (default: all cores)")
     g.add_argument("--no-cache", action="store_true", help="neither read nor write the parse cache")
     g.add_argument("--quiet", action="store_true", help="no progress bar, no table on the terminal")
 
@@ -103,7 +119,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--profile", dest="profiles", action="append", metavar="NAME",
                    help="only this profile (repeatable, overlaid); default: every profile, those that start from "
                    "the same species (or share an `overlay` group) overlaid, the others in panels of their own")
-    p.add_argument("--precision", type=int, default=1, help="decimals of the labels (1)")
+    p.add_argument("--precision", type=_count(0, 6), default=1, help="decimals of the labels, 0 to 6 (1)")
     p.add_argument("--force", action="store_true", help="overwrite an existing figure")
     _add_conditions(p)
     _add_reading(p)

@@ -61,3 +61,19 @@ def test_out_of_range_conditions_are_refused(capsys, tmp_path):
     assert len(err) == len(bad) and all(line.startswith("qcthermo thermo: error:") for line in err)
     assert "temperature" in err[0] and "temperature" in err[1]
     assert "low-mode threshold" in err[2] and "ZPE scale" in err[3] and "ZPE scale" in err[4]
+
+
+def test_counts_out_of_range_are_usage_errors(capsys):
+    # A negative number of decimals reached the label format as "{:.-2f}" and ended in a traceback; a
+    # negative number of worker processes was quietly taken as one.
+    import pytest
+
+    from qcthermo.cli import main
+
+    for argv in (["profile", "r.toml", "--precision", "-2"], ["thermo", "logs", "--jobs", "0"],
+                 ["thermo", "logs", "--jobs", "-3"], ["profile", "r.toml", "--precision", "x"]):
+        with pytest.raises(SystemExit) as exit_info:
+            main(argv)
+        assert exit_info.value.code == 2, argv
+        err = capsys.readouterr().err
+        assert "Traceback" not in err and ("--precision" in err or "--jobs" in err), argv
