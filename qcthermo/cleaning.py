@@ -112,8 +112,12 @@ def clean_modes(molecule: Molecule, conditions: Conditions) -> CleanModes:
     imaginary mode follows the policy (the molecule's own, else the conditions').
     """
     label = molecule.name or molecule.source or molecule.formula
-    if not (np.all(np.isfinite(molecule.coordinates)) and np.all(np.isfinite(molecule.frequencies))):
-        raise ThermoError(f"{label}: coordinates or frequencies are not finite numbers")
+    if not np.all(np.isfinite(molecule.coordinates)):
+        # e.g. an xTB Hessian run prints no geometry; the rotational partition function needs one
+        raise ThermoError(f"{label}: no geometry (coordinates are not finite numbers); "
+                          "thermochemistry needs the structure the frequencies belong to")
+    if not np.all(np.isfinite(molecule.frequencies)):
+        raise ThermoError(f"{label}: frequencies are not finite numbers")
     linear = molecule.natoms > 1 and is_linear(molecule.coordinates, molecule.masses, LINEAR_TOLERANCE)
     expected = expected_mode_count(molecule.natoms, linear)
     notes = [f"linear: 3N-5 = {expected} vibrational modes expected"] if linear else []

@@ -65,3 +65,14 @@ def test_every_decision_is_a_note():
 def test_unknown_policy_is_refused():
     with pytest.raises(ThermoError):
         clean_modes(molecule("H2O").replace(imaginary_policy="ignore"), Conditions())
+
+
+def test_a_log_without_geometry_is_refused_for_that_reason(third_party):
+    # xTB 6.6.1 --hess prints no geometry (third-party-logs README: the structure is in a separate file);
+    # the one-line reason must say so, not blame the frequencies
+    import qcthermo
+
+    mol = Molecule.from_calculation(qcthermo.read_log(third_party / "xtb6.6.1" / "dvb_ir.out"))
+    with pytest.raises(ThermoError, match="no geometry") as err:
+        clean_modes(mol, Conditions())
+    assert "frequencies are not finite" not in str(err.value)
