@@ -315,3 +315,23 @@ def test_programs_own_thermochemistry(third_party, log, settings, tolerance_eh):
     assert res.zpe == pytest.approx(printed["zpe"], abs=tolerance_eh)
     assert res.enthalpy == pytest.approx(printed["enthalpy"], abs=tolerance_eh)
     assert res.gibbs == pytest.approx(printed["gibbs"], abs=tolerance_eh)
+
+
+def test_thermo_relative_free_energies_stay_within_one_program(tmp_path, third_party):
+    # The same dvb structure at "B3LYP/STO-3G" from Gaussian 16 and ORCA 5 (third-party-logs README:
+    # E = -382.308 and -382.055 Eh, the programs' B3LYP definitions differ): not an isomer gap of ~159 kcal/mol.
+    import shutil
+
+    import pandas as pd
+
+    from qcthermo.cli import main
+
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    shutil.copy(third_party / "gaussian16" / "dvb_ir.out", logs / "dvb_gaussian.out")
+    shutil.copy(third_party / "orca5.0" / "dvb_ir.out", logs / "dvb_orca.out")
+    csv = tmp_path / "thermo.csv"
+    assert main(["thermo", str(logs), "--csv", str(csv), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    table = pd.read_csv(csv)
+    assert set(table["program"]) == {"gaussian", "orca"}
+    assert list(table["dG_qrrho_kcal_mol"]) == [0.0, 0.0]

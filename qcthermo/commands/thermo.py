@@ -2,7 +2,8 @@
 
 The G, H and T*S columns without a model name are plain RRHO; the chosen low-mode model's values sit
 beside them (``G_qrrho_Eh`` ...). Relative free energies in the chosen unit are given within each
-formula and level of theory (conformers and isomers), against the lowest at the same temperature.
+formula, program, level of theory and solvent model (conformers and isomers), against the lowest at the
+same temperature.
 A log the engine refuses is a row with its one-line reason.
 """
 
@@ -26,8 +27,9 @@ def model_tag(model: str) -> str:
     return model.replace("-", "_")
 
 
-def result_rows(path: str, level: str | None, molecule: Molecule, res: ThermoResult, unit: str) -> list[dict[str, Any]]:
-    """One row per temperature of ``res``; hartree columns and the free-energy correction in ``unit``."""
+def result_rows(path: str, calc, molecule: Molecule, res: ThermoResult, unit: str) -> list[dict[str, Any]]:
+    """One row per temperature of ``res`` (of ``calc``'s log); hartree columns and the free-energy correction
+    in ``unit``."""
     cond = res.conditions
     temps = np.atleast_1d(np.asarray(cond.temperature, dtype=float))
     tag = model_tag(cond.low_mode_model)
@@ -42,7 +44,9 @@ def result_rows(path: str, level: str | None, molecule: Molecule, res: ThermoRes
         row: dict[str, Any] = {
             "file": path,
             "formula": molecule.formula,
-            "level_of_theory": level,
+            "program": calc.program,
+            "level_of_theory": calc.level_of_theory,
+            "solvent_model": calc.solvent_model,
             "point_group": res.point_group,
             "symmetry_number": res.symmetry_number,
             "imaginary_cm1": res.imaginary_frequency,
@@ -85,12 +89,15 @@ def error_row(path: str, formula: str | None, reason: str) -> dict[str, Any]:
 
 
 def add_relative_columns(frame, model: str, unit: str):
-    """dG_<model>_<unit>: G minus the lowest G of the same formula and level of theory at the same temperature."""
+    """dG_<model>_<unit>: G minus the lowest G of the same formula, program, level of theory and solvent model
+    at the same temperature. Programs apart: one functional's name covers different definitions (B3LYP with
+    VWN3 or VWN5), so absolute energies of two programs differ by far more than any isomer gap."""
     tag = model_tag(model)
     column = "G_Eh" if tag == "rrho" else f"G_{tag}_Eh"
     if column not in frame:
         return frame
-    lowest = frame.groupby(["formula", "level_of_theory", "T_K"], dropna=False)[column].transform("min")
+    keys = ["formula", "program", "level_of_theory", "solvent_model", "T_K"]
+    lowest = frame.groupby(keys, dropna=False)[column].transform("min")
     frame[f"dG_{tag}_{unit_suffix(unit)}"] = hartree_to(frame[column] - lowest, unit)
     return frame
 
@@ -111,7 +118,7 @@ def thermo_table(calculations: dict[str, Any], read_errors: dict[str, str], cond
             molecule, notes = molecule_of(path, calc, cond)
             res = thermochemistry(molecule, cond)
             res.notes[:0] = notes
-            rows += result_rows(path, calc.level_of_theory, molecule, res, unit)
+            rows += result_rows(path, calc, molecule, res, unit)
         except (QcthermoError, ValueError) as err:  # ValueError: e.g. an element without a mass
             rows.append(error_row(path, calc.formula, " ".join(str(err).removeprefix(f"{path}: ").split())))
             errors += 1
