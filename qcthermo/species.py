@@ -358,6 +358,12 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
     if len(signatures) > 1:
         findings.append(Finding("warning", name, f"species {name!r}: its structures are bonded differently "
                                                  "(isomers, not conformers?); all are kept in the ensemble"))
+    programs = sorted({c.calculation.program or "?" for c in result.used})
+    if len(programs) > 1:
+        # absolute energies of two programs are not on one scale (B3LYP with VWN3 or VWN5, grids, defaults)
+        findings.append(Finding("warning", name, f"species {name!r}: conformers from different programs "
+                                                 f"({', '.join(programs)}); their Boltzmann weights compare "
+                                                 "energies that are not on one scale"))
     findings.extend(_mark_duplicates(name, result.conformers, settings))
     if single_points or explicit_pairs:
         findings.extend(_pair_single_points(name, result.conformers, list(single_points), explicit_pairs,

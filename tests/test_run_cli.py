@@ -125,3 +125,25 @@ def test_init_on_the_scenario_groups_conformers_and_pairs_single_points(tmp_path
     assert [p.name for p in rf.species["h_atom"].single_point] == ["h_atom_mp2.out"]
     assert [p.name for p in rf.species["ch4"].single_point] == ["ch4_mp2.out"]
     assert rf.conditions["standard_state"] == "1M"  # the scenario's solvent/ logs carry a COSMO model
+
+
+def test_init_and_species_keep_programs_apart(tmp_path, third_party):
+    # The same dvb structure at "B3LYP/STO-3G" from Gaussian 16 and ORCA 5 (third-party-logs README:
+    # E = -382.308 and -382.055 Eh): not two conformers of one ensemble.
+    import shutil
+
+    import qcthermo
+    from qcthermo.species import build_species
+
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    shutil.copy(third_party / "gaussian16" / "dvb_ir.out", logs / "dvb_gaussian.out")
+    shutil.copy(third_party / "orca5.0" / "dvb_ir.out", logs / "dvb_orca.out")
+    assert main(["init", str(logs), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    rf = load_reaction_file(logs / "reactions.toml")
+    assert sorted(len(s.logs) for s in rf.species.values()) == [1, 1]
+    # an ensemble the user writes by hand across programs is computed, with a warning
+    calcs = [qcthermo.read_log(logs / name) for name in ("dvb_gaussian.out", "dvb_orca.out")]
+    species = build_species("dvb", calcs, qcthermo.Conditions())
+    warnings = [f.message for f in species.findings if f.severity == "warning"]
+    assert any("different programs (gaussian, orca)" in w for w in warnings)

@@ -21,10 +21,11 @@ from ..records import Calculation
 
 def _group_key(calc: Calculation) -> tuple:
     """Structures that may be conformers of one species: same formula, charge, multiplicity, kind
-    (minimum or saddle point), level of theory, solvent model and bonds (isomers apart)."""
+    (minimum or saddle point), program, level of theory, solvent model and bonds (isomers apart).
+    Programs apart: one level name may hide two definitions (ORCA's B3LYP is not Gaussian's)."""
     from ..ensemble import bond_signature
 
-    return (calc.formula, calc.charge, calc.multiplicity, "saddle-search" in calc.job_types,
+    return (calc.formula, calc.charge, calc.multiplicity, "saddle-search" in calc.job_types, calc.program,
             calc.level_of_theory, calc.solvent_model, bond_signature(calc))
 
 
@@ -89,7 +90,7 @@ def starter_text(survey_result, base: Path) -> str:
     ]
     taken: set[str] = set()
     names = []
-    for (formula, charge, mult, saddle, level, solvent, _), members in groups.items():
+    for (formula, charge, mult, saddle, _, level, solvent, _), members in groups.items():
         name = _species_name([p for p, _ in members], formula, taken)
         names.append((name, saddle))
         what = "transition state (saddle-search job)" if saddle else (
