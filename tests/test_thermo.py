@@ -335,3 +335,12 @@ def test_thermo_relative_free_energies_stay_within_one_program(tmp_path, third_p
     table = pd.read_csv(csv)
     assert set(table["program"]) == {"gaussian", "orca"}
     assert list(table["dG_qrrho_kcal_mol"]) == [0.0, 0.0]
+
+
+def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys):
+    # sample_outputs/README.md table: gas/ holds nine "opt + freq" jobs and the H atom's "energy" job
+    from qcthermo.cli import main
+
+    assert main(["thermo", str(samples / "gas"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    summary = capsys.readouterr().out.strip().splitlines()[-1]
+    assert summary.startswith("9 files: 0 refused or unreadable; 1 without frequencies left out")

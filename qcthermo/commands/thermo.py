@@ -184,6 +184,9 @@ def main(args: argparse.Namespace) -> int:
     if args.csv:
         atomic_write(args.csv, frame.to_csv(index=False))
     n_files = frame["file"].nunique()
-    print(f"{n_files} file{'s' * (n_files != 1)}: {errors} refused or unreadable; "
+    # say what became of the other logs, so a count below the directory's is not a puzzle
+    n_other = sum(c.frequencies is None for c in result.calculations.values())
+    other = f"; {n_other} without frequencies left out (see `qcthermo survey`)" if n_other else ""
+    print(f"{n_files} file{'s' * (n_files != 1)}: {errors} refused or unreadable{other}; "
           f"model {cond.low_mode_model}, {cond.standard_state if cond.pressure is None else f'{cond.pressure} Pa'}")
     return 1 if errors else 0
