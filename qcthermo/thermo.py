@@ -19,7 +19,7 @@ import numpy as np
 from .cleaning import clean_modes
 from .errors import ThermoError
 from .geometry import AMU_ANGSTROM2_KG_M2
-from .records import Conditions, Molecule, ThermoResult, parse_standard_state
+from .records import Calculation, Conditions, Molecule, ThermoResult, parse_standard_state
 from .scaling import resolve_scale_factors
 from .units import AMU, C_LIGHT, H_PLANCK, K_B, K_B_EH, N_A
 
@@ -531,6 +531,13 @@ def _slice(prepared: PreparedMolecules, rows: slice) -> PreparedMolecules:
 def thermochemistry(molecule: Molecule, conditions: Conditions | None = None) -> ThermoResult:
     """Thermochemistry of one molecule (DESIGN.md section 3); raises ThermoError with a one-line reason."""
     conditions = conditions or Conditions()
+    # the usual slip in a notebook is to pass what read_log returned; say how to get a Molecule from it
+    if not isinstance(molecule, Molecule):
+        hint = " (use Molecule.from_calculation(calc))" if isinstance(molecule, Calculation) else ""
+        raise TypeError(f"thermochemistry() needs a Molecule, not a {type(molecule).__name__}{hint}")
+    if not isinstance(conditions, Conditions):
+        raise TypeError(f"thermochemistry() needs Conditions, not a {type(conditions).__name__} "
+                        "(e.g. Conditions(temperature=298.15))")
     return thermochemistry_many([molecule], conditions)[0]
 
 

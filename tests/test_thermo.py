@@ -344,3 +344,14 @@ def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys):
     assert main(["thermo", str(samples / "gas"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
     summary = capsys.readouterr().out.strip().splitlines()[-1]
     assert summary.startswith("9 files: 0 refused or unreadable; 1 without frequencies left out")
+
+
+def test_thermochemistry_of_what_read_log_returned_says_what_to_pass(samples):
+    # passing the Calculation itself ended in "AttributeError: 'Calculation' object has no attribute 'name'"
+    import qcthermo
+
+    calc = qcthermo.read_log(samples / "gas" / "water.out")
+    with pytest.raises(TypeError, match=r"Molecule\.from_calculation"):
+        qcthermo.thermochemistry(calc, Conditions())
+    with pytest.raises(TypeError, match="needs Conditions"):
+        qcthermo.thermochemistry(Molecule.from_calculation(calc), 298.15)
