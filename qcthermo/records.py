@@ -269,6 +269,10 @@ class Conditions:
             raise ValueError("temperature must be a positive number or a 1-D array of them")
         if not (np.isfinite(self.low_mode_threshold) and self.low_mode_threshold >= 0):
             raise ValueError(f"low-mode threshold {self.low_mode_threshold}: expected a wavenumber >= 0 cm^-1")
+        # scale factors of published tables lie within a few per cent of 1; far from it is a slip (common practice)
+        scale = self.frequency_scale
+        if scale != "auto" and not (isinstance(scale, (int, float)) and 0.5 < scale < 1.5):
+            raise ValueError(f"frequency scale {self.frequency_scale}: expected a factor near 1 (0.5 to 1.5) or 'auto'")
         if self.zpe_scale is not None and not 0.5 < self.zpe_scale < 1.5:
             raise ValueError(f"ZPE scale {self.zpe_scale}: expected a factor near 1 (0.5 to 1.5)")
         parse_standard_state(self.standard_state)

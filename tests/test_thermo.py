@@ -355,3 +355,12 @@ def test_thermochemistry_of_what_read_log_returned_says_what_to_pass(samples):
         qcthermo.thermochemistry(calc, Conditions())
     with pytest.raises(TypeError, match="needs Conditions"):
         qcthermo.thermochemistry(Molecule.from_calculation(calc), 298.15)
+
+
+def test_conditions_refuse_a_scale_factor_far_from_one():
+    # published scale factors lie within a few per cent of 1 (common practice); 5 was accepted from Python
+    # (the command line alone checked it) and gave a G off by hundreds of kcal/mol
+    for bad in ({"frequency_scale": 5.0}, {"frequency_scale": -1.0}, {"frequency_scale": "0.97"}, {"zpe_scale": 0.0}):
+        with pytest.raises(ValueError, match="near 1"):
+            Conditions(**bad)
+    assert Conditions(frequency_scale="auto").frequency_scale == "auto"

@@ -43,11 +43,8 @@ def _number_or_word(value: Any, word: str, what: str, example: str) -> float | s
 
 
 def parse_scale(value: Any) -> float | str:
-    """A frequency scale factor: a number near 1, or "auto"."""
-    factor = _number_or_word(value, "auto", "frequency scale", "a number")
-    if factor != "auto" and not 0.5 < factor < 1.5:
-        raise QcthermoError(f"frequency scale {factor}: expected a factor near 1 (0.5 to 1.5)")
-    return factor
+    """A frequency scale factor: a number (Conditions checks that it is near 1), or "auto"."""
+    return _number_or_word(value, "auto", "frequency scale", "a number")
 
 
 def parse_rotor_inertia(value: Any) -> float | str:
