@@ -519,3 +519,13 @@ def test_profile_command_unwritable_output_is_one_line(isomerisation_file, sampl
     assert _run_profile(isomerisation_file, "-o", blocker / "fig.svg", "--directory", samples / "gas") == 2
     (line,) = capsys.readouterr().err.strip().splitlines()
     assert "cannot write the figure" in line
+
+
+def test_profile_command_says_which_temperature_it_drew(isomerisation_file, samples, tmp_path, capsys):
+    # of 250, 300 and 350 K the diagram shows the one nearest 298.15 K (common practice); the message says so
+    from qcthermo.cli import main
+
+    out = tmp_path / "fig.svg"
+    assert main(["profile", str(isomerisation_file), "-o", str(out), "--directory", str(samples / "gas"),
+                 "--temperature-range", "250:350:50", "--no-cache", "--jobs", "1"]) == 0
+    assert "G in kcal/mol at 300 K" in capsys.readouterr().out

@@ -14,6 +14,8 @@ import argparse
 import sys
 from pathlib import Path
 
+import numpy as np
+
 from ..errors import QcthermoError
 from .common import conditions_from_args
 
@@ -58,8 +60,9 @@ def main(args: argparse.Namespace) -> int:
             print(f"error: {subject}: {message}", file=sys.stderr)
     if not results.profiles:
         raise QcthermoError(f"{reaction_file}: no profile could be computed (see the errors above)")
+    t_index = profile_temperature_index(results)
     profiles = profiles_from_records(results.profiles, args.quantity, args.energy_unit, names=args.profiles,
-                                     temperature_index=profile_temperature_index(results))
+                                     temperature_index=t_index)
     if args.profiles:
         fig = plot_profiles(profiles, precision=args.precision)
     else:
@@ -69,5 +72,7 @@ def main(args: argparse.Namespace) -> int:
     except OSError as err:
         raise QcthermoError(f"{output}: cannot write the figure ({err.strerror or err.__class__.__name__})") from None
     if not args.quiet:
-        print(f"{output}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit}")
+        # a --temperature-range draws one of its temperatures: say which
+        t_shown = float(np.atleast_1d(conditions.temperature)[t_index])
+        print(f"{output}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit} at {t_shown:g} K")
     return 1 if any(f[0] == "error" for f in results.findings) else 0
