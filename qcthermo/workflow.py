@@ -100,6 +100,17 @@ class RunResults:
             return 2
         return 1 if self.errors else 0
 
+    def __repr__(self) -> str:
+        """A few lines for a notebook; the generated one ran to tens of thousands of characters."""
+        usable = sum(s.usable for s in self.species_results.values())
+        n_reactions = self.reactions["reaction"].nunique() if len(self.reactions) else 0
+        warnings = sum(f.severity == "warning" for f in self.findings)
+        temps = self.temperatures
+        t = f"{temps[0]:g} K" if len(temps) == 1 else f"{temps[0]:g}-{temps[-1]:g} K ({len(temps)} temperatures)"
+        return (f"<RunResults of {self.settings.get('directory')}: {len(self.species_results)} species ({usable} "
+                f"usable), {n_reactions} reactions, {len(self.profiles)} profiles at {t}; {len(self.errors)} errors, "
+                f"{warnings} warnings in .findings; tables .survey .species .reactions; .write(out) exports>")
+
     def input_files(self) -> list[Path]:
         """Every file the results depend on: the reaction file, frequency logs and single points."""
         files = [self.reaction_file.path] if self.reaction_file else []

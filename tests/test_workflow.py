@@ -405,3 +405,12 @@ def test_paper_tables_keep_the_papers_columns_and_csv_keeps_all(scenario, tmp_pa
     assert {"dG_kcal_mol", f"dG_{model}_kcal_mol", f"dG_{model}_act_kcal_mol"} <= set(reactions)
     assert [c for c in reactions if "_rev_" in c] == [f"dG_{model}_act_rev_kcal_mol"]
     assert "T_K" not in reactions and "k_reverse" not in reactions
+
+
+def test_run_results_repr_is_a_short_summary(results):
+    # what a notebook shows for `results`: the counts, not every DataFrame and ThermoResult (was ~70 000 chars)
+    text = repr(results)
+    assert len(text) < 400 and "\n" not in text
+    n_species = len(results.species_results)
+    assert f"{n_species} species" in text and f"{len(results.errors)} errors" in text
+    assert f"{results.reactions['reaction'].nunique()} reactions" in text
