@@ -147,3 +147,17 @@ def test_init_and_species_keep_programs_apart(tmp_path, third_party):
     species = build_species("dvb", calcs, qcthermo.Conditions())
     warnings = [f.message for f in species.findings if f.severity == "warning"]
     assert any("different programs (gaussian, orca)" in w for w in warnings)
+
+
+def test_init_marks_a_transition_state_frequency_job(tmp_path, third_party):
+    # third-party-logs README: the GAMESS NH3 run is a transition-state frequency job with exactly one
+    # imaginary mode; the starter file must mark it, or the run refuses it as a minimum with a large imaginary mode
+    import shutil
+
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    shutil.copy(third_party / "gamess-us2018" / "nh3_ts_ir.out", logs / "nh3_ts.out")
+    assert main(["init", str(logs), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    rf = load_reaction_file(logs / "reactions.toml")
+    assert [s.transition_state for s in rf.species.values()] == [True]
+    assert "transition state (one imaginary mode)" in (logs / "reactions.toml").read_text()

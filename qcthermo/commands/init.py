@@ -1,7 +1,8 @@
 """``qcthermo init DIR [-o FILE] [--force]``: a starter reaction file listing the species found.
 
 Frequency logs are grouped by formula, charge and multiplicity into candidate conformer ensembles
-(transition states, from saddle-search jobs, apart from minima); single points are listed with the
+(transition states, from saddle-search jobs or frequency jobs with one large imaginary mode, apart
+from minima); single points are listed with the
 group whose geometry they match. Everything the program cannot know (the reactions) is a commented
 example. The file parses back with :func:`qcthermo.reactions.load_reaction_file`.
 """
@@ -19,13 +20,26 @@ from ..errors import QcthermoError
 from ..records import Calculation
 
 
+def _is_saddle(calc: Calculation) -> bool:
+    """A saddle-search job, or a frequency job with exactly one imaginary mode too large to be noise (a
+    transition-state frequency run, as ``qcthermo thermo`` takes it): the threshold is the one below which
+    the default policy inverts an imaginary mode on a minimum."""
+    from ..records import Conditions
+
+    if "saddle-search" in calc.job_types:
+        return True
+    freqs = calc.frequencies
+    imaginary = freqs[freqs < 0] if freqs is not None else []
+    return len(imaginary) == 1 and abs(imaginary[0]) >= Conditions().imaginary_threshold
+
+
 def _group_key(calc: Calculation) -> tuple:
     """Structures that may be conformers of one species: same formula, charge, multiplicity, kind
     (minimum or saddle point), program, level of theory, solvent model and bonds (isomers apart).
     Programs apart: one level name may hide two definitions (ORCA's B3LYP is not Gaussian's)."""
     from ..ensemble import bond_signature
 
-    return (calc.formula, calc.charge, calc.multiplicity, "saddle-search" in calc.job_types, calc.program,
+    return (calc.formula, calc.charge, calc.multiplicity, _is_saddle(calc), calc.program,
             calc.level_of_theory, calc.solvent_model, bond_signature(calc))
 
 
@@ -93,7 +107,8 @@ def starter_text(survey_result, base: Path) -> str:
     for (formula, charge, mult, saddle, _, level, solvent, _), members in groups.items():
         name = _species_name([p for p, _ in members], formula, taken)
         names.append((name, saddle))
-        what = "transition state (saddle-search job)" if saddle else (
+        how = "saddle-search job" if all("saddle-search" in c.job_types for _, c in members) else "one imaginary mode"
+        what = f"transition state ({how})" if saddle else (
             f"{len(members)} structures: a conformer ensemble?" if len(members) > 1 else "one structure")
         lines += [f"[species.{name}]   # {formula}, charge {charge}, multiplicity {mult}, {level or '?'}"
                   f"{', ' + solvent if solvent else ''}: {what}",
