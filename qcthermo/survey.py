@@ -303,6 +303,17 @@ def audit(calc: Calculation) -> list[str]:
     return reasons
 
 
+def is_transition_state(calc: Calculation, imaginary_threshold: float) -> bool:
+    """A saddle-search job, or a frequency job with exactly one imaginary mode of at least
+    ``imaginary_threshold`` cm^-1 (a transition-state frequency run: too large for the noise a minimum's
+    imaginary-mode policy inverts)."""
+    if "saddle-search" in calc.job_types:
+        return True
+    freqs = calc.frequencies
+    imaginary = freqs[freqs < 0] if freqs is not None else freqs
+    return imaginary is not None and len(imaginary) == 1 and abs(imaginary[0]) >= imaginary_threshold
+
+
 def job_types_label(job_types) -> str:
     """"optimization+frequencies": known kinds in workflow order, then any others alphabetically."""
     known = [j for j in JOB_TYPES if j in job_types]

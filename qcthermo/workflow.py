@@ -191,14 +191,20 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
 
 
 def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, SpeciesResult]:
-    """Without a reaction file: one species per frequency log, named by its path (no suffix)."""
+    """Without a reaction file: one species per frequency log, named by its path (no suffix); a transition
+    state when :func:`qcthermo.survey.is_transition_state` says so, as in ``qcthermo thermo``."""
+    from .survey import is_transition_state
+
     out = {}
     for rel, calc in sorted(survey_result.calculations.items()):
         if calc.frequencies is None and calc.natoms > 1:
             continue
         name = str(Path(rel).with_suffix(""))
-        options = SpeciesOptions(transition_state="saddle-search" in calc.job_types)
-        out[name] = build_species(name, [calc], conditions, options)
+        ts = is_transition_state(calc, conditions.imaginary_threshold)
+        out[name] = build_species(name, [calc], conditions, SpeciesOptions(transition_state=ts))
+        if ts and "saddle-search" not in calc.job_types:
+            out[name].findings.append(Finding("warning", name, f"species {name!r}: one imaginary mode "
+                                              f"({calc.frequencies.min():.1f} cm^-1): taken for a transition state"))
     return out
 
 

@@ -414,3 +414,15 @@ def test_run_results_repr_is_a_short_summary(results):
     n_species = len(results.species_results)
     assert f"{n_species} species" in text and f"{len(results.errors)} errors" in text
     assert f"{results.reactions['reaction'].nunique()} reactions" in text
+
+
+def test_run_without_reaction_file_takes_a_ts_frequency_job_as_thermo_does(tmp_path, third_party):
+    # third-party-logs README: the GAMESS NH3 run is a transition-state frequency job with exactly one
+    # imaginary mode; `qcthermo thermo` takes it for a transition state, and so must a run without reactions
+    import shutil
+
+    shutil.copy(third_party / "gamess-us2018" / "nh3_ts_ir.out", tmp_path / "nh3_ts.out")
+    res = qcthermo.run(tmp_path, jobs=1, cache=False)
+    species = res.species_results["nh3_ts"]
+    assert species.usable and species.options.transition_state
+    assert any("taken for a transition state" in f.message for f in res.findings if f.severity == "warning")

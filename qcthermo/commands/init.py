@@ -20,26 +20,16 @@ from ..errors import QcthermoError
 from ..records import Calculation
 
 
-def _is_saddle(calc: Calculation) -> bool:
-    """A saddle-search job, or a frequency job with exactly one imaginary mode too large to be noise (a
-    transition-state frequency run, as ``qcthermo thermo`` takes it): the threshold is the one below which
-    the default policy inverts an imaginary mode on a minimum."""
-    from ..records import Conditions
-
-    if "saddle-search" in calc.job_types:
-        return True
-    freqs = calc.frequencies
-    imaginary = freqs[freqs < 0] if freqs is not None else []
-    return len(imaginary) == 1 and abs(imaginary[0]) >= Conditions().imaginary_threshold
-
-
 def _group_key(calc: Calculation) -> tuple:
     """Structures that may be conformers of one species: same formula, charge, multiplicity, kind
     (minimum or saddle point), program, level of theory, solvent model and bonds (isomers apart).
     Programs apart: one level name may hide two definitions (ORCA's B3LYP is not Gaussian's)."""
     from ..ensemble import bond_signature
+    from ..records import Conditions
+    from ..survey import is_transition_state
 
-    return (calc.formula, calc.charge, calc.multiplicity, _is_saddle(calc), calc.program,
+    saddle = is_transition_state(calc, Conditions().imaginary_threshold)  # as thermo takes it, default threshold
+    return (calc.formula, calc.charge, calc.multiplicity, saddle, calc.program,
             calc.level_of_theory, calc.solvent_model, bond_signature(calc))
 
 

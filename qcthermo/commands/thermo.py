@@ -76,11 +76,12 @@ def molecule_of(path: str, calc, cond: Conditions) -> tuple[Molecule, list[str]]
     A saddle-search job is a transition state; so is a frequency job with exactly one imaginary mode
     too large for the default policy to invert (a transition-state frequency run), with a warning.
     """
+    from ..survey import is_transition_state
+
     molecule = Molecule.from_calculation(calc, name=path)
-    imaginary = molecule.frequencies[molecule.frequencies < 0]
-    if molecule.transition_state or len(imaginary) != 1 or abs(imaginary[0]) < cond.imaginary_threshold:
+    if molecule.transition_state or not is_transition_state(calc, cond.imaginary_threshold):
         return molecule, []
-    note = f"warning: one imaginary mode ({imaginary[0]:.1f} cm^-1): treated as a transition state"
+    note = f"warning: one imaginary mode ({molecule.frequencies.min():.1f} cm^-1): treated as a transition state"
     return molecule.replace(transition_state=True), [note]
 
 
