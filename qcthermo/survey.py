@@ -377,6 +377,10 @@ class SurveyResult:
     notes: list[str] = field(default_factory=list)
     stats: dict[str, int] = field(default_factory=dict)
 
+    def __repr__(self) -> str:
+        """One line for a notebook (the generated one printed every Calculation's arrays)."""
+        return f"<SurveyResult of {self.directory}: {self.summary()}; .to_frame() for the table>"
+
     def counts(self) -> dict[str, int]:
         """{"ok": n, "warning": n, "error": n}."""
         out = {"ok": 0, "warning": 0, "error": 0}

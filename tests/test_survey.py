@@ -331,3 +331,12 @@ def test_a_log_without_geometry_is_a_warning(third_party, cache_dir):
     tree = third_party / "xtb6.6.1"
     (row,) = survey(tree, jobs=1).rows
     assert row["status"] == "warning" and "no geometry" in row["reason"]
+
+
+def test_survey_result_repr_is_one_line(samples, cache_dir):
+    # what a notebook shows for `qcthermo.survey(...)`: the summary, not every Calculation (was ~50 000 chars)
+    from qcthermo.survey import survey
+
+    result = survey(samples / "gas", jobs=1)
+    text = repr(result)
+    assert "\n" not in text and len(text) < 300 and result.summary() in text
