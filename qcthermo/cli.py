@@ -50,9 +50,10 @@ def _add_reading(p: argparse.ArgumentParser) -> None:
 
 def _add_conditions(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("conditions (override the reaction file's [conditions])")
-    g.add_argument("--temperature", type=float, default=None, metavar="K", help="temperature, K (298.15)")
-    g.add_argument("--temperature-range", default=None, metavar="START:STOP:STEP",
-                   help="a range of temperatures, K, STOP included: every table becomes long")
+    one_or_range = g.add_mutually_exclusive_group()  # both given, one would be dropped without a word
+    one_or_range.add_argument("--temperature", type=float, default=None, metavar="K", help="temperature, K (298.15)")
+    one_or_range.add_argument("--temperature-range", default=None, metavar="START:STOP:STEP",
+                              help="a range of temperatures, K, STOP included: every table becomes long")
     g.add_argument("--standard-state", default=None, metavar="STATE",
                    help="1atm | 1bar | 1M (default 1atm; a reaction file may set it)")
     g.add_argument("--low-mode-model", default=None,

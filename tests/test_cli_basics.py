@@ -77,3 +77,14 @@ def test_counts_out_of_range_are_usage_errors(capsys):
         assert exit_info.value.code == 2, argv
         err = capsys.readouterr().err
         assert "Traceback" not in err and ("--precision" in err or "--jobs" in err), argv
+
+
+def test_temperature_and_temperature_range_together_are_a_usage_error(capsys):
+    # --temperature 500 with a range was dropped without a word (the range won)
+    import pytest
+
+    from qcthermo.cli import main
+
+    with pytest.raises(SystemExit) as exit_info:
+        main(["thermo", "logs", "--temperature", "500", "--temperature-range", "250:350:50"])
+    assert exit_info.value.code == 2 and "not allowed with" in capsys.readouterr().err
