@@ -186,7 +186,9 @@ def audit_calculation(calc: Calculation, transition_state: bool, imaginary_thres
     if calc.energy is None:
         add("error", "no electronic energy in the file")
     if calc.frequencies is None and calc.natoms > 1:
-        add("error", "no frequencies in the file (a frequency job is needed for thermochemistry)")
+        # a glob such as "ch4*.out" often catches the species' own single point: say where that belongs
+        hint = "; a single point belongs under single_point" if "single-point" in calc.job_types else ""
+        add("error", f"no frequencies in the file (a frequency job is needed for thermochemistry{hint})")
         return found
     imag = [] if calc.frequencies is None else sorted(float(f) for f in calc.frequencies if f < 0)
     listed = ", ".join(f"{f:.1f}" for f in imag)

@@ -426,3 +426,13 @@ def test_run_without_reaction_file_takes_a_ts_frequency_job_as_thermo_does(tmp_p
     species = res.species_results["nh3_ts"]
     assert species.usable and species.options.transition_state
     assert any("taken for a transition state" in f.message for f in res.findings if f.severity == "warning")
+
+
+def test_a_single_point_caught_by_a_logs_glob_is_pointed_to_single_point(tmp_path, samples):
+    # sample_outputs/README.md: sp/ch4_mp2.out is an MP2 single point ("energy" job) on the CH4 geometry
+    path = tmp_path / "r.toml"
+    root = samples.as_posix()
+    path.write_text(f'[species.ch4]\nlogs = ["{root}/gas/ch4.out", "{root}/sp/ch4_mp2.out"]\n')
+    res = qcthermo.run(samples, reactions=path, jobs=1, cache=False)
+    messages = [f.message for f in res.findings if f.subject.endswith("ch4_mp2.out")]
+    assert any("a single point belongs under single_point" in m for m in messages)
