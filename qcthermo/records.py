@@ -85,6 +85,11 @@ class Calculation(_Composition):
     notes: list[str] = field(default_factory=list)
 
     @property
+    def has_vibrations(self) -> bool:
+        """True when the file holds all the engine needs: frequencies, or none needed (an atom)."""
+        return self.frequencies is not None or self.natoms == 1
+
+    @property
     def n_imaginary(self) -> int:
         """Number of imaginary (negative) frequencies; 0 when there are no frequencies."""
         return 0 if self.frequencies is None else int(np.sum(self.frequencies < 0))

@@ -185,7 +185,7 @@ def audit_calculation(calc: Calculation, transition_state: bool, imaginary_thres
         add("error", "the geometry optimisation did not converge")
     if calc.energy is None:
         add("error", "no electronic energy in the file")
-    if calc.frequencies is None and calc.natoms > 1:
+    if not calc.has_vibrations:
         # a glob such as "ch4*.out" often catches the species' own single point: say where that belongs
         hint = "; a single point belongs under single_point" if "single-point" in calc.job_types else ""
         add("error", f"no frequencies in the file (a frequency job is needed for thermochemistry{hint})")

@@ -197,7 +197,7 @@ def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, Spe
 
     out = {}
     for rel, calc in sorted(survey_result.calculations.items()):
-        if calc.frequencies is None and calc.natoms > 1:
+        if not calc.has_vibrations:
             continue
         name = str(Path(rel).with_suffix(""))
         ts = is_transition_state(calc, conditions.imaginary_threshold)

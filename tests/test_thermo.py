@@ -337,13 +337,19 @@ def test_thermo_relative_free_energies_stay_within_one_program(tmp_path, third_p
     assert list(table["dG_qrrho_kcal_mol"]) == [0.0, 0.0]
 
 
-def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys):
-    # sample_outputs/README.md table: gas/ holds nine "opt + freq" jobs and the H atom's "energy" job
+def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys, tmp_path):
+    # sample_outputs/README.md table: gas/ holds nine "opt + freq" jobs and the H atom's "energy" job;
+    # an atom needs no frequencies, so all ten get a row; sp/ holds MP2 single points of molecules
     from qcthermo.cli import main
 
-    assert main(["thermo", str(samples / "gas"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    table = tmp_path / "gas.csv"
+    assert main(["thermo", str(samples / "gas"), "--no-cache", "--jobs", "1", "--quiet", "--csv", str(table)]) == 0
     summary = capsys.readouterr().out.strip().splitlines()[-1]
-    assert summary.startswith("9 files: 0 refused or unreadable; 1 without frequencies left out")
+    assert summary.startswith("10 files: 0 refused or unreadable; model")
+    assert "h_atom.out" in table.read_text()
+    assert main(["thermo", str(samples / "sp"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
+    summary = capsys.readouterr().out.strip().splitlines()[-1]
+    assert summary.startswith("1 file: 0 refused or unreadable; 6 without frequencies left out")
 
 
 def test_thermochemistry_of_what_read_log_returned_says_what_to_pass(samples):

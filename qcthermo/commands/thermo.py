@@ -113,7 +113,7 @@ def thermo_table(calculations: dict[str, Any], read_errors: dict[str, str], cond
     errors = 0
     for path in sorted(calculations):
         calc = calculations[path]
-        if calc.frequencies is None:
+        if not calc.has_vibrations:
             continue
         try:
             molecule, notes = molecule_of(path, calc, cond)
@@ -186,7 +186,7 @@ def main(args: argparse.Namespace) -> int:
         atomic_write(args.csv, frame.to_csv(index=False))
     n_files = frame["file"].nunique()
     # say what became of the other logs, so a count below the directory's is not a puzzle
-    n_other = sum(c.frequencies is None for c in result.calculations.values())
+    n_other = sum(not c.has_vibrations for c in result.calculations.values())
     other = f"; {n_other} without frequencies left out (see `qcthermo survey`)" if n_other else ""
     print(f"{n_files} file{'s' * (n_files != 1)}: {errors} refused or unreadable{other}; "
           f"model {cond.low_mode_model}, {cond.standard_state if cond.pressure is None else f'{cond.pressure} Pa'}")
