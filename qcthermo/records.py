@@ -280,6 +280,10 @@ class Conditions:
             raise ValueError(f"frequency scale {self.frequency_scale}: expected a factor near 1 (0.5 to 1.5) or 'auto'")
         if self.zpe_scale is not None and not 0.5 < self.zpe_scale < 1.5:
             raise ValueError(f"ZPE scale {self.zpe_scale}: expected a factor near 1 (0.5 to 1.5)")
+        inertia = self.rotor_inertia
+        if inertia != "molecular" and not (isinstance(inertia, (int, float)) and 0 < inertia < 1e-40):
+            raise ValueError(f"rotor inertia {inertia}: expected a molecular moment of inertia, kg m^2 (e.g. 1e-44), "
+                             "or 'molecular'")
         parse_standard_state(self.standard_state)
 
     def replace(self, **changes) -> Conditions:

@@ -54,13 +54,26 @@ def test_out_of_range_conditions_are_refused(capsys, tmp_path):
     from qcthermo.cli import main
 
     bad = [["--temperature", "nan"], ["--temperature", "inf"], ["--low-mode-threshold", "-10"],
-           ["--zpe-scale", "5"], ["--zpe-scale", "-1"]]
+           ["--zpe-scale", "5"], ["--zpe-scale", "-1"], ["--rotor-inertia", "5"]]
     for option in bad:
         assert main(["thermo", str(tmp_path), *option]) == 2, option
     err = capsys.readouterr().err.strip().splitlines()
     assert len(err) == len(bad) and all(line.startswith("qcthermo thermo: error:") for line in err)
     assert "temperature" in err[0] and "temperature" in err[1]
     assert "low-mode threshold" in err[2] and "ZPE scale" in err[3] and "ZPE scale" in err[4]
+    assert "rotor inertia" in err[5]
+
+
+def test_rotor_inertia_is_checked_from_python_as_from_the_command_line():
+    # B_av of Grimme's free-rotor limit is a molecular moment of inertia (1e-44 kg m^2, Chem. Eur. J. 2012, 18,
+    # 9955); 5 kg m^2 is a slip, whether typed on the command line or in a notebook
+    import pytest
+
+    from qcthermo.records import Conditions
+
+    with pytest.raises(ValueError, match="rotor inertia"):
+        Conditions(low_mode_model="qrrho", rotor_inertia=5.0)
+    assert Conditions(rotor_inertia="molecular").rotor_inertia == "molecular"
 
 
 def test_counts_out_of_range_are_usage_errors(capsys):

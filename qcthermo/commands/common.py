@@ -48,11 +48,8 @@ def parse_scale(value: Any) -> float | str:
 
 
 def parse_rotor_inertia(value: Any) -> float | str:
-    """B_av of the free-rotor limit: a molecular moment of inertia in kg m^2, or "molecular"."""
-    inertia = _number_or_word(value, "molecular", "rotor inertia", "kg m^2 (e.g. 1e-44)")
-    if inertia != "molecular" and not 0 < inertia < 1e-40:
-        raise QcthermoError(f"rotor inertia {inertia}: expected a molecular moment of inertia, kg m^2 (e.g. 1e-44)")
-    return inertia
+    """B_av of the free-rotor limit: kg m^2 (Conditions checks that it is molecular), or "molecular"."""
+    return _number_or_word(value, "molecular", "rotor inertia", "kg m^2 (e.g. 1e-44)")
 
 
 def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any] | None = None) -> Conditions:
