@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import contextlib
 import os
-import tempfile
+import secrets
 from collections.abc import Iterator
 from pathlib import Path
 from typing import IO
@@ -23,25 +23,19 @@ def atomic_open(path: str | os.PathLike, mode: str = "w", encoding: str | None =
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     binary = "b" in mode
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
+    tmp = path.parent / f".{path.name}.{secrets.token_hex(8)}.tmp"
+    # mode 0o666 as a plain open() uses: the kernel applies the umask (mkstemp's files would be 0600)
+    fd = os.open(tmp, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o666)
     try:
         with os.fdopen(fd, mode, encoding=None if binary else encoding) as handle:
             yield handle
             handle.flush()
             os.fsync(handle.fileno())
-        # mkstemp makes the file private (0600); give it the permissions a plain open() would
-        os.chmod(tmp, 0o666 & ~_umask())
         os.replace(tmp, path)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
-
-
-def _umask() -> int:
-    mask = os.umask(0)
-    os.umask(mask)
-    return mask
 
 
 def atomic_write(path: str | os.PathLike, data: str | bytes) -> Path:
