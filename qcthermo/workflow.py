@@ -745,12 +745,12 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     blocks = _xyz_blocks(results)
     if blocks:
         written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))
-    written += _optional_exports(results, out_dir)
+    written += _model_files_figures_and_documents(results, out_dir)
     written.append(atomic_write(out_dir / "run.json", run_json(results, written)))
     return written
 
 
-def _optional_exports(results: RunResults, out_dir: Path) -> list[Path]:
+def _model_files_figures_and_documents(results: RunResults, out_dir: Path) -> list[Path]:
     """NASA-7 files (thermo.yaml, thermo.dat), figures, supporting information and the report."""
     from .export.figures import write_profile_figures
     from .export.nasa7 import write_run_thermo
