@@ -9,7 +9,6 @@ docs/survey.md.
 
 from __future__ import annotations
 
-import contextlib
 import hashlib
 import importlib
 import importlib.metadata
@@ -244,10 +243,6 @@ def read_parallel(reader: Reader, paths: list[str], jobs: int, report: Callable[
     """
     indexed = list(enumerate(paths))
     retry: list[tuple[int, str]] = []
-    if reader is default_reader:
-        from .readers import preload
-
-        preload()
     pool = _pool(min(jobs, len(indexed)))
     try:
         futures = {pool.submit(read_chunk, reader, [p for _, p in chunk], index): chunk
@@ -504,8 +499,9 @@ def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int],
             report(k, read_one(reader, path, index))
         return
     if reader is default_reader:
-        with contextlib.suppress(ImportError):  # without readers each file reports the failure itself
-            importlib.import_module("qcthermo.readers")  # once here, shared by the forked workers
+        from .readers import preload
+
+        preload()  # the readers and cclib imported once here, shared by the forked workers
     read_parallel(reader, paths, jobs, report, index.index() if index is not None else None)
 
 
