@@ -12,6 +12,7 @@ from __future__ import annotations
 import difflib
 import glob
 import re
+import tomllib
 from collections import Counter
 from collections.abc import Iterator
 from dataclasses import dataclass, field
@@ -24,11 +25,6 @@ import numpy as np
 from .errors import ReactionFileError
 from .records import LOW_MODE_MODELS, parse_standard_state
 
-try:  # Python >= 3.11
-    import tomllib
-except ModuleNotFoundError:  # pragma: no cover - Python 3.10
-    import tomli as tomllib
-
 #: keys of [conditions]: the fields of qcthermo.Conditions a file may set
 CONDITION_KEYS = (
     "temperature", "pressure", "standard_state", "low_mode_model", "low_mode_threshold", "rotor_inertia",
@@ -36,8 +32,8 @@ CONDITION_KEYS = (
 )
 #: keys of [ensemble] and their defaults (angstrom, kcal/mol, angstrom)
 ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1, "single_point_rmsd": 0.05}
-SPECIES_KEYS = ("logs", "single_point", "symmetry_number", "electronic_degeneracy", "imaginary_policy",
-                "concentration", "transition_state", "label")
+SPECIES_KEYS = ("logs", "single_point", "symmetry_number", "electronic_degeneracy", "enantiomers",
+                "imaginary_policy", "concentration", "transition_state", "label")
 REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling")
 PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "style", "order", "overlay")
 #: presentation keys of a profile, passed to the figures as given (after a type check)
@@ -61,6 +57,8 @@ class SpeciesSpec:
         single_point_pairs: explicit pairing log -> single point (absolute paths), when the file
             gave a table instead of a glob.
         symmetry_number, electronic_degeneracy, imaginary_policy: overrides for the engine (None: its default).
+        enantiomers: 2 when a chiral species computed as one enantiomer stands for both mirror images
+            (its G then takes -RT ln 2), 1 to say one enantiomer is meant; None when not said.
         concentration: mol/L of a species that is its own solvent (e.g. 55.3 for water), or None.
         transition_state: True / False as declared, None when not said (inferred from the jobs and
             from being some reaction's transition state).
@@ -74,6 +72,7 @@ class SpeciesSpec:
     single_point_pairs: dict[Path, Path] = field(default_factory=dict)
     symmetry_number: int | None = None
     electronic_degeneracy: int | None = None
+    enantiomers: int | None = None
     imaginary_policy: str | None = None
     concentration: float | None = None
     transition_state: bool | None = None
@@ -296,6 +295,10 @@ class _Parser:
                 if isinstance(value, bool) or not isinstance(value, int) or value < 1:
                     self.fail(f"{what} {key} must be a positive integer", key_line(key))
                 setattr(spec, key, value)
+        if "enantiomers" in table:
+            if table["enantiomers"] not in (1, 2) or isinstance(table["enantiomers"], bool):
+                self.fail(f"{what} enantiomers must be 1 or 2 (mirror images counted)", key_line("enantiomers"))
+            spec.enantiomers = table["enantiomers"]
         if "imaginary_policy" in table:
             if table["imaginary_policy"] not in IMAGINARY_POLICIES:
                 self.fail(f"{what} imaginary_policy must be one of {', '.join(IMAGINARY_POLICIES)}",

@@ -8,6 +8,7 @@ not what the reader returns. The number of vibrational modes, 3N-6 or 3N-5, is c
 from __future__ import annotations
 
 import re
+import tomllib
 from collections import Counter
 from pathlib import Path
 
@@ -15,11 +16,6 @@ import numpy as np
 import pytest
 
 import qcthermo
-
-try:
-    import tomllib
-except ModuleNotFoundError:  # Python 3.10
-    import tomli as tomllib
 
 # what each kind of job in inputs/ asks the program for; a saddle search is also reported as an
 # optimisation (the convention of docs/readers.md)
