@@ -256,7 +256,7 @@ class Conditions:
     temperature: Any = 298.15
     pressure: float | None = None
     standard_state: str = "1atm"
-    low_mode_model: str = "rrho"
+    low_mode_model: str = "qrrho"
     low_mode_threshold: float = 100.0
     rotor_inertia: Any = 1e-44
     frequency_scale: Any = 1.0

@@ -38,6 +38,20 @@ def test_engine_options_reach_the_conditions():
     assert list(cond.temperature) == [250.0, 300.0, 350.0]
 
 
+def test_python_defaults_are_the_command_lines():
+    # one set of defaults: `qcthermo thermo DIR` and qcthermo.Conditions() compute the same numbers, and the
+    # default is Grimme's qRRHO at 100 cm^-1 (Chem. Eur. J. 2012, 18, 9955), as the --help text says
+    from qcthermo.cli import build_parser
+    from qcthermo.commands.common import conditions_from_args
+    from qcthermo.records import Conditions
+
+    parser = build_parser()
+    assert conditions_from_args(parser.parse_args(["thermo", "logs"])) == Conditions()
+    assert Conditions().low_mode_model == "qrrho" and Conditions().low_mode_threshold == 100.0
+    help_text = " ".join(parser._subparsers._group_actions[0].choices["thermo"].format_help().split())
+    assert "default qrrho" in help_text and "(100)" in help_text and "(298.15)" in help_text
+
+
 def test_bad_option_values_are_one_line_errors(capsys, tmp_path):
     from qcthermo.cli import main
 

@@ -115,8 +115,8 @@ def test_soft_mode_models_differ_from_rrho():
     assert results["qrrho-enthalpy"].enthalpy != results["qrrho"].enthalpy
     # quasi-harmonic: the 20 cm^-1 mode counts as a 100 cm^-1 one (Ribeiro et al. 2011)
     raised = mol.replace(frequencies=np.where(freqs == 20.0, 100.0, freqs))
-    assert results["quasi-harmonic"].entropy == pytest.approx(thermochemistry(raised, Conditions()).entropy,
-                                                              rel=1e-12)
+    rrho = thermochemistry(raised, Conditions(low_mode_model="rrho"))
+    assert results["quasi-harmonic"].entropy == pytest.approx(rrho.entropy, rel=1e-12)
     for res in results.values():
         assert res.rrho["entropy"] == pytest.approx(results["rrho"].entropy, rel=1e-12)
 

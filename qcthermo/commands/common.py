@@ -10,15 +10,6 @@ import numpy as np
 from ..errors import QcthermoError
 from ..records import Conditions
 
-#: defaults of the command line where neither an option nor a reaction file says otherwise
-CLI_DEFAULTS: dict[str, Any] = {
-    "temperature": 298.15,
-    "standard_state": "1atm",
-    "low_mode_model": "qrrho",
-    "low_mode_threshold": 100.0,
-    "frequency_scale": 1.0,
-}
-
 
 def parse_temperature_range(text: str) -> np.ndarray:
     """``"250:350:25"`` -> [250, 275, 300, 325, 350] K (STOP included when it falls on the grid)."""
@@ -53,9 +44,9 @@ def parse_rotor_inertia(value: Any) -> float | str:
 
 
 def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any] | None = None) -> Conditions:
-    """Conditions from, in rising priority: CLI defaults, a reaction file's [conditions], options."""
-    settings = dict(CLI_DEFAULTS)
-    settings.update(file_settings or {})
+    """Conditions from, in rising priority: Conditions()'s defaults (the command line has no others), a
+    reaction file's [conditions], options."""
+    settings = dict(file_settings or {})
     for key in ("temperature", "standard_state", "low_mode_model", "low_mode_threshold", "frequency_scale",
                 "zpe_scale", "rotor_inertia", "imaginary_policy"):
         value = getattr(args, key, None)
@@ -63,7 +54,8 @@ def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any]
             settings[key] = value
     if getattr(args, "temperature_range", None):
         settings["temperature"] = parse_temperature_range(args.temperature_range)
-    settings["frequency_scale"] = parse_scale(settings["frequency_scale"])
+    if "frequency_scale" in settings:
+        settings["frequency_scale"] = parse_scale(settings["frequency_scale"])
     if "rotor_inertia" in settings:
         settings["rotor_inertia"] = parse_rotor_inertia(settings["rotor_inertia"])
     try:
