@@ -14,6 +14,8 @@ from typing import Any
 
 import numpy as np
 
+from .units import ATM_PA, BAR_PA, FREE_ROTOR_INERTIA_KG_M2
+
 #: job kinds a reader may report in ``Calculation.job_types``
 JOB_TYPES = ("optimization", "frequencies", "single-point", "saddle-search", "irc", "scan")
 
@@ -230,7 +232,7 @@ class Molecule(_Composition):
 
 
 #: standard states by name: ("pressure", Pa) for gas, ("concentration", mol/L) for solution
-STANDARD_STATES = {"1atm": ("pressure", 101325.0), "1bar": ("pressure", 100000.0), "1M": ("concentration", 1.0)}
+STANDARD_STATES = {"1atm": ("pressure", ATM_PA), "1bar": ("pressure", BAR_PA), "1M": ("concentration", 1.0)}
 
 LOW_MODE_MODELS = ("rrho", "qrrho", "qrrho-enthalpy", "quasi-harmonic")
 
@@ -258,7 +260,7 @@ class Conditions:
     standard_state: str = "1atm"
     low_mode_model: str = "qrrho"
     low_mode_threshold: float = 100.0
-    rotor_inertia: Any = 1e-44
+    rotor_inertia: Any = FREE_ROTOR_INERTIA_KG_M2
     frequency_scale: Any = 1.0
     zpe_scale: float | None = None
     imaginary_policy: str | None = None

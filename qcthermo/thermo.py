@@ -21,7 +21,7 @@ from .errors import ThermoError
 from .geometry import AMU_ANGSTROM2_KG_M2
 from .records import Calculation, Conditions, Molecule, ThermoResult, parse_standard_state
 from .scaling import resolve_scale_factors
-from .units import AMU, C_LIGHT, H_PLANCK, K_B, K_B_EH, N_A
+from .units import AMU, C_LIGHT, FREE_ROTOR_INERTIA_KG_M2, H_PLANCK, K_B, K_B_EH, N_A
 
 COMPONENTS = ("translational", "rotational", "vibrational", "electronic")
 #: the totals of :func:`thermo_arrays` (also with the "rrho_" prefix)
@@ -183,7 +183,7 @@ def grimme_weight(wavenumbers, threshold):
     return 1.0 / (1.0 + (threshold / np.asarray(wavenumbers)) ** 4)
 
 
-def free_rotor_entropy(wavenumbers, temperature, average_inertia_kg_m2=1e-44):
+def free_rotor_entropy(wavenumbers, temperature, average_inertia_kg_m2=FREE_ROTOR_INERTIA_KG_M2):
     """Entropy of a free rotor with the moment of a vibration of wavenumber nu, Eh/K.
 
     mu = h / (8 pi^2 nu c) (eq. 4), mu' = mu B_av / (mu + B_av) (eq. 5),
@@ -196,7 +196,7 @@ def free_rotor_entropy(wavenumbers, temperature, average_inertia_kg_m2=1e-44):
     return K_B_EH * (0.5 + 0.5 * np.log(arg))
 
 
-def qrrho_entropy(wavenumbers, temperature, threshold, average_inertia_kg_m2=1e-44):
+def qrrho_entropy(wavenumbers, temperature, threshold, average_inertia_kg_m2=FREE_ROTOR_INERTIA_KG_M2):
     """Quasi-RRHO mode entropy S = w S_HO + (1 - w) S_R (S. Grimme, Chem. Eur. J. 2012, 18, 9955, eq. 7), Eh/K."""
     w = grimme_weight(wavenumbers, threshold)
     s_ho = harmonic_entropy(vibrational_temperatures(wavenumbers), temperature)
@@ -394,7 +394,7 @@ def _rotor_inertia(prepared: PreparedMolecules, rotor_inertia) -> np.ndarray:
         if rotor_inertia != "molecular":
             raise ThermoError(f"rotor inertia {rotor_inertia!r}: expected a number (kg m^2) or 'molecular'")
         mean = prepared.moments.mean(axis=1) * AMU_ANGSTROM2_KG_M2
-        return np.where(mean > 0, mean, 1e-44)
+        return np.where(mean > 0, mean, FREE_ROTOR_INERTIA_KG_M2)
     return np.full(len(prepared), float(rotor_inertia))
 
 

@@ -35,6 +35,9 @@ WAVENUMBER_EH = H_PLANCK * C_LIGHT * 100.0 / HARTREE_J
 ATM_PA = _c.atm
 #: one bar, Pa
 BAR_PA = _c.bar
+#: B_av, the average moment of inertia of the free-rotor limit of the qRRHO entropy, kg m^2
+#: (Grimme, Chem. Eur. J. 2012, 18, 9955)
+FREE_ROTOR_INERTIA_KG_M2 = 1e-44
 #: thermochemical calorie, J
 CALORIE_J = _c.calorie
 
