@@ -170,11 +170,7 @@ def test_temperature_array_matches_ase_loop():
 def _read_dvb(path):
     import qcthermo
 
-    try:
-        read_log = qcthermo.read_log
-    except (AttributeError, ImportError):
-        pytest.skip("qcthermo.read_log is not available")
-    return Molecule.from_calculation(read_log(path), symmetry_number=2)
+    return Molecule.from_calculation(qcthermo.read_log(path), symmetry_number=2)
 
 
 @pytest.mark.parametrize("log", ["gaussian16/dvb_ir.out", "orca5.0/dvb_ir.out", "qchem5.4/dvb_ir.out",
