@@ -20,7 +20,7 @@ def test_expected_mode_counts():
 
 
 def test_residual_translations_and_rotations_are_removed_by_count():
-    # a program that prints 3N modes, six of them ~0 (as NWChem and xTB do; DESIGN.md section 8)
+    # a program that prints 3N modes, six of them ~0 (as NWChem and xTB do; docs/readers.md)
     freqs = np.array([0.02, -0.5, 1.3, 3.1, -7.4, 12.0, *MOLECULES["NH3"][1]])
     mol = molecule("NH3").replace(frequencies=freqs)
     modes = clean_modes(mol, Conditions())
@@ -39,7 +39,7 @@ def test_only_the_extra_modes_are_removed():
 
 
 def test_bent_co2_stays_linear():
-    # DESIGN.md section 9: an absolute tolerance would make CO2 bent by 0.5 degrees nonlinear
+    # docs/thermo.md, "Mode clean-up": an absolute tolerance would make CO2 bent by 0.5 degrees nonlinear
     theta = np.radians(0.5)
     xyz = np.array([[0, 0, 0], [1.16 * np.sin(theta), 0, 1.16 * np.cos(theta)], [0, 0, -1.16]])
     mol = Molecule(["C", "O", "O"], xyz, MOLECULES["CO2"][1])

@@ -5,7 +5,7 @@ import sys
 
 
 def test_help_imports_no_heavy_library():
-    # Start-up budget: `qcthermo --help` must not import pandas, matplotlib or cclib (DESIGN.md section 4).
+    # Start-up budget: `qcthermo --help` must not import pandas, matplotlib or cclib (DEVELOPERS.md, "Package layout").
     code = (
         "import sys; from qcthermo.cli import main\n"
         "try:\n    main(['--help'])\nexcept SystemExit:\n    pass\n"

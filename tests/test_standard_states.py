@@ -169,7 +169,7 @@ def test_ensemble_entropy_includes_mixing_and_composite_shifts_energies_only():
 
 @pytest.mark.parametrize("second, usable", [(-20.0, True), (-300.0, False)])
 def test_second_imaginary_mode_of_a_transition_state_follows_the_policy(samples, second, usable):
-    # DESIGN.md section 6: a transition state has exactly one imaginary mode, left out of q; any other
+    # docs/thermo.md, "Mode clean-up": a transition state has exactly one imaginary mode, left out of q; any other
     # imaginary mode follows the policy, whose default inverts small ones (|nu| < 50 cm^-1) with a warning
     # and refuses large ones (a -300 cm^-1 mode makes a second-order saddle point, not an artefact)
     from dataclasses import replace

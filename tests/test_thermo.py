@@ -144,7 +144,7 @@ def test_batch_equals_single_molecules():
 
 
 def test_large_imaginary_mode_on_minimum_is_refused():
-    # DESIGN.md section 9: a -400 cm^-1 mode on a "minimum" (input: water's bend made imaginary)
+    # docs/thermo.md, "Mode clean-up": a -400 cm^-1 mode on a "minimum" (input: water's bend made imaginary)
     mol = molecule("H2O").replace(frequencies=np.array([-400.0, 3657.0, 3756.0]))
     with pytest.raises(ThermoError) as err:
         thermochemistry(mol, Conditions())
@@ -152,7 +152,7 @@ def test_large_imaginary_mode_on_minimum_is_refused():
 
 
 def test_small_imaginary_mode_is_inverted_with_a_note():
-    # DESIGN.md section 9: -15 cm^-1 is an artefact and is inverted (input: ethylene, 826 -> -15)
+    # docs/thermo.md, "Mode clean-up": -15 cm^-1 is an artefact and is inverted (input: ethylene, 826 -> -15)
     freqs = np.array(MOLECULES["C2H4"][1], dtype=float)
     mol = molecule("C2H4").replace(frequencies=np.where(freqs == 826, -15.0, freqs))
     res = thermochemistry(mol, Conditions())
@@ -204,7 +204,7 @@ def benzene(symmetry_number=None) -> Molecule:
 
 
 def test_benzene_symmetry_number_costs_rt_ln_12():
-    # DESIGN.md section 9: sigma = 12 for benzene lowers S by R ln 12, i.e. raises G by RT ln 12 = 1.47 kcal/mol
+    # docs/symmetry.md: sigma = 12 for benzene lowers S by R ln 12, i.e. raises G by RT ln 12 = 1.47 kcal/mol
     g1 = thermochemistry(benzene(1), Conditions()).gibbs
     g12 = thermochemistry(benzene(12), Conditions()).gibbs
     assert kcal(g12 - g1) == pytest.approx(298.15 * R_GAS * np.log(12) / 1000 / CALORIE_J, rel=1e-9)
@@ -275,7 +275,7 @@ def test_thermo_command_table(third_party, tmp_path, capsys):
 @pytest.mark.parametrize("name", ["H2O", "NH3", "CH4", "C2H4", "CO2", "HCN", "CO", "C6H6"])
 def test_symmetry_number_survives_optimiser_noise(name):
     # common practice: sigma(H2O) 2, NH3 3, CH4 12, C2H4 4, CO2 2, HCN 1, CO 1, C6H6 12; geometries with
-    # 0.005 angstrom random displacements (DESIGN.md section 6) must give the same sigma and linearity
+    # 0.005 angstrom random displacements (docs/symmetry.md, "Tolerance") must give the same sigma and linearity
     mol = benzene() if name == "C6H6" else molecule(name, with_sigma=False)
     expected = 12 if name == "C6H6" else MOLECULES[name][3]
     rng = np.random.default_rng(7)

@@ -5,7 +5,7 @@ at 298.15 K. The molecules' experimental geometries (bond lengths in angstrom, a
 fundamental wavenumbers (cm^-1) below are typed in from memory of the usual tables (Herzberg; NIST
 CCCBDB experimental data); none was read from a file while writing this test. The RRHO model should
 agree within 0.5 J/(mol K) for S and 0.35 J/(mol K) for Cp for rigid molecules without low-lying
-electronic states or internal rotors (DESIGN.md section 7). H2 is left out: its rotational levels are
+electronic states or internal rotors (docs/thermo.md, "Model"). H2 is left out: its rotational levels are
 too widely spaced for the classical rotor at 298 K (see test_partition_sums.py).
 
 The geometry builders here are shared with test_thermo_ase.py.
