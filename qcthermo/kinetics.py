@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -368,6 +369,121 @@ def reaction_rates(
         "tunnelling": tunnelling,
         "notes": notes,
     }
+
+
+@dataclass(frozen=True)
+class Participant:
+    """One species on one side of an elementary reaction, as :func:`reaction_kinetics` needs it.
+
+    Attributes:
+        g: free energy, hartree per molecule (a float or an array over temperature), in the run's
+            standard state, or at the species' own concentration when ``own_concentration``.
+        e_zpe: electronic plus zero-point energy, hartree (float or array over temperature: the
+            populations of a conformer ensemble move with T).
+        coefficient: stoichiometric coefficient; a whole number, since an elementary step counts molecules
+            ("2 A" is A twice).
+        symmetry_number: the rotational symmetry number sigma that ``g`` contains (R T ln sigma).
+        own_concentration: the species is held at its own concentration c, which ``g`` already contains
+            through R T ln(c/c0) (a solvent that takes part).
+    """
+
+    g: Any
+    e_zpe: Any
+    coefficient: float = 1.0
+    symmetry_number: int = 1
+    own_concentration: bool = False
+
+
+@dataclass(frozen=True)
+class TransitionState:
+    """The saddle point of an elementary reaction, as :func:`reaction_kinetics` needs it.
+
+    Attributes:
+        g, e_zpe: as for :class:`Participant`.
+        symmetry_number: its rotational symmetry number.
+        imaginary_frequency: the reaction mode, cm^-1, as the program printed it (unscaled; the sign is
+            ignored); None when there is none.
+    """
+
+    g: Any
+    e_zpe: Any
+    symmetry_number: int = 1
+    imaginary_frequency: float | None = None
+
+
+def _whole_coefficients(side: Sequence[Participant]) -> list[int]:
+    coefficients = [p.coefficient for p in side]
+    if any(c != round(c) or c < 1 for c in coefficients):
+        raise ValueError(f"an elementary reaction needs whole stoichiometric coefficients, not {coefficients}")
+    return [round(c) for c in coefficients]
+
+
+def pseudo_molecularity(side: Sequence[Participant]) -> int:
+    """Molecularity of one side, leaving out the species at their own concentration.
+
+    Their G(c) = G(c0) + R T ln(c/c0) puts a factor c/c0 into exp(-dG_act / R T), so the Eyring rate with
+    (c0)^(1 - m') is k [S] for each left-out species S: a pseudo-order rate constant (the textbook
+    reactant in large excess). A side made only of such species has pseudo-order 0 (k is then the rate,
+    in concentration per second); flooring it at 1 would label k1 c/c0 a first-order k in s^-1.
+    """
+    return sum(c for c, p in zip(_whole_coefficients(side), side, strict=True) if not p.own_concentration)
+
+
+def symmetry_numbers(side: Sequence[Participant]) -> list[int]:
+    """The rotational symmetry numbers of one side, each species counted as often as its coefficient.
+
+    "2 A" contributes sigma_A twice: nu G_A holds nu R T ln sigma_A, i.e. the factor sigma_A^nu of
+    prod sigma_R in the reaction-path degeneracy (Fernandez-Ramos et al., Theor. Chem. Acc. 2007, 118, 813).
+    """
+    return [p.symmetry_number for c, p in zip(_whole_coefficients(side), side, strict=True) for _ in range(c)]
+
+
+def _side_sum(side: Sequence[Participant], quantity: str) -> np.ndarray:
+    return sum(p.coefficient * np.asarray(getattr(p, quantity), dtype=float) for p in side)
+
+
+def _first(value) -> float:
+    """The value at the first temperature."""
+    return float(np.atleast_1d(value)[0])
+
+
+def reaction_kinetics(
+    reactants: Sequence[Participant],
+    products: Sequence[Participant],
+    transition_state: TransitionState,
+    temperature,
+    standard_state="1M",
+    tunnelling: str = "eckart",
+    degeneracy: float | None = None,
+) -> dict:
+    """Forward and reverse TST rate constants of one elementary reaction from its species' energies.
+
+    The reaction's part of the science, on plain numbers:
+
+    * dG_act = G_TS - sum_R nu G_R and dG_act_rev = G_TS - sum_P nu G_P (hartree, over temperature);
+    * the molecularity of each side with :func:`pseudo_molecularity` (species at their own
+      concentration left out; a side of only such species is of order 0);
+    * the reaction-path degeneracy: ``degeneracy`` is the user's total L (None: the symmetry numbers
+      alone, already inside G), of which only :func:`degeneracy_beyond_free_energy`, L sigma_TS / prod
+      sigma_R with the sigmas of :func:`symmetry_numbers`, is applied;
+    * the Eckart barriers V1 = E+ZPE(TS) - sum_R nu E+ZPE(R) and V2 likewise from the products, at the
+      first temperature (E+ZPE depends on T only through conformer populations), with the imaginary
+      frequency unscaled (docs/kinetics.md, "Tunnelling");
+
+    then :func:`reaction_rates`. Returns its dict, plus molecularity_forward, molecularity_reverse,
+    barrier_forward_zpe, barrier_reverse_zpe (hartree). Raises ValueError for what no rate constant can
+    be computed from (a fractional coefficient, an unknown tunnelling model, a non-positive L).
+    """
+    extra = 1.0 if degeneracy is None else degeneracy_beyond_free_energy(
+        degeneracy, symmetry_numbers(reactants), transition_state.symmetry_number)
+    m_forward, m_reverse = pseudo_molecularity(reactants), pseudo_molecularity(products)
+    g_ts, e_ts = np.asarray(transition_state.g, dtype=float), np.asarray(transition_state.e_zpe, dtype=float)
+    v_forward, v_reverse = _first(e_ts - _side_sum(reactants, "e_zpe")), _first(e_ts - _side_sum(products, "e_zpe"))
+    out = reaction_rates(g_ts - _side_sum(reactants, "g"), g_ts - _side_sum(products, "g"), temperature,
+                         m_forward, m_reverse, standard_state, transition_state.imaginary_frequency,
+                         v_forward, v_reverse, degeneracy=extra, tunnelling=tunnelling)
+    return {**out, "molecularity_forward": m_forward, "molecularity_reverse": m_reverse,
+            "barrier_forward_zpe": v_forward, "barrier_reverse_zpe": v_reverse}
 
 
 @dataclass(frozen=True)

@@ -471,30 +471,31 @@ def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, 
 # -- kinetics -------------------------------------------------------------------------------------
 
 
-def _pseudo_molecularity(terms, species: dict[str, SpeciesResult]) -> int:
-    """Molecularity of one side, leaving out species at their own concentration (already in G).
+def _participants(terms, species: dict[str, SpeciesResult]) -> list:
+    """One side of a reaction as qcthermo.kinetics takes it: G, E+ZPE, coefficient, sigma, own concentration."""
+    from .kinetics import Participant
 
-    Their G(c) = G(c0) + RT ln(c/c0) puts a factor c/c0 into exp(-dG_act/RT), so the Eyring rate with
-    (c0)^(1-m') is k [S] for each left-out species S: a pseudo-order rate constant. A side made only of
-    such species has pseudo-order 0 (k is then the rate, in concentration per second); flooring it at
-    1 would label k1 c/c0 as a first-order k in s^-1.
-    """
-    return round(sum(c for c, n in terms if species[n].options.concentration is None))
+    return [Participant(species[n].values["G"], species[n].values["E_zpe"], c, _symmetry_number(species[n]),
+                        species[n].options.concentration is not None) for c, n in terms]
 
 
-def _sigmas(terms, species: dict[str, SpeciesResult]) -> list[int]:
-    out = []
-    for c, n in terms:
-        low = species[n].lowest
-        out += [low.thermo.symmetry_number if low and low.thermo else 1] * max(1, round(c))
-    return out
+def _symmetry_number(s: SpeciesResult) -> int:
+    """The rotational symmetry number of a species' lowest conformer (the one its G was computed with)."""
+    low = s.lowest
+    return low.thermo.symmetry_number if low and low.thermo else 1
+
+
+def _transition_state(s: SpeciesResult):
+    from .kinetics import TransitionState
+
+    return TransitionState(s.values["G"], s.values["E_zpe"], _symmetry_number(s), s.lowest.thermo.imaginary_frequency)
 
 
 def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
     """Add kappa, k_forward, k_reverse, k_unit to ``results.reactions`` and the rates/Arrhenius/energy-span
-    tables (qcthermo.kinetics): Eyring TST with the reaction's tunnelling model, in the run's standard
-    state; a user's degeneracy is the total reaction-path degeneracy L, of which only
-    L sigma_TS / prod sigma_R is applied (the symmetry numbers are already in G)."""
+    tables. The science is :func:`qcthermo.kinetics.reaction_kinetics`; this gathers its inputs from the
+    species of every included reaction with a transition state (``energetics`` holds the included ones),
+    in the standard state the free energies used, and writes the columns."""
     import pandas as pd
 
     from . import kinetics
@@ -510,18 +511,12 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
     state = cond.pressure if cond.pressure is not None else cond.standard_state  # what the free energies used
     rate_rows, fits = [], []
     for r in rf.reactions:
-        e = energetics.get(r.name)
-        if e is None or not r.transition_state:
+        if r.name not in energetics or not r.transition_state:
             continue
-        ts = species[r.transition_state].lowest
-        sigma_r, sigma_ts = _sigmas(r.reactants, species), ts.thermo.symmetry_number
-        extra = kinetics.degeneracy_beyond_free_energy(r.degeneracy, sigma_r, sigma_ts) if r.degeneracy else 1.0
         try:
-            k = kinetics.reaction_rates(e["dG_act"], e["dG_act_rev"], t, _pseudo_molecularity(r.reactants, species),
-                                        _pseudo_molecularity(r.products, species), state,
-                                        ts.thermo.imaginary_frequency, _first(e["dE_zpe_act"]),
-                                        _first(e["dE_zpe_act_rev"]),
-                                        degeneracy=extra, tunnelling=r.tunnelling)
+            k = kinetics.reaction_kinetics(_participants(r.reactants, species), _participants(r.products, species),
+                                           _transition_state(species[r.transition_state]), t, state,
+                                           r.tunnelling, r.degeneracy)
         except ValueError as err:
             results.findings.append(Finding("warning", r.name, f"no rate constant: {err}"))
             continue
@@ -545,12 +540,6 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
         results.rates = pd.DataFrame(rate_rows)
         results.arrhenius = pd.DataFrame(fits)
     results.energy_span = _energy_span(results, kinetics)
-
-
-def _first(value) -> float:
-    """The value at the first temperature: Eckart barriers are one number (E+ZPE barely depends on T,
-    only through conformer populations)."""
-    return float(np.atleast_1d(value)[0])
 
 
 def _arrhenius_rows(name: str, t: np.ndarray, k: dict, kinetics) -> list[dict]:
