@@ -24,6 +24,7 @@ _PUBLIC = {
     "ThermoResult": "qcthermo.records",
     "thermochemistry": "qcthermo.thermo",
     "survey": "qcthermo.survey",
+    "load_reaction_file": "qcthermo.reactions",
     "run": "qcthermo.workflow",
     "RunResults": "qcthermo.workflow",
 }

@@ -11,7 +11,9 @@ from __future__ import annotations
 
 import difflib
 import glob
+import math
 import re
+import reprlib
 import tomllib
 from collections import Counter
 from collections.abc import Iterator
@@ -23,7 +25,7 @@ from typing import Any
 import numpy as np
 
 from .errors import ReactionFileError
-from .records import LOW_MODE_MODELS, parse_standard_state
+from .records import LOW_MODE_MODELS, Conditions, parse_standard_state
 
 #: keys of [conditions]: the fields of qcthermo.Conditions a file may set
 CONDITION_KEYS = (
@@ -173,32 +175,139 @@ def format_terms(terms: list[Term]) -> str:
     return " + ".join(name if c == 1 else f"{c:g} {name}" for c, name in terms)
 
 
+#: limits of what a reaction file may hold (docs/reactions.md, "Accepted values"); each is far beyond real use
+#: and stops a slip (or a hostile file) before it costs memory or gives a meaningless number
+MAX_FILE_BYTES = 1_000_000  # a reaction file is a few kB; a 1 MB one is not written by hand
+MAX_TEXT = 200  # characters of a name, label or other string
+MAX_TEMPERATURES = 10_000
+MAX_SYMMETRY_NUMBER = 120  # the icosahedral group has 60, D_n groups 2n (common practice: nothing real is near)
+MAX_ELECTRONIC_DEGENERACY = 100  # (2S+1)(2L+1) of a free atom stays below 50 (common practice)
+
+_SHORT = reprlib.Repr()
+_SHORT.maxstring = _SHORT.maxother = 60
+_SHORT.maxlist = _SHORT.maxtuple = _SHORT.maxdict = 6
+_SHORT.maxlevel = 3
+_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f]")
+#: strings and comments of a TOML line, removed to count brackets and find headers and keys
+_STRINGS = re.compile(r'"(?:[^"\\]|\\.)*"|\'[^\']*\'')
+_HEADER_PART = re.compile(r'"((?:[^"\\]|\\.)*)"|\'([^\']*)\'|([A-Za-z0-9_\-]+)')
+_HEADER_KEY = re.compile(r'^\s*\[\[?\s*((?:(?:"(?:[^"\\]|\\.)*"|\'[^\']*\'|[A-Za-z0-9_\-]+)\s*\.?\s*)+)')
+#: the depth of nested arrays and tables reported as "too deep" when the TOML parser gives up on it
+_DEEP = 100
+
+
+def _show(value: Any) -> str:
+    """A short one-line repr of a value from the file (nested or long values abbreviated, controls escaped)."""
+    return _SHORT.repr(value)
+
+
 def _where(path: Path, line: int | None) -> str:
-    return f"{path}, line {line}: " if line else f"{path}: "
+    shown = repr(str(path)) if _CONTROL.search(str(path)) else str(path)
+    return f"{shown}, line {line}: " if line else f"{shown}: "
 
 
-def _header_lines(text: str, pattern: str) -> list[int]:
-    """1-based lines whose stripped text matches ``pattern`` (a TOML table header)."""
-    rx = re.compile(pattern)
-    return [i + 1 for i, raw in enumerate(text.splitlines()) if rx.match(raw.strip())]
+def _is_number(value: Any) -> bool:
+    """A finite TOML integer or float (true/false are not numbers; an integer too large for a float is not)."""
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return False
+    try:
+        return math.isfinite(value)
+    except OverflowError:
+        return False
 
 
-#: a table header line ("[name]", "[a.b]", "[[name]]"), not a continuation line of a multi-line array
-_HEADER = re.compile(r"^\[\[?\s*[A-Za-z0-9_.\-]+\s*\]\]?\s*(#.*)?$")
+def _text_problem(value: Any) -> str | None:
+    """Why ``value`` is not a usable name or label, or None."""
+    if not isinstance(value, str):
+        return "must be a string"
+    if not value.strip():
+        return "must not be empty"
+    if _CONTROL.search(value):
+        return "must not hold control characters (NUL, tab, newline, ...)"
+    if len(value) > MAX_TEXT:
+        return f"is {len(value)} characters long (at most {MAX_TEXT})"
+    return None
 
 
-def _key_line(text: str, start: int | None, key: str) -> int | None:
-    """Line of ``key = ...`` inside the table that starts at line ``start`` (else ``start``)."""
-    if start is None:
+def _basic_string(body: str) -> str:
+    """The value of a TOML basic string from its body (escapes such as \\u0000 decoded by the TOML parser)."""
+    try:
+        return tomllib.loads(f'k = "{body}"')["k"]
+    except tomllib.TOMLDecodeError:
+        return body
+
+
+class _Lines:
+    """Where things are in the file's text: table headers, keys, and the depth of nested brackets.
+
+    Strings and comments are blanked before brackets are counted, so that a continuation line of a
+    multi-line array (``["ts"],``) is not taken for a header. Multi-line strings are not understood
+    (a reaction file has none); at worst a line number is that of the table header instead of the key.
+    """
+
+    def __init__(self, text: str):
+        self.lines = text.splitlines()
+        self.code: list[str] = []
+        self.depth: list[int] = []  # bracket depth at the start of each line
+        depth = 0
+        for raw in self.lines:
+            code = _STRINGS.sub('""', raw).split("#", 1)[0]
+            self.code.append(code)
+            self.depth.append(depth)
+            depth = max(depth + code.count("[") + code.count("{") - code.count("]") - code.count("}"), 0)
+        self.headers: dict[tuple[str, tuple[str, ...]], list[int]] = {}
+        self.header_set: set[int] = set()
+        for i, code in enumerate(self.code):
+            stripped = code.strip()
+            if self.depth[i] or not stripped.startswith("["):
+                continue
+            double = stripped.startswith("[[")
+            key = _HEADER_KEY.match(self.lines[i])  # the raw line: quoted parts of the key are blanked in code
+            parts = tuple(_basic_string(m[1]) if m[1] is not None else m[2] if m[2] is not None else m[3]
+                          for m in _HEADER_PART.finditer(key[1] if key else ""))
+            self.headers.setdefault(("[[" if double else "[", parts), []).append(i + 1)
+            self.header_set.add(i + 1)
+
+    def header(self, *parts: str, double: bool = False) -> list[int]:
+        """1-based lines of the header ``[a.b]`` (``[[a]]`` with ``double``)."""
+        return self.headers.get(("[[" if double else "[", parts), [])
+
+    def first_header(self, *first: str) -> int | None:
+        """The first header whose dotted key starts with the parts ``first``."""
+        exact = self.header(*first) + self.header(*first, double=True)
+        if exact:  # the usual case, without a scan of every header
+            return min(exact)
+        found = [lines[0] for (_, parts), lines in self.headers.items() if parts[:len(first)] == first]
+        return min(found) if found else None
+
+    def key(self, start: int | None, key: str) -> int | None:
+        """Line of ``key = ...`` inside the table whose header is line ``start`` (0: the top level);
+        ``start`` when the key is not found."""
+        if start is None:
+            return None
+        rx = re.compile(rf"^\s*[\"']?{re.escape(key)}[\"']?\s*=")
+        for i in range(start, len(self.lines)):
+            if i + 1 in self.header_set:
+                break
+            if not self.depth[i] and rx.match(self.lines[i]):
+                return i + 1
+        return start
+
+    def table_key(self, name: str) -> int | None:
+        """The first line defining ``name`` as a key: ``name = {...}`` or ``species.name.logs = ...`` (a table
+        given as an inline table or by dotted keys has no header)."""
+        rx = re.compile(rf"(?:^|[\s.{{,])[\"']?{re.escape(name)}[\"']?\s*(?:=|\.\s*[\w\"']+\s*=)")
+        return next((i + 1 for i, raw in enumerate(self.lines) if rx.search(raw)), None)
+
+    def too_deep(self) -> int | None:
+        """The first line where brackets nest deeper than :data:`_DEEP`."""
+        for i, code in enumerate(self.code):
+            depth = self.depth[i]
+            for ch in code:
+                depth += (ch in "[{") - (ch in "]}")
+                if depth > _DEEP:
+                    return i + 1
         return None
-    lines = text.splitlines()
-    rx = re.compile(rf"^\s*[\"']?{re.escape(key)}[\"']?\s*=")
-    for i in range(start, len(lines)):
-        if _HEADER.match(lines[i].strip()):
-            break
-        if rx.match(lines[i]):
-            return i + 1
-    return start
 
 
 class _Parser:
@@ -207,6 +316,7 @@ class _Parser:
     def __init__(self, path: Path, text: str):
         self.path = path
         self.text = text
+        self.where = _Lines(text)
         self.base = path.parent
 
     def fail(self, message: str, line: int | None = None):
@@ -214,71 +324,123 @@ class _Parser:
 
     def unknown_species(self, what: str, name: Any, species: dict, line: int | None):
         """Fail naming the declared species closest to ``name``: a typo is the usual cause."""
-        close = difflib.get_close_matches(str(name), list(species), n=1)
-        hint = f"did you mean {close[0]!r}?" if close else f"declare it as [species.{name}]"
-        self.fail(f"{what}: unknown species {name!r} ({hint})", line)
+        close = difflib.get_close_matches(str(name), list(species), n=1) if isinstance(name, str) else []
+        hint = f"did you mean {close[0]!r}?" if close else f"declare it as [species.{_show(name)}]"
+        self.fail(f"{what}: unknown species {_show(name)} ({hint})", line)
 
     def check_keys(self, table: dict, allowed: tuple[str, ...], what: str, line: int | None) -> None:
         for key in table:
             if key not in allowed:
-                self.fail(f"unknown key {key!r} in {what} (allowed: {', '.join(allowed)})",
-                          _key_line(self.text, line, key))
+                self.fail(f"unknown key {_show(key)} in {what} (allowed: {', '.join(allowed)})",
+                          self.where.key(line, key))
+
+    def check_text(self, value: Any, what: str, line: int | None) -> str:
+        problem = _text_problem(value)
+        if problem:
+            self.fail(f"{what} {_show(value)} {problem}", line)
+        return value
+
+    def table(self, value: Any, what: str, line: int | None) -> dict:
+        if not isinstance(value, dict):
+            self.fail(f"{what} must be a table, not {_show(value)}", line)
+        return value
 
     # -- top level ---------------------------------------------------------------------------------
     def parse(self, data: dict) -> ReactionFile:
         for key in data:
             if key not in TOP_KEYS:
-                headers = _header_lines(self.text, rf"^\[+\s*{re.escape(key)}\b")
-                self.fail(f"unknown table or key {key!r} (allowed: {', '.join(TOP_KEYS)})",
-                          headers[0] if headers else _key_line(self.text, 0, key))
+                line = self.where.first_header(key) or self.where.key(0, key)
+                self.fail(f"unknown table or key {_show(key)} (allowed: {', '.join(TOP_KEYS)})", line)
         conditions = self.conditions(data.get("conditions", {}))
         ensemble = self.ensemble(data.get("ensemble", {}))
-        species_tables = data.get("species", {})
-        if not isinstance(species_tables, dict):
-            self.fail("'species' must be tables [species.NAME]")
+        species_tables = self.table(data.get("species", {}), "'species' (tables [species.NAME])",
+                                    self.where.first_header("species") or self.where.key(0, "species"))
         species = {name: self.species(name, table) for name, table in species_tables.items()}
         reactions = self.reactions(data.get("reaction", []), species)
         profiles = self.profiles(data.get("profile", []), species)
         return ReactionFile(self.path, conditions, ensemble, species, reactions, profiles, self.text)
 
-    def conditions(self, table: dict) -> dict[str, Any]:
-        line = (_header_lines(self.text, r"^\[\s*conditions\s*\]") or [None])[0]
-        self.check_keys(table, CONDITION_KEYS, "[conditions]", line)
-        out = dict(table)
-        if "temperature" in out and isinstance(out["temperature"], list):
-            out["temperature"] = np.asarray(out["temperature"], dtype=float)
-        if "low_mode_model" in out and out["low_mode_model"] not in LOW_MODE_MODELS:
-            self.fail(f"[conditions] low_mode_model {out['low_mode_model']!r}: choose one of "
-                      f"{', '.join(LOW_MODE_MODELS)}", _key_line(self.text, line, "low_mode_model"))
-        if "standard_state" in out:
+    def conditions(self, table: Any) -> dict[str, Any]:
+        """Each key checked for its type here and for its range by Conditions itself, with the key's line."""
+        line = (self.where.header("conditions") or [self.where.key(0, "conditions")])[0]
+        self.check_keys(self.table(table, "[conditions]", line), CONDITION_KEYS, "[conditions]", line)
+        out: dict[str, Any] = {}
+        for key, value in table.items():
+            at = self.where.key(line, key)
+            out[key] = self.condition(key, value, f"[conditions] {key}", at)
             try:
-                parse_standard_state(out["standard_state"])
-            except ValueError as err:
-                self.fail(f"[conditions] {err}", _key_line(self.text, line, "standard_state"))
+                Conditions(**{key: out[key]})
+            except (TypeError, ValueError) as err:
+                self.fail(f"[conditions] {key}: {err}", at)
         return out
 
-    def ensemble(self, table: dict) -> dict[str, float]:
-        line = (_header_lines(self.text, r"^\[\s*ensemble\s*\]") or [None])[0]
-        self.check_keys(table, tuple(ENSEMBLE_DEFAULTS), "[ensemble]", line)
+    def condition(self, key: str, value: Any, what: str, line: int | None) -> Any:
+        """One [conditions] value, type-checked and converted (ranges: Conditions' own checks)."""
+        if key == "temperature":
+            return self.temperature(value, what, line)
+        if key in ("standard_state", "low_mode_model", "imaginary_policy"):
+            choices = {"low_mode_model": LOW_MODE_MODELS, "imaginary_policy": IMAGINARY_POLICIES}.get(key)
+            if not isinstance(value, str) or (choices and value not in choices):
+                self.fail(f"{what} {_show(value)}: expected " + (f"one of {', '.join(choices)}" if choices else
+                                                                 'a string such as "1atm", "1bar", "1M", "55.3M"'),
+                          line)
+            if key == "standard_state":
+                self.concentration_of(value, what, line, allow_pressure=True)
+            return value
+        words = {"frequency_scale": "auto", "rotor_inertia": "molecular"}
+        if isinstance(value, str) and key in words and value.strip().lower() == words[key]:
+            return words[key]
+        if not _is_number(value):
+            alternative = f" or {words[key]!r}" if key in words else ""
+            self.fail(f"{what} {_show(value)}: expected a finite number{alternative}", line)
+        if key in ("pressure", "imaginary_threshold", "low_mode_threshold") and \
+                (value < 0 or (key == "pressure" and value == 0)):
+            self.fail(f"{what} {_show(value)}: expected a " + ("positive number (Pa)" if key == "pressure" else
+                                                              "wavenumber >= 0 cm^-1"), line)
+        return float(value)
+
+    def temperature(self, value: Any, what: str, line: int | None) -> float | np.ndarray:
+        """A temperature in K or a flat, non-empty list of them, each finite and positive."""
+        values = value if isinstance(value, list) else [value]
+        if not values or len(values) > MAX_TEMPERATURES or not all(_is_number(v) and v > 0 for v in values):
+            self.fail(f"{what} {_show(value)}: expected a positive number of kelvin or a list of 1 to "
+                      f"{MAX_TEMPERATURES} of them", line)
+        return np.asarray(values, dtype=float) if isinstance(value, list) else float(value)
+
+    def concentration_of(self, value: str, what: str, line: int | None, allow_pressure: bool = False) -> float:
+        """The mol/L of "55.3M" (or the Pa of "1atm" with ``allow_pressure``), finite and positive."""
+        try:
+            kind, amount = parse_standard_state(value)
+        except ValueError:
+            kind, amount = "", math.nan
+        if not math.isfinite(amount) or (kind != "concentration" and not (allow_pressure and kind)):
+            expected = '"1atm", "1bar", "1M" or "<c>M"' if allow_pressure else 'mol/L such as "55.3M" or 55.3'
+            self.fail(f"{what} {_show(value)}: expected {expected} (finite, positive)", line)
+        return amount
+
+    def ensemble(self, table: Any) -> dict[str, float]:
+        line = (self.where.header("ensemble") or [self.where.key(0, "ensemble")])[0]
+        self.check_keys(self.table(table, "[ensemble]", line), tuple(ENSEMBLE_DEFAULTS), "[ensemble]", line)
         out = dict(ENSEMBLE_DEFAULTS)
         for key, value in table.items():
-            if isinstance(value, bool) or not isinstance(value, (int, float)) or value < 0:
-                self.fail(f"[ensemble] {key} must be a non-negative number", _key_line(self.text, line, key))
+            if not _is_number(value) or value < 0:
+                self.fail(f"[ensemble] {key} {_show(value)}: expected a finite number >= 0",
+                          self.where.key(line, key))
             out[key] = float(value)
         return out
 
     # -- species -----------------------------------------------------------------------------------
     def species(self, name: str, table: Any) -> SpeciesSpec:
-        line = (_header_lines(self.text, rf"^\[\s*species\.[\"']?{re.escape(name)}[\"']?\s*\]") or [None])[0]
-        what = f"[species.{name}]"
-        if not isinstance(table, dict):
-            self.fail(f"{what} must be a table", line)
-        self.check_keys(table, SPECIES_KEYS, what, line)
+        line = self.where.first_header("species", name) or self.where.table_key(name)
+        what = f"[species.{_show(name) if _text_problem(name) else name}]"
+        problem = _text_problem(name)
+        if problem or re.search(r"\s", name):
+            self.fail(f"{what}: the name {problem or 'must not hold spaces (reactions could not name it)'}", line)
+        self.check_keys(self.table(table, what, line), SPECIES_KEYS, what, line)
         if "logs" not in table:
             self.fail(f"{what} needs 'logs' (a glob or a list of globs)", line)
-        key_line = partial(_key_line, self.text, line)
-        logs = self.globs(table["logs"], f"{what} logs", key_line("logs"))
-        spec = SpeciesSpec(name=name, logs=logs, line=line, label=table.get("label"))
+        key_line = partial(self.where.key, line)
+        spec = SpeciesSpec(name=name, logs=self.globs(table["logs"], f"{what} logs", key_line("logs")), line=line)
         sp = table.get("single_point")
         if isinstance(sp, dict):
             spec.single_point_pairs = {
@@ -289,93 +451,95 @@ class _Parser:
             spec.single_point = list(spec.single_point_pairs.values())
         elif sp is not None:
             spec.single_point = self.globs(sp, f"{what} single_point", key_line("single_point"))
-        for key in ("symmetry_number", "electronic_degeneracy"):
+        limits = {"symmetry_number": MAX_SYMMETRY_NUMBER, "electronic_degeneracy": MAX_ELECTRONIC_DEGENERACY,
+                  "enantiomers": 2}
+        for key, top in limits.items():
             if key in table:
                 value = table[key]
-                if isinstance(value, bool) or not isinstance(value, int) or value < 1:
-                    self.fail(f"{what} {key} must be a positive integer", key_line(key))
+                if isinstance(value, bool) or not isinstance(value, int) or not 1 <= value <= top:
+                    extra = " (mirror images counted)" if key == "enantiomers" else ""
+                    self.fail(f"{what} {key} {_show(value)}: expected an integer from 1 to {top}{extra}",
+                              key_line(key))
                 setattr(spec, key, value)
-        if "enantiomers" in table:
-            if table["enantiomers"] not in (1, 2) or isinstance(table["enantiomers"], bool):
-                self.fail(f"{what} enantiomers must be 1 or 2 (mirror images counted)", key_line("enantiomers"))
-            spec.enantiomers = table["enantiomers"]
         if "imaginary_policy" in table:
-            if table["imaginary_policy"] not in IMAGINARY_POLICIES:
-                self.fail(f"{what} imaginary_policy must be one of {', '.join(IMAGINARY_POLICIES)}",
-                          key_line("imaginary_policy"))
+            if not isinstance(table["imaginary_policy"], str) or table["imaginary_policy"] not in IMAGINARY_POLICIES:
+                self.fail(f"{what} imaginary_policy {_show(table['imaginary_policy'])}: expected one of "
+                          f"{', '.join(IMAGINARY_POLICIES)}", key_line("imaginary_policy"))
             spec.imaginary_policy = table["imaginary_policy"]
         if "concentration" in table:
             spec.concentration = self.concentration(table["concentration"], what, key_line("concentration"))
         if "transition_state" in table:
             if not isinstance(table["transition_state"], bool):
-                self.fail(f"{what} transition_state must be true or false", key_line("transition_state"))
+                self.fail(f"{what} transition_state {_show(table['transition_state'])}: expected true or false",
+                          key_line("transition_state"))
             spec.transition_state = table["transition_state"]
-        if spec.label is not None and not isinstance(spec.label, str):
-            self.fail(f"{what} label must be a string", key_line("label"))
+        if "label" in table:
+            spec.label = self.check_text(table["label"], f"{what} label", key_line("label"))
         return spec
 
     def concentration(self, value: Any, what: str, line: int | None) -> float:
-        """"55.3M" or 55.3 -> 55.3 mol/L."""
-        if isinstance(value, (int, float)) and not isinstance(value, bool) and value > 0:
+        """"55.3M" or 55.3 -> 55.3 mol/L, finite and positive."""
+        if _is_number(value) and value > 0:
             return float(value)
-        try:
-            kind, conc = parse_standard_state(str(value))
-        except ValueError:
-            kind, conc = "", 0.0
-        if kind != "concentration":
-            self.fail(f"{what} concentration {value!r}: expected mol/L such as \"55.3M\"", line)
-        return conc
+        if not isinstance(value, str):
+            self.fail(f"{what} concentration {_show(value)}: expected mol/L such as \"55.3M\" or 55.3", line)
+        return self.concentration_of(value, f"{what} concentration", line)
 
     def globs(self, value: Any, what: str, line: int | None) -> list[Path]:
         patterns = [value] if isinstance(value, str) else value
-        if not isinstance(patterns, list) or not patterns or not all(isinstance(p, str) for p in patterns):
+        if not isinstance(patterns, list) or not patterns or not all(isinstance(p, str) and p for p in patterns):
             self.fail(f"{what} must be a glob or a non-empty list of globs", line)
         files: list[Path] = []
         for pattern in patterns:
-            full = pattern if Path(pattern).is_absolute() else str(self.base / pattern)
-            matches = sorted(Path(m).resolve() for m in glob.glob(full, recursive=True) if Path(m).is_file())
+            matches = []
+            if "\0" not in pattern:  # the operating system takes no NUL in a path: it can match nothing
+                full = pattern if Path(pattern).is_absolute() else str(self.base / pattern)
+                matches = sorted(Path(m).resolve() for m in glob.glob(full, recursive=True) if Path(m).is_file())
             if not matches:
-                self.fail(f"{what}: {pattern!r} matches no file (relative to {self.base})", line)
+                self.fail(f"{what}: {_show(pattern)} matches no file (relative to {self.base})", line)
             files.extend(m for m in matches if m not in files)
         return files
 
     def one_file(self, value: Any, what: str, line: int | None) -> Path:
         files = self.globs(value, what, line) if isinstance(value, str) else None
         if files is None or len(files) != 1:
-            self.fail(f"{what}: {value!r} must name exactly one file", line)
+            self.fail(f"{what}: {_show(value)} must name exactly one file", line)
         return files[0]
 
     # -- reactions and profiles --------------------------------------------------------------------
     def terms(self, value: Any, what: str, line: int | None, species: dict) -> list[Term]:
-        """["2 water", "co2"] -> [(2.0, "water"), (1.0, "co2")], every name a declared species."""
+        """["2 water", "co2"] or "2 water + co2" -> [(2.0, "water"), (1.0, "co2")], every name a declared
+        species, every coefficient a finite positive number."""
         items = [value] if isinstance(value, str) else value
         if not isinstance(items, list) or not items or not all(isinstance(i, str) for i in items):
-            self.fail(f"{what} must be a non-empty list of species names", line)
+            self.fail(f"{what} must be a non-empty list of species names, not {_show(value)}", line)
         out: dict[str, float] = {}
-        for item in items:
+        for item in (part for i in items for part in re.split(r"\s+\+\s+", i)):
             m = re.fullmatch(r"\s*(?:(\d+(?:\.\d*)?|\.\d+)\s+)?(\S+)\s*", item)
-            if not m or (m.group(1) and float(m.group(1)) <= 0):
-                self.fail(f"{what}: {item!r} is not 'NAME' or 'COEFFICIENT NAME'", line)
+            coefficient = float(m.group(1) or 1) if m else math.nan
+            if not (math.isfinite(coefficient) and coefficient > 0):
+                self.fail(f"{what}: {_show(item)} is not 'NAME' or 'COEFFICIENT NAME' (a finite number > 0)", line)
             name = m.group(2)
             if name not in species:
                 self.unknown_species(what, name, species, line)
-            out[name] = out.get(name, 0.0) + float(m.group(1) or 1)
+            out[name] = out.get(name, 0.0) + coefficient
         return [(c, n) for n, c in out.items()]
 
     def named_tables(self, value: Any, header: str, keys: tuple[str, ...]) -> Iterator[tuple[dict, int | None, str]]:
         """Each ``[[header]]`` table with the line of its header and its name, once its keys are known ones
-        and its name is given and not used before."""
+        and its name is a usable one not used before."""
+        lines = self.where.header(header, double=True)
+        top = self.where.key(0, header)
         if not isinstance(value, list) or not all(isinstance(t, dict) for t in value):
-            self.fail(f"'{header}' must be written as [[{header}]] tables")
-        lines = _header_lines(self.text, rf"^\[\[\s*{header}\s*\]\]")
+            self.fail(f"'{header}' must be written as [[{header}]] tables", lines[0] if lines else top)
         what = f"[[{header}]]"
         seen: set[str] = set()
         for i, table in enumerate(value):
-            line = lines[i] if i < len(lines) else None
+            line = lines[i] if i < len(lines) else top
             self.check_keys(table, keys, what, line)
-            name = table.get("name")
-            if not isinstance(name, str) or not name.strip():
+            if "name" not in table:
                 self.fail(f"{what} needs a 'name'", line)
+            name = self.check_text(table["name"], f"{what} name", self.where.key(line, "name"))
             if name in seen:
                 self.fail(f"{what} {name!r}: the name is used twice", line)
             seen.add(name)
@@ -385,7 +549,7 @@ class _Parser:
         out = []
         for table, line, name in self.named_tables(value, "reaction", REACTION_KEYS):
             what = f"reaction {name!r}"
-            key_line = partial(_key_line, self.text, line)
+            key_line = partial(self.where.key, line)
             for key in ("reactants", "products"):
                 if key not in table:
                     self.fail(f"{what} needs {key!r}", line)
@@ -395,6 +559,8 @@ class _Parser:
                 products=self.terms(table["products"], f"{what} products", key_line("products"), species),
                 line=line,
             )
+            if sorted(spec.reactants, key=lambda t: t[1]) == sorted(spec.products, key=lambda t: t[1]):
+                self.fail(f"{what}: the products are the reactants", key_line("products"))
             ts = table.get("transition_state")
             if ts is not None:
                 if not isinstance(ts, str) or ts not in species:
@@ -402,12 +568,13 @@ class _Parser:
                 spec.transition_state = ts
             if "degeneracy" in table:
                 d = table["degeneracy"]
-                if isinstance(d, bool) or not isinstance(d, (int, float)) or d <= 0:
-                    self.fail(f"{what} degeneracy must be a positive number", key_line("degeneracy"))
+                if not _is_number(d) or d <= 0:
+                    self.fail(f"{what} degeneracy {_show(d)}: expected a finite number > 0", key_line("degeneracy"))
                 spec.degeneracy = float(d)
             if "tunnelling" in table:
-                if table["tunnelling"] not in TUNNELLING:
-                    self.fail(f"{what} tunnelling must be one of {', '.join(TUNNELLING)}", key_line("tunnelling"))
+                if not isinstance(table["tunnelling"], str) or table["tunnelling"] not in TUNNELLING:
+                    self.fail(f"{what} tunnelling {_show(table['tunnelling'])}: expected one of "
+                              f"{', '.join(TUNNELLING)}", key_line("tunnelling"))
                 spec.tunnelling = table["tunnelling"]
             out.append(spec)
         return out
@@ -416,40 +583,73 @@ class _Parser:
         out = []
         for table, line, name in self.named_tables(value, "profile", PROFILE_KEYS):
             what = f"profile {name!r}"
-            key_line = partial(_key_line, self.text, line)
+            key_line = partial(self.where.key, line)
             raw = table.get("states")
             if not isinstance(raw, list) or len(raw) < 2:
                 self.fail(f"{what} needs 'states', a list of at least two states", key_line("states"))
             states = [self.terms(s, f"{what} state {i + 1}", key_line("states"), species) for i, s in enumerate(raw)]
             shown = [[(c, species[n].label or n) for c, n in state] for state in states]  # display names
             labels = table.get("labels", [format_terms(s) for s in shown])
-            if not isinstance(labels, list) or len(labels) != len(states) or \
-                    not all(isinstance(x, str) for x in labels):
+            if not isinstance(labels, list) or len(labels) != len(states):
                 self.fail(f"{what} labels must be a list of {len(states)} strings", key_line("labels"))
+            if "labels" in table:
+                for label in labels:
+                    self.check_text(label, f"{what} label", key_line("labels"))
             cyclic = table.get("cyclic", False)
             if not isinstance(cyclic, bool):
-                self.fail(f"{what} cyclic must be true or false", key_line("cyclic"))
-            presentation = {k: table[k] for k in PRESENTATION_TYPES if k in table}
-            for key, value in presentation.items():
-                if not isinstance(value, PRESENTATION_TYPES[key]) or isinstance(value, bool):
-                    self.fail(f"{what} {key} has the wrong type", key_line(key))
-            unknown = [x for x in presentation.get("label_states", []) if x not in labels]
-            if unknown:
-                self.fail(f"{what} label_states: {unknown[0]!r} is not a state label ({', '.join(labels)})",
-                          key_line("label_states"))
-            out.append(ProfileSpec(name, states, labels, cyclic, presentation, line))
+                self.fail(f"{what} cyclic {_show(cyclic)}: expected true or false", key_line("cyclic"))
+            out.append(ProfileSpec(name, states, labels, cyclic, self.presentation(table, what, labels, key_line),
+                                   line))
         return out
+
+    def presentation(self, table: dict, what: str, labels: list[str], key_line) -> dict[str, Any]:
+        """The figure keys of a profile, each of its type (strings usable as text, a finite order)."""
+        out = {k: table[k] for k in PRESENTATION_TYPES if k in table}
+        for key, value in out.items():
+            if key == "order":
+                if not _is_number(value):
+                    self.fail(f"{what} order {_show(value)}: expected a finite number", key_line(key))
+            elif key == "label_states":
+                if not isinstance(value, list) or not all(isinstance(x, str) for x in value):
+                    self.fail(f"{what} label_states {_show(value)}: expected a list of state labels", key_line(key))
+                unknown = [x for x in value if x not in labels]
+                if unknown:
+                    self.fail(f"{what} label_states: {_show(unknown[0])} is not a state label ({', '.join(labels)})",
+                              key_line(key))
+            else:
+                self.check_text(value, f"{what} {key}", key_line(key))
+        return out
+
+
+def _read_text(path: Path) -> str:
+    """The file's text: a regular file, at most :data:`MAX_FILE_BYTES`, UTF-8 (the line of a bad byte)."""
+    try:
+        if not path.is_file():
+            raise ReactionFileError(_where(path, None) + ("is a directory, not a reaction file" if path.is_dir()
+                                                         else "no such reaction file" if not path.exists()
+                                                         else "not a regular file"))
+        with path.open("rb") as fh:
+            raw = fh.read(MAX_FILE_BYTES + 1)
+    except OSError as err:
+        raise ReactionFileError(_where(path, None) + "cannot read the reaction file ("
+                                + (err.strerror or err.__class__.__name__) + ")") from None
+    if len(raw) > MAX_FILE_BYTES:
+        raise ReactionFileError(_where(path, None) + f"larger than {MAX_FILE_BYTES // 1_000_000} MB: "
+                                "not a reaction file")
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as err:
+        line = raw.count(b"\n", 0, err.start) + 1
+        raise ReactionFileError(_where(path, line) + f"not UTF-8 text (byte 0x{raw[err.start]:02x})") from None
 
 
 def load_reaction_file(path: str | Path) -> ReactionFile:
     """Read and validate a reaction file; raise ReactionFileError with the line and the name."""
-    path = Path(path).resolve()
-    if not path.is_file():
-        raise ReactionFileError(f"{path}: no such reaction file")
     try:
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as err:
-        raise ReactionFileError(f"{path}: cannot read the reaction file ({err.__class__.__name__})") from None
+        path = Path(path).resolve()
+    except (OSError, ValueError, RuntimeError) as err:  # a NUL in the name, a symlink loop
+        raise ReactionFileError(f"{_show(str(path))}: not a usable file name ({err})") from None
+    text = _read_text(path)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
@@ -457,6 +657,9 @@ def load_reaction_file(path: str | Path) -> ReactionFile:
         m = re.search(r"\s*\(at line (\d+), column \d+\)$", message)
         line = int(m.group(1)) if m else None
         raise ReactionFileError(_where(path, line) + "TOML syntax error: " + message) from None
+    except RecursionError:  # the TOML parser recurses once per level of nested arrays or inline tables
+        raise ReactionFileError(_where(path, _Lines(text).too_deep()) +
+                                "arrays or tables nested too deeply to read") from None
     return _Parser(path, text).parse(data)
 
 
