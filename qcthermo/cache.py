@@ -3,7 +3,9 @@
 One table, one row per absolute path. The key is (path, size, mtime_ns, content digest, reader version);
 the value is the normalised record as JSON (``Calculation.to_dict()``) or, for a file the reader
 refused, its one-line reason, so a bad file is not parsed again either. No pickle: the file holds
-nothing but text and numbers.
+nothing but text and numbers. The path is stored as its bytes (``os.fsencode``), so a file name that
+is not UTF-8 is a key like any other. A row that cannot be read back (invalid JSON, a value of the
+wrong kind) is a miss: the file is read again and the row rewritten.
 
 Lookup (:meth:`ParseCache.lookup`):
 
@@ -17,8 +19,8 @@ Lookup (:meth:`ParseCache.lookup`):
 
 Several processes may use the file at once: WAL journal, a busy timeout, and writes batched into
 short ``BEGIN IMMEDIATE`` transactions by the parent process (workers never write). A file that is not
-a database (or a damaged one) is moved aside and rebuilt, with a one-line warning in
-:attr:`ParseCache.warnings`.
+a database (or a damaged one, or another program's database) is moved aside and rebuilt, a cache of an
+older layout is emptied and rebuilt, each with a one-line warning in :attr:`ParseCache.warnings`.
 """
 
 from __future__ import annotations
@@ -33,24 +35,32 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-#: bumped when the layout of the table or of the stored JSON changes
-SCHEMA_VERSION = 1
+from .fileio import display
+
+#: bumped when the layout of the table or of the stored JSON changes; kept in SQLite's user_version
+#: (2: path as bytes, user_version set)
+SCHEMA_VERSION = 2
 CACHE_FILE = "parse-cache.sqlite"
 #: seconds a writer waits for another process's transaction before giving up
 BUSY_TIMEOUT_S = 30.0
 
-_SCHEMA = """
-CREATE TABLE IF NOT EXISTS parsed (
-    path TEXT PRIMARY KEY,
+_SCHEMA = (
+    """CREATE TABLE IF NOT EXISTS parsed (
+    path BLOB PRIMARY KEY,
     size INTEGER NOT NULL,
     mtime_ns INTEGER NOT NULL,
     digest TEXT NOT NULL,
     reader_version TEXT NOT NULL,
     ok INTEGER NOT NULL,
     payload TEXT NOT NULL
-);
-CREATE INDEX IF NOT EXISTS parsed_by_digest ON parsed (digest, reader_version);
-"""
+)""",
+    "CREATE INDEX IF NOT EXISTS parsed_by_digest ON parsed (digest, reader_version)",
+    f"PRAGMA user_version = {SCHEMA_VERSION}",
+)
+
+
+class ForeignDatabase(sqlite3.DatabaseError):
+    """The cache file is an SQLite database, but not a qcthermo parse cache of a known layout."""
 
 
 def default_cache_dir() -> Path:
@@ -121,12 +131,30 @@ class ParseCache:
             db.execute("PRAGMA journal_mode = WAL")
             db.execute("PRAGMA synchronous = NORMAL")
             with _transaction(db):
-                db.executescript("BEGIN IMMEDIATE;" + _SCHEMA + "COMMIT;")
+                db.execute("BEGIN IMMEDIATE")
+                self._check_layout(db)
+                for statement in _SCHEMA:  # one by one: executescript would commit the open transaction first
+                    db.execute(statement)
+                db.execute("COMMIT")
             db.execute("SELECT count(*) FROM parsed WHERE rowid = 1").fetchone()
         except BaseException:
             db.close()
             raise
         return db
+
+    def _check_layout(self, db: sqlite3.Connection) -> None:
+        """Inside the opening transaction: an empty file or this layout passes; the table of an older
+        qcthermo is dropped (rebuilt by the caller, one warning); anything else is :class:`ForeignDatabase`."""
+        (version,) = db.execute("PRAGMA user_version").fetchone()
+        tables = {name for (name,) in db.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
+        if not tables or (version == SCHEMA_VERSION and tables == {"parsed"}):
+            return
+        if version < SCHEMA_VERSION and tables == {"parsed"}:
+            db.execute("DROP TABLE parsed")
+            self.warnings.append(f"parse cache {self.path} had an older layout (schema {version or 1}); "
+                                 "emptied and rebuilt")
+            return
+        raise ForeignDatabase(f"not a qcthermo parse cache (schema {version}, tables {', '.join(sorted(tables))})")
 
     def _open(self) -> sqlite3.Connection | None:
         try:
@@ -145,7 +173,8 @@ class ParseCache:
             except OSError as move_err:
                 self.warnings.append(f"parse cache disabled: {self.path} is damaged and cannot be moved: {move_err}")
                 return None
-            self.warnings.append(f"parse cache {self.path} was damaged ({err}); moved to {aside.name} and rebuilt")
+            what = err if isinstance(err, ForeignDatabase) else f"was damaged ({err})"
+            self.warnings.append(f"parse cache {self.path} {what}; moved to {aside.name} and rebuilt")
         try:
             return self._connect()
         except sqlite3.DatabaseError as err:
@@ -189,7 +218,7 @@ class ParseCache:
         try:
             row = self._db.execute(
                 "SELECT ok, payload FROM parsed WHERE path = ? AND size = ? AND mtime_ns = ? AND reader_version = ?",
-                (key.path, key.size, key.mtime_ns, self.reader_version),
+                (os.fsencode(key.path), key.size, key.mtime_ns, self.reader_version),
             ).fetchone()
         except sqlite3.DatabaseError as err:
             self._disable(err)
@@ -216,8 +245,10 @@ class ParseCache:
             self._queue(key, digest, entry)
 
     def _queue(self, key: FileKey, digest: str, entry: Entry) -> None:
-        payload = json.dumps(entry.record) if entry.ok else entry.reason
-        self._pending.append((key.path, key.size, key.mtime_ns, digest, self.reader_version, int(entry.ok), payload))
+        # ASCII JSON, and a reason naming an undecodable file name in its printable form: SQLite text is UTF-8
+        payload = json.dumps(entry.record) if entry.ok else display(entry.reason)
+        self._pending.append((os.fsencode(key.path), key.size, key.mtime_ns, digest, self.reader_version,
+                              int(entry.ok), payload))
         if len(self._pending) >= self.batch_size:
             self.flush()
 
@@ -293,5 +324,15 @@ class DigestIndex:
             return None  # the parent reports a damaged cache; here the file is simply parsed
 
 
-def _entry(ok: int, payload: str) -> Entry:
-    return Entry(True, record=json.loads(payload)) if ok else Entry(False, reason=payload)
+def _entry(ok: Any, payload: Any) -> Entry | None:
+    """The row as an Entry, or None (a miss) for a row that cannot be one: a damaged or foreign value must
+    cost a re-read, never a crash. Whether the record makes a Calculation is the caller's check."""
+    if ok == 0 and isinstance(payload, str):
+        return Entry(False, reason=payload)
+    if ok != 1 or not isinstance(payload, str):
+        return None
+    try:
+        record = json.loads(payload)
+    except (ValueError, RecursionError):  # invalid JSON, or nested too deeply for the decoder
+        return None
+    return Entry(True, record=record) if isinstance(record, dict) else None

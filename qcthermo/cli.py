@@ -17,7 +17,7 @@ from . import __version__
 
 COMMANDS = {
     "survey": "one row per file: program, jobs, level of theory, charge/mult, energy, status",
-    "thermo": "one row per frequency log: E, ZPE, H, S, G under RRHO and the chosen low-mode model",
+    "thermo": "one row per frequency log: G by motion (translation, rotation, vibration, electronic, low-mode)",
     "run": "the main job: survey, species, reactions and every export, into --out",
     "profile": "draw the reaction energy diagram(s) of a reaction file",
     "init": "write a starter reactions.toml listing the species found in DIR",
@@ -92,8 +92,11 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("thermo", help=COMMANDS["thermo"], description=COMMANDS["thermo"])
     p.add_argument("directory", metavar="DIR")
-    p.add_argument("--csv", metavar="FILE", help="write the table as CSV")
-    p.add_argument("--force", action="store_true", help="overwrite an existing --csv file")
+    p.add_argument("--csv", metavar="FILE", help="write the table (G broken down by motion) as CSV")
+    p.add_argument("--long", metavar="FILE", help="write every quantity, RRHO and the model's, as CSV: "
+                   "one row per file, temperature and quantity")
+    p.add_argument("--json", metavar="FILE", help="write the full record of each file as JSON")
+    p.add_argument("--force", action="store_true", help="overwrite existing --csv/--long/--json files")
     _add_conditions(p)
     _add_reading(p)
 
@@ -134,6 +137,16 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _printable_streams() -> None:
+    """stdout and stderr write a file name that is not UTF-8 as ``\\xNN`` (qcthermo.fileio.display)
+    instead of raising UnicodeEncodeError half-way through a table or a message."""
+    from .fileio import DISPLAY_ERRORS
+
+    for stream in (sys.stdout, sys.stderr):
+        if hasattr(stream, "reconfigure"):  # io.TextIOWrapper; a replaced stream keeps its own rules
+            stream.reconfigure(errors=DISPLAY_ERRORS)
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -144,11 +157,16 @@ def main(argv: list[str] | None = None) -> int:
         args.jobs = os.cpu_count() or 1
     from .errors import QcthermoError
 
+    _printable_streams()
     try:
         command = importlib.import_module(f"qcthermo.commands.{args.command}")
         return int(command.main(args) or 0)
     except QcthermoError as err:
         print(f"qcthermo {args.command}: error: {err}", file=sys.stderr)
+        return 2
+    except OSError as err:  # a write no atomic file covers (or the terminal itself): one line, not a traceback
+        where = f"{err.filename}: " if err.filename else ""
+        print(f"qcthermo {args.command}: error: {where}{err.strerror or err}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("qcthermo: interrupted", file=sys.stderr)

@@ -9,6 +9,7 @@ docs/survey.md.
 
 from __future__ import annotations
 
+import dataclasses
 import hashlib
 import importlib
 import importlib.metadata
@@ -185,6 +186,42 @@ def parse_one(reader: Reader, path: str) -> tuple[str, Any]:
     return "ok", calc.to_dict()
 
 
+_NUMBER = (int, float)
+_NONE = type(None)
+#: what each field of a cached ``Calculation.to_dict()`` may be (JSON types; lists checked item by item); a
+#: field not listed here (added since) is left to Calculation.from_dict
+_RECORD_TYPES: dict[str, tuple[type, ...]] = {
+    "path": (str,), "program": (str,), "symbols": (list,), "coordinates": (list,), "charge": (int,),
+    "multiplicity": (int, _NONE), "energy": (*_NUMBER, _NONE), "frequencies": (list, _NONE),
+    "job_types": (list,), "normal_termination": (bool, _NONE), "optimization_converged": (bool, _NONE),
+    "program_version": (str, _NONE), "method": (str, _NONE), "basis": (str, _NONE),
+    "solvent_model": (str, _NONE), "solvent": (str, _NONE), "s2": (*_NUMBER, _NONE),
+    "gas_energy": (*_NUMBER, _NONE), "thermo_printed": (dict,), "notes": (list,),
+}
+_STRING_LISTS = ("symbols", "job_types", "notes")
+
+
+def cached_calculation(record: dict[str, Any]) -> Calculation | None:
+    """The Calculation of a record read back from the cache, or None when the record is not one (keys
+    missing or unknown, a value of the wrong kind, arrays of the wrong shape): a damaged or foreign row
+    is a cache miss, never a crash or a wrong row."""
+    names = {f.name for f in dataclasses.fields(Calculation)}
+    if set(record) != names:
+        return None
+    for name, kinds in _RECORD_TYPES.items():
+        value = record.get(name)
+        if not isinstance(value, kinds) or (isinstance(value, bool) and bool not in kinds):
+            return None
+    if not all(isinstance(x, str) for name in _STRING_LISTS for x in record[name]):
+        return None
+    try:
+        calc = Calculation.from_dict(record)
+        ok = calc.coordinates.shape == (calc.natoms, 3) and (calc.frequencies is None or calc.frequencies.ndim == 1)
+    except (TypeError, ValueError):
+        return None
+    return calc if ok else None
+
+
 def read_one(reader: Reader, path: str, index: Any = None) -> Outcome:
     """Steps 2 and 3 of the cache lookup for one file: hash it and ask ``index`` (anything with
     ``find(digest) -> Entry | None``; None: no cache), else parse it. Never raises."""
@@ -195,7 +232,7 @@ def read_one(reader: Reader, path: str, index: Any = None) -> Outcome:
         except OSError as err:
             return Outcome("failure", f"cannot read the file ({err.strerror})", source="unread")
         entry = index.find(digest)
-        if entry is not None:
+        if entry is not None and (not entry.ok or cached_calculation(entry.record) is not None):
             return Outcome("ok", entry.record, digest, "digest") if entry.ok else \
                 Outcome("error", entry.reason, digest, "digest")
     kind, payload = parse_one(reader, path)
@@ -459,14 +496,16 @@ def survey(
 
 def _from_cache(store: ParseCache | None, candidates: list[Candidate], outcomes: list, bar: ProgressBar,
                 stats: dict[str, int]) -> list[int]:
-    """Fill ``outcomes`` for the files whose path, size and mtime match the cache; return the others."""
+    """Fill ``outcomes`` for the files whose path, size and mtime match the cache; return the others (a row
+    that is not a sound record among them: read again, its row rewritten)."""
     misses = []
     for i, cand in enumerate(candidates):
         entry = store.lookup(cand.key) if store is not None else None
-        if entry is None:
+        calc = cached_calculation(entry.record) if entry is not None and entry.ok else None
+        if entry is None or (entry.ok and calc is None):
             misses.append(i)
         else:
-            outcomes[i] = ("ok", entry.record) if entry.ok else ("error", entry.reason)
+            outcomes[i] = ("calculation", calc) if entry.ok else ("error", entry.reason)
             stats["cached"] += 1
             bar.advance()
     return misses
@@ -507,9 +546,10 @@ def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int],
 
 def _collect(result: SurveyResult, root: Path, candidates: list[Candidate], outcomes: list) -> None:
     for cand, (kind, payload) in zip(candidates, outcomes, strict=True):
-        if kind == "ok":
-            record = dict(payload, path=str(root / cand.relpath))
-            calc = Calculation.from_dict(record)
+        if kind in ("ok", "calculation"):
+            path = str(root / cand.relpath)
+            calc = Calculation.from_dict(dict(payload, path=path)) if kind == "ok" else \
+                dataclasses.replace(payload, path=path)
             result.calculations[cand.relpath] = calc
             result.rows.append(calculation_row(cand.relpath, calc))
         else:

@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import argparse
 import hashlib
-import json
 import platform
 from collections import Counter
 from dataclasses import dataclass, field
@@ -668,16 +667,10 @@ def _sha256(path: Path) -> str:
     return digest.hexdigest()
 
 
-def _json_default(value: Any) -> Any:
-    if isinstance(value, np.ndarray):
-        return value.tolist()
-    if isinstance(value, (np.floating, np.integer, np.bool_)):
-        return value.item()
-    return str(value)
-
-
 def run_json(results: RunResults, written: list[Path]) -> str:
     """run.json: tool version, every setting, sha256 of every input file, all findings, what was written."""
+    from .fileio import json_text
+
     inputs = [{"path": str(p), "sha256": _sha256(p), "bytes": p.stat().st_size} for p in results.input_files()
               if p.is_file()]
     doc = {
@@ -699,34 +692,25 @@ def run_json(results: RunResults, written: list[Path]) -> str:
         "reactions": results.reactions.to_dict(orient="records") if len(results.reactions) else [],
         "files": sorted(p.name for p in written),
     }
-    return json.dumps(_finite(doc), indent=2, default=_json_default, allow_nan=False) + "\n"
-
-
-def _finite(value: Any) -> Any:
-    """NaN and inf become null, so run.json is strict JSON."""
-    if isinstance(value, dict):
-        return {k: _finite(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_finite(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return _finite(value.tolist())
-    if isinstance(value, (float, np.floating)) and not np.isfinite(value):
-        return None
-    return value
+    return json_text(doc, indent=2)  # strict JSON: NaN and inf as null, file names in their display form
 
 
 def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     from .export.xyz import write_xyz_file
-    from .fileio import atomic_write
+    from .fileio import atomic_write, display, printable_frame
 
+    # text files show a non-UTF-8 file name as \xNN by themselves (atomic_open); a workbook is binary, so the
+    # tables and their notes are given in that form
     written = [atomic_write(out_dir / "survey.csv", results.survey.to_csv(index=False))]
-    written += _write_table(results.species, out_dir, "species", "Species thermochemistry, hartree per molecule; "
-                            f"{caption_context(results)}.", _table_notes(results))
+    written += _write_table(printable_frame(results.species), out_dir, "species", "Species thermochemistry, "
+                            f"hartree per molecule; {display(caption_context(results))}.",
+                            [display(n) for n in _table_notes(results)])
     if len(results.reactions):
         names, subjects = _reaction_subjects(results)
-        written += _write_table(results.reactions, out_dir, "reactions", "Reaction energies and free energies of "
-                                f"activation, {results.energy_unit}; {caption_context(results, names)}.",
-                                _table_notes(results, subjects))
+        written += _write_table(printable_frame(results.reactions), out_dir, "reactions", "Reaction energies and "
+                                f"free energies of activation, {results.energy_unit}; "
+                                f"{display(caption_context(results, names))}.",
+                                [display(n) for n in _table_notes(results, subjects)])
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):

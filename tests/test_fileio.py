@@ -1,12 +1,16 @@
 """Atomic output and output-directory safety (qcthermo.fileio)."""
 
+import json
 import os
 import stat
+import subprocess
+import sys
 
+import numpy as np
 import pytest
 
 from qcthermo.errors import QcthermoError
-from qcthermo.fileio import atomic_open, atomic_write, prepare_output_dir
+from qcthermo.fileio import atomic_open, atomic_write, display, json_text, prepare_output_dir
 
 
 def test_atomic_write_gives_umask_permissions(tmp_path):
@@ -37,6 +41,60 @@ def test_output_dir_with_other_files_needs_force(tmp_path):
     assert prepare_output_dir(tmp_path, force=True) == tmp_path
     previous_run = tmp_path / "again"
     previous_run.mkdir()
-    (previous_run / "run.json").write_text("{}")
+    (previous_run / "run.json").write_text('{"tool": "qcthermo"}')
     (previous_run / "species.csv").write_text("")
     assert prepare_output_dir(previous_run) == previous_run
+
+
+def test_a_killed_runs_directory_is_refilled_but_a_users_files_are_protected(tmp_path):
+    killed = tmp_path / "killed"  # a run stopped before run.json: only files a run writes
+    killed.mkdir()
+    for name in ("survey.csv", "species.xlsx", "profile_hcn_hnc.svg"):
+        (killed / name).write_text("")
+    assert prepare_output_dir(killed) == killed
+    theirs = tmp_path / "theirs"
+    theirs.mkdir()
+    (theirs / "species.csv").write_text("")
+    (theirs / "notes.txt").write_text("mine")
+    with pytest.raises(QcthermoError, match="--force"):
+        prepare_output_dir(theirs)
+    (theirs / "notes.txt").unlink()
+    (theirs / "run.json").write_text('{"tool": "another program"}')  # a run.json qcthermo did not write
+    with pytest.raises(QcthermoError, match="--force"):
+        prepare_output_dir(theirs)
+    (theirs / "run.json").write_text("not JSON")
+    with pytest.raises(QcthermoError, match="--force"):
+        prepare_output_dir(theirs)
+
+
+def test_temporary_files_of_a_dead_writer_are_removed(tmp_path):
+    dead = subprocess.run([sys.executable, "-c", "import os; print(os.getpid())"], capture_output=True, text=True)
+    stale = tmp_path / f".species.csv.{int(dead.stdout)}-{'ab' * 8}.tmp"  # the pid of a process that has ended
+    live = tmp_path / f".species.csv.{os.getpid()}-{'cd' * 8}.tmp"  # this process may still be writing it
+    stale.write_text("half")
+    live.write_text("half")
+    prepare_output_dir(tmp_path)  # only temporaries: a run's directory
+    assert not stale.exists() and live.exists()
+
+
+def test_display_form_of_a_name_that_is_not_utf8():
+    # PEP 383: os.fsdecode turns the undecodable byte 0xE9 into the lone surrogate U+DCE9
+    name = os.fsdecode(b"caf\xe9.out")
+    assert name == "caf\udce9.out"
+    assert display(name) == "caf\\xe9.out"  # the byte as Python writes it in a bytes literal
+    assert display("café [1].out") == "café [1].out"  # valid text is left alone
+    assert display("\ud800") == "\\ud800"  # a surrogate that is no file-name byte: its code point
+
+
+def test_strict_json_has_no_nan_or_infinity():
+    # RFC 8259 section 6: NaN and Infinity are not permitted as JSON numbers
+    def refuse(token):
+        raise ValueError(f"non-standard JSON token {token}")
+
+    text = json_text({"E": float("-inf"), "k": np.array([1.0, np.nan]), "n": np.int64(3), "name": "caf\udce9"})
+    assert json.loads(text, parse_constant=refuse) == {"E": None, "k": [1.0, None], "n": 3, "name": "caf\\xe9"}
+
+
+def test_text_written_atomically_shows_a_non_utf8_name_as_its_bytes(tmp_path):
+    path = atomic_write(tmp_path / "t.csv", "path\ncaf\udce9.out\n")
+    assert path.read_bytes() == b"path\ncaf\\xe9.out\n"  # valid UTF-8 (ASCII), as display() shows it

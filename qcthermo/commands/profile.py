@@ -67,10 +67,7 @@ def main(args: argparse.Namespace) -> int:
         fig = plot_profiles(profiles, precision=args.precision)
     else:
         fig = overview_figure(profiles, precision=args.precision)
-    try:
-        save_figure(fig, output)
-    except OSError as err:
-        raise QcthermoError(f"{output}: cannot write the figure ({err.strerror or err.__class__.__name__})") from None
+    save_figure(fig, output)  # an OSError is a one-line QcthermoError naming the file (qcthermo.fileio)
     if not args.quiet:
         # a --temperature-range draws one of its temperatures: say which
         t_shown = float(np.atleast_1d(conditions.temperature)[t_index])

@@ -22,10 +22,17 @@ def check_out(out: str | Path, force: bool) -> None:
 
 
 def print_summary(results, out: Path | None, quiet: bool) -> None:
-    """Species count, the reactions table in the run's unit, findings (errors first), where the files are."""
-    from rich.console import Console
-    from rich.table import Table
+    """Species count, the reactions table in the run's unit, findings (errors first), where the files are.
 
+    Names (files, species, reactions) reach rich as escaped markup or Text, so "b[1].out" or "[bold]x" is
+    printed as named, and a file name that is not UTF-8 in its display form (qcthermo.fileio.display).
+    """
+    from rich.console import Console
+    from rich.markup import escape
+    from rich.table import Table
+    from rich.text import Text
+
+    from ..fileio import display
     from ..units import unit_suffix
 
     console = Console(stderr=False, highlight=False)
@@ -48,18 +55,20 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
             table.add_column(heading, justify="left" if heading in ("reaction", "status") else "right")
         for _, row in df.iterrows():
             k = row.get("k_forward")
-            table.add_row(str(row["reaction"]), f"{row['T_K']:g}", _num(row[f"dE_{u}"]), _num(row[f"dH_{u}"]),
-                          _num(row[g]), _num(row[g_act]), "" if k is None or k != k else f"{k:.3g}",
-                          str(row["status"]), style="red" if row["status"] != "ok" else None)
+            table.add_row(Text(display(str(row["reaction"]))), f"{row['T_K']:g}", _num(row[f"dE_{u}"]),
+                          _num(row[f"dH_{u}"]), _num(row[g]), _num(row[g_act]),
+                          "" if k is None or k != k else f"{k:.3g}", str(row["status"]),
+                          style="red" if row["status"] != "ok" else None)
         console.print(table)
     for severity, style in (("error", "red"), ("warning", "yellow")):
         found = [f for f in results.findings if f.severity == severity]
         for f in found[:SHOWN_FINDINGS]:
-            console.print(f"[{style}]{severity}[/{style}]: {f.subject}: {f.message}", markup=True, soft_wrap=True)
+            console.print(f"[{style}]{severity}[/{style}]: {escape(display(f.subject))}: {escape(display(f.message))}",
+                          markup=True, soft_wrap=True)
         if len(found) > SHOWN_FINDINGS:
             console.print(f"... and {len(found) - SHOWN_FINDINGS} more {severity}s (all in run.json)")
     if out is not None:
-        console.print(f"results written to {out}/ (run.json lists every file and finding)")
+        console.print(Text(f"results written to {display(str(out))}/ (run.json lists every file and finding)"))
 
 
 def _num(value) -> str:

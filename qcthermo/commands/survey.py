@@ -3,17 +3,16 @@
 from __future__ import annotations
 
 import argparse
-import json
 import sys
 from pathlib import Path
 
 from ..errors import QcthermoError
-from ..fileio import atomic_write
+from ..fileio import atomic_write, display, json_text
 from ..survey import LOG_SUFFIXES, SurveyResult, survey
 
 #: the columns of the terminal table: (heading, how to show a row)
 _TABLE = (
-    ("file", lambda r: r["path"]),
+    ("file", lambda r: display(r["path"])),
     ("program", lambda r: r["program"] or ""),
     ("jobs", lambda r: r["job_types"] or ""),
     ("level", lambda r: "/".join(x for x in (r["method"], r["basis"]) if x)),
@@ -30,6 +29,8 @@ _TABLE = (
 _PRIORITY = (0, 10, 1, 6, 7, 9, 8, 5, 3, 2, 4)
 _REASON_MIN = 24
 _STATUS_STYLE = {"warning": "yellow", "error": "red"}
+#: failing files named under --quiet (the table, which names them all, is not shown)
+SHOWN_ERRORS = 10
 
 
 def _blank(value) -> str:
@@ -41,9 +42,9 @@ def check_outputs(paths: list[str | None], force: bool) -> list[Path]:
     out = [Path(p) for p in paths if p]
     for path in out:
         if path.exists() and not force:
-            raise QcthermoError(f"{path} exists; use --force to overwrite it")
+            raise QcthermoError(f"{display(str(path))} exists; use --force to overwrite it")
         if path.is_dir():
-            raise QcthermoError(f"{path} is a directory")
+            raise QcthermoError(f"{display(str(path))} is a directory")
     return out
 
 
@@ -52,8 +53,9 @@ def write_csv(result: SurveyResult, path: str | Path) -> Path:
 
 
 def write_json(result: SurveyResult, path: str | Path) -> Path:
-    """A JSON list of row objects (the CSV columns), null where the CSV is empty."""
-    return atomic_write(path, json.dumps(result.rows, indent=1) + "\n")
+    """A JSON list of row objects (the CSV columns), null where the CSV is empty (and for a non-finite
+    number: strict JSON has no NaN or Infinity); file names in their :func:`~qcthermo.fileio.display` form."""
+    return atomic_write(path, json_text(result.rows))
 
 
 def _fitting_columns(cells: list[list[str]], width: int) -> list[int]:
@@ -73,9 +75,11 @@ def _fitting_columns(cells: list[list[str]], width: int) -> list[int]:
 
 
 def print_table(result: SurveyResult) -> None:
-    """The rows on stdout, fitted to the terminal (a pipe gets 200 characters)."""
+    """The rows on stdout, fitted to the terminal (a pipe gets 200 characters). Cells are Text, not markup:
+    a file called "[bold]x.log" is shown as named."""
     from rich.console import Console
     from rich.table import Table
+    from rich.text import Text
 
     console = Console()
     if not console.is_terminal:
@@ -87,20 +91,31 @@ def print_table(result: SurveyResult) -> None:
         heading = _TABLE[j][0]
         table.add_column(heading, overflow="fold", no_wrap=heading != "reason")
     for row, row_cells in zip(result.rows, cells, strict=True):
-        table.add_row(*(row_cells[j] for j in keep), style=_STATUS_STYLE.get(row["status"]))
+        table.add_row(*(Text(display(row_cells[j])) for j in keep), style=_STATUS_STYLE.get(row["status"]))
     console.print(table)
+
+
+def print_errors(command: str, errors: dict[str, str], limit: int = SHOWN_ERRORS) -> None:
+    """The first ``limit`` unreadable files on stderr, one line each, and how many more there are."""
+    for relpath, reason in list(errors.items())[:limit]:
+        print(f"qcthermo {command}: error: {display(relpath)}: {display(reason)}", file=sys.stderr)
+    if len(errors) > limit:
+        print(f"qcthermo {command}: ... and {len(errors) - limit} more unreadable files", file=sys.stderr)
 
 
 def main(args: argparse.Namespace) -> int:
     check_outputs([args.csv, args.json], args.force)
     result = survey(args.directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
     for note in result.notes:
-        print(f"qcthermo survey: warning: {note}", file=sys.stderr)
+        print(f"qcthermo survey: warning: {display(note)}", file=sys.stderr)
     if not result.rows:
         patterns = ", ".join(f"*{s}" for s in LOG_SUFFIXES)
-        print(f"qcthermo survey: no log files ({patterns}, also gzipped) under {args.directory}", file=sys.stderr)
+        print(f"qcthermo survey: no log files ({patterns}, also gzipped) under {display(args.directory)}",
+              file=sys.stderr)
         return 2
-    if not args.quiet:
+    if args.quiet:
+        print_errors("survey", result.errors)
+    else:
         print_table(result)
     if args.csv:
         write_csv(result, args.csv)
