@@ -23,6 +23,7 @@ _PUBLIC = {
     "Conditions": "qcthermo.records",
     "ThermoResult": "qcthermo.records",
     "thermochemistry": "qcthermo.thermo",
+    "free_energy_parts": "qcthermo.commands.thermo",
     "survey": "qcthermo.survey",
     "load_reaction_file": "qcthermo.reactions",
     "run": "qcthermo.workflow",

@@ -236,42 +236,6 @@ def test_molar_units_of_entropy():
     assert entropy_to_j_mol_k(1.0) == pytest.approx(HARTREE_J * N_A, rel=1e-15)
 
 
-def test_thermo_command_table(third_party, tmp_path, capsys):
-    # real logs (third-party-logs README): dvb is C2h with sigma 2; the GAMESS NH3 run is a
-    # transition-state frequency job with exactly one imaginary mode
-    import shutil
-
-    import pandas as pd
-
-    from qcthermo.cli import main
-
-    logs = tmp_path / "logs"
-    logs.mkdir()
-    shutil.copy(third_party / "gaussian16" / "dvb_ir.out", logs / "dvb_ir.out")
-    shutil.copy(third_party / "gamess-us2018" / "nh3_ts_ir.out", logs / "nh3_ts_ir.out")
-    (logs / "broken.out").write_text("not a quantum-chemistry log\n")
-    csv = tmp_path / "thermo.csv"
-    args = ["thermo", str(logs), "--csv", str(csv), "--no-cache", "--jobs", "1", "--quiet",
-            "--temperature-range", "250:350:50", "--low-mode-model", "qrrho-enthalpy"]
-    assert main(args) == 1  # results written, one input unreadable
-    table = pd.read_csv(csv)
-    dvb = table[table["file"] == "dvb_ir.out"]
-    assert list(dvb["T_K"]) == [250.0, 300.0, 350.0]
-    assert set(dvb["symmetry_number"]) == {2} and set(dvb["point_group"]) == {"C2h"}
-    for column in ("E_elec_Eh", "ZPE_Eh", "H_Eh", "TS_Eh", "G_Eh", "G_qrrho_enthalpy_Eh", "dG_qrrho_enthalpy_kcal_mol"):
-        assert dvb[column].notna().all()
-    assert np.allclose(dvb["G_Eh"], dvb["H_Eh"] - dvb["TS_Eh"])
-    ts = table[table["file"] == "nh3_ts_ir.out"]
-    assert set(ts["imaginary_cm1"]) == {-825.18} and set(ts["status"]) == {"warning"}
-    broken = table[table["file"] == "broken.out"]
-    assert len(broken) == 1 and broken["status"].iloc[0] == "error" and "\n" not in broken["reason"].iloc[0]
-    # an existing CSV is not overwritten without --force
-    before = csv.read_text()
-    assert main(args) == 2
-    assert csv.read_text() == before
-    assert "--force" in capsys.readouterr().err
-
-
 @pytest.mark.parametrize("name", ["H2O", "NH3", "CH4", "C2H4", "CO2", "HCN", "CO", "C6H6"])
 def test_symmetry_number_survives_optimiser_noise(name):
     # common practice: sigma(H2O) 2, NH3 3, CH4 12, C2H4 4, CO2 2, HCN 1, CO 1, C6H6 12; geometries with
@@ -311,41 +275,6 @@ def test_programs_own_thermochemistry(third_party, log, settings, tolerance_eh):
     assert res.zpe == pytest.approx(printed["zpe"], abs=tolerance_eh)
     assert res.enthalpy == pytest.approx(printed["enthalpy"], abs=tolerance_eh)
     assert res.gibbs == pytest.approx(printed["gibbs"], abs=tolerance_eh)
-
-
-def test_thermo_relative_free_energies_stay_within_one_program(tmp_path, third_party):
-    # The same dvb structure at "B3LYP/STO-3G" from Gaussian 16 and ORCA 5 (third-party-logs README:
-    # E = -382.308 and -382.055 Eh, the programs' B3LYP definitions differ): not an isomer gap of ~159 kcal/mol.
-    import shutil
-
-    import pandas as pd
-
-    from qcthermo.cli import main
-
-    logs = tmp_path / "logs"
-    logs.mkdir()
-    shutil.copy(third_party / "gaussian16" / "dvb_ir.out", logs / "dvb_gaussian.out")
-    shutil.copy(third_party / "orca5.0" / "dvb_ir.out", logs / "dvb_orca.out")
-    csv = tmp_path / "thermo.csv"
-    assert main(["thermo", str(logs), "--csv", str(csv), "--no-cache", "--jobs", "1", "--quiet"]) == 0
-    table = pd.read_csv(csv)
-    assert set(table["program"]) == {"gaussian", "orca"}
-    assert list(table["dG_qrrho_kcal_mol"]) == [0.0, 0.0]
-
-
-def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys, tmp_path):
-    # sample_outputs/README.md table: gas/ holds nine "opt + freq" jobs and the H atom's "energy" job;
-    # an atom needs no frequencies, so all ten get a row; sp/ holds MP2 single points of molecules
-    from qcthermo.cli import main
-
-    table = tmp_path / "gas.csv"
-    assert main(["thermo", str(samples / "gas"), "--no-cache", "--jobs", "1", "--quiet", "--csv", str(table)]) == 0
-    summary = capsys.readouterr().out.strip().splitlines()[-1]
-    assert summary.startswith("10 files: 0 refused or unreadable; model")
-    assert "h_atom.out" in table.read_text()
-    assert main(["thermo", str(samples / "sp"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
-    summary = capsys.readouterr().out.strip().splitlines()[-1]
-    assert summary.startswith("1 file: 0 refused or unreadable; 6 without frequencies left out")
 
 
 def test_thermochemistry_of_what_read_log_returned_says_what_to_pass(samples):

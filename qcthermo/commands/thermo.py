@@ -1,9 +1,11 @@
-"""``qcthermo thermo DIR``: one row per frequency log (and temperature) with E, ZPE, H, T*S and G.
+"""``qcthermo thermo DIR``: one row per frequency log (and temperature) with G broken down by motion.
 
-The G, H and T*S columns without a model name are plain RRHO; the chosen low-mode model's values sit
-beside them (``G_qrrho_Eh`` ...). Relative free energies in the chosen unit are given within each
-formula, program, level of theory and solvent model (conformers and isomers), against the lowest at the
-same temperature.
+The wide table (terminal, ``--csv``) gives, for the chosen low-mode model, E_elec and the free energy of
+each motion, translational, rotational, vibrational (harmonic) and electronic, then one low-mode column,
+G(model) - G(RRHO), so that the parts add up to G; and G relative to the lowest of the same formula,
+program, level of theory and solvent model (conformers and isomers) at the same temperature.
+``--long`` writes every quantity (RRHO and model totals, the components) one row per file, temperature
+and quantity; ``--json`` the full record of each file. The convention is in docs/thermo.md.
 A log the engine refuses is a row with its one-line reason.
 """
 
@@ -11,63 +13,89 @@ from __future__ import annotations
 
 import argparse
 import sys
+from dataclasses import asdict, dataclass, field
 from typing import Any
 
 import numpy as np
 
+from .. import __version__
 from ..errors import QcthermoError
-from ..fileio import atomic_write
+from ..fileio import atomic_write, display, json_text
 from ..records import Conditions, Molecule, ThermoResult
-from ..units import hartree_to, unit_suffix
+from ..thermo import COMPONENTS, TOTALS
+from ..units import K_B_EH, hartree_to, unit_suffix
 from .common import conditions_from_args
 
+#: the free-energy parts of the wide table, in the order they add up to G (docs/thermo.md)
+PARTS = ("E_elec", "G_trans", "G_rot", "G_vib", "G_elec", "G_low_mode")
+#: short names of the motions in column names
+MOTIONS = dict(zip(COMPONENTS, ("trans", "rot", "vib", "elec"), strict=True))
+#: ThermoResult totals -> (long-form quantity, unit)
+TOTAL_NAMES = {"zpe": ("ZPE", "Eh"), "thermal_energy": ("U", "Eh"), "enthalpy": ("H", "Eh"),
+               "entropy": ("S", "Eh/K"), "gibbs": ("G", "Eh"), "cv": ("Cv", "Eh/K"), "cp": ("Cp", "Eh/K")}  # fmt: skip
 
-def model_tag(model: str) -> str:
-    """Column tag of a low-mode model: "qrrho-enthalpy" -> "qrrho_enthalpy"."""
-    return model.replace("-", "_")
+
+def _temperatures(res: ThermoResult) -> np.ndarray:
+    return np.atleast_1d(np.asarray(res.conditions.temperature, dtype=float))
 
 
-def result_rows(path: str, calc, molecule: Molecule, res: ThermoResult, unit: str) -> list[dict[str, Any]]:
-    """One row per temperature of ``res`` (of ``calc``'s log); hartree columns and the free-energy correction
-    in ``unit``."""
-    cond = res.conditions
-    temps = np.atleast_1d(np.asarray(cond.temperature, dtype=float))
-    tag = model_tag(cond.low_mode_model)
-    suffix = unit_suffix(unit)
+def _over_t(value, n: int) -> np.ndarray:
+    """A scalar or per-temperature value as an array over the ``n`` temperatures."""
+    return np.broadcast_to(np.asarray(value, dtype=float), (n,)).astype(float)
 
-    def at(value, i):
-        return float(np.atleast_1d(value)[i]) if np.ndim(value) else float(value)
 
-    rows = []
-    for i, t in enumerate(temps):
-        rrho = {k: at(v, i) for k, v in res.rrho.items()}
-        row: dict[str, Any] = {
-            "file": path,
-            "formula": molecule.formula,
-            "program": calc.program,
-            "level_of_theory": calc.level_of_theory,
-            "solvent_model": calc.solvent_model,
-            "point_group": res.point_group,
-            "symmetry_number": res.symmetry_number,
-            "imaginary_cm1": res.imaginary_frequency,
-            "T_K": float(t),
-            "E_elec_Eh": res.electronic_energy,
-            "ZPE_Eh": rrho["zpe"],
-            "H_Eh": rrho["enthalpy"],
-            "S_Eh_K": rrho["entropy"],
-            "TS_Eh": t * rrho["entropy"],
-            "G_Eh": rrho["gibbs"],
-        }
-        if tag != "rrho":
-            row[f"H_{tag}_Eh"] = at(res.enthalpy, i)
-            row[f"TS_{tag}_Eh"] = t * at(res.entropy, i)
-            row[f"G_{tag}_Eh"] = at(res.gibbs, i)
-        row[f"G_corr_{tag}_{suffix}"] = hartree_to(at(res.gibbs, i) - res.electronic_energy, unit)
-        row["status"] = "warning" if any(n.startswith("warning") for n in res.notes) else "ok"
-        # the model is named in the column names already
-        row["reason"] = "; ".join(n for n in res.notes if not n.startswith("low-mode model"))
-        rows.append(row)
-    return rows
+def motion_free_energy(u, s, temperature, pv: float | np.ndarray = 0.0):
+    """G of one motion, Eh: G_x = U_x + pV_x - T S_x = -kT ln q_x.
+
+    Only translation carries the pV = kT of H = U + kT: with Stirling's N!, the ideal gas has
+    G = -NkT ln(q/N) (McQuarrie, Statistical Mechanics, chapters 5 and 8), and the 1/N and the pV
+    term both come from the translational q_t V/N. Thus G_trans = -kT ln(q_t V/N), G_rot = -kT ln q_rot,
+    G_vib = -kT ln q_vib (from the bottom of the well, ZPE included), G_elec = -kT ln g0.
+    """
+    return u + pv - temperature * s
+
+
+def free_energy_parts(res: ThermoResult) -> dict[str, np.ndarray]:
+    """G of ``res`` broken down, Eh, arrays over its temperatures: E_elec, G_trans, G_rot, G_vib, G_elec,
+    G_low_mode; they add up to ``res.gibbs`` (the chosen model).
+
+    G_vib is the harmonic (RRHO) vibrational part, the RRHO total less the other motions, and
+    G_low_mode = G(model) - G(RRHO) is what the low-mode model changes (zero under "rrho").
+    Translation, rotation and electronic levels do not depend on the low-mode model.
+    """
+    t = _temperatures(res)
+    n = len(t)
+    comp = {c: {q: _over_t(v, n) for q, v in res.components[c].items()} for c in COMPONENTS}
+    kt = K_B_EH * t
+    parts = {"E_elec": _over_t(res.electronic_energy, n)}
+    for c in ("translational", "rotational", "electronic"):
+        pv = kt if c == "translational" else 0.0
+        parts[f"G_{MOTIONS[c]}"] = motion_free_energy(comp[c]["U"], comp[c]["S"], t, pv)
+    fixed_u = sum(comp[c]["U"] for c in ("translational", "rotational", "electronic"))
+    fixed_s = sum(comp[c]["S"] for c in ("translational", "rotational", "electronic"))
+    u_vib = _over_t(res.rrho["thermal_energy"], n) - res.electronic_energy - fixed_u
+    s_vib = _over_t(res.rrho["entropy"], n) - fixed_s
+    parts["G_vib"] = motion_free_energy(u_vib, s_vib, t)
+    parts["G_low_mode"] = _over_t(res.gibbs, n) - _over_t(res.rrho["gibbs"], n)
+    return {name: parts[name] for name in PARTS}
+
+
+@dataclass
+class Entry:
+    """One log of the table: its result, or the one-line reason it has none."""
+
+    path: str
+    formula: str | None
+    calc: Any = None
+    result: ThermoResult | None = None
+    reason: str = ""
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def status(self) -> str:
+        if self.result is None:
+            return "error"
+        return "warning" if any(n.startswith("warning") for n in self.notes) else "ok"
 
 
 def molecule_of(path: str, calc, cond: Conditions) -> tuple[Molecule, list[str]]:
@@ -85,32 +113,11 @@ def molecule_of(path: str, calc, cond: Conditions) -> tuple[Molecule, list[str]]
     return molecule.replace(transition_state=True), [note]
 
 
-def error_row(path: str, formula: str | None, reason: str) -> dict[str, Any]:
-    return {"file": path, "formula": formula, "status": "error", "reason": reason}
-
-
-def add_relative_columns(frame, model: str, unit: str):
-    """dG_<model>_<unit>: G minus the lowest G of the same formula, program, level of theory and solvent model
-    at the same temperature. Programs apart: one functional's name covers different definitions (B3LYP with
-    VWN3 or VWN5), so absolute energies of two programs differ by far more than any isomer gap."""
-    tag = model_tag(model)
-    column = "G_Eh" if tag == "rrho" else f"G_{tag}_Eh"
-    if column not in frame:
-        return frame
-    keys = ["formula", "program", "level_of_theory", "solvent_model", "T_K"]
-    lowest = frame.groupby(keys, dropna=False)[column].transform("min")
-    frame[f"dG_{tag}_{unit_suffix(unit)}"] = hartree_to(frame[column] - lowest, unit)
-    return frame
-
-
-def thermo_table(calculations: dict[str, Any], read_errors: dict[str, str], cond: Conditions, unit: str):
-    """(DataFrame, number of refused or unreadable logs) for the frequency logs among ``calculations``."""
-    import pandas as pd
-
+def compute_entries(calculations: dict[str, Any], read_errors: dict[str, str], cond: Conditions) -> list[Entry]:
+    """An :class:`Entry` per frequency log among ``calculations`` (sorted), then per unreadable file."""
     from ..thermo import thermochemistry
 
-    rows: list[dict[str, Any]] = []
-    errors = 0
+    entries = []
     for path in sorted(calculations):
         calc = calculations[path]
         if not calc.has_vibrations:
@@ -118,45 +125,166 @@ def thermo_table(calculations: dict[str, Any], read_errors: dict[str, str], cond
         try:
             molecule, notes = molecule_of(path, calc, cond)
             res = thermochemistry(molecule, cond)
-            res.notes[:0] = notes
-            rows += result_rows(path, calc, molecule, res, unit)
         except (QcthermoError, ValueError) as err:  # ValueError: e.g. an element without a mass
-            rows.append(error_row(path, calc.formula, " ".join(str(err).removeprefix(f"{path}: ").split())))
-            errors += 1
-    for path in sorted(read_errors):
-        rows.append(error_row(path, None, read_errors[path]))
-        errors += 1
-    frame = pd.DataFrame(rows)
+            reason = " ".join(str(err).removeprefix(f"{path}: ").split())
+            entries.append(Entry(path, calc.formula, calc, reason=reason))
+            continue
+        # the model is named in its own column
+        notes += [n for n in res.notes if not n.startswith("low-mode model")]
+        entries.append(Entry(path, molecule.formula, calc, res, notes=notes))
+    entries += [Entry(path, None, reason=read_errors[path]) for path in sorted(read_errors)]
+    return entries
+
+
+def _wide_rows(entry: Entry) -> list[dict[str, Any]]:
+    res, calc = entry.result, entry.calc
+    head = {"file": entry.path, "formula": entry.formula}
+    if res is None:
+        return [{**head, "status": "error", "reason": entry.reason}]
+    head |= {"program": calc.program, "level_of_theory": calc.level_of_theory, "solvent_model": calc.solvent_model,
+             "point_group": res.point_group, "symmetry_number": res.symmetry_number,
+             "imaginary_cm1": res.imaginary_frequency}  # fmt: skip
+    parts = free_energy_parts(res)
+    total = _over_t(res.gibbs, len(_temperatures(res)))  # the engine's G; the parts add up to it
+    rows = []
+    for i, t in enumerate(_temperatures(res)):
+        row = {**head, "T_K": float(t), "low_mode_model": res.conditions.low_mode_model}
+        row |= {f"{name}_Eh": float(value[i]) for name, value in parts.items()}
+        row |= {"G_total_Eh": float(total[i]), "status": entry.status, "reason": "; ".join(entry.notes)}
+        rows.append(row)
+    return rows
+
+
+def add_relative_column(frame, unit: str):
+    """dG_total_<unit>: G minus the lowest G of the same formula, program, level of theory and solvent model
+    at the same temperature. Programs apart: one functional's name covers different definitions (B3LYP with
+    VWN3 or VWN5), so absolute energies of two programs differ by far more than any isomer gap."""
+    keys = ["formula", "program", "level_of_theory", "solvent_model", "T_K"]
+    lowest = frame.groupby(keys, dropna=False)["G_total_Eh"].transform("min")
+    frame.insert(frame.columns.get_loc("G_total_Eh") + 1, f"dG_total_{unit_suffix(unit)}",
+                 hartree_to(frame["G_total_Eh"] - lowest, unit))
+    return frame
+
+
+def thermo_table(entries: list[Entry], unit: str):
+    """The wide table: (DataFrame, number of refused or unreadable logs)."""
+    import pandas as pd
+
+    frame = pd.DataFrame([row for entry in entries for row in _wide_rows(entry)])
+    errors = sum(entry.result is None for entry in entries)
     if "T_K" in frame:
-        frame = add_relative_columns(frame, cond.low_mode_model, unit)
+        frame = add_relative_column(frame, unit)
         # reason last, the rest in the order the rows were built
         frame = frame[[c for c in frame.columns if c not in ("status", "reason")] + ["status", "reason"]]
         frame["symmetry_number"] = frame["symmetry_number"].astype("Int64")
     return frame, errors
 
 
+def long_table(entries: list[Entry]):
+    """Every number of the usable logs, one row per file, temperature and quantity: file, formula, T_K,
+    model ("rrho" or the chosen one), quantity, value, unit. Totals under RRHO and under the model, the
+    components of the model (U_trans, S_trans, Cv_trans, ...) and the free-energy parts."""
+    import pandas as pd
+
+    rows = []
+    for entry in entries:
+        res = entry.result
+        if res is None:
+            continue
+        model = res.conditions.low_mode_model
+        t = _temperatures(res)
+        sets = {"rrho": res.rrho, model: {k: getattr(res, k) for k in TOTALS}}  # one set under rrho
+        series = [(label, *TOTAL_NAMES[k], values[k]) for label, values in sets.items() for k in TOTALS]
+        for c in COMPONENTS:
+            series += [(model, f"{q}_{MOTIONS[c]}", "Eh" if q == "U" else "Eh/K", v)
+                       for q, v in res.components[c].items()]
+        series += [(model, name, "Eh", value) for name, value in free_energy_parts(res).items()]
+        for label, quantity, unit, value in series:
+            values = _over_t(value, len(t))
+            rows += [{"file": entry.path, "formula": entry.formula, "T_K": float(ti), "model": label,
+                      "quantity": quantity, "value": float(v), "unit": unit} for ti, v in zip(t, values, strict=True)]
+    return pd.DataFrame(rows, columns=["file", "formula", "T_K", "model", "quantity", "value", "unit"])
+
+
+def _json_record(entry: Entry) -> dict[str, Any]:
+    res, calc = entry.result, entry.calc
+    record: dict[str, Any] = {"file": entry.path, "formula": entry.formula, "status": entry.status}
+    if res is None:
+        return record | {"reason": entry.reason}
+    n = len(_temperatures(res))
+
+    def totals(values) -> dict[str, list[float]]:
+        # the ZPE does not depend on T: one number
+        return {f"{k}_{TOTAL_NAMES[k][1].replace('/', '_')}": float(values[k]) if k == "zpe" else _over_t(values[k], n)
+                for k in TOTALS}
+
+    return record | {
+        "notes": entry.notes, "program": calc.program, "level_of_theory": calc.level_of_theory,
+        "solvent_model": calc.solvent_model, "point_group": res.point_group,
+        "symmetry_number": res.symmetry_number, "chiral": res.chiral, "linear": res.linear,
+        "imaginary_cm1": res.imaginary_frequency, "scale_factors": res.scale_factors,
+        "frequencies_cm1": res.frequencies_used, "electronic_energy_Eh": res.electronic_energy,
+        "rrho": totals(res.rrho), "model": totals({k: getattr(res, k) for k in TOTALS}),
+        "components": {c: {f"{q}_{'Eh' if q == 'U' else 'Eh_K'}": _over_t(v, n) for q, v in res.components[c].items()}
+                       for c in COMPONENTS},
+        "free_energy_parts_Eh": free_energy_parts(res),
+    }  # fmt: skip
+
+
+def json_document(entries: list[Entry], cond: Conditions) -> str:
+    """Strict JSON (no NaN tokens) of every entry; values per temperature are lists over ``temperatures_K``."""
+    doc = {"tool": "qcthermo", "version": __version__, "command": "thermo",
+           "conditions": asdict(cond) | {"temperature": np.atleast_1d(cond.temperature)},
+           "temperatures_K": np.atleast_1d(np.asarray(cond.temperature, dtype=float)),
+           "files": [_json_record(entry) for entry in entries]}  # fmt: skip
+    return json_text(doc)
+
+
+def point_group_text(symbol: str | None) -> str:
+    """The engine's ASCII "C*v", "D*h" as printed in books, "C∞v", "D∞h" (the terminal only; files keep ASCII)."""
+    return "" if symbol is None else symbol.replace("*", "∞")
+
+
+def _terminal_notes(record: dict[str, Any]) -> str:
+    """The notes, less the one that repeats the point-group and σ columns."""
+    same = f"point group {record.get('point_group')}, symmetry number {record.get('symmetry_number')}"
+    return "; ".join(n for n in str(record.get("reason") or "").split("; ") if n != same)
+
+
 def print_table(frame, model: str, unit: str) -> None:
-    """The main columns on stdout with rich; CSV has them all."""
+    """The wide table on stdout with rich: parts of G in ``unit``, E and G in Eh. Every cell is a rich Text,
+    so a file name such as ``a[/red].out`` is printed verbatim, not read as markup."""
+    import pandas as pd
     from rich.console import Console
     from rich.table import Table
+    from rich.text import Text
 
-    tag = model_tag(model)
-    suffix = unit_suffix(unit)
-    shown = [("file", "file", "{}"), ("formula", "formula", "{}"), ("point_group", "PG", "{}"),
-             ("symmetry_number", "σ", "{:.0f}"), ("T_K", "T / K", "{:.2f}"), ("E_elec_Eh", "E / Eh", "{:.6f}"),
-             ("ZPE_Eh", "ZPE / Eh", "{:.6f}"), ("G_Eh", "G(RRHO) / Eh", "{:.6f}"),
-             (f"G_{tag}_Eh", f"G({model}) / Eh", "{:.6f}"), (f"dG_{tag}_{suffix}", f"ΔG / {unit}", "{:.2f}"),
-             ("status", "status", "{}"), ("reason", "notes", "{}")]  # fmt: skip
+    factor = hartree_to(1.0, unit)
+    parts = [(f"{name}_Eh", name.removeprefix("G_").replace("_", "-"), factor, "{:.2f}") for name in PARTS[1:]]
+    shown = [("file", "file", None, "{}"), ("formula", "formula", None, "{}"), ("point_group", "group", None, "{}"),
+             ("symmetry_number", "σ", None, "{:.0f}"), ("T_K", "T/K", None, "{:.2f}"),
+             ("E_elec_Eh", "E_elec/Eh", None, "{:.6f}"), *parts, ("G_total_Eh", "G/Eh", None, "{:.6f}"),
+             (f"dG_total_{unit_suffix(unit)}", "ΔG", None, "{:.2f}"), ("status", "status", None, "{}"),
+             ("reason", "notes", None, "{}")]  # fmt: skip
     shown = [s for s in shown if s[0] in frame]
-    table = Table(box=None, pad_edge=False, header_style="bold")
-    for _, heading, _ in shown:
+    caption = (f"G = E_elec + trans + rot + vib + elec + low-mode; parts and ΔG in {unit}; vib harmonic, "
+               f"low-mode = G({model}) − G(RRHO)")
+    table = Table(box=None, pad_edge=False, header_style="bold", caption=caption, caption_justify="left")
+    for _, heading, _, _ in shown:
         table.add_column(heading, overflow="fold", no_wrap=heading not in ("file", "notes"))
     styles = {"warning": "yellow", "error": "red"}
     for record in frame.to_dict("records"):
+        record["reason"] = _terminal_notes(record)
+        record["point_group"] = point_group_text(record.get("point_group"))
         cells = []
-        for key, _, fmt in shown:
+        for key, _, scale, fmt in shown:
             value = record.get(key)
-            cells.append("" if value is None or (isinstance(value, float) and np.isnan(value)) else fmt.format(value))
+            if pd.isna(value):
+                cells.append(Text(""))
+                continue
+            if scale:  # round first, so that -0.001 kcal/mol shows as 0.00, not -0.00
+                value = round(value * scale, 2) + 0.0
+            cells.append(Text(display(fmt.format(value))))
         table.add_row(*cells, style=styles.get(record.get("status")))
     console = Console()
     if not console.is_terminal:
@@ -168,23 +296,27 @@ def main(args: argparse.Namespace) -> int:
     from ..survey import survey
     from .survey import check_outputs
 
-    check_outputs([args.csv], args.force)
+    check_outputs([args.csv, args.long, args.json], args.force)
     cond = conditions_from_args(args)
     result = survey(args.directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
     for note in result.notes:
         print(f"qcthermo thermo: warning: {note}", file=sys.stderr)
-    frame, errors = thermo_table(result.calculations, result.errors, cond, args.energy_unit)
-    usable = int((frame["status"] != "error").sum()) if len(frame) else 0
-    if usable == 0:
-        for record in frame.to_dict("records"):
-            print(f"qcthermo thermo: {record['file']}: {record['reason']}", file=sys.stderr)
+    entries = compute_entries(result.calculations, result.errors, cond)
+    frame, errors = thermo_table(entries, args.energy_unit)
+    if len(entries) == errors:
+        for entry in entries:
+            print(f"qcthermo thermo: {display(entry.path)}: {entry.reason}", file=sys.stderr)
         print(f"qcthermo thermo: no usable frequency log under {args.directory}", file=sys.stderr)
         return 2
     if not args.quiet:
         print_table(frame, cond.low_mode_model, args.energy_unit)
     if args.csv:
         atomic_write(args.csv, frame.to_csv(index=False))
-    n_files = frame["file"].nunique()
+    if args.long:
+        atomic_write(args.long, long_table(entries).to_csv(index=False))
+    if args.json:
+        atomic_write(args.json, json_document(entries, cond))
+    n_files = len(entries)
     # say what became of the other logs, so a count below the directory's is not a puzzle
     n_other = sum(not c.has_vibrations for c in result.calculations.values())
     other = f"; {n_other} without frequencies left out (see `qcthermo survey`)" if n_other else ""
