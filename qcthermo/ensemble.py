@@ -113,6 +113,22 @@ def population_average(values: np.ndarray, populations: np.ndarray) -> np.ndarra
     return np.sum(np.asarray(populations) * np.asarray(values, dtype=float), axis=0)
 
 
+def ensemble_heat_capacity(cp, h, populations, temperature):
+    """cp of a Boltzmann ensemble of conformers: <cp> + (<H^2> - <H>^2) / (k_B T^2), hartree/K.
+
+    With populations p_i ~ exp(-G_i / k_B T), d(-G_i / k_B T)/dT = H_i / (k_B T^2) gives
+    dp_i/dT = p_i (H_i - <H>) / (k_B T^2), so d<H>/dT = <cp> + <(H - <H>)^2> / (k_B T^2): the
+    heat capacity of an equilibrium mixture of conformers (the derivation above; the second term is
+    the conformational part). It is exactly d<H>/dT when dG_i/dT = -S_i (rrho, qrrho-enthalpy,
+    quasi-harmonic); Grimme's qrrho changes S alone, so there it is the consistent estimate, not the
+    derivative. Arrays (conformer, temperature) in hartree and hartree/K.
+    """
+    mean_h = population_average(h, populations)
+    return population_average(cp, populations) + population_average((h - mean_h) ** 2, populations) / (
+        K_B_EH * np.asarray(temperature) ** 2
+    )
+
+
 #: two atoms are bonded when closer than this factor times the sum of their covalent radii (common practice)
 BOND_FACTOR = 1.2
 
@@ -136,20 +152,35 @@ def bond_signature(calc: Calculation) -> tuple[tuple[str, str, int], ...]:
     return tuple(sorted((a, b, n) for (a, b), n in pairs.items()))
 
 
+def single_point_mismatch(calc: Calculation, sp: Calculation) -> str | None:
+    """Why ``sp`` cannot be a single point of ``calc``'s structure, or None.
+
+    Refused: no energy, another formula, charge or multiplicity (when both files give one), another
+    implicit-solvent model (a gas-phase energy on a solvated geometry is not that structure's energy).
+    """
+    if sp.energy is None:
+        return "it has no energy"
+    if Counter(sp.symbols) != Counter(calc.symbols):
+        return f"its formula {sp.formula} is not {calc.formula}"
+    if sp.charge != calc.charge:
+        return f"its charge {sp.charge} is not {calc.charge}"
+    if sp.multiplicity is not None and calc.multiplicity is not None and sp.multiplicity != calc.multiplicity:
+        return f"its multiplicity {sp.multiplicity} is not {calc.multiplicity}"
+    if sp.solvent_model != calc.solvent_model:
+        return f"its solvent model {sp.solvent_model or 'none (gas)'} is not {calc.solvent_model or 'none (gas)'}"
+    return None
+
+
 def pair_single_point(calc: Calculation, candidates: list[Calculation],
                       max_rmsd: float = SINGLE_POINT_RMSD) -> tuple[int | None, float]:
     """Index of the single point computed on ``calc``'s geometry, and its RMSD (angstrom).
 
-    A candidate must have the same atoms in the same order, charge, multiplicity and implicit-solvent
-    model (a gas-phase energy on a solvated geometry is not that structure's energy); of those, the
-    one with the smallest aligned RMSD is taken when below ``max_rmsd``; else (None, best RMSD).
+    A candidate must pass :func:`single_point_mismatch` and list the same atoms in the same order; of
+    those, the one with the smallest aligned RMSD is taken when below ``max_rmsd``; else (None, best RMSD).
     """
     best, best_rmsd = None, float("inf")
     for j, sp in enumerate(candidates):
-        if tuple(sp.symbols) != tuple(calc.symbols) or sp.charge != calc.charge \
-                or sp.solvent_model != calc.solvent_model:
-            continue
-        if sp.multiplicity is not None and calc.multiplicity is not None and sp.multiplicity != calc.multiplicity:
+        if tuple(sp.symbols) != tuple(calc.symbols) or single_point_mismatch(calc, sp):
             continue
         rmsd = kabsch_rmsd(calc.coordinates, sp.coordinates)
         if rmsd < best_rmsd:

@@ -4,6 +4,9 @@
 file audited (:func:`audit_calculation`), duplicates merged and mirror images kept
 (:mod:`qcthermo.ensemble`), single points paired by geometry, thermochemistry per conformer,
 composite energies G = E(high) + [G - E](low), and the Boltzmann-weighted ensemble values.
+:func:`species_thermo` is the one place where a species' ensemble values are made from its
+conformers' thermochemistry (composite shift, mirror images, Boltzmann sum, heat capacity): the tables,
+the reactions and the NASA-7 fits all use it.
 
 Units: hartree per molecule and hartree/K, arrays over the temperatures of the conditions.
 """
@@ -12,7 +15,7 @@ from __future__ import annotations
 
 from collections import Counter
 from collections.abc import Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Any, NamedTuple
 
@@ -21,6 +24,7 @@ import numpy as np
 from . import ensemble
 from .errors import QcthermoError
 from .records import Calculation, Conditions, Molecule, ThermoResult
+from .units import K_B_EH
 
 
 class Finding(NamedTuple):
@@ -37,6 +41,8 @@ class SpeciesOptions:
 
     Attributes:
         symmetry_number, electronic_degeneracy, imaginary_policy: passed to the Molecule.
+        enantiomers: 2 when a chiral structure stands for both mirror images (its G takes -RT ln 2),
+            1 when one enantiomer is meant, None when not said (a chiral structure is then a warning).
         concentration: mol/L of a species that is its own solvent: its translational entropy is
             computed at this concentration instead of the standard state (G(c) = G(1M) + RT ln(c/1M)).
         transition_state: the species is a first-order saddle point.
@@ -49,6 +55,7 @@ class SpeciesOptions:
     concentration: float | None = None
     transition_state: bool = False
     label: str | None = None
+    enantiomers: int | None = None
 
 
 @dataclass
@@ -209,7 +216,8 @@ def conformer_values(thermo: ThermoResult, n_temperatures: int, e_high: float | 
     """E, ZPE, H, S, G and *_rrho of one conformer, hartree, arrays of length ``n_temperatures``.
 
     With a higher-level single point, every energy is shifted by E(high) - E(low):
-    X = E(high) + [X - E](low) (the composite "high//low" scheme); entropies are unchanged.
+    X = E(high) + [X - E](low) (the composite "high//low" scheme); entropies are unchanged. This is the
+    only place the shift is applied (:func:`species_thermo` calls it once per conformer).
     """
     shift = 0.0 if e_high is None else e_high - thermo.electronic_energy
 
@@ -228,18 +236,24 @@ def conformer_values(thermo: ThermoResult, n_temperatures: int, e_high: float | 
     }
 
 
-def ensemble_values(conformers: list[Conformer], temperature: np.ndarray) -> dict[str, np.ndarray]:
+def ensemble_values(conformers: list[Conformer], temperature: np.ndarray,
+                    images: np.ndarray | None = None) -> dict[str, np.ndarray]:
     """Boltzmann-weighted ensemble values of used conformers; sets each conformer's population.
 
-    G = -RT ln sum exp(-G_i/RT) for the chosen model and for RRHO separately (each with its own
-    populations); H and E, ZPE are averages with those populations; S = (H - G)/T.
+    G = -RT ln sum n_i exp(-G_i/RT) for the chosen model and for RRHO separately (each with its own
+    populations); H and E, ZPE are averages with those populations; S = (H - G)/T. ``images``: n_i, the
+    number of mirror images each structure stands for (1, or 2 for a chiral structure counted with its
+    unseen enantiomer: G_i - RT ln 2, S_i + R ln 2; :func:`mirror_images`); default all 1.
     """
     stack = {k: np.array([c.values[k] for c in conformers]) for k in conformers[0].values}
+    t = np.asarray(temperature, dtype=float)
+    n = np.ones(len(conformers)) if images is None else np.asarray(images, dtype=float)
+    degeneracy = K_B_EH * t * np.log(n)[:, None]  # kT ln n_i, hartree: a state counted n_i times
     out: dict[str, np.ndarray] = {}
     for suffix in ("", "_rrho"):
-        g, pops = ensemble.boltzmann_free_energy(stack["G" + suffix], temperature)
+        g, pops = ensemble.boltzmann_free_energy(stack["G" + suffix] - degeneracy, t)
         h = ensemble.population_average(stack["H" + suffix], pops)
-        out["G" + suffix], out["H" + suffix], out["S" + suffix] = g, h, (h - g) / temperature
+        out["G" + suffix], out["H" + suffix], out["S" + suffix] = g, h, (h - g) / t
         if not suffix:
             for c, p in zip(conformers, pops, strict=True):
                 c.population = p
@@ -247,6 +261,65 @@ def ensemble_values(conformers: list[Conformer], temperature: np.ndarray) -> dic
             out["ZPE"] = ensemble.population_average(stack["ZPE"], pops)
     out["E_zpe"] = out["E"] + out["ZPE"]
     return out
+
+
+def mirror_images(species: SpeciesResult, conformers: Sequence[Conformer]) -> np.ndarray:
+    """n_i of :func:`ensemble_values`: 2 for a chiral conformer whose mirror image is not in the ensemble,
+    when the species says ``enantiomers = 2``; else 1 (an achiral structure is its own mirror image, and a
+    computed mirror image counts as a conformer of its own)."""
+    paths = {c.path for c in conformers}
+    return np.array([2.0 if species.options.enantiomers == 2 and _unpaired_chiral(c, paths) else 1.0
+                     for c in conformers])
+
+
+def _unpaired_chiral(c: Conformer, paths: set[str]) -> bool:
+    return bool(c.thermo is not None and c.thermo.chiral) and c.mirror_of not in paths
+
+
+@dataclass(frozen=True)
+class SpeciesThermo:
+    """What :func:`species_thermo` returns; hartree per molecule and hartree/K, arrays over ``temperature``.
+
+    Attributes:
+        temperature: K, 1-D.
+        values: the ensemble "E" (high level when composite), "ZPE", "E_zpe", "H", "S", "G", "cp" (chosen
+            model) and "H_rrho", "S_rrho", "G_rrho" (RRHO); see :class:`SpeciesResult`.
+        conformers: copies of the used conformers with their own ``values`` and ``population``.
+        images: mirror images counted per conformer (:func:`mirror_images`).
+    """
+
+    temperature: np.ndarray
+    values: dict[str, np.ndarray]
+    conformers: list[Conformer]
+    images: np.ndarray
+
+
+def species_thermo(species: SpeciesResult, conditions: Conditions | None = None) -> SpeciesThermo:
+    """A species' ensemble thermochemistry: every conformer's values with the composite shift applied once
+    (:func:`conformer_values`), mirror images counted (:func:`mirror_images`), Boltzmann-combined
+    (:func:`ensemble_values`), and cp = <cp> + (<H^2> - <H>^2)/(k_B T^2)
+    (:func:`qcthermo.ensemble.ensemble_heat_capacity`).
+
+    ``conditions`` None: the conformers' own thermochemistry (what :func:`build_species` computed at the
+    species' conditions). Given: the conformers' molecules are computed again under them as they are (the
+    NASA-7 fits use a temperature grid and a gas standard state; the species' own concentration is not
+    applied). The species itself is left unchanged.
+    """
+    from .thermo import thermochemistry_many
+
+    used = [c for c in species.used if c.thermo is not None]
+    results = [c.thermo for c in used] if conditions is None else \
+        thermochemistry_many([c.molecule for c in used], conditions)
+    members = [replace(c, thermo=r, values={}, population=0.0) for c, r in zip(used, results, strict=True)]
+    t = np.atleast_1d(np.asarray(results[0].conditions.temperature, dtype=float))
+    for c in members:
+        c.values = conformer_values(c.thermo, len(t), c.single_point.energy if c.single_point else None)
+    images = mirror_images(species, members)
+    values = ensemble_values(members, t, images)
+    cp = np.array([np.broadcast_to(c.thermo.cp, t.shape) for c in members])
+    values["cp"] = ensemble.ensemble_heat_capacity(cp, np.array([c.values["H"] for c in members]),
+                                                   np.array([c.population for c in members]), t)
+    return SpeciesThermo(t, values, members, images)
 
 
 def _mark_duplicates(name: str, confs: list[Conformer], settings: dict[str, float]) -> list[Finding]:
@@ -269,25 +342,23 @@ def _mark_duplicates(name: str, confs: list[Conformer], settings: dict[str, floa
 
 def _pair_single_points(name: str, confs: list[Conformer], single_points: list[Calculation],
                         explicit: dict[str, Calculation], max_rmsd: float) -> list[Finding]:
-    """Pair every used conformer with its single point; a conformer without one is excluded."""
+    """Pair every used conformer with its single point; a conformer without a usable one is excluded.
+
+    An explicit pair is used as named, unless :func:`qcthermo.ensemble.single_point_mismatch` refuses it
+    (another molecule or state is never used: an error, the conformer is left out); a geometry that differs
+    is a warning.
+    """
     found: list[Finding] = []
     paired: set[int] = set()
     for c in (c for c in confs if c.status == "used"):
         if c.path in explicit:
-            sp = explicit[c.path]
-            c.single_point = sp
-            idx, rmsd = ensemble.pair_single_point(c.calculation, [sp], float("inf"))
-            c.single_point_rmsd = rmsd if idx is not None else None
-            if idx is None or rmsd > max_rmsd:
-                found.append(Finding("warning", sp.path, f"species {name!r}: named as the single point of "
-                                     f"{_short(c.path)} but its geometry differs (RMSD "
-                                     f"{'n/a' if idx is None else f'{rmsd:.3f} A'})"))
+            found += _pair_explicit(name, c, explicit[c.path], max_rmsd)
             continue
         idx, rmsd = ensemble.pair_single_point(c.calculation, single_points, max_rmsd)
         if idx is None:
             c.status = "excluded"
             c.reason = "no single point matches its geometry" + (f" (best RMSD {rmsd:.3f} A)" if np.isfinite(rmsd)
-                                                                 else "")
+                                                                 else "") + _refused_text(c, single_points, max_rmsd)
             found.append(Finding("error", c.path, f"species {name!r}: {c.reason}; a mixed-level ensemble is "
                                                   "refused, so the conformer is left out"))
             continue
@@ -298,6 +369,33 @@ def _pair_single_points(name: str, confs: list[Conformer], single_points: list[C
             found.append(Finding("warning", sp.path, f"species {name!r}: this single point matches no frequency "
                                                      f"geometry (within {max_rmsd} A); not used"))
     return found
+
+
+def _pair_explicit(name: str, c: Conformer, sp: Calculation, max_rmsd: float) -> list[Finding]:
+    mismatch = ensemble.single_point_mismatch(c.calculation, sp)
+    if mismatch:
+        c.status, c.reason = "excluded", f"its single point {_short(sp.path)} is refused: {mismatch}"
+        return [Finding("error", c.path, f"species {name!r}: {c.reason}; the conformer is left out")]
+    c.single_point = sp
+    idx, rmsd = ensemble.pair_single_point(c.calculation, [sp], float("inf"))
+    c.single_point_rmsd = rmsd if idx is not None else None
+    if idx is None or rmsd > max_rmsd:
+        return [Finding("warning", sp.path, f"species {name!r}: named as the single point of {_short(c.path)} "
+                                            f"but its geometry differs (RMSD "
+                                            f"{'n/a' if idx is None else f'{rmsd:.3f} A'})")]
+    return []
+
+
+def _refused_text(c: Conformer, single_points: list[Calculation], max_rmsd: float) -> str:
+    """"; x.out is on its geometry but its solvent model ..." for single points on the conformer's geometry
+    that :func:`qcthermo.ensemble.single_point_mismatch` refused (why an expected pairing did not happen)."""
+    from .geometry import kabsch_rmsd
+
+    refused = [f"; {_short(sp.path)} is on its geometry but {why}" for sp in single_points
+               if tuple(sp.symbols) == tuple(c.calculation.symbols)
+               and (why := ensemble.single_point_mismatch(c.calculation, sp))
+               and kabsch_rmsd(c.calculation.coordinates, sp.coordinates) < max_rmsd]
+    return "".join(refused)
 
 
 def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Conditions) -> Finding | None:
@@ -315,6 +413,22 @@ def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Condit
         c.status, c.reason = "excluded", " ".join(str(err).split())
         return Finding("error", c.path, f"species {name!r}: thermochemistry refused: {c.reason}")
     return None
+
+
+def _chirality_findings(result: SpeciesResult, images: np.ndarray) -> list[Finding]:
+    """A chiral structure without its mirror image is one enantiomer: a warning unless ``enantiomers`` says
+    which is meant; ``enantiomers = 2`` with nothing to double is a warning too (docs/reactions.md)."""
+    name, wanted = result.name, result.options.enantiomers
+    paths = {c.path for c in result.used}
+    lone = [c for c in result.used if _unpaired_chiral(c, paths)]
+    if wanted is None:
+        return [Finding("warning", c.path, f"species {name!r}: chiral ({c.thermo.point_group}): counted as one "
+                                           "enantiomer; set enantiomers = 2 if both mirror images are meant")
+                for c in lone]
+    if wanted == 2 and not np.any(images > 1):
+        return [Finding("warning", name, f"species {name!r}: enantiomers = 2 changes nothing: no structure is "
+                                         "chiral without its mirror image in the ensemble")]
+    return []
 
 
 def species_conditions(conditions: Conditions, options: SpeciesOptions) -> Conditions:
@@ -371,19 +485,16 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
         findings.extend(_pair_single_points(name, result.conformers, list(single_points), explicit_pairs,
                                             settings["single_point_rmsd"]))
     cond = species_conditions(conditions, options)
-    temperature = np.atleast_1d(np.asarray(cond.temperature, dtype=float))
-    for c in result.used:
-        problem = _thermo(c, name, options, cond)
-        if problem:
-            findings.append(problem)
-            continue
-        e_high = c.single_point.energy if c.single_point is not None else None
-        c.values = conformer_values(c.thermo, len(temperature), e_high)
+    findings.extend(problem for c in result.used if (problem := _thermo(c, name, options, cond)))
     if len(result.levels) > 1:
         findings.append(Finding("error", name, f"species {name!r}: conformers at different levels of theory "
                                                f"({', '.join(result.levels)})"))
     elif result.used:
-        result.values = ensemble_values(result.used, temperature)
+        computed = species_thermo(result)
+        for c, member in zip(result.used, computed.conformers, strict=True):
+            c.values, c.population = member.values, member.population
+        result.values = computed.values
+        findings.extend(_chirality_findings(result, computed.images))
     if not result.values:
         findings.append(Finding("error", name, f"species {name!r}: no usable structure"))
     return result

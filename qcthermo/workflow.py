@@ -31,7 +31,7 @@ from .reactions import (
     state_values,
 )
 from .records import Calculation, Conditions
-from .species import Finding, SpeciesOptions, SpeciesResult, build_species
+from .species import Finding, SpeciesOptions, SpeciesResult, build_species, mirror_images
 from .units import check_energy_unit, hartree_to, unit_suffix
 
 #: display names of the low-mode models, for captions
@@ -179,7 +179,7 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
                  if calcs.get(k) is not None and (v := calcs.get(p)) is not None}
         is_ts = spec.transition_state if spec.transition_state is not None else name in ts_names
         options = SpeciesOptions(spec.symmetry_number, spec.electronic_degeneracy, spec.imaginary_policy,
-                                 spec.concentration, is_ts, spec.label)
+                                 spec.concentration, is_ts, spec.label, spec.enantiomers)
         if not logs[name]:
             out[name] = SpeciesResult(name, spec.label or name, options, [], findings=[
                 *unread, Finding("error", name, f"species {name!r}: none of its files could be read")])
@@ -369,10 +369,19 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) ->
                 "transition_state": s.options.transition_state,
                 "populations": s.population_text(),
                 "status": "ok" if s.usable else "excluded",
-                "notes": "; ".join(f.message for f in s.findings),
+                "notes": "; ".join([*_mirror_image_note(s), *(f.message for f in s.findings)]),
             })
             rows.append(row)
     return pd.DataFrame(rows)
+
+
+def _mirror_image_note(s: SpeciesResult) -> list[str]:
+    """The species-table note of a species counted with its unseen mirror images (enantiomers = 2)."""
+    lone = [c for c, n in zip(s.used, mirror_images(s, s.used), strict=True) if n > 1] if s.usable else []
+    if not lone:
+        return []
+    return [f"enantiomers = 2: {', '.join(Path(c.path).name for c in lone)} counted with its mirror image "
+            "(G - RT ln 2, S + R ln 2)"]
 
 
 def run(directory: str | Path, reactions: str | Path | ReactionFile | None = None,
@@ -454,6 +463,8 @@ def conditions_dict(conditions: Conditions) -> dict[str, Any]:
 
 
 def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, Any]:
+    from .export.nasa7 import fit_model
+
     return {
         "qcthermo_version": __version__,
         "libraries": _library_versions(),
@@ -462,6 +473,7 @@ def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, 
         "conditions": conditions_dict(conditions),
         "energy_unit": energy_unit,
         "ensemble": dict(rf.ensemble) if rf else dict(ENSEMBLE_DEFAULTS),
+        "nasa7": "thermo.yaml and thermo.dat " + fit_model(conditions.low_mode_model)[1],
         "jobs": jobs,
         "cache": cache,
     }

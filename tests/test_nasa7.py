@@ -1,5 +1,6 @@
 """NASA-7 fits and their hand-off to kinetics codes, checked with Cantera (a test dependency)."""
 
+import html
 from pathlib import Path
 
 import numpy as np
@@ -192,21 +193,16 @@ def _pentane(temperatures):
 
 def test_ensemble_heat_capacity_is_the_derivative_of_the_ensemble_enthalpy():
     # cp of a Boltzmann ensemble = d<H>/dT (its definition), here by central differences of the main job's
-    # own ensemble enthalpy (qcthermo.species, populations from G_i) against the closed form
-    from qcthermo.ensemble import boltzmann_free_energy
-    from qcthermo.export.nasa7 import ensemble_heat_capacity
-
+    # own ensemble enthalpy (qcthermo.species.species_thermo, populations from G_i) against its cp
     temps = np.array([299.0, 300.0, 301.0, 999.0, 1000.0, 1001.0])
     sp = _pentane(temps)
     used = sp.used
     assert len(used) > 2
-    h = np.array([c.values["H"] for c in used])
-    cp = np.array([np.asarray(c.thermo.cp) for c in used])
-    _, pops = boltzmann_free_energy(np.array([c.values["G"] for c in used]), temps)
-    closed = ensemble_heat_capacity(cp, h, pops, temps)
     numeric = (sp.values["H"][[2, 5]] - sp.values["H"][[0, 3]]) / 2.0
-    np.testing.assert_allclose(closed[[1, 4]], numeric, rtol=1e-5)
-    assert np.all(closed > (pops * cp).sum(axis=0))  # the conformational term is positive
+    np.testing.assert_allclose(sp.values["cp"][[1, 4]], numeric, rtol=1e-5)
+    pops = np.array([c.population for c in used])
+    cp = np.array([np.asarray(c.thermo.cp) for c in used])
+    assert np.all(sp.values["cp"] > (pops * cp).sum(axis=0))  # the conformational term is positive
 
 
 def test_species_fit_follows_the_main_jobs_ensemble():
@@ -255,3 +251,23 @@ def test_real_log_fit_reports_its_own_error_honestly(third_party, tmp_path):
     assert np.max(np.abs(h - h_e)) <= 1.05 * fit.max_h_error
     assert np.max(np.abs(s - s_e)) <= 1.05 * fit.max_s_error
     assert fit.max_cp_rel_error < 5e-3  # a few tenths of a percent: the limit of the NASA-7 form
+
+
+@pytest.mark.parametrize("model, fitted", [("qrrho", "qrrho-enthalpy"), ("rrho", "rrho"),
+                                           ("quasi-harmonic", "quasi-harmonic")])
+def test_thermo_files_and_report_name_the_model_of_the_fit(tmp_path, samples, isomerisation_file, model, fitted):
+    # docs/kinetics.md, "Low-mode model": a NASA-7 s is the integral of cp/T (McBride et al., NASA TM-4513), which
+    # Grimme's qrrho S is not, so a qrrho run is fitted with qrrho-enthalpy and every file says so; other models
+    # are fitted as the tables have them
+    cond = Conditions(temperature=np.array([250.0, 300.0]), low_mode_model=model)
+    res = qcthermo.run(samples / "gas", reactions=isomerisation_file, conditions=cond, jobs=1, cache=False)
+    res.write(tmp_path / "out")
+    sentence = f"fitted with low-mode model {fitted}, not the tables' {model}" if fitted != model \
+        else f"fitted with the tables' low-mode model, {model}"
+    yaml_text = (tmp_path / "out" / "thermo.yaml").read_text()
+    dat_text = (tmp_path / "out" / "thermo.dat").read_text()
+    assert yaml_text.startswith(f"# {sentence}") and f"! {sentence}" in dat_text.splitlines()[1]
+    assert f"low-mode model {fitted}" in ct.Solution(str(tmp_path / "out" / "thermo.yaml")).species("hcn").input_data[
+        "note"]
+    report = html.unescape((tmp_path / "out" / "report.html").read_text())
+    assert sentence in res.settings["nasa7"] and sentence in report

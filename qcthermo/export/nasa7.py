@@ -16,6 +16,7 @@ from __future__ import annotations
 
 import os
 import statistics
+from collections import Counter
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, replace
 
@@ -64,6 +65,7 @@ class Nasa7Fit:
         low, high: a1..a7 of [t_low, t_mid] and [t_mid, t_high].
         reference_pressure: Pa, the pressure of the standard state of s (and the Gibbs energy).
         note: provenance and the enthalpy reference, written beside the data.
+        model_note: which low-mode model the fit used and why (:func:`fit_model`), for the files' headers.
         max_cp_rel_error: largest |cp_fit / cp - 1| over the fitted points.
         max_h_error: largest |h_fit - h| over the fitted points, J/mol.
         max_s_error: largest |s_fit - s| over the fitted points, J/(mol K).
@@ -78,6 +80,7 @@ class Nasa7Fit:
     high: tuple[float, ...]
     reference_pressure: float = ATM_PA
     note: str = ""
+    model_note: str = ""
     max_cp_rel_error: float = 0.0
     max_h_error: float = 0.0
     max_s_error: float = 0.0
@@ -235,23 +238,6 @@ def enthalpy_offset(symbols: Sequence[str], h_reference) -> tuple[float, str]:
     return offset, "H is the atomisation-based heat of formation from the atomic enthalpies given (298.15 K)"
 
 
-def ensemble_heat_capacity(cp, h, populations, temperature):
-    """cp of a Boltzmann ensemble of conformers: <cp> + (<H^2> - <H>^2) / (k_B T^2), hartree/K.
-
-    With populations p_i ~ exp(-G_i / k_B T), d(-G_i / k_B T)/dT = H_i / (k_B T^2) gives
-    dp_i/dT = p_i (H_i - <H>) / (k_B T^2), so d<H>/dT = <cp> + <(H - <H>)^2> / (k_B T^2): the
-    heat capacity of an equilibrium mixture of conformers (the derivation above; the second term is
-    the conformational part). Arrays (conformer, temperature) in hartree and hartree/K.
-    """
-    from ..ensemble import population_average
-    from ..units import K_B_EH
-
-    mean_h = population_average(h, populations)
-    return population_average(cp, populations) + population_average((h - mean_h) ** 2, populations) / (
-        K_B_EH * np.asarray(temperature) ** 2
-    )
-
-
 def _nasa_grid(t_low: float, t_mid, t_high: float) -> np.ndarray:
     if not t_low < (1000.0 if t_mid == "auto" else t_mid) < t_high:
         raise QcthermoError(f"NASA-7 temperature ranges need t_low < t_mid < t_high (got {t_low}, {t_mid}, {t_high})")
@@ -259,58 +245,54 @@ def _nasa_grid(t_low: float, t_mid, t_high: float) -> np.ndarray:
     return np.unique(np.concatenate([np.arange(t_low, t_high, _GRID_STEP_K), extra]))
 
 
-def _molar_ensemble(molecules: Sequence[Molecule], shifts: Sequence[float], conditions: Conditions, grid: np.ndarray):
-    """Molar cp, h, s of the Boltzmann ensemble of ``molecules`` (energies shifted by ``shifts``, hartree)."""
-    from ..ensemble import boltzmann_free_energy, population_average
-    from ..thermo import thermochemistry_many
-
-    results = thermochemistry_many(list(molecules), conditions)
-    shift = np.asarray(shifts, dtype=float)[:, None]
-    h = np.array([np.broadcast_to(r.enthalpy, grid.shape) for r in results]) + shift
-    g = np.array([np.broadcast_to(r.gibbs, grid.shape) for r in results]) + shift
-    cp = np.array([np.broadcast_to(r.cp, grid.shape) for r in results])
-    g_ens, populations = boltzmann_free_energy(g, grid)
-    h_ens = population_average(h, populations)
-    cp_ens = ensemble_heat_capacity(cp, h, populations, grid)
-    return entropy_to_j_mol_k(cp_ens), h_ens * _EH_TO_J_MOL, entropy_to_j_mol_k((h_ens - g_ens) / grid)
-
-
 #: low-mode models whose S is not the integral of cp/T, and the consistent model NASA-7 fits use instead
 _CONSISTENT_MODEL = {"qrrho": "qrrho-enthalpy"}
 
 
-def _gas_conditions(conditions: Conditions | None, grid: np.ndarray, reference_state: str) -> tuple[Conditions, float]:
-    """The engine's conditions for a fit: the grid, the gas standard state and a consistent low-mode model.
+def fit_model(model: str) -> tuple[str, str]:
+    """The low-mode model a NASA-7 fit uses for ``model`` (the tables' one), and the sentence that says so.
 
-    Grimme's qRRHO changes S alone, so S(T) is not the integral of cp/T and no NASA-7 polynomial
-    (whose s is exactly that integral) can follow both; the fit then uses the same weights on the
-    enthalpy as well (qrrho-enthalpy), which restores the thermodynamic identity.
+    Grimme's qRRHO changes S alone, so S(T) is not the integral of cp/T and no NASA-7 polynomial (whose
+    s is exactly that integral) can follow both; the fit then uses the same weights on the enthalpy as
+    well (qrrho-enthalpy), which restores the thermodynamic identity. Other models are fitted as they are.
     """
+    used = _CONSISTENT_MODEL.get(model, model)
+    if used == model:
+        return used, f"fitted with the tables' low-mode model, {model}"
+    return used, (f"fitted with low-mode model {used}, not the tables' {model}: {model} changes S alone, so its S "
+                  f"is not the integral of cp/T that a NASA-7 polynomial is; {used} has the same weights and "
+                  "threshold and the matching H")
+
+
+def _gas_conditions(conditions: Conditions | None, grid: np.ndarray,
+                    reference_state: str) -> tuple[Conditions, float, str]:
+    """The engine's conditions for a fit (the grid, the gas standard state, the model of :func:`fit_model`),
+    the reference pressure (Pa) and the sentence naming the model."""
     kind, pressure = parse_standard_state(reference_state)
     if kind != "pressure":
         raise QcthermoError(f"NASA-7 data need a gas standard state (1atm or 1bar), not {reference_state!r}")
     base = conditions or Conditions()
-    model = _CONSISTENT_MODEL.get(base.low_mode_model, base.low_mode_model)
-    return base.replace(temperature=grid, standard_state=reference_state, pressure=None, low_mode_model=model), pressure
+    model, model_note = fit_model(base.low_mode_model)
+    cond = base.replace(temperature=grid, standard_state=reference_state, pressure=None, low_mode_model=model)
+    return cond, pressure, model_note
 
 
-def _fit_ensemble(molecules, shifts, symbols, name, level, conditions, t_low, t_mid, t_high, h_reference,
-                  reference_state) -> Nasa7Fit:
-    grid = _nasa_grid(t_low, t_mid, t_high)
-    cond, pressure = _gas_conditions(conditions, grid, reference_state)
-    cp, h, s = _molar_ensemble(molecules, shifts, cond, grid)
+def _fit_values(values: Mapping[str, np.ndarray], grid: np.ndarray, symbols: Sequence[str], name: str,
+                provenance: str, model_note: str, pressure: float, t_mid, h_reference) -> Nasa7Fit:
+    """Fit H, S, cp (hartree per molecule, hartree/K over ``grid``) converted to molar units."""
     offset, reference_note = enthalpy_offset(symbols, h_reference)
-    counts: dict[str, int] = {}
-    for el in symbols:
-        counts[el] = counts.get(el, 0) + 1
-    provenance = ", ".join(x for x in (level, f"low-mode model {cond.low_mode_model}",
-                                       f"{len(molecules)} conformers" if len(molecules) > 1 else None) if x)
-    fit = fit_nasa7(grid, cp, h + offset, s, t_mid=t_mid, name=name, composition=counts,
+    fit = fit_nasa7(grid, entropy_to_j_mol_k(values["cp"]), values["H"] * _EH_TO_J_MOL + offset,
+                    entropy_to_j_mol_k(values["S"]), t_mid=t_mid, name=name, composition=Counter(symbols),
                     note=f"qcthermo {hill_formula(symbols)} ({provenance}); {reference_note}",
                     reference_pressure=pressure)
     quality = (f"fit: cp within {100 * fit.max_cp_rel_error:.2g} %, h within {fit.max_h_error:.2g} J/mol, "
                f"s within {fit.max_s_error:.2g} J/(mol K)")
-    return replace(fit, note=f"{fit.note}; {quality}")
+    return replace(fit, note=f"{fit.note}; {quality}", model_note=model_note)
+
+
+def _provenance(level: str | None, model: str, n_conformers: int) -> str:
+    return ", ".join(x for x in (level, f"low-mode model {model}",
+                                 f"{n_conformers} conformers" if n_conformers > 1 else None) if x)
 
 
 def nasa7_from_molecule(
@@ -326,14 +308,21 @@ def nasa7_from_molecule(
     """NASA-7 fit of the ideal-gas thermochemistry of one molecule over [t_low, t_mid, t_high] K.
 
     The engine (qcthermo.thermochemistry) is evaluated every 10 K (and at t_mid) with ``conditions``
-    (low-mode model, scaling, ...; default Conditions()) but at the gas standard state
-    ``reference_state`` ("1atm", the reference pressure of Chemkin and Cantera, or "1bar"), converted
+    (low-mode model as :func:`fit_model` says, scaling, ...; default Conditions()) but at the gas standard
+    state ``reference_state`` ("1atm", the reference pressure of Chemkin and Cantera, or "1bar"), converted
     to molar units and fitted by :func:`fit_nasa7`. ``h_reference`` sets the enthalpy zero (see
     :func:`enthalpy_offset`). ``t_mid="auto"`` picks the middle temperature per species (see
     :func:`fit_nasa7`).
     """
-    return _fit_ensemble([mol], [0.0], mol.symbols, name or mol.name or mol.formula, mol.level_of_theory,
-                         conditions, t_low, t_mid, t_high, h_reference, reference_state)
+    from ..thermo import thermochemistry
+
+    grid = _nasa_grid(t_low, t_mid, t_high)
+    cond, pressure, model_note = _gas_conditions(conditions, grid, reference_state)
+    r = thermochemistry(mol, cond)
+    values = {"H": np.asarray(r.enthalpy), "S": np.asarray(r.entropy), "cp": np.asarray(r.cp)}
+    return _fit_values(values, grid, mol.symbols, name or mol.name or mol.formula,
+                       _provenance(mol.level_of_theory, cond.low_mode_model, 1), model_note, pressure, t_mid,
+                       h_reference)
 
 
 def nasa7_from_species(species, conditions: Conditions | None = None, t_low: float = 300.0,
@@ -341,20 +330,22 @@ def nasa7_from_species(species, conditions: Conditions | None = None, t_low: flo
                        reference_state: str = "1atm") -> Nasa7Fit:
     """NASA-7 fit of a species of the main job (qcthermo.species.SpeciesResult) as the run treats it.
 
-    Its used conformers form a Boltzmann ensemble at every temperature (G = -RT ln sum exp(-G_i/RT),
-    H the population average, cp with the conformational term of :func:`ensemble_heat_capacity`,
-    S = (H - G)/T), each conformer's energies shifted by E(high) - E(low) when it has a higher-level
-    single point (the composite scheme). A species at its own concentration is still fitted as an
-    ideal gas at ``reference_state``.
+    Its values on the NASA grid come from :func:`qcthermo.species.species_thermo`, the function behind the
+    tables: the Boltzmann ensemble of its used conformers (G = -RT ln sum exp(-G_i/RT), H the population
+    average, cp with the conformational term, S = (H - G)/T), the composite shift E(high) - E(low) and
+    the mirror-image count (``enantiomers``) applied there once. A species at its own concentration is
+    still fitted as an ideal gas at ``reference_state``.
     """
+    from ..species import species_thermo
+
     used = [c for c in species.used if c.molecule is not None]
     if not used:
         raise QcthermoError(f"species {species.name!r}: no usable conformer to fit")
-    shifts = [0.0 if c.single_point is None or c.single_point.energy is None
-              else c.single_point.energy - c.molecule.energy for c in used]
-    levels = sorted({c.level for c in used if c.level})
-    return _fit_ensemble([c.molecule for c in used], shifts, used[0].molecule.symbols, species.name,
-                         ", ".join(levels) or None, conditions, t_low, t_mid, t_high, h_reference, reference_state)
+    grid = _nasa_grid(t_low, t_mid, t_high)
+    cond, pressure, model_note = _gas_conditions(conditions, grid, reference_state)
+    levels = ", ".join(sorted({c.level for c in used if c.level})) or None
+    return _fit_values(species_thermo(species, cond).values, grid, used[0].molecule.symbols, species.name,
+                       _provenance(levels, cond.low_mode_model, len(used)), model_note, pressure, t_mid, h_reference)
 
 
 def write_run_thermo(results, out_dir) -> list:
@@ -413,6 +404,11 @@ def _check_names(fits: Sequence[Nasa7Fit], max_length: int | None = None) -> Non
             raise QcthermoError(f"species name {n!r}: a kinetics code needs a name without spaces{limit}")
 
 
+def _model_notes(fits: Sequence[Nasa7Fit]) -> list[str]:
+    """The distinct low-mode model sentences of the fits (one for a run), for the files' headers."""
+    return list(dict.fromkeys(fit.model_note for fit in fits if fit.model_note))
+
+
 def _yaml_list(values: Sequence[float]) -> str:
     return "[" + ", ".join(repr(float(v)) for v in values) + "]"
 
@@ -428,8 +424,11 @@ def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None =
 
     _check_names(fits)
     element_list = _elements(fits, elements)
+    description = "; ".join(["NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo",
+                             *_model_notes(fits)])
     lines = [
-        "description: " + json.dumps("NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo"),
+        *(f"# {note}" for note in _model_notes(fits)),
+        "description: " + json.dumps(description),
         "generator: qcthermo",
         "units: {length: cm, time: s, quantity: mol, activation-energy: cal/mol}",
         "",
@@ -502,6 +501,7 @@ def chemkin_text(fits: Sequence[Nasa7Fit]) -> str:
     if any(abs(fit.reference_pressure - ATM_PA) > 1e-6 for fit in fits):
         raise QcthermoError("Chemkin thermo data are at 1 atm; these fits are at another reference pressure")
     lines = ["! NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo (reference 1 atm)"]
+    lines += [f"! {note}" for note in _model_notes(fits)]
     lines += [f"! {fit.name}: {fit.note}" for fit in fits if fit.note]
     # the default ranges line: every entry carries its own ranges, which readers prefer
     t_mid = statistics.mode(fit.t_mid for fit in fits)
