@@ -75,6 +75,14 @@ def test_translational_part_is_sackur_tetrode_for_the_hydrogen_atom(samples):
     assert free_energy_parts(res)["G_rot"][0] == 0.0  # an atom has no rotation
 
 
+def test_electronic_part_of_triplet_oxygen(samples):
+    # sample_outputs/README.md: O2 is the triplet (3Sigma_g-), g0 = 3: G_elec = -kT ln 3 (McQuarrie, chapter 8),
+    # kT with scipy.constants (CODATA)
+    _, res = result(samples, "gas/o2.out", temperature=298.15)
+    kt = constants.k * 298.15 / HARTREE_J
+    assert free_energy_parts(res)["G_elec"][0] == pytest.approx(-kt * np.log(3.0), rel=1e-12)
+
+
 @pytest.mark.parametrize(("name", "geometry", "sigma"), [("water.out", "nonlinear", 2), ("hcn.out", "linear", 1)])
 @pytest.mark.parametrize("model", ["rrho", "qrrho"])
 def test_rotational_and_vibrational_parts_match_ase(samples, ase_codata_2022, name, geometry, sigma, model):
