@@ -25,6 +25,8 @@ from .reactions import (
     ProfileSpec,
     ReactionFile,
     ReactionSpec,
+    Term,
+    balance_problem,
     check_balance,
     load_reaction_file,
     reaction_energetics,
@@ -216,10 +218,12 @@ def _reaction_calcs(names: list[str], species: dict[str, SpeciesResult]) -> list
     return out
 
 
-def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject: str) -> list[Finding]:
-    """The audit across one reaction or profile: unusable species, mixed levels, solvent models, programs.
+def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject: str,
+                   sides: dict[str, list[Term]] | None = None) -> list[Finding]:
+    """The audit across one reaction or profile: unusable species, balance, mixed levels, solvent models, programs.
 
-    Errors (the reaction is excluded): a species with no usable structure, energies or frequencies
+    Errors (the reaction is excluded): a species with no usable structure, a side (``sides``, e.g.
+    :func:`reaction_sides`) whose atoms or charge differ from the first side's, energies or frequencies
     at different levels of theory, different implicit solvent models (or solvent and gas phase).
     Warning: different programs at the same level (grids and defaults differ).
     """
@@ -231,6 +235,7 @@ def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject:
                                  + (f" ({reasons[0]})" if reasons else "")))
     if found:
         return found
+    found += _balance_findings(sides or {}, species, subject)
     levels = {n: species[n].levels[0] for n in names}
     if len(set(levels.values())) > 1:
         found.append(Finding("error", subject, "mixed levels of theory: "
@@ -245,6 +250,36 @@ def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject:
     if len(programs) > 1:
         found.append(Finding("warning", subject, f"energies from different programs ({', '.join(sorted(programs))})"))
     return found
+
+
+def reaction_sides(reaction: ReactionSpec) -> dict[str, list[Term]]:
+    """The sides of a reaction that must hold the same atoms and charge: reactants, transition state, products."""
+    ts = {f"transition state {reaction.transition_state!r}": [(1.0, reaction.transition_state)]} \
+        if reaction.transition_state else {}
+    return {"reactants": reaction.reactants, **ts, "products": reaction.products}
+
+
+def _balance_findings(sides: dict[str, list[Term]], species: dict[str, SpeciesResult], subject: str) -> list[Finding]:
+    """Every side against the first, in atoms and charge, counted on the structures whose energies enter.
+
+    reactions.check_balance refuses a reaction file whose species' first files do not balance; this is the
+    same rule on what the reaction uses (a structure, or its single point), however the species were built.
+    """
+    if not sides:
+        return []
+    names = list(dict.fromkeys(n for terms in sides.values() for _, n in terms))
+    structures: dict[str, set[tuple]] = {}
+    for n, c in _reaction_calcs(names, species):
+        structures.setdefault(n, set()).add((tuple(sorted(Counter(c.symbols).items())), c.charge))
+    mixed = [Finding("error", subject, f"species {n!r}: its energies come from structures of different formulas "
+                                       "or charges") for n, found in structures.items() if len(found) > 1]
+    if mixed:
+        return mixed
+    one = {n: next(iter(found)) for n, found in structures.items()}
+    formulas, charges = {n: Counter(dict(f)) for n, (f, _) in one.items()}, {n: q for n, (_, q) in one.items()}
+    (first, reference), *others = sides.items()
+    return [Finding("error", subject, f"{label} against the {first}: {problem}") for label, terms in others
+            if (problem := balance_problem(reference, terms, formulas, charges))]
 
 
 def _names(reaction: ReactionSpec) -> list[str]:
@@ -290,7 +325,7 @@ def _reactions_table(rf: ReactionFile | None, species: dict[str, SpeciesResult],
     rows, energetics = [], {}
     for r in rf.reactions if rf else []:
         names = _names(r)
-        problems = audit_reaction(names, species, r.name)
+        problems = audit_reaction(names, species, r.name, reaction_sides(r))
         findings.extend(problems)
         errors = [p.message for p in problems if p.severity == "error"]
         values = None if errors else reaction_energetics(r, _values(species))
@@ -317,7 +352,9 @@ def _profiles(rf: ReactionFile | None, species: dict[str, SpeciesResult], findin
     out = []
     for p in rf.profiles if rf else []:
         names = [n for s in p.states for _, n in s]
-        problems = audit_reaction(list(dict.fromkeys(names)), species, f"profile {p.name}")
+        problems = audit_reaction(list(dict.fromkeys(names)), species, f"profile {p.name}",
+                                  {f"state {i} ({label})": state for i, (label, state) in
+                                   enumerate(zip(p.labels, p.states, strict=True), start=1)})
         findings.extend(problems)
         if any(f.severity == "error" for f in problems):
             continue
