@@ -655,7 +655,8 @@ def load_reaction_file(path: str | Path) -> ReactionFile:
     except tomllib.TOMLDecodeError as err:
         message = " ".join(str(err).split())
         m = re.search(r"\s*\(at line (\d+), column \d+\)$", message)
-        line = int(m.group(1)) if m else None
+        # "at end of document" (an unclosed string or array): the last line, so that every error has one
+        line = int(m.group(1)) if m else max(len(text.splitlines()), 1)
         raise ReactionFileError(_where(path, line) + "TOML syntax error: " + message) from None
     except RecursionError:  # the TOML parser recurses once per level of nested arrays or inline tables
         raise ReactionFileError(_where(path, _Lines(text).too_deep()) +

@@ -288,3 +288,40 @@ def test_command_line_and_python_api_give_the_same_one_line(tmp_path, capsys):
     assert main(["profile", str(path), "-o", str(tmp_path / "fig.svg"), "--quiet", "--no-cache"]) == 2
     assert capsys.readouterr().err.splitlines() == [f"qcthermo profile: error: {expected}"]
     assert not (tmp_path / "out").exists() and not (tmp_path / "fig.svg").exists()
+
+
+#: pieces a slip or a damaged file puts into TOML: values of every type, brackets, quotes, controls, non-ASCII
+FUZZ_PIECES = ["nan", "inf", "-inf", "true", "0", "-1", "1e999", "9" * 30, "[", "]", "{", "}", "=", ",", ".", '"',
+               "'", "+", "#", "\n", "\x00", "\t", "é", "[[", "]]", " + 0 a", "x" * 300, "[1, [2]]", "{ a = 1 }"]
+
+
+def test_seeded_mutations_load_or_fail_in_one_line(tmp_path):
+    # 600 seeded mutations of the valid template: each loads, or fails with one ReactionFileError line (the rule of
+    # docs/reactions.md) naming a line; any other exception (TypeError, RecursionError, ...) fails the test
+    rng = np.random.default_rng(20240611)
+    base = _write(tmp_path).read_text()
+    path = tmp_path / "fuzz.toml"
+    outcomes = {"loaded": 0, "refused": 0}
+    for _ in range(600):
+        text = base
+        for _ in range(int(rng.integers(1, 4))):
+            at, cut = int(rng.integers(0, len(text))), int(rng.integers(0, 4))
+            text = text[:at] + str(rng.choice(FUZZ_PIECES)) + text[at + cut:]
+        path.write_text(text, encoding="utf-8")
+        try:
+            rf = load_reaction_file(path)
+        except ReactionFileError as err:
+            assert "\n" not in str(err) and str(err).startswith(f"{path}, line "), (text, str(err))
+            outcomes["refused"] += 1
+            continue
+        outcomes["loaded"] += 1
+        t = np.atleast_1d(rf.conditions.get("temperature", 298.15))
+        assert np.all(np.isfinite(t) & (t > 0)), text  # nothing non-physical gets through silently
+        assert all(c > 0 and np.isfinite(c) for r in rf.reactions for c, _ in r.reactants + r.products), text
+    assert outcomes["loaded"] and outcomes["refused"]  # the mutations exercise both outcomes
+
+
+def test_an_unclosed_string_names_the_last_line(tmp_path):
+    # the TOML parser places an unclosed multi-line string "at end of document": the last line (23) is named
+    message = _refused(_write(tmp_path, profile='style = """dashed'), 23, "TOML syntax error")
+    assert "end of document" in message
