@@ -86,6 +86,15 @@ class Calculation(_Composition):
     thermo_printed: dict[str, float] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
 
+    def __post_init__(self):
+        # the contract every reader meets (its own checks give the user's one-line reasons first)
+        if len(self.symbols) != len(np.reshape(self.coordinates, (-1, 3))):
+            raise ValueError(f"{len(self.symbols)} symbols but {len(np.reshape(self.coordinates, (-1, 3)))} rows")
+        if self.multiplicity is not None and self.multiplicity < 1:
+            raise ValueError(f"multiplicity {self.multiplicity}: 2S+1 is at least 1")
+        if self.energy is not None and not np.isfinite(self.energy):
+            raise ValueError(f"energy {self.energy}: not a finite number")
+
     @property
     def has_vibrations(self) -> bool:
         """True when the file holds all the engine needs: frequencies, or none needed (an atom)."""
@@ -141,9 +150,12 @@ def atomic_masses(symbols) -> np.ndarray:
     from ase.data import atomic_masses_common, atomic_numbers
 
     try:
-        return np.array([atomic_masses_common[atomic_numbers[s]] for s in symbols], dtype=float)
+        numbers = [atomic_numbers[s] for s in symbols]
     except KeyError as err:
         raise ValueError(f"unknown element symbol {err.args[0]!r}") from None
+    if 0 in numbers:  # ASE's "X" (atomic number 0) has a placeholder mass of 1
+        raise ValueError("a dummy atom 'X' has no mass")
+    return np.array([atomic_masses_common[z] for z in numbers], dtype=float)
 
 
 @dataclass
@@ -193,6 +205,14 @@ class Molecule(_Composition):
         if len(self.symbols) != len(self.coordinates):
             raise ValueError(f"{len(self.symbols)} symbols but {len(self.coordinates)} coordinate rows")
         self.masses = atomic_masses(self.symbols) if self.masses is None else np.asarray(self.masses, float)
+        # the engine's arithmetic would turn these into a NaN G (unknown coordinates and frequencies that are
+        # not finite are the engine's to refuse, with its reasons: cleaning.py)
+        if not np.isfinite(self.energy):
+            raise ValueError(f"energy {self.energy}: not a finite number")
+        if int(self.multiplicity) != self.multiplicity or self.multiplicity < 1:
+            raise ValueError(f"multiplicity {self.multiplicity}: expected an integer 2S+1 >= 1")
+        if not (np.all(np.isfinite(self.masses)) and np.all(self.masses > 0)):
+            raise ValueError("atomic masses must be positive numbers")
 
     @property
     def mass(self) -> float:

@@ -554,7 +554,16 @@ def thermochemistry_many(
     arrays = thermo_arrays(stack_molecules(molecules, infos), conditions)
     scalar = np.ndim(conditions.temperature) == 0
     pairs = enumerate(zip(molecules, infos, strict=True))
-    return [_result(arrays, row, m, info, conditions, scalar) for row, (m, info) in pairs]
+    return [_finite(_result(arrays, row, m, info, conditions, scalar), m) for row, (m, info) in pairs]
+
+
+def _finite(result: ThermoResult, molecule: Molecule) -> ThermoResult:
+    """The last guard: a G, H, S or ZPE that is not finite is a ThermoError, never a number in a table."""
+    for name in ("gibbs", "enthalpy", "entropy", "zpe"):
+        if not np.all(np.isfinite(getattr(result, name))):
+            label = molecule.name or molecule.source or molecule.formula
+            raise ThermoError(f"{label}: the {name} is not a finite number (a zero or damaged frequency?)")
+    return result
 
 
 def _result(

@@ -186,7 +186,8 @@ def fields(data, program: str) -> dict:
     meta = getattr(data, "metadata", {}) or {}
     out: dict = {}
     if getattr(data, "atomnos", None) is not None:
-        out["symbols"] = tuple(chemical_symbols[int(z)] for z in data.atomnos)
+        # atomic number 0 (dummy) or out of the table (ghost atoms, damage): "X", refused by the reader
+        out["symbols"] = tuple(chemical_symbols[int(z)] if 0 < z < len(chemical_symbols) else "X" for z in data.atomnos)
         coords = np.asarray(getattr(data, "atomcoords", np.zeros((0, 0, 3))), dtype=float)
         if coords.ndim == 3 and coords.shape[1:] == (len(out["symbols"]), 3):  # xTB --hess prints none
             out["coordinates"] = coords[-1]

@@ -15,8 +15,9 @@ import numpy as np
 
 from ..errors import LogReadError
 from ..records import Calculation
-from . import cclib_data, fallback
+from . import cclib_data, checks, fallback
 from .normalise import (
+    PROJECTED_ZERO_CM,
     basis_name,
     inferred_multiplicity,
     method_name,
@@ -25,6 +26,7 @@ from .normalise import (
     vibrational_modes,
 )
 from .programs import (
+    RULES,
     job_spec,
     job_types_from_spec,
     last_s2,
@@ -57,12 +59,39 @@ def read_log(path: str | Path) -> Calculation:
 
 
 def _read(source: LogSource) -> Calculation:
+    """One run: read it. Several (logs pasted into one file): the last readable one, if all that read are
+    of one molecule; otherwise refuse, as the file mixes molecules (docs/readers.md, "Damaged input")."""
+    runs = checks.split_runs(source)
+    if len(runs) == 1:
+        return _read_run(source)
+    read, reasons = [], []
+    for number, run in enumerate(runs, 1):
+        try:
+            read.append((number, _read_run(run)))
+        except LogReadError as err:
+            reasons.append(err.reason)
+    what = f"{len(runs)} {source.program} runs in one file"
+    if not read:
+        raise LogReadError(source.path, f"{what}, none readable (the last: {reasons[-1]})")
+    formulas = list(dict.fromkeys(calc.formula for _, calc in read))
+    if len(formulas) > 1:
+        raise LogReadError(source.path, f"{what} for different molecules ({', '.join(formulas)}): "
+                                        "logs pasted together? split the file")
+    number, calc = read[-1]
+    calc.notes.append(f"{what} (logs pasted together?), all {formulas[0]}: run {number}, the last readable, read")
+    return calc
+
+
+def _read_run(source: LogSource) -> Calculation:
     failure = cclib_data.known_failure(source)
     data, failure = (None, failure) if failure else cclib_data.parse(source)
     found = cclib_data.fields(data, source.program) if data is not None else {}
     notes: list[str] = found.pop("notes", [])
     if source.program == "xtb" and "symbols" in found and "coordinates" not in found:
+        if "final structure:" in source.text:  # printed, but cclib could not read it
+            raise LogReadError(source.path, "xTB's final structure block is damaged (its rows do not fit its atoms)")
         found["coordinates"] = _xtb_coordinate_file(source, found["symbols"], notes)
+        found["coordinates_unknown"] = not np.all(np.isfinite(found["coordinates"]))
     extractor = fallback.EXTRACTORS.get(source.program)
     if "coordinates" not in found or "energy" not in found:
         reason = failure or "cclib found no " + ("geometry" if "coordinates" not in found else "energy")
@@ -161,13 +190,16 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
     symbols, coords = found["symbols"], np.asarray(found["coordinates"], dtype=float).reshape(-1, 3)
     if len(symbols) != len(coords) or not symbols:
         raise LogReadError(source.path, f"{len(symbols)} atoms but {len(coords)} coordinate rows (damaged log?)")
-    if not np.isfinite(found["energy"]):
-        raise LogReadError(source.path, "the final energy is not a number (damaged log?)")
+    _refuse(source, checks.symbol_problem(symbols))
+    _refuse(source, checks.atom_count_mismatch(program, text, len(symbols)))
     charge = int(found.get("charge", 0))
     mult = found.get("multiplicity")
     if mult is None:
         mult, note = inferred_multiplicity(symbols, charge)
         notes.append(note)
+    _refuse(source, checks.state_problem(symbols, charge, int(mult), float(found["energy"])))
+    if not found.get("coordinates_unknown"):
+        _refuse(source, checks.geometry_problem(coords))
 
     spec = job_spec(program, text)
     spec_jobs = job_types_from_spec(program, spec)
@@ -175,10 +207,15 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         spec_jobs.add("optimization")
     freqs = found.get("frequencies")
     if freqs is not None:
+        expected = n_vibrations(symbols, coords)
+        # all 3N modes are a list the program projected, or one of a program we know no rule of
+        all_modes = rules(program).projected or program not in RULES
+        printed = np.asarray(freqs, dtype=float).ravel()
+        _refuse(source, checks.frequency_problem(printed, len(symbols), expected, all_modes))
         freqs, note = vibrational_modes(freqs, symbols, coords, rules(program).projected)
         if note:
             notes.append(note)
-        expected = n_vibrations(symbols, coords)
+        _refuse(source, checks.zero_mode_problem(freqs, PROJECTED_ZERO_CM))
         if expected is not None and freqs.size != expected:
             notes.append(f"frequencies dropped: {freqs.size} modes found where {expected} belong (incomplete block)")
             freqs = None
@@ -198,6 +235,11 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         marker = optimisation_converged(program, text)
         converged = marker if marker is not None else found.get("optimization_converged")
     s2 = last_s2(text) if mult > 1 else None
+    thermo = found.get("thermo_printed", {})
+    if not all(np.isfinite(v) for v in thermo.values()):
+        notes.append("the program's own thermochemistry has a value that is not a number: left out")
+        thermo = {k: v for k, v in thermo.items() if np.isfinite(v)}
+    gas_energy = found.get("gas_energy")
 
     return Calculation(
         path=source.path,
@@ -217,10 +259,16 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         solvent_model=found.get("solvent_model"),
         solvent=found.get("solvent"),
         s2=s2,
-        gas_energy=found.get("gas_energy"),
-        thermo_printed=found.get("thermo_printed", {}),
+        gas_energy=gas_energy if gas_energy is not None and np.isfinite(gas_energy) else None,
+        thermo_printed=thermo,
         notes=notes,
     )
+
+
+def _refuse(source: LogSource, reason: str | None) -> None:
+    """Raise LogReadError with ``reason`` unless it is None."""
+    if reason is not None:
+        raise LogReadError(source.path, reason)
 
 
 def _read_geometry(source: LogSource) -> Calculation:

@@ -187,7 +187,8 @@ def _nwchem_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
         return None
     rows = [line.split() for line in block.group(1).strip().splitlines()]
     # the nuclear charge names the element whatever the tag says ("O1", "H_a", ...)
-    symbols = tuple(chemical_symbols[round(float(row[2]))] for row in rows)
+    charges = [round(float(row[2])) for row in rows]  # a ghost atom ("Bq") has 0: "X", refused by the reader
+    symbols = tuple(chemical_symbols[z] if 0 < z < len(chemical_symbols) else "X" for z in charges)
     return symbols, np.array([[float(x) for x in row[3:6]] for row in rows])
 
 

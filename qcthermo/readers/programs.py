@@ -31,6 +31,8 @@ class ProgramRules:
         projected: the program prints the rigid-body modes as projected zeros among 3N frequencies.
         thermo_ev: cclib 1.8.1 gives this program's zpve/enthalpy/freeenergy in eV, not hartree.
         thermo_corrections: cclib's enthalpy/freeenergy are thermal corrections, not totals.
+        run_banner: a phrase printed once per run of the program, at its start (two in one file: two
+            logs pasted together); None when no such phrase is known.
     """
 
     keywords: str | None = None
@@ -42,6 +44,7 @@ class ProgramRules:
     projected: bool = False
     thermo_ev: bool = False
     thermo_corrections: bool = False
+    run_banner: str | None = None
 
 
 RULES: dict[str, ProgramRules] = {
@@ -58,6 +61,7 @@ RULES: dict[str, ProgramRules] = {
         end_marker=r"Normal termination of Gaussian",
         converged=r"Optimization completed|Stationary point found",
         converged_literals=("Optimization completed", "Stationary point found"),
+        run_banner="Entering Gaussian System",
     ),
     "orca": ProgramRules(
         keywords=r"^\|\s*\d+>\s*(!.*)$|^\s*\*\s*(GEOMETRY OPTIMIZATION CYCLE)",
@@ -72,6 +76,7 @@ RULES: dict[str, ProgramRules] = {
         converged=r"THE OPTIMIZATION HAS CONVERGED|OPTIMIZATION RUN DONE",
         converged_literals=("THE OPTIMIZATION HAS CONVERGED", "OPTIMIZATION RUN DONE"),
         projected=True,
+        run_banner="O   R   C   A",
     ),
     "nwchem": ProgramRules(
         # NWChem echoes its input only on request: the modules it ran are the reliable record
@@ -95,6 +100,7 @@ RULES: dict[str, ProgramRules] = {
         converged=r"Optimization converged",
         converged_literals=("Optimization converged",),
         projected=True,
+        run_banner="Northwest Computational Chemistry Package",
     ),
     "xtb": ProgramRules(
         keywords=r"program call\s*:\s*(.*)$",
@@ -109,6 +115,7 @@ RULES: dict[str, ProgramRules] = {
         converged_literals=("GEOMETRY OPTIMIZATION CONVERGED",),
         projected=True,
         thermo_ev=True,
+        run_banner="xtb version",
     ),
     "qchem": ProgramRules(
         keywords=r"^\s*job_?type\s*=?\s*(\w+)",
@@ -124,6 +131,7 @@ RULES: dict[str, ProgramRules] = {
         converged=r"\*\*\s+OPTIMIZATION CONVERGED\s+\*\*|TRANSITION STATE CONVERGED",
         converged_literals=("OPTIMIZATION CONVERGED", "TRANSITION STATE CONVERGED"),
         thermo_corrections=True,
+        run_banner="Welcome to Q-Chem",
     ),
     "psi4": ProgramRules(
         keywords=r"^\s*(\w+)\(\s*['\"]",
@@ -135,6 +143,7 @@ RULES: dict[str, ProgramRules] = {
         end_marker=r"Psi4 exiting successfully",
         converged=r"Optimization is complete!",
         converged_literals=("Optimization is complete!",),
+        run_banner="Psi4: An Open-Source Ab Initio Electronic Structure Package",
     ),
     "gamess": ProgramRules(
         keywords=r"RUNTYP=(\w+)",
@@ -148,6 +157,7 @@ RULES: dict[str, ProgramRules] = {
         end_marker=r"TERMINATED NORMALLY",
         converged=r"EQUILIBRIUM GEOMETRY LOCATED|SADDLE POINT LOCATED",
         converged_literals=("EQUILIBRIUM GEOMETRY LOCATED", "SADDLE POINT LOCATED"),
+        run_banner="GAMESS VERSION",
     ),
 }
 

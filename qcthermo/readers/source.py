@@ -7,8 +7,11 @@ refused at once without starting cclib.
 
 from __future__ import annotations
 
+import bz2
 import gzip
+import lzma
 import re
+import zlib
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -76,7 +79,7 @@ class LogSource:
 
 
 def load(path: str | Path) -> LogSource:
-    """Read ``path`` once (gzip transparently) and recognise the program; raise LogReadError if it is no log."""
+    """Read ``path`` once (gzip, bzip2, xz undone) and recognise the program; raise LogReadError if it is no log."""
     path = str(path)
     try:
         raw = Path(path).read_bytes()
@@ -84,11 +87,7 @@ def load(path: str | Path) -> LogSource:
         raise LogReadError(path, "is a directory, not a log file") from None
     except OSError as err:
         raise LogReadError(path, f"cannot be read: {err.strerror or err}") from None
-    if raw[:2] == b"\x1f\x8b":
-        try:
-            raw = gzip.decompress(raw)
-        except (OSError, EOFError) as err:
-            raise LogReadError(path, f"damaged gzip file ({err})") from None
+    raw = _decompressed(path, raw)
     if not raw.strip():
         raise LogReadError(path, "empty file")
     if b"\x00" in raw[:8192]:
@@ -97,6 +96,24 @@ def load(path: str | Path) -> LogSource:
     if "\r" in text:  # logs copied from Windows: the parsers and patterns expect "\n" line ends
         text = text.replace("\r\n", "\n").replace("\r", "\n")
     return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
+
+
+#: compressed formats by their magic bytes (the content decides, not the file name): name, decompressor
+_COMPRESSED = ((b"\x1f\x8b", "gzip", gzip.decompress), (b"BZh", "bzip2", bz2.decompress),
+               (b"\xfd7zXZ\x00", "xz", lzma.decompress))
+
+
+def _decompressed(path: str, raw: bytes) -> bytes:
+    """``raw`` uncompressed if it starts with a gzip, bzip2 or xz signature; a damaged archive (cut short,
+    CRC error, corrupt data) is a LogReadError. Anything else is returned as it is (a ".gz" that is not
+    gzip is read as the text it holds)."""
+    for magic, name, decompress in _COMPRESSED:
+        if raw.startswith(magic):
+            try:
+                return decompress(raw)
+            except (OSError, EOFError, ValueError, zlib.error, lzma.LZMAError) as err:
+                raise LogReadError(path, f"damaged {name} file ({err or type(err).__name__})") from None
+    return raw
 
 
 def sniff_program(path: str, head: str) -> str | None:

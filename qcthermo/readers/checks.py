@@ -1,0 +1,186 @@
+"""Damaged input never becomes a wrong record: the checks ``read_log`` makes before it returns one.
+
+A log damaged in transfer or by hand (a row lost from the last geometry, a number turned into "nan",
+two logs pasted into one file) can still hold everything a reader looks for. Each check here compares
+what was read with something else the program printed (its atom counts, its other geometry blocks, the
+length of its frequency list) or with what physics allows, and gives the one-line reason of a
+:class:`~qcthermo.errors.LogReadError`. docs/readers.md, "Damaged input", lists them.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+
+import numpy as np
+
+from .normalise import electron_count
+from .programs import rules
+from .source import LogSource
+
+#: nuclei closer than this (angstrom) are one atom printed twice: the shortest bond, H2's, is 0.74 A
+#: (from memory), and no structure a program optimises brings two nuclei within a quarter of it
+COINCIDENT_A = 0.2
+
+
+@dataclass(frozen=True)
+class _Count:
+    """Where a program states its atom count: the literal that starts it and the regex matched there."""
+
+    literal: str
+    regex: re.Pattern
+
+
+def _count(literal: str, pattern: str) -> _Count:
+    return _Count(literal, re.compile(pattern))
+
+
+#: x, y, z and the end of a geometry row (spaces and tabs only: a row never runs onto the next line)
+_XYZ = r"(?:[ \t]+\S+){3}[ \t]*\n"
+
+#: atom counts as programs print them (group 1), each regex matched where its literal starts; a
+#: statement damaged beyond its regex is simply not counted
+_DECLARED: dict[str, tuple[_Count, ...]] = {
+    "gaussian": (_count("NAtoms=", r"NAtoms=\s*(\d+)"),),
+    "nwchem": (_count("No. of atoms", r"No\. of atoms\s+:\s+(\d+)"),
+               _count("XYZ format geometry", r"XYZ format geometry\n\s*-+\n\s*(\d+)\s*\n")),
+    "orca": (_count("Number of atoms", r"Number of atoms\s+\.+\s+(\d+)"),),
+    "gamess": (_count("TOTAL NUMBER OF ATOMS", r"TOTAL NUMBER OF ATOMS\s+=\s+(\d+)"),),
+    "psi4": (_count("Number of atoms is", r"Number of atoms is (\d+)\."),),
+    "xtb": (_count("final structure:", r"final structure:\n=+\n\s*(\d+)\s*\n"),),
+}
+#: the geometry blocks of each program (group 1: the rows), every one printed (orientations, steps)
+_BLOCKS: dict[str, tuple[_Count, ...]] = {
+    "gaussian": (_count(" orientation:",
+                        rf" orientation:.*\n.*\n.*\n.*\n\s*-+\n((?:[ \t]+\d+[ \t]+-?\d+[ \t]+\d+{_XYZ})+)"),),
+    "nwchem": (
+        _count("Output coordinates in angstroms",
+               rf"Output coordinates in angstroms.*\n\n.*\n\s*-{{4}}.*\n((?:[ \t]*\d+(?:[ \t]+\S+){{2}}{_XYZ})+)"),
+        _count("XYZ format geometry", rf"XYZ format geometry\n.*\n.*\n.*\n((?:[ \t]*[A-Za-z]\S*{_XYZ})+)"),
+    ),
+    "orca": (_count("CARTESIAN COORDINATES (ANGSTROEM)",
+                    rf"CARTESIAN COORDINATES \(ANGSTROEM\)\n-+\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)"),),
+    "qchem": (
+        _count("Standard Nuclear Orientation",
+               rf"Standard Nuclear Orientation.*\n.*\n\s*-+\n((?:[ \t]+\d+[ \t]+[A-Za-z]{{1,3}}{_XYZ})+)"),
+        _count("$molecule", rf"\$molecule\n.*\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)\$end"),  # the input echo
+    ),
+    "xtb": (_count("final structure:", rf"final structure:\n=+\n.*\n.*\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)"),),
+}
+
+
+def _matches(text: str, spec: _Count):
+    """Every match of ``spec.regex`` where ``spec.literal`` occurs in ``text``."""
+    at = text.find(spec.literal)
+    while at >= 0:
+        found = spec.regex.match(text, at)
+        if found:
+            yield found
+        at = text.find(spec.literal, at + len(spec.literal))
+
+
+def atom_count_mismatch(program: str, text: str, natoms: int) -> str | None:
+    """Why ``natoms`` atoms in the final geometry contradict the log's own atom counts, or None.
+
+    The program's statements of its atom count and the row counts of each of its geometry blocks (input
+    and standard orientations, every optimisation step) must all equal ``natoms``: a row lost from the
+    last block, a block cut short, or a job on another molecule in the same file shows here.
+    """
+    declared = [int(m.group(1)) for spec in _DECLARED.get(program, ()) for m in _matches(text, spec)]
+    wrong = sorted({n for n in declared if n != natoms})
+    if wrong:
+        return (f"the final geometry has {natoms} atoms but the log states {', '.join(map(str, wrong))} "
+                "(damaged geometry block, or several jobs in one file?)")
+    blocks = [m.group(1).count("\n") for spec in _BLOCKS.get(program, ()) for m in _matches(text, spec)]
+    wrong = sorted({n for n in blocks if n != natoms})
+    if wrong:
+        return (f"the final geometry has {natoms} atoms but another geometry block of the log has "
+                f"{', '.join(map(str, wrong))} (damaged or cut-short geometry block?)")
+    return None
+
+
+def frequency_problem(printed: np.ndarray, natoms: int, expected: int | None, all_modes: bool) -> str | None:
+    """Why the ``printed`` frequencies cannot belong to ``natoms`` atoms, or None.
+
+    Not finite: damaged. A program prints the 3N-6 (3N-5) vibrations, or all 3N modes when it lists the
+    rigid-body ones too (``all_modes``); fewer is a block cut short (the caller drops it with a note).
+    Any other length means the geometry and the frequencies disagree on the number of atoms, and
+    removing modes "by count" to make them fit would drop real vibrations.
+    """
+    if not np.all(np.isfinite(printed)):
+        return "a frequency is not a finite number (damaged frequency block?)"
+    full, n_printed = 3 * natoms, printed.size
+    allowed = (full - 6, full - 5, full) if all_modes else (full - 6, full - 5)
+    if n_printed > full or (n_printed not in allowed and n_printed > (expected or 0)):
+        return f"{n_printed} frequencies printed for {natoms} atoms (3N = {full}): geometry and frequencies disagree"
+    return None
+
+
+def zero_mode_problem(vibrations: np.ndarray, zero: float) -> str | None:
+    """A vibration of |nu| < ``zero`` cm^-1 left once the rigid-body modes are removed: its partition
+    function is infinite, so the block is damaged (a frequency turned into 0)."""
+    small = vibrations[np.abs(vibrations) < zero]
+    if small.size:
+        return f"a vibrational frequency of {small[0]:.2f} cm^-1 (a zero among the vibrations: damaged block?)"
+    return None
+
+
+def symbol_problem(symbols) -> str | None:
+    """Why the atoms of the final geometry are not all real elements (dummy "X", ghost "Bq"/"Gh", atomic
+    number 0 or out of the periodic table), or None."""
+    from ase.data import atomic_numbers
+
+    dummy = sorted({s for s in symbols if atomic_numbers.get(s, 0) == 0})
+    if dummy:
+        return f"dummy or ghost atoms ({', '.join(dummy)}) in the final geometry: not a molecule qcthermo can treat"
+    return None
+
+
+def state_problem(symbols, charge: int, multiplicity: int, energy: float) -> str | None:
+    """Why the energy, charge or multiplicity read cannot be those of the molecule ``symbols``, or None."""
+    if energy == 0.0 or not np.isfinite(energy):
+        return f"the final energy reads {energy!r} (damaged energy line?)"
+    electrons = electron_count(symbols, charge)
+    if electrons < 0:
+        return f"charge {charge:+d} exceeds the nuclear charge of the molecule"
+    if multiplicity < 1 or multiplicity > electrons + 1:
+        return f"multiplicity {multiplicity} is impossible with {electrons} electrons (1 to {electrons + 1})"
+    # 2S+1 is odd for an even electron count and even for an odd one (an ECP's core holds paired electrons)
+    if (electrons + multiplicity) % 2 == 0:
+        return f"multiplicity {multiplicity} with {electrons} electrons (charge {charge:+d}): parity impossible"
+    return None
+
+
+def geometry_problem(coordinates) -> str | None:
+    """Why the final coordinates cannot be a molecule's (not finite, two nuclei on one spot), or None."""
+    coords = np.asarray(coordinates, dtype=float)
+    if not np.all(np.isfinite(coords)):
+        return "a coordinate of the final geometry is not a finite number (damaged geometry block?)"
+    if len(coords) > 1:
+        from scipy.spatial import cKDTree
+
+        pairs = cKDTree(coords).query_pairs(COINCIDENT_A, output_type="ndarray")
+        if len(pairs):
+            i, j = pairs[0]
+            return f"atoms {i + 1} and {j + 1} of the final geometry lie within {COINCIDENT_A} A (a row printed twice?)"
+    return None
+
+
+def split_runs(source: LogSource) -> list[LogSource]:
+    """The runs of the program in one file, one per line holding its run banner (two pasted logs: two).
+
+    A Gaussian job of several steps (opt then freq, "--Link1--") is one run: its later steps print
+    "Link1: Proceeding to internal job step" and no new "Entering Gaussian System". Programs without a
+    banner known to be printed once per run (``ProgramRules.run_banner``) are one run.
+    """
+    banner, text = rules(source.program).run_banner, source.text
+    if banner is None:
+        return [source]
+    starts, at = [], text.find(banner)
+    while at >= 0:
+        starts.append(text.rfind("\n", 0, at) + 1)
+        at = text.find(banner, at + len(banner))
+    if len(starts) < 2:
+        return [source]
+    bounds = zip([0, *starts[1:]], [*starts[1:], len(text)], strict=True)
+    return [LogSource(source.path, text[a:b], source.program) for a, b in bounds]
