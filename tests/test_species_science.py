@@ -294,3 +294,18 @@ def test_a_computed_mirror_image_is_not_counted_twice(samples):
     assert by_file["gpgm.out"] == 2 and by_file["tgm.out"] == by_file["tt.out"] == 1
     drop = float(plain.values["G"][0] - both.values["G"][0])
     assert 0 < drop < K_B_EH * T * np.log(2)
+
+
+def test_the_sample_hydration_counts_both_mirror_images(tmp_path, samples):
+    # sample_outputs/reactions.toml sets enantiomers = 2 on the chiral TS (C1) and product (C2) of the hydration:
+    # k_forward is twice that of the same file without the key (Eyring), k_reverse unchanged (both carry -RT ln 2),
+    # and no chiral species is left counted as one enantiomer without saying so
+    text = (samples / "reactions.toml").read_text()
+    plain = tmp_path / "reactions.toml"
+    plain.write_text(text.replace("enantiomers = 2\n", "").replace('logs = "', f'logs = "{samples.as_posix()}/')
+                     .replace('single_point = "', f'single_point = "{samples.as_posix()}/'))
+    runs = [qcthermo.run(samples, reactions=path, jobs=1, cache=False) for path in (samples / "reactions.toml", plain)]
+    (sample, without) = (r.reactions.set_index("reaction").loc["formaldehyde_hydration"] for r in runs)
+    assert sample["k_forward"] / without["k_forward"] == pytest.approx(2.0, rel=1e-9)
+    assert sample["k_reverse"] / without["k_reverse"] == pytest.approx(1.0, rel=1e-9)
+    assert not any("counted as one enantiomer" in f.message for f in runs[0].findings)
