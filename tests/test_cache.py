@@ -10,6 +10,7 @@ from __future__ import annotations
 import builtins
 import importlib
 import io
+import json
 import os
 import sqlite3
 import subprocess
@@ -294,3 +295,112 @@ def test_damage_found_mid_run_disables_the_cache_and_sets_the_file_aside(tree, c
     assert "the next run rebuilds it" in store.warnings[0]
     assert not (cache_dir / CACHE_FILE).exists() and len(list(cache_dir.glob(f"{CACHE_FILE}.corrupt-*"))) == 1
     store.close()
+
+
+def _rewrite_row(cache_dir: Path, name: str, **columns) -> None:
+    """Change the cached row of the file called ``name`` directly in SQLite, as damage or another program would."""
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    sets = ", ".join(f"{column} = ?" for column in columns)
+    done = db.execute(f"UPDATE parsed SET {sets} WHERE CAST(path AS TEXT) LIKE ?", (*columns.values(), f"%/{name}"))
+    assert done.rowcount == 1
+    db.commit()
+    db.close()
+
+
+def _water_record(cache_dir: Path) -> dict:
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    (payload,) = db.execute("SELECT payload FROM parsed WHERE CAST(path AS TEXT) LIKE '%/water.out'").fetchone()
+    db.close()
+    return json.loads(payload)
+
+
+@pytest.mark.parametrize("damage", [
+    "invalid JSON", "missing key", "unknown key", "wrong type", "string where a number belongs", "bad shape",
+    "not an object", "ok flag out of range",
+])
+def test_a_bad_cache_row_is_a_miss_and_is_rewritten(tree, cache_dir, damage):
+    reader = CountingReader()
+    first = survey(tree, jobs=1, reader=reader)
+    record = _water_record(cache_dir)
+    broken = dict(record)
+    if damage == "missing key":
+        del broken["symbols"]
+    elif damage == "unknown key":
+        broken["colour"] = "blue"
+    elif damage == "wrong type":
+        broken["symbols"] = [8, 1, 1]
+    elif damage == "string where a number belongs":
+        broken["charge"] = "zero"
+    elif damage == "bad shape":
+        broken["coordinates"] = [[0.0, 0.0]]  # 2 numbers for 3 atoms: Calculation.from_dict cannot reshape it
+    columns = {"payload": "{not json" if damage == "invalid JSON" else
+               json.dumps([1, 2]) if damage == "not an object" else json.dumps(broken)}
+    if damage == "ok flag out of range":
+        columns = {"ok": 7}
+    _rewrite_row(cache_dir, "water.out", **columns)
+    reader.calls.clear()
+    second = survey(tree, jobs=1, reader=reader)
+    assert [Path(p).name for p in reader.calls] == ["water.out"]  # the bad row only: read again
+    assert second.rows == first.rows and second.notes == []
+    assert _water_record(cache_dir) == record  # the row rewritten
+    reader.calls.clear()
+    assert survey(tree, jobs=1, reader=reader).rows == first.rows and reader.calls == []
+
+
+def test_a_bad_cache_row_found_by_digest_in_a_worker_is_a_miss(tree, cache_dir):
+    reader = CountingReader()
+    first = survey(tree, jobs=2, reader=reader)
+    _rewrite_row(cache_dir, "water.out", payload="{not json")
+    os.utime(tree / "water.out", ns=(1, 1))  # step 1 misses, so the worker hashes it and finds the bad row
+    again = survey(tree, jobs=2, reader=reader)  # workers parse in their own processes: the rows are checked
+    assert again.rows == first.rows and again.stats["parsed"] == 1 and again.notes == []
+
+
+def test_a_cache_of_the_older_layout_is_rebuilt_with_one_warning(tree, cache_dir):
+    cache_dir.mkdir()
+    db = sqlite3.connect(cache_dir / CACHE_FILE)  # schema 1: paths as text, no user_version
+    db.execute("CREATE TABLE parsed (path TEXT PRIMARY KEY, size INTEGER NOT NULL, mtime_ns INTEGER NOT NULL, "
+               "digest TEXT NOT NULL, reader_version TEXT NOT NULL, ok INTEGER NOT NULL, payload TEXT NOT NULL)")
+    db.execute("INSERT INTO parsed VALUES ('/x.out', 1, 1, 'd', 'schema1:v', 0, 'a reason')")
+    db.commit()
+    db.close()
+    reader = CountingReader()
+    result = survey(tree, jobs=1, reader=reader)
+    assert len(result.rows) == 3 and len(result.notes) == 1 and "older layout" in result.notes[0]
+    reader.calls.clear()
+    again = survey(tree, jobs=1, reader=reader)
+    assert again.notes == [] and reader.calls == []  # rebuilt and in use, not disabled
+
+
+def test_another_programs_database_is_moved_aside_and_rebuilt(tree, cache_dir):
+    cache_dir.mkdir()
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    db.execute("CREATE TABLE people (name TEXT)")
+    db.commit()
+    db.close()
+    reader = CountingReader()
+    result = survey(tree, jobs=1, reader=reader)
+    assert len(result.notes) == 1 and "not a qcthermo parse cache" in result.notes[0]
+    (aside,) = cache_dir.glob(f"{CACHE_FILE}.corrupt-*")
+    assert sqlite3.connect(aside).execute("SELECT count(*) FROM people").fetchone() == (0,)  # kept, not emptied
+    reader.calls.clear()
+    assert survey(tree, jobs=1, reader=reader).notes == [] and reader.calls == []
+
+
+@pytest.mark.parametrize("where", ["under a file", "read-only"])
+def test_a_cache_folder_that_cannot_be_written_gives_one_warning(tree, tmp_path, monkeypatch, capsys, where):
+    from qcthermo.cli import main
+
+    if where == "under a file":
+        (tmp_path / "a_file").write_text("")
+        folder = tmp_path / "a_file" / "cache"
+    else:
+        folder = Path("/proc/self")  # a folder nobody can create files in, root included (Linux procfs)
+        if not folder.is_dir():
+            pytest.skip("no /proc")
+    monkeypatch.setenv("QCTHERMO_CACHE_DIR", str(folder))
+    monkeypatch.setattr(importlib.import_module("qcthermo.survey"), "default_reader", xyz_reader)
+    result = survey(tree, jobs=1, reader=CountingReader())
+    assert len(result.rows) == 3 and len(result.notes) == 1 and "parse cache disabled" in result.notes[0]
+    assert main(["survey", str(tree), "--jobs", "1", "--quiet"]) == 1
+    assert capsys.readouterr().err.count("warning: parse cache") == 1

@@ -340,3 +340,75 @@ def test_survey_result_repr_is_one_line(samples, cache_dir):
     result = survey(samples / "gas", jobs=1)
     text = repr(result)
     assert "\n" not in text and len(text) < 300 and result.summary() in text
+
+
+# -- file names: bytes that are not UTF-8, and rich markup -----------------------------------------
+
+
+@pytest.fixture
+def odd_names(tmp_path) -> Path:
+    """Logs named b"caf\\xe9.out" (Latin-1, not UTF-8), "[bold]x.log", "b[1].out" and "a[/red].out" (a file
+    "red].out" in a folder "a["): names a terminal table, a CSV, JSON or SQLite must not choke on."""
+    root = tmp_path / "odd"
+    (root / "a[").mkdir(parents=True)
+    for name in ("[bold]x.log", "b[1].out", "a[/red].out"):
+        (root / name).write_text(WATER_XYZ)
+    try:
+        with open(os.path.join(os.fsencode(root), b"caf\xe9.out"), "w") as handle:
+            handle.write(WATER_XYZ)
+    except OSError:
+        pytest.skip("this file system refuses a file name that is not UTF-8")
+    return root
+
+
+# PEP 383: os.fsdecode(b"caf\xe9.out") is "caf\udce9.out"; qcthermo shows that byte as \xe9
+LATIN1_NAME, LATIN1_SHOWN = os.fsdecode(b"caf\xe9.out"), "caf\\xe9.out"
+ODD_SHOWN = ["[bold]x.log", "a[/red].out", "b[1].out", LATIN1_SHOWN]
+
+
+def test_odd_file_names_are_surveyed_and_cached(odd_names, cache_dir):
+    first = survey(odd_names, jobs=1, reader=xyz_reader)
+    assert sorted(first.calculations) == sorted(["[bold]x.log", "a[/red].out", "b[1].out", LATIN1_NAME])
+    assert first.notes == [] and first.stats["parsed"] == 4
+    calc = first.calculations[LATIN1_NAME]
+    assert os.path.isfile(calc.path)  # the real name, usable to open the file again
+    second = survey(odd_names, jobs=1, reader=xyz_reader)
+    assert second.stats["cached"] == 4 and second.stats["parsed"] == 0  # the cache hits for every name
+    assert second.rows == first.rows
+
+
+def test_odd_file_names_appear_verbatim_in_the_table_csv_and_json(odd_names, tmp_path, capsys, stub_default_reader):
+    import pandas as pd
+
+    csv, js = tmp_path / "s.csv", tmp_path / "s.json"
+    assert main(["survey", str(odd_names), "--jobs", "1", "--csv", str(csv), "--json", str(js)]) == 0
+    out = capsys.readouterr().out
+    table_names = [line.split()[0] for line in out.splitlines()[1:5]]
+    assert table_names == ODD_SHOWN  # markup printed as written, not taken as styles
+    assert list(pd.read_csv(csv)["path"]) == ODD_SHOWN
+    assert [row["path"] for row in json.loads(js.read_text(encoding="utf-8"))] == ODD_SHOWN
+
+
+def test_quiet_survey_names_the_failing_files(xyz_tree, capsys, stub_default_reader):
+    for i in range(12):
+        (xyz_tree / f"bad[{i:02d}].out").write_text("no atoms\n")
+    assert main(["survey", str(xyz_tree), "--jobs", "1", "--quiet"]) == 1
+    captured = capsys.readouterr()
+    assert captured.out.strip() == "17 files: 4 ok, 0 warning, 13 error"
+    err = captured.err.strip().splitlines()
+    assert len(err) == 11 and err[0].startswith("qcthermo survey: error: bad.out: not an XYZ file")
+    assert "bad[00].out" in err[1] and err[-1].endswith("... and 3 more unreadable files")
+
+
+def test_survey_json_is_strict_without_nan_or_infinity(xyz_tree, tmp_path, monkeypatch):
+    from qcthermo.commands.survey import write_json
+
+    def no_energy(path):  # a reader that found an energy it could not parse as finite
+        return dataclasses.replace(xyz_reader(path), energy=float("-inf"))
+
+    def refuse(token):  # RFC 8259 section 6: NaN and Infinity are not JSON numbers
+        raise ValueError(f"non-standard JSON token {token}")
+
+    result = survey(xyz_tree, jobs=1, reader=no_energy, cache=False)
+    rows = json.loads(write_json(result, tmp_path / "s.json").read_text(), parse_constant=refuse)
+    assert [r["E_elec_Eh"] for r in rows] == [None] * 5

@@ -140,8 +140,9 @@ def starter_text(survey_result, base: Path) -> str:
 
 
 def main(args: argparse.Namespace) -> int:
-    from ..fileio import atomic_write
+    from ..fileio import atomic_write, display
     from ..survey import survey
+    from .survey import print_errors
 
     directory = Path(args.directory)
     output = Path(args.output) if args.output else directory / "reactions.toml"
@@ -152,6 +153,7 @@ def main(args: argparse.Namespace) -> int:
         raise QcthermoError(f"no readable log under {directory}")
     atomic_write(output, starter_text(result, output.parent))
     n_err = len(result.errors)
-    print(f"wrote {output} ({len(result.calculations)} files read"
-          + (f", {n_err} unreadable: see `qcthermo survey {directory}`" if n_err else "") + ")")
+    print(f"wrote {display(str(output))} ({len(result.calculations)} files read"
+          + (f", {n_err} unreadable: see `qcthermo survey {display(str(directory))}`" if n_err else "") + ")")
+    print_errors("init", result.errors)
     return 1 if n_err else 0

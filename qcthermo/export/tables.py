@@ -11,6 +11,7 @@ pandas and openpyxl are imported inside the functions that need them.
 
 from __future__ import annotations
 
+import io
 import math
 import re
 from collections.abc import Iterable, Sequence
@@ -19,7 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import QcthermoError
-from ..fileio import atomic_open, atomic_write
+from ..fileio import atomic_write
 
 FORMATS = ("csv", "md", "tex", "xlsx")
 #: from this many rows on, LaTeX tables are written as a longtable that breaks across pages
@@ -606,9 +607,10 @@ def write_xlsx(df, path: str | Path, caption: str, notes: Iterable[str] = ()) ->
     for column in columns:
         unit = split_unit(column.name)[1]
         legend.append([human_header(column.name, "xlsx"), column.name, unit.text if unit else None])
-    with atomic_open(path, "wb") as handle:
-        workbook.save(handle)
-    return Path(path)
+    # built in memory, then written: a failed disk write must not leave openpyxl's zip archive open on a closed file
+    buffer = io.BytesIO()
+    workbook.save(buffer)
+    return atomic_write(path, buffer.getvalue())
 
 
 #: the row of the typeset headers in the "table" sheet (row 1 caption, row 2 empty)

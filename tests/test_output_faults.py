@@ -1,0 +1,184 @@
+"""Output faults end to end: a read-only or uncreatable --out, a full disk, a file-size limit, odd file names.
+
+Each fault must end in one line on stderr naming the file, exit status 2, no traceback and no temporary
+file left behind; the retry of a failed run must not need --force. The faults are the operating system's
+own errors (errno EROFS, ENOSPC, EFBIG as POSIX defines them); the disk-full and read-only cases are
+injected by replacing os.fsync / os.open, the size limit is a real RLIMIT_FSIZE in a child process.
+"""
+
+from __future__ import annotations
+
+import errno
+import json
+import os
+import shutil
+import subprocess
+import sys
+from pathlib import Path
+
+import pytest
+
+import qcthermo
+from qcthermo.cli import main
+from qcthermo.errors import QcthermoError
+
+pytestmark = pytest.mark.usefixtures("cache_dir")
+
+
+def _run(samples: Path, out: Path, *extra: str) -> int:
+    return main(["run", str(samples / "gas"), "--out", str(out), "--jobs", "1", "--no-cache", "--quiet", *extra])
+
+
+def _one_error_line(err: str) -> str:
+    lines = [line for line in err.strip().splitlines() if not line.startswith("qcthermo run: no --reactions")]
+    assert len(lines) == 1 and "Traceback" not in err, err
+    return lines[0]
+
+
+def _temporaries(out: Path) -> list[str]:
+    return [p.name for p in out.iterdir() if p.name.endswith(".tmp")] if out.exists() else []
+
+
+@pytest.fixture
+def full_disk_after(monkeypatch):
+    """os.fsync raises ENOSPC from the n-th call on (n given to the returned function)."""
+    real = os.fsync
+
+    def arm(n: int) -> None:
+        calls = []
+
+        def fsync(fd):
+            calls.append(fd)
+            if len(calls) >= n:
+                raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+            return real(fd)
+
+        monkeypatch.setattr(os, "fsync", fsync)
+
+    yield arm
+    monkeypatch.setattr(os, "fsync", real)
+
+
+def test_full_disk_is_one_line_naming_the_file_and_the_retry_needs_no_force(samples, tmp_path, capsys, monkeypatch,
+                                                                           full_disk_after):
+    out = tmp_path / "out"
+    full_disk_after(3)  # survey.csv and the first species table written, the third file fails
+    assert _run(samples, out) == 2
+    line = _one_error_line(capsys.readouterr().err)
+    assert line.startswith("qcthermo run: error: cannot write ") and line.endswith(os.strerror(errno.ENOSPC))
+    failed = Path(line.split("cannot write ")[1].split(": ")[0])
+    assert failed.parent == out and not failed.exists()  # no partial file
+    assert _temporaries(out) == [] and not (out / "run.json").exists()
+    monkeypatch.undo()  # the disk has room again: the retry refills the killed run's folder without --force
+    assert _run(samples, out) == 0
+    assert json.loads((out / "run.json").read_text())["tool"] == "qcthermo" and _temporaries(out) == []
+
+
+def test_full_disk_from_the_python_api_raises_a_one_line_error(sample_run, tmp_path, full_disk_after):
+    full_disk_after(1)
+    with pytest.raises(QcthermoError, match=r"cannot write .*survey\.csv: No space left on device") as err:
+        sample_run.write(tmp_path / "api")
+    assert "\n" not in str(err.value) and _temporaries(tmp_path / "api") == []
+
+
+def test_read_only_output_folder(samples, tmp_path, capsys, monkeypatch):
+    out = tmp_path / "readonly"
+    out.mkdir()
+    real_open = os.open
+
+    def read_only_open(path, flags, *args):  # the folder as on a file system mounted read-only
+        if Path(os.fsdecode(path)).parent == out and flags & os.O_CREAT:
+            raise OSError(errno.EROFS, os.strerror(errno.EROFS), os.fsdecode(path))
+        return real_open(path, flags, *args)
+
+    monkeypatch.setattr(os, "open", read_only_open)
+    assert _run(samples, out) == 2
+    line = _one_error_line(capsys.readouterr().err)
+    assert f"cannot write {out / 'survey.csv'}: {os.strerror(errno.EROFS)}" in line
+    assert list(out.iterdir()) == []
+
+
+def test_output_folder_that_cannot_be_created(samples, tmp_path, capsys):
+    if not Path("/proc/self").is_dir():
+        pytest.skip("no /proc")
+    out = Path("/proc/self/qcthermo-results")  # procfs: no folder can be made there, even by root
+    assert _run(samples, out) == 2
+    assert f"cannot create {out}" in _one_error_line(capsys.readouterr().err)
+
+
+FSIZE_CHILD = """
+import resource, signal, sys
+from qcthermo.cli import main
+signal.signal(signal.SIGXFSZ, signal.SIG_IGN)  # then a write past the limit fails with EFBIG instead of killing
+resource.setrlimit(resource.RLIMIT_FSIZE, (int(sys.argv[1]), int(sys.argv[1])))
+sys.exit(main(sys.argv[2:]))
+"""
+
+
+def test_file_size_limit_is_one_line_and_leaves_no_partial_file(samples, tmp_path):
+    pytest.importorskip("resource")
+    out = tmp_path / "out"
+    limit = 2_000  # bytes: more than survey.csv (1.3 kB), less than species.csv (2.6 kB), the next file written
+    proc = subprocess.run([sys.executable, "-c", FSIZE_CHILD, str(limit), "run", str(samples / "gas"), "--out",
+                           str(out), "--jobs", "1", "--no-cache", "--quiet"], capture_output=True, text=True,
+                          timeout=300)
+    assert proc.returncode == 2, proc.stderr
+    line = _one_error_line(proc.stderr)
+    assert f"cannot write {out / 'species.csv'}: " in line and line.endswith(os.strerror(errno.EFBIG))
+    assert _temporaries(out) == [] and all(p.stat().st_size <= limit for p in out.iterdir())
+
+
+def test_a_users_folder_is_still_protected(samples, tmp_path, capsys):
+    out = tmp_path / "thesis"
+    out.mkdir()
+    (out / "species.csv").write_text("my own table")
+    (out / "chapter.tex").write_text("mine")
+    assert _run(samples, out) == 2
+    assert "--force" in _one_error_line(capsys.readouterr().err)
+    assert (out / "species.csv").read_text() == "my own table"
+
+
+@pytest.fixture
+def odd_logs(samples, tmp_path) -> Path:
+    """Real NWChem outputs (sample_outputs/gas) under odd names, and a non-log among them."""
+    root = tmp_path / "odd"
+    (root / "a[").mkdir(parents=True)
+    shutil.copy(samples / "gas" / "hcn.out", root / "b[1].out")
+    shutil.copy(samples / "gas" / "hnc.out", root / "[bold]x.log")
+    (root / "a[" / "red].out").write_text("not a log\n")
+    try:
+        shutil.copy(samples / "gas" / "ts_hcn.out", os.path.join(os.fsencode(root), b"caf\xe9.out"))
+    except OSError:
+        pytest.skip("this file system refuses a file name that is not UTF-8")
+    return root
+
+
+def test_run_with_odd_file_names_writes_and_summarises_them_as_named(odd_logs, tmp_path, capsys):
+    import openpyxl
+
+    out = tmp_path / "out"
+    assert main(["run", str(odd_logs), "--out", str(out), "--jobs", "1"]) == 1  # one file is not a log
+    captured = capsys.readouterr()
+    # the finding names the file verbatim: markup characters are not taken as styles
+    assert f"error: {odd_logs / 'a[/red].out'}: not a quantum-chemistry log" in captured.out
+
+    def refuse(token):  # RFC 8259 section 6: NaN and Infinity are not JSON numbers
+        raise ValueError(token)
+
+    doc = json.loads((out / "run.json").read_text(encoding="utf-8"), parse_constant=refuse)
+    conformers = [c["path"] for s in doc["species"].values() for c in s["conformers"]]
+    # PEP 383: the byte 0xE9 of the name, shown as \xe9 as in a Python bytes literal
+    assert sorted(Path(p).name for p in conformers) == ["[bold]x.log", "b[1].out", "caf\\xe9.out"]
+    sheet = openpyxl.load_workbook(out / "species.xlsx")["table"]  # a valid workbook (no lone surrogates)
+    assert any("caf\\xe9" in str(cell.value) for row in sheet.iter_rows() for cell in row)
+    assert "caf\\xe9.out" in (out / "survey.csv").read_text(encoding="utf-8")
+
+
+def test_run_json_is_strict(sample_run, tmp_path):
+    def refuse(token):  # RFC 8259 section 6
+        raise ValueError(f"non-standard JSON token {token}")
+
+    sample_run.write(tmp_path / "out")
+    doc = json.loads((tmp_path / "out" / "run.json").read_text(), parse_constant=refuse)
+    assert doc["tool"] == "qcthermo"
+    assert qcthermo.__version__ == doc["version"]
