@@ -1,0 +1,231 @@
+"""Damaged real logs give a one-line LogReadError (or a record that is still right), never a wrong record.
+
+Each test damages a real log (sample_outputs/ or the third-party folder) in the test's own folder, the way
+a transfer, an editor or a shell redirection does, and checks the reason. The references are what the
+logs themselves print (their atom counts, energies, multiplicities) and facts of the trade (3N-6 modes).
+"""
+
+from __future__ import annotations
+
+import bz2
+import gzip
+import lzma
+import re
+from pathlib import Path
+
+import numpy as np
+import pytest
+from log_text import last_printed
+
+import qcthermo
+from qcthermo.errors import ThermoError
+from qcthermo.readers import checks
+from qcthermo.records import Conditions, Molecule
+
+
+def replace_last(text: str, old: str, new: str) -> str:
+    """``text`` with the last occurrence of ``old`` replaced (the final block is the one read)."""
+    at = text.rindex(old)
+    return text[:at] + new + text[at + len(old) :]
+
+
+def write(tmp_path: Path, name: str, text: str) -> Path:
+    path = tmp_path / name
+    path.write_text(text)
+    return path
+
+
+def refused(path: Path, reason: str) -> str:
+    with pytest.raises(qcthermo.LogReadError, match=reason) as err:
+        qcthermo.read_log(path)
+    assert "\n" not in str(err.value)
+    return str(err.value)
+
+
+# ------------------------------------------------------------------ a bad row in the last geometry block
+
+
+def test_nwchem_hcn_with_a_bad_row_is_not_read_as_a_smaller_molecule(samples, tmp_path):
+    text = (samples / "gas" / "hcn.out").read_text()
+    # printed in the log: "No. of atoms : 3" and three rows in every "Output coordinates" block
+    assert set(re.findall(r"No\. of atoms\s+:\s+(\d+)", text)) == {"3"}
+    row = re.findall(r"^\s+2 C\s+6\.0000 .*$", text, re.M)[-1]
+    cut = row[: row.index("6.0000") + 6]  # the row's coordinates lost: the block seems to end before it
+    damaged = write(tmp_path, "hcn.out", replace_last(text, row, cut))
+    refused(damaged, "final geometry has 1 atoms but the log states 3")
+    dropped = write(tmp_path, "hcn_dropped.out", replace_last(text, row + "\n", ""))
+    refused(dropped, "final geometry has 2 atoms")
+
+
+def test_orca6_bad_row_in_the_last_geometry_block(third_party, tmp_path):
+    text = (third_party / "orca6.0" / "dvb_ir.out").read_text()
+    # printed: "Number of atoms ... 20" (third-party README: dvb has 20 atoms)
+    row = "  C      1.415253   -0.230222    0.000000\n"
+    assert row in text
+    refused(write(tmp_path, "dvb.out", replace_last(text, row, "  C      1.415253   -0.23O222\n")), "has 1 atoms")
+
+
+def test_gaussian_row_lost_from_the_standard_orientation(third_party, tmp_path):
+    text = (third_party / "gaussian16" / "water_hf_solvent_smd.log").read_text()
+    row = "      3          1           0       -0.000000   -0.790650   -0.476640\n"
+    assert row in text  # printed: NAtoms= 3, water
+    refused(write(tmp_path, "water.log", replace_last(text, row, "")), "2 atoms but the log states 3")
+
+
+def test_qchem_rows_lost_are_not_made_up_by_dropping_modes(third_party, tmp_path):
+    # Q-Chem prints 54 = 3N-6 modes for dvb (20 atoms, README); with two rows lost 54 = 3 x 18, which a
+    # removal "by count" would have fitted by dropping six real vibrations; the input echo has 20 rows
+    text = (third_party / "qchem5.4" / "dvb_ir.out").read_text()
+    block = text[text.index("Standard Nuclear Orientation") :]
+    rows = re.findall(r"^\s+[12]\s+C\s.*\n", block, re.M)[:2]
+    damaged = text.replace(rows[0] + rows[1], "", 1)
+    refused(write(tmp_path, "dvb.out", damaged), "18 atoms but another geometry block of the log has 20")
+
+
+def test_xtb_damaged_final_structure_is_not_an_unknown_geometry(samples, tmp_path):
+    # xTB prints the optimised structure as an xyz block whose first line is the atom count (17, pentane)
+    text = (samples / "conformers" / "pentane_tt.out").read_text()
+    row = re.findall(r"^H\s+3\.99334617134915.*\n", text, re.M)[-1]
+    damaged = write(tmp_path, "pentane.out", replace_last(text, row, ""))
+    with pytest.raises(qcthermo.LogReadError):
+        qcthermo.read_log(damaged)
+
+
+def test_frequencies_for_another_atom_count_are_refused_not_trimmed():
+    # 3N-6 or 3N-5 vibrations, or all 3N modes when the program lists the rigid-body ones (common practice)
+    assert checks.frequency_problem(np.ones(54), 20, 54, all_modes=False) is None
+    assert checks.frequency_problem(np.ones(60), 20, 54, all_modes=True) is None
+    assert checks.frequency_problem(np.ones(40), 20, 54, all_modes=True) is None  # cut short: dropped with a note
+    assert "54 frequencies printed for 18 atoms" in checks.frequency_problem(np.ones(54), 18, 48, all_modes=False)
+    assert checks.frequency_problem(np.ones(9), 1, 0, all_modes=True)  # HCN's 9 modes read for an "H"
+
+
+# -------------------------------------------------------------------------- two jobs in one file
+
+
+def test_two_nwchem_logs_of_different_molecules_are_refused(samples, tmp_path):
+    text = (samples / "gas" / "ch4.out").read_text() + (samples / "sp" / "water_mp2.out").read_text()
+    refused(write(tmp_path, "both.out", text), r"2 nwchem runs in one file for different molecules \(CH4, H2O\)")
+
+
+def test_the_same_nwchem_run_twice_gives_the_last_with_a_note(samples, tmp_path):
+    hcn = samples / "gas" / "hcn.out"
+    calc = qcthermo.read_log(write(tmp_path, "twice.out", hcn.read_text() * 2))
+    # printed in hcn.out: its last "Total DFT energy"; HCN is linear: 3N-5 = 4 modes
+    assert calc.energy == pytest.approx(last_printed(hcn, r"Total DFT energy =\s+(-?\d+\.\d+)"), abs=1e-9)
+    assert calc.formula == "CHN" and calc.frequencies.size == 4
+    assert any("2 nwchem runs in one file" in n and "run 2" in n for n in calc.notes)
+
+
+def test_two_gaussian_logs_of_different_molecules_are_refused(third_party, tmp_path):
+    text = (third_party / "gaussian16" / "dvb_ir.out").read_text()
+    text += (third_party / "gaussian16" / "water_hf_solvent_smd.log").read_text()
+    refused(write(tmp_path, "both.log", text), r"different molecules \(C10H10, H2O\)")
+
+
+def test_gaussian_link1_steps_stay_one_job(third_party, tmp_path):
+    # A "--Link1--" job: the second step follows "Link1: Proceeding to internal job step number 2." with no
+    # new "Entering Gaussian System" (one process). Built from the real optimisation and frequency logs.
+    opt = (third_party / "gaussian16" / "dvb_gopt.out").read_text()
+    freq = (third_party / "gaussian16" / "dvb_ir.out").read_text()
+    step2 = freq[freq.index("\n", freq.index("Entering Gaussian System")) + 1 :]
+    link1 = opt + " Link1:  Proceeding to internal job step number  2.\n" + step2
+    calc = qcthermo.read_log(write(tmp_path, "opt_freq.log", link1))
+    assert calc.frequencies.size == 54  # README: 54 real modes
+    assert not any("runs in one file" in n for n in calc.notes)
+    assert {"optimization", "frequencies"} <= calc.job_types
+
+
+# ------------------------------------------------------------- impossible values read from the file
+
+
+@pytest.mark.parametrize("mult, reason", [("0", "multiplicity 0 is impossible"), ("2", "parity impossible"),
+                                          ("99", "multiplicity 99 is impossible with 70 electrons")])
+def test_orca_impossible_multiplicity(third_party, tmp_path, mult, reason):
+    # dvb, C10H10: 70 electrons (6 x 10 + 10), neutral: an odd multiplicity up to 71
+    text = (third_party / "orca6.0" / "dvb_ir.out").read_text()
+    line = "Multiplicity           Mult            ....    1"
+    refused(write(tmp_path, "dvb.out", replace_last(text, line, line[:-1] + mult)), reason)
+
+
+def test_energy_exactly_zero_is_refused(third_party, tmp_path):
+    text = (third_party / "orca6.0" / "dvb_ir.out").read_text()
+    damaged = replace_last(text, "FINAL SINGLE POINT ENERGY      -382.055107107616", "FINAL SINGLE POINT ENERGY 0.0")
+    refused(write(tmp_path, "dvb.out", damaged), "final energy reads 0.0")
+
+
+@pytest.mark.parametrize("value", ["nan", "inf", "0.00"])
+def test_nwchem_non_finite_or_zero_frequency(samples, tmp_path, value):
+    # printed: hcn.out's projected frequencies end "766.48 2213.73 3480.91"
+    text = (samples / "gas" / "hcn.out").read_text()
+    line = "P.Frequency      766.48     2213.73     3480.91"
+    damaged = replace_last(text, line, line.replace("2213.73", value))
+    reason = "zero among the vibrations" if value == "0.00" else "not a finite number"
+    refused(write(tmp_path, "hcn.out", damaged), reason)
+
+
+@pytest.mark.parametrize("value, reason", [("nan", "not a finite number"), ("-0.230222", "lie within 0.2 A")])
+def test_orca_non_finite_or_coincident_coordinates(third_party, tmp_path, value, reason):
+    # the first two carbons of dvb are printed at (-1.415253, 0.230222, 0) and (1.415253, -0.230222, 0):
+    # moving the first onto the second leaves the atom count right and two nuclei on one spot
+    text = (third_party / "orca6.0" / "dvb_ir.out").read_text()
+    row = "  C     -1.415253    0.230222    0.000000\n"
+    new = f"  C      1.415253   {value}    0.000000\n" if value != "nan" else "  C     nan    0.230222    0.000000\n"
+    refused(write(tmp_path, "dvb.out", replace_last(text, row, new)), reason)
+
+
+def test_nwchem_ghost_atom_is_refused(samples, tmp_path):
+    # a nuclear charge of 0 is NWChem's dummy/ghost ("Bq") atom
+    text = (samples / "gas" / "ch4.out").read_text()
+    row = re.findall(r"^\s+2 H\s+1\.0000 .*$", text, re.M)[-1]
+    damaged = write(tmp_path, "ch4.out", replace_last(text, row, row.replace(" H ", " Bq").replace("1.0000", "0.0000")))
+    refused(damaged, r"dummy or ghost atoms \(X\)")
+
+
+def test_gaussian_atomic_number_zero_is_refused(third_party, tmp_path):
+    text = (third_party / "gaussian16" / "water_hf_solvent_smd.log").read_text()
+    row = "      3          1           0       -0.000000   -0.790650   -0.476640\n"
+    damaged = text.replace(row, row.replace("          1   ", "          0   "))
+    # cclib 1.8.1 itself raises on an atomic number 0 in this log; either way, a one-line reason
+    refused(write(tmp_path, "water.log", damaged), "dummy or ghost atoms|cclib failed")
+
+
+def test_thermochemistry_never_returns_a_non_finite_g(samples):
+    # a vibration of exactly 0 cm^-1: the harmonic-oscillator entropy k[x/(e^x-1) - ln(1-e^-x)] diverges as
+    # x = h c nu / kT -> 0 (McQuarrie, Statistical Mechanics, ch. 8; from memory): RRHO must refuse it
+    from qcthermo.thermo import thermochemistry
+
+    calc = qcthermo.read_log(samples / "gas" / "water.out")
+    freqs = calc.frequencies.copy()
+    freqs[0] = 0.0
+    molecule = Molecule.from_calculation(calc, frequencies=freqs)
+    with pytest.raises(ThermoError) as err:
+        thermochemistry(molecule, Conditions(low_mode_model="rrho"))
+    assert "\n" not in str(err.value)
+
+
+# ------------------------------------------------------------------------------- compressed files
+
+
+def test_compressed_logs_read_the_same_and_damaged_archives_are_refused(samples, tmp_path):
+    source = samples / "gas" / "h2.out"
+    raw = source.read_bytes()
+    plain = qcthermo.read_log(source)
+    for name, data in (("h2.out.gz", gzip.compress(raw)), ("h2.out.bz2", bz2.compress(raw)),
+                       ("h2.out.xz", lzma.compress(raw))):
+        (tmp_path / name).write_bytes(data)
+        assert qcthermo.read_log(tmp_path / name).energy == plain.energy, name
+        (tmp_path / ("cut_" + name)).write_bytes(data[: len(data) // 2])
+        refused(tmp_path / ("cut_" + name), "damaged (gzip|bzip2|xz) file")
+    crc = bytearray(gzip.compress(raw))
+    crc[-6] ^= 0xFF  # the CRC-32 field of the gzip trailer (RFC 1952)
+    (tmp_path / "crc.out.gz").write_bytes(bytes(crc))
+    refused(tmp_path / "crc.out.gz", "damaged gzip file .*CRC")
+    corrupt = bytearray(gzip.compress(raw))
+    corrupt[40:48] = b"\xff" * 8  # inside the deflate stream
+    (tmp_path / "corrupt.out.gz").write_bytes(bytes(corrupt))
+    refused(tmp_path / "corrupt.out.gz", "damaged gzip file")
+    (tmp_path / "text.out.gz").write_bytes(raw)  # named .gz, not gzip: read as the text it is
+    assert qcthermo.read_log(tmp_path / "text.out.gz").energy == plain.energy
+    (tmp_path / "noise.out.gz").write_bytes(bytes(range(1, 256)) * 40)
+    refused(tmp_path / "noise.out.gz", "not a quantum-chemistry log")
