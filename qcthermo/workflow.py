@@ -20,6 +20,7 @@ import numpy as np
 
 from . import __version__
 from .errors import LogReadError, QcthermoError
+from .fileio import display
 from .reactions import (
     ENSEMBLE_DEFAULTS,
     ProfileSpec,
@@ -200,7 +201,7 @@ def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, Spe
     for rel, calc in sorted(survey_result.calculations.items()):
         if not calc.has_vibrations:
             continue
-        name = str(Path(rel).with_suffix(""))
+        name = display(str(Path(rel).with_suffix("")))  # a label: a file name's non-UTF-8 bytes as \xNN
         ts = is_transition_state(calc, conditions.imaginary_threshold)
         out[name] = build_species(name, [calc], conditions, SpeciesOptions(transition_state=ts))
         if ts and "saddle-search" not in calc.job_types:

@@ -144,10 +144,10 @@ def odd_logs(samples, tmp_path) -> Path:
     root = tmp_path / "odd"
     (root / "a[").mkdir(parents=True)
     shutil.copy(samples / "gas" / "hcn.out", root / "b[1].out")
-    shutil.copy(samples / "gas" / "hnc.out", root / "[bold]x.log")
+    shutil.copy(samples / "gas" / "ts_hcn.out", root / "[bold]x.log")
     (root / "a[" / "red].out").write_text("not a log\n")
     try:
-        shutil.copy(samples / "gas" / "ts_hcn.out", os.path.join(os.fsencode(root), b"caf\xe9.out"))
+        shutil.copy(samples / "gas" / "hnc.out", os.path.join(os.fsencode(root), b"caf\xe9.out"))
     except OSError:
         pytest.skip("this file system refuses a file name that is not UTF-8")
     return root
@@ -172,6 +172,22 @@ def test_run_with_odd_file_names_writes_and_summarises_them_as_named(odd_logs, t
     sheet = openpyxl.load_workbook(out / "species.xlsx")["table"]  # a valid workbook (no lone surrogates)
     assert any("caf\\xe9" in str(cell.value) for row in sheet.iter_rows() for cell in row)
     assert "caf\\xe9.out" in (out / "survey.csv").read_text(encoding="utf-8")
+    # species named after such files are labels in UTF-8: Cantera reads the NASA-7 file (YAML 1.2 takes
+    # no lone surrogate, as \udce9 would be)
+    import cantera as ct
+
+    gas = ct.Solution(str(out / "thermo.yaml"))
+    assert "caf\\xe9" in gas.species_names
+
+
+def test_init_lists_odd_file_names_so_that_they_read_back(odd_logs, tmp_path):
+    # TOML strings are Unicode (toml.io, v1.0.0): an undecodable byte is written as the glob '?', and the
+    # glob characters of a real name are escaped, so each entry matches the file it was made from
+    target = tmp_path / "starter.toml"
+    assert main(["init", str(odd_logs), "-o", str(target), "--jobs", "1", "--quiet"]) == 1  # one is no log
+    rf = qcthermo.load_reaction_file(target)
+    logs = sorted(os.fsencode(p.name) for s in rf.species.values() for p in s.logs)
+    assert logs == [b"[bold]x.log", b"b[1].out", b"caf\xe9.out"]
 
 
 def test_run_json_is_strict(sample_run, tmp_path):

@@ -10,6 +10,7 @@ example. The file parses back with :func:`qcthermo.reactions.load_reaction_file`
 from __future__ import annotations
 
 import argparse
+import glob
 import json
 import re
 from collections import defaultdict
@@ -54,8 +55,14 @@ def _species_name(paths: list[str], formula: str, taken: set[str]) -> str:
     return name
 
 
+def _glob_literal(path: str) -> str:
+    """A glob that matches ``path``: glob characters escaped ("b[1].out" is a pattern for "b1.out"), and each
+    file-name byte that is not UTF-8 (a lone surrogate, which TOML cannot hold) written as ``?``."""
+    return "".join("?" if 0xDC80 <= ord(c) <= 0xDCFF else c for c in glob.escape(path))
+
+
 def _toml_list(items: list[str]) -> str:
-    return "[" + ", ".join(json.dumps(i) for i in items) + "]"
+    return "[" + ", ".join(json.dumps(_glob_literal(i)) for i in items) + "]"
 
 
 def starter_text(survey_result, base: Path) -> str:
