@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import __version__
-from ..fileio import atomic_write
+from ..fileio import atomic_write, json_ready
 from .tables import display_cells, paper_columns
 
 #: order of the audit findings by severity; anything else comes last
@@ -99,7 +99,7 @@ def _findings_section(findings: list[tuple[str, str, str]]) -> str:
 
 def _settings_value(value: Any) -> str:
     if isinstance(value, (dict, list, tuple)):
-        return json.dumps(value, default=str, ensure_ascii=False)
+        return json.dumps(json_ready(value), ensure_ascii=False, allow_nan=False)  # as run.json has it
     return str(value)
 
 
