@@ -540,6 +540,15 @@ def _transition_state(s: SpeciesResult):
     return TransitionState(s.values["G"], s.values["E_zpe"], _symmetry_number(s), s.lowest.thermo.imaginary_frequency)
 
 
+def _double_count(reaction: ReactionSpec, ts: SpeciesResult) -> list[Finding]:
+    """A warning when the TS's mirror image is counted twice: in its G (enantiomers = 2) and, perhaps, in the
+    user's path degeneracy L (docs/kinetics.md: one or the other)."""
+    if not reaction.degeneracy or not ts.usable or not (mirror_images(ts, ts.used) > 1).any():
+        return []
+    return [Finding("warning", reaction.name, f"degeneracy = {reaction.degeneracy:g} and enantiomers = 2 on "
+                    f"{ts.name!r}: if L counts the mirror-image path, k is doubled twice (use one or the other)")]
+
+
 def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
     """Add kappa, k_forward, k_reverse, k_unit to ``results.reactions`` and the rates/Arrhenius/energy-span
     tables. The science is :func:`qcthermo.kinetics.reaction_kinetics`; this gathers its inputs from the
@@ -569,6 +578,7 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
         except ValueError as err:
             results.findings.append(Finding("warning", r.name, f"no rate constant: {err}"))
             continue
+        results.findings += _double_count(r, species[r.transition_state])
         mask = df["reaction"] == r.name
         for col in ("kappa", "k_forward", "k_reverse"):
             df.loc[mask, col] = np.atleast_1d(k[col])

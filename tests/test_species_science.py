@@ -273,6 +273,18 @@ def test_both_enantiomers_of_a_chiral_transition_state_double_k(tmp_path, sample
     assert "enantiomers = 2" in notes and "RT ln 2" in notes
 
 
+def test_a_mirror_image_in_both_the_ts_and_the_degeneracy_is_flagged(tmp_path, samples):
+    # docs/kinetics.md: the mirror-image path is counted by enantiomers = 2 or by L, never both
+    text = HYDRATION.format(s=samples.as_posix(), extra="enantiomers = 2")
+    path = tmp_path / "both.toml"
+    path.write_text(text.replace('products = ["methanediol"]', 'products = ["methanediol"]\ndegeneracy = 2'))
+    res = qcthermo.run(samples / "solvent", reactions=path, jobs=1, cache=False)
+    assert [f.severity for f in res.findings if f.subject == "hydration" and "doubled twice" in f.message] == [
+        "warning"]
+    alone = _hydration(tmp_path, samples, "enantiomers = 2")
+    assert not any("doubled twice" in f.message for f in alone.findings)
+
+
 def test_enantiomers_of_an_achiral_species_change_nothing_and_say_so(samples):
     # water is C2v, its own mirror image: enantiomers = 2 would be a wrong -RT ln 2
     calc = qcthermo.read_log(samples / "gas" / "water.out")
