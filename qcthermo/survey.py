@@ -39,7 +39,8 @@ from .records import JOB_TYPES, Calculation
 
 #: file names (case-insensitive endings) read as logs; the reader undoes gzip itself
 LOG_SUFFIXES = (".out", ".log", ".output", ".nwo")
-CANDIDATE_SUFFIXES = LOG_SUFFIXES + tuple(s + ".gz" for s in LOG_SUFFIXES)
+#: compressed logs: the reader recognises gzip, bzip2 and xz by their content (readers/source.py)
+CANDIDATE_SUFFIXES = LOG_SUFFIXES + tuple(s + c for s in LOG_SUFFIXES for c in (".gz", ".bz2", ".xz"))
 #: directory names never entered (besides hidden ones and virtual environments)
 SKIPPED_DIRS = frozenset({"__pycache__", "node_modules", "site-packages"})
 #: columns of the survey table (DESIGN.md section 4)

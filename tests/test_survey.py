@@ -81,6 +81,23 @@ def test_candidates_by_suffix_skipping_hidden_venv_and_cache_dirs(tmp_path):
     assert found[0].key.path == str(root / "B.LOG") and found[0].key.size == 1
 
 
+def test_compressed_logs_are_surveyed_as_the_plain_one(tmp_path, samples, cache_dir):
+    # one real NWChem log gzipped, bzip2- and xz-compressed (Python's own codecs): each reads as the plain file
+    import bz2
+    import lzma
+
+    text = (samples / "gas" / "water.out").read_bytes()
+    root = tmp_path / "packed"
+    root.mkdir()
+    for suffix, pack in ((".gz", gzip.compress), (".bz2", bz2.compress), (".xz", lzma.compress)):
+        (root / f"water.out{suffix}").write_bytes(pack(text))
+    result = survey(root, jobs=1)
+    plain = qcthermo.read_log(samples / "gas" / "water.out")
+    assert sorted(result.calculations) == ["water.out.bz2", "water.out.gz", "water.out.xz"]
+    for calc in result.calculations.values():
+        assert calc.energy == plain.energy and np.array_equal(calc.frequencies, plain.frequencies)
+
+
 def test_symlink_loops_end_and_linked_directories_are_entered_once(tmp_path):
     root = tmp_path / "tree"
     (root / "a").mkdir(parents=True)
