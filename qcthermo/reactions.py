@@ -1,4 +1,4 @@
-"""The reaction file (TOML, DESIGN.md section 5) and reaction energetics.
+"""The reaction file (TOML, docs/reactions.md) and reaction energetics.
 
 :func:`load_reaction_file` reads and validates a reaction file into a :class:`ReactionFile`; every
 problem is a :class:`~qcthermo.errors.ReactionFileError` naming the file, the line and the item.

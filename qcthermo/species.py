@@ -178,8 +178,8 @@ def audit_calculation(calc: Calculation, transition_state: bool, imaginary_thres
     excepted), a transition state without an imaginary mode, an imaginary mode larger than
     ``imaginary_threshold`` (cm^-1) on a minimum, or besides the reaction mode (the largest) on a
     transition state, unless ``policy`` ("invert" | "drop") was chosen for it. Warning: small such
-    modes (the engine's policy deals with them and says so), as DESIGN.md section 6 asks for both kinds
-    of structure.
+    modes (the engine's policy deals with them and says so), for both kinds of structure
+    (docs/thermo.md, "Mode clean-up").
     """
     found: list[Finding] = []
 

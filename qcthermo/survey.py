@@ -43,7 +43,7 @@ LOG_SUFFIXES = (".out", ".log", ".output", ".nwo")
 CANDIDATE_SUFFIXES = LOG_SUFFIXES + tuple(s + c for s in LOG_SUFFIXES for c in (".gz", ".bz2", ".xz"))
 #: directory names never entered (besides hidden ones and virtual environments)
 SKIPPED_DIRS = frozenset({"__pycache__", "node_modules", "site-packages"})
-#: columns of the survey table (DESIGN.md section 4)
+#: columns of the survey table (docs/survey.md, "Columns")
 COLUMNS = (
     "path", "program", "program_version", "job_types", "method", "basis", "solvent_model", "charge",
     "multiplicity", "formula", "natoms", "E_elec_Eh", "lowest_frequency_cm1", "n_imaginary",

@@ -529,7 +529,7 @@ def _slice(prepared: PreparedMolecules, rows: slice) -> PreparedMolecules:
 
 
 def thermochemistry(molecule: Molecule, conditions: Conditions | None = None) -> ThermoResult:
-    """Thermochemistry of one molecule (DESIGN.md section 3); raises ThermoError with a one-line reason."""
+    """Thermochemistry of one molecule (the public API, README.md); raises ThermoError with a one-line reason."""
     conditions = conditions or Conditions()
     # the usual slip in a notebook is to pass what read_log returned; say how to get a Molecule from it
     if not isinstance(molecule, Molecule):

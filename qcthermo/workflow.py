@@ -1,9 +1,9 @@
 """The main job in one call: survey, species, reactions, profiles, kinetics and every export.
 
 ``qcthermo.run(directory, reactions="reactions.toml")`` returns a :class:`RunResults`; its
-:meth:`RunResults.write` writes the files of DESIGN.md section 4. The decisions (which conformer
-values are averaged, how a species' own concentration enters, when a reaction is excluded) are in
-docs/reactions.md.
+:meth:`RunResults.write` writes the files listed in docs/reactions.md, "Outputs". The decisions (which
+conformer values are averaged, how a species' own concentration enters, when a reaction is excluded) are
+there too.
 """
 
 from __future__ import annotations

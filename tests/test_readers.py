@@ -150,7 +150,7 @@ def test_projected_zero_modes_removed(third_party, name):
 
 
 def test_small_real_imaginary_mode_survives_zero_mode_removal(third_party):
-    # DESIGN.md section 9: removing by smallest |nu| would drop a real small imaginary mode. NWChem's
+    # docs/readers.md: removing by smallest |nu| would drop a real small imaginary mode. NWChem's
     # projected list of dvb, with its lowest vibration turned imaginary (a soft mode of a nearly flat
     # minimum), keeps it, because the projected rigid-body modes are the exact zeros
     calc = qcthermo.read_log(third_party / "nwchem7.0/dvb_ir.out")
@@ -249,7 +249,7 @@ def test_bad_files_raise_log_read_error_only(tmp_path, content, reason):
     path.write_bytes(content)
     with pytest.raises(qcthermo.LogReadError, match=reason) as info:
         qcthermo.read_log(path)
-    assert isinstance(info.value, ValueError)  # DESIGN.md section 3: a ValueError
+    assert isinstance(info.value, ValueError)  # docs/readers.md: LogReadError is a ValueError
 
 
 def test_missing_file_and_directory(tmp_path):

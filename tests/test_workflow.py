@@ -116,7 +116,7 @@ def test_reaction_recomputed_by_hand_from_species_values(results):
 
 def test_standard_state_shift_of_a_reaction(tmp_path, samples):
     # 1 atm -> 1 M: (n_products - n_reactants) x RT ln(24.465) = 1.894 kcal/mol per species at 298.15 K
-    # (common practice; DESIGN.md section 6).
+    # (common practice).
     atm = _run(tmp_path, samples, state="1atm")
     molar = _run(tmp_path, samples, state="1M")
     shift = _reaction(molar, "recombination", "dG_qrrho_kcal_mol") - _reaction(atm, "recombination",
@@ -232,8 +232,9 @@ def test_without_reaction_file_one_species_per_frequency_log(samples):
 
 
 def test_composite_energy_high_on_low(third_party):
-    # G = E(high) + [G - E](low), the composite "high//low" scheme (DESIGN.md section 6). The Gaussian 16
-    # dvb single point was run on the frequency job's geometry (both print the same final energy, README).
+    # G = E(high) + [G - E](low), the composite "high//low" scheme (docs/reactions.md, "Composite energies").
+    # The Gaussian 16 dvb single point was run on the frequency job's geometry (both print the same final
+    # energy, README).
     from qcthermo.species import build_species
 
     freq = qcthermo.read_log(third_party / "gaussian16" / "dvb_ir.out")
@@ -400,7 +401,7 @@ def test_paper_tables_keep_the_papers_columns_and_csv_keeps_all(scenario, tmp_pa
         header = next(line for line in (out / f"{stem}.md").read_text().splitlines() if line.startswith("| "))
         assert header.count(" | ") + 1 == len(columns) < len(df.columns)
     reactions = paper_columns(scenario.reactions, "reactions")
-    # RRHO and the chosen model side by side (DESIGN.md section 6); one reverse barrier, the model's
+    # RRHO and the chosen model side by side (docs/tables.md); one reverse barrier, the model's
     model = scenario.conditions.low_mode_model.replace("-", "_")
     assert {"dG_kcal_mol", f"dG_{model}_kcal_mol", f"dG_{model}_act_kcal_mol"} <= set(reactions)
     assert [c for c in reactions if "_rev_" in c] == [f"dG_{model}_act_rev_kcal_mol"]

@@ -38,7 +38,7 @@ def vibrational_modes(frequencies, symbols, coordinates, projected: bool) -> tup
 
     With ``projected`` (NWChem's "P.Frequency", xTB, ORCA), the program has projected the six (five)
     rigid-body motions out and prints them as exact zeros: those are removed, and nothing is chosen by
-    size, so a real small imaginary mode survives (DESIGN.md section 9). Without projection the
+    size, so a real small imaginary mode survives (docs/readers.md). Without projection the
     extra entries are removed by the known count, smallest |nu| first, and the note says so.
     """
     freqs = np.asarray(frequencies, dtype=float).ravel()
