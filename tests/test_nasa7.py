@@ -3,6 +3,7 @@
 import html
 from pathlib import Path
 
+import cantera as ct  # a test dependency (pyproject.toml): missing is a failure, not a skip
 import numpy as np
 import pytest
 
@@ -19,8 +20,6 @@ from qcthermo.export.nasa7 import (
 )
 from qcthermo.records import Conditions, Molecule
 from qcthermo.units import HARTREE_J, N_A, entropy_to_j_mol_k
-
-ct = pytest.importorskip("cantera")
 
 GAS = Path(__file__).resolve().parent.parent / "sample_outputs" / "gas"
 T20 = np.linspace(300.0, 3000.0, 20)

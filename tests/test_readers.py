@@ -291,10 +291,7 @@ def test_importing_the_readers_does_not_import_cclib():
 
 
 def sample(samples: Path, name: str) -> Path:
-    path = samples / name
-    if not path.is_file():
-        pytest.skip(f"sample_outputs/{name} is not there yet")
-    return path
+    return samples / name  # committed with the project: a missing file fails the test that reads it
 
 
 def test_nwchem_opt_freq_fallback_on_the_samples(samples):
@@ -352,8 +349,7 @@ def test_hydrogen_atom_has_no_vibrations(samples):
 
 def test_every_sample_log_reads(samples):
     logs = sorted(p for p in samples.rglob("*.out") if "inputs" not in p.parts)
-    if not logs:
-        pytest.skip("no sample outputs yet")
+    assert len(logs) >= 30  # sample_outputs/README.md lists 33
     for path in logs:
         try:
             calc = qcthermo.read_log(path)
@@ -364,10 +360,9 @@ def test_every_sample_log_reads(samples):
 
 
 def sample_logs(samples: Path, marker: str) -> list[Path]:
-    """Sample outputs whose text contains ``marker``; skip when there are none yet."""
+    """Sample outputs whose text contains ``marker`` (the scenario has some of each kind: none is a failure)."""
     found = [p for p in sorted(samples.rglob("*.out")) if "inputs" not in p.parts and marker in p.read_text()]
-    if not found:
-        pytest.skip(f"no sample output with {marker!r} yet")
+    assert found, f"no sample output with {marker!r}"
     return found
 
 
@@ -439,8 +434,7 @@ def test_mp2_single_points_keep_the_multiplicity_of_their_geometry_job(samples):
     # same species prints "Spin multiplicity": both must agree (O2 a triplet, CH3 and H doublets)
     pairs = [(p, samples / "gas" / p.name.replace("_mp2", "")) for p in sample_logs(samples, "Total MP2 energy")]
     pairs = [(sp, gas) for sp, gas in pairs if gas.is_file()]
-    if not pairs:
-        pytest.skip("no MP2 single point with its gas-phase job yet")
+    assert len(pairs) >= 3  # O2, CH3 and H at least (sample_outputs/README.md)
     for sp, gas in pairs:
         printed = int(re.findall(r"Spin multiplicity:\s+(\d+)", gas.read_text())[-1])
         assert qcthermo.read_log(sp).multiplicity == printed, sp

@@ -102,8 +102,6 @@ def test_init_writes_a_file_that_parses_back(tmp_path, samples, capsys):
 
 
 def test_demo_runs_on_the_sample_scenario(tmp_path, samples, capsys):
-    if not (samples / "reactions.toml").is_file():
-        pytest.skip("sample_outputs/reactions.toml is not in this tree")
     status = main(["demo", "--out", str(tmp_path / "demo"), "--force", "--no-cache", "--quiet"])
     assert status in (0, 1)  # 1: the scenario's planted flaws are input errors, listed
     out = capsys.readouterr().out

@@ -261,7 +261,6 @@ def test_command_writes_csv_and_json_and_never_overwrites_without_force(xyz_tree
 
 @pytest.fixture
 def real_tree(third_party, tmp_path) -> Path:
-    pytest.importorskip("qcthermo.readers")
     root = tmp_path / "real"
     root.mkdir()
     for rel in ("gaussian16/dvb_ir.out", "gaussian16/dvb_gopt.out", "gamess-us2018/nh3_ts_ir.out",

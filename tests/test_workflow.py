@@ -306,8 +306,6 @@ def scenario(tmp_path_factory):
     """The bundled scenario run with its own reaction file (sample_outputs/README.md describes it)."""
     from conftest import SAMPLES
 
-    if not (SAMPLES / "reactions.toml").is_file():
-        pytest.skip("sample_outputs/reactions.toml is not in this tree")
     return qcthermo.run(SAMPLES, reactions=SAMPLES / "reactions.toml", jobs=1, cache=False)
 
 
