@@ -29,7 +29,7 @@ DISPLAY_ERRORS = "qcthermo-display"
 RUN_OUTPUTS = (
     "run.json", "survey.csv", "species.*", "reactions.*", "rates.csv", "arrhenius.csv", "energy_span.csv",
     "coordinates.xyz", "thermo.yaml", "thermo.dat", "profile*.svg", "profile*.png", "profile*.pdf",
-    "si.md", "si.tex", "report.html",
+    "dG_T.svg", "arrhenius.svg", "si.md", "si.tex", "report.html",
 )
 #: temporary files of :func:`atomic_open`: ``.<name>.<pid>-<16 hex>.tmp``
 _TMP = re.compile(r"^\..+\.(\d+)-[0-9a-f]{16}\.tmp$")
@@ -177,6 +177,37 @@ def holds_only_run_outputs(out: Path) -> bool:
         if not ours:
             return False
     return not (out / "run.json").exists() or written_by_qcthermo(out / "run.json")
+
+
+def _run_named(name: str) -> bool:
+    return "/" not in name and any(fnmatch.fnmatchcase(name, p) for p in RUN_OUTPUTS)
+
+
+def earlier_run_outputs(out: str | os.PathLike) -> set[str]:
+    """Names of the files an earlier run left in ``out``: those its run.json lists, or, without run.json
+    (a killed run), every file of a directory that holds nothing but run outputs. A user's own files are
+    never among them, also in a folder written with --force."""
+    out = Path(out)
+    if written_by_qcthermo(out / "run.json"):
+        listed = json.loads((out / "run.json").read_text(encoding="utf-8")).get("files")
+        names = {n for n in listed if isinstance(n, str)} if isinstance(listed, list) else set()
+        return {n for n in names | {"run.json"} if _run_named(n)}
+    if out.is_dir() and holds_only_run_outputs(out):
+        return {p.name for p in out.iterdir() if p.is_file() and _run_named(p.name)}
+    return set()
+
+
+def remove_outputs(out: str | os.PathLike, names: set[str]) -> None:
+    """Delete the files ``names`` of ``out`` (an earlier run's that this run did not write again: a rates.csv
+    of a temperature range, a figure of a profile since renamed), so no file contradicts the new run.json."""
+    for path in (Path(out) / name for name in sorted(names)):
+        try:
+            path.unlink()
+        except FileNotFoundError:
+            continue
+        except OSError as err:
+            raise QcthermoError(f"cannot remove {display(str(path))} of an earlier run: "
+                                f"{err.strerror or type(err).__name__}") from None
 
 
 def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:

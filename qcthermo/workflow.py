@@ -125,10 +125,13 @@ class RunResults:
 
     def write(self, out: str | Path, force: bool = False) -> list[Path]:
         """Write every export into ``out`` (atomically, never over a user's files without ``force``)."""
-        from .fileio import prepare_output_dir
+        from .fileio import earlier_run_outputs, prepare_output_dir, remove_outputs
 
+        earlier = earlier_run_outputs(out)
         out_dir = prepare_output_dir(out, force=force)
-        return _write_all(self, out_dir)
+        written = _write_all(self, out_dir)
+        remove_outputs(out_dir, earlier - {p.name for p in written})  # nothing left that contradicts run.json
+        return written
 
 
 # -- building the run --------------------------------------------------------------------------------

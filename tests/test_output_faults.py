@@ -198,3 +198,28 @@ def test_run_json_is_strict(sample_run, tmp_path):
     doc = json.loads((tmp_path / "out" / "run.json").read_text(), parse_constant=refuse)
     assert doc["tool"] == "qcthermo"
     assert qcthermo.__version__ == doc["version"]
+
+
+def test_a_rerun_removes_the_files_of_an_earlier_run_it_does_not_write(samples, isomerisation_file, tmp_path):
+    # docs/survey.md "Output files": after a run, --out holds its run.json and the files listed there, no file of
+    # an earlier run (a temperature range's rates.csv beside a one-temperature reactions.csv would contradict it)
+    out = tmp_path / "out"
+    reactions = ["--reactions", str(isomerisation_file)]
+    assert _run(samples, out, *reactions, "--temperature-range", "250:350:50") == 0
+    assert {"rates.csv", "arrhenius.csv", "dG_T.svg", "arrhenius.svg"} <= {p.name for p in out.iterdir()}
+    (out / "notes.txt").write_text("mine")  # a user's file beside a run's is never removed
+    assert _run(samples, out, *reactions, "--force") == 0
+    listed = set(json.loads((out / "run.json").read_text())["files"])
+    assert {p.name for p in out.iterdir()} == listed | {"run.json", "notes.txt"}
+    assert not listed & {"rates.csv", "arrhenius.csv", "dG_T.svg", "arrhenius.svg"}
+
+
+def test_a_temperature_range_run_killed_after_its_figures_is_retried_without_force(samples, isomerisation_file,
+                                                                                   tmp_path):
+    # docs/survey.md "Output files": a folder holding only files named as a run writes them is a killed run's
+    out = tmp_path / "out"
+    reactions = ["--reactions", str(isomerisation_file)]
+    assert _run(samples, out, *reactions, "--temperature-range", "250:350:50") == 0
+    (out / "run.json").unlink()  # killed before its last step: dG_T.svg and arrhenius.svg are there, run.json not
+    assert _run(samples, out, *reactions) == 0
+    assert not (out / "dG_T.svg").exists() and json.loads((out / "run.json").read_text())["tool"] == "qcthermo"
