@@ -229,3 +229,28 @@ def test_compressed_logs_read_the_same_and_damaged_archives_are_refused(samples,
     assert qcthermo.read_log(tmp_path / "text.out.gz").energy == plain.energy
     (tmp_path / "noise.out.gz").write_bytes(bytes(range(1, 256)) * 40)
     refused(tmp_path / "noise.out.gz", "not a quantum-chemistry log")
+
+
+# ------------------------------------------------------------------------------- text encodings
+
+
+@pytest.mark.parametrize("encoding", ["utf-16", "utf-16-le", "utf-16-be", "utf-8-sig"])
+def test_utf16_and_byte_order_marked_logs_read_as_the_utf8_log(samples, tmp_path, encoding):
+    # Windows PowerShell's ">" writes a program's output as UTF-16 with a byte-order mark (Unicode's
+    # definition of UTF-16 and its BOM); with CRLF line ends, as a copy from Windows has them
+    source = samples / "gas" / "water.out"
+    text = source.read_text()
+    path = tmp_path / "water.out"
+    path.write_bytes(text.replace("\n", "\r\n").encode(encoding))
+    calc, plain = qcthermo.read_log(path), qcthermo.read_log(source)
+    assert (calc.program, calc.formula, calc.energy) == ("nwchem", "H2O", plain.energy)
+    # the last "Total DFT energy" the log prints (the frequency job's SCF, within 1e-6 Eh of the last step's)
+    assert calc.energy == pytest.approx(last_printed(source, r"Total DFT energy =\s+(-?\d+\.\d+)"), abs=1e-5)
+    assert len(calc.frequencies) == 3  # 3N - 6 = 3 vibrations of water, once the projected zeros are removed
+
+
+def test_binary_and_nul_filled_files_are_still_refused(tmp_path):
+    (tmp_path / "zeros.log").write_bytes(b"\x00" * 65536)  # a file of zeros (a preallocated, never written log)
+    refused(tmp_path / "zeros.log", "binary file")
+    (tmp_path / "odd.out").write_bytes(b"\x01\x00" * 4096)  # NUL every other byte, but no text either
+    refused(tmp_path / "odd.out", "not a quantum-chemistry log|binary")

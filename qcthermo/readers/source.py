@@ -90,9 +90,10 @@ def load(path: str | Path) -> LogSource:
     raw = _decompressed(path, raw)
     if not raw.strip():
         raise LogReadError(path, "empty file")
-    if b"\x00" in raw[:8192]:
+    encoding = _utf16(raw)
+    if encoding is None and b"\x00" in raw[:8192]:
         raise LogReadError(path, "binary file, not a text log")
-    text = raw.decode("utf-8", errors="replace")
+    text = raw.decode(encoding or "utf-8", errors="replace").removeprefix("\ufeff")
     if "\r" in text:  # logs copied from Windows: the parsers and patterns expect "\n" line ends
         text = text.replace("\r\n", "\n").replace("\r", "\n")
     return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
@@ -114,6 +115,19 @@ def _decompressed(path: str, raw: bytes) -> bytes:
             except (OSError, EOFError, ValueError, zlib.error, lzma.LZMAError) as err:
                 raise LogReadError(path, f"damaged {name} file ({err or type(err).__name__})") from None
     return raw
+
+
+def _utf16(raw: bytes) -> str | None:
+    """"utf-16" for text with a UTF-16 byte-order mark (Windows PowerShell's ``>`` writes a program's output
+    so), "utf-16-le"/"utf-16-be" for ASCII text in UTF-16 without one (every other byte NUL), else None."""
+    if raw.startswith((b"\xff\xfe", b"\xfe\xff")):
+        return "utf-16"
+    head = raw[:8192]
+    if len(head) >= 64 and len(head) % 2 == 0:
+        for order, nul, text in (("utf-16-le", head[1::2], head[0::2]), ("utf-16-be", head[0::2], head[1::2])):
+            if not nul.strip(b"\x00") and b"\x00" not in text:
+                return order
+    return None
 
 
 def sniff_program(path: str, head: str) -> str | None:
