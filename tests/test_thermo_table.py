@@ -9,6 +9,7 @@ set as in test_thermo_ase.py.
 from __future__ import annotations
 
 import json
+import re
 import shutil
 
 import ase.thermochemistry
@@ -198,6 +199,20 @@ def test_terminal_table_prints_names_verbatim_and_infinity(samples, tmp_path, ca
     out = capsys.readouterr().out
     assert "a[/red].out" in out and "[bold]o2.out" in out
     assert "D∞h" in out and "D*h" not in out
+
+
+def test_terminal_table_shows_an_unreadable_log_as_an_error_row(samples, tmp_path, cache_dir, capsys):
+    # an error row has no point group (NaN in the frame); the table on the terminal (no --quiet) prints it.
+    # The damage: the water log emptied of its energies, which the reader refuses ("no energy")
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    text = (samples / "gas" / "water.out").read_text()
+    (logs / "water.out").write_text(text)
+    (logs / "broken.out").write_text(re.sub(r"Total DFT energy =.*", "", text))
+    assert main(["thermo", str(logs), "--jobs", "1"]) == 1
+    out = capsys.readouterr().out
+    assert "broken.out" in out and "no energy" in out
+    assert "C2v" in out  # water's point group (sample_outputs/README.md), on the row of the good log
 
 
 def test_thermo_command_table(third_party, tmp_path, capsys, cache_dir):

@@ -242,7 +242,7 @@ def json_document(entries: list[Entry], cond: Conditions) -> str:
 
 def point_group_text(symbol: str | None) -> str:
     """The engine's ASCII "C*v", "D*h" as printed in books, "C∞v", "D∞h" (the terminal only; files keep ASCII)."""
-    return "" if symbol is None else symbol.replace("*", "∞")
+    return symbol.replace("*", "∞") if isinstance(symbol, str) else ""  # an error row's is NaN in the frame
 
 
 def _terminal_notes(record: dict[str, Any]) -> str:
