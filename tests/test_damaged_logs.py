@@ -154,6 +154,29 @@ def test_energy_exactly_zero_is_refused(third_party, tmp_path):
     refused(write(tmp_path, "dvb.out", damaged), "final energy reads 0.0")
 
 
+@pytest.mark.parametrize("printed, reason", [("-3820.55107107616", "outside what these atoms allow"),
+                                             ("382.055107107616", "outside what these atoms allow"),
+                                             ("-38205.5107107616", "outside what these atoms allow")])
+def test_energy_beyond_what_the_atoms_allow_is_refused(third_party, tmp_path, printed, reason):
+    # a decimal point shifted or a sign lost in the energy line. Bound: 1.5 x the Thomas-Fermi energies
+    # 0.7687 Z^(7/3) Eh (Lieb and Simon 1977, coefficient from memory): 766 Eh for C10H10, which the printed
+    # -382.055 (third-party-logs README) is well inside
+    text = (third_party / "orca6.0" / "dvb_ir.out").read_text()
+    assert abs(checks.energy_bound(["C"] * 10 + ["H"] * 10) - 1.5 * 0.7687 * (10 * 6 ** (7 / 3) + 10)) < 1e-9
+    line = "FINAL SINGLE POINT ENERGY      -382.055107107616"
+    refused(write(tmp_path, "dvb.out", replace_last(text, line, f"FINAL SINGLE POINT ENERGY {printed}")), reason)
+
+
+@pytest.mark.parametrize("value", ["22137.3", "2.21373e30", "-22137.3"])
+def test_nwchem_frequency_beyond_any_vibration_is_refused(samples, tmp_path, value):
+    # printed: hcn.out's projected frequencies end "766.48 2213.73 3480.91"; a digit too many (x 10) or a
+    # damaged exponent puts the ZPE alone at tens of kcal/mol: no vibration exceeds H2's ~4400 cm^-1 (from memory)
+    text = (samples / "gas" / "hcn.out").read_text()
+    line = "P.Frequency      766.48     2213.73     3480.91"
+    refused(write(tmp_path, "hcn.out", replace_last(text, line, line.replace("2213.73", value))),
+            "beyond any molecular vibration")
+
+
 @pytest.mark.parametrize("value", ["nan", "inf", "0.00"])
 def test_nwchem_non_finite_or_zero_frequency(samples, tmp_path, value):
     # printed: hcn.out's projected frequencies end "766.48 2213.73 3480.91"

@@ -18,6 +18,14 @@ from .normalise import electron_count
 from .programs import rules
 from .source import LogSource
 
+#: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
+#: 23, 22; the coefficient from memory), exceeds the true magnitude (-0.500 vs -0.769 for H, -37.8 vs -50.3 for
+#: C); a molecule's binding adds under 1 %. x 1.5 leaves room for relativistic heavy atoms (Hg, Dirac-Fock
+#: -19649 against 21186, from memory); a point shifted in a damaged energy line (x 10) lands far beyond.
+THOMAS_FERMI_EH, ENERGY_MARGIN = 0.7687, 1.5
+#: cm^-1: about twice the highest molecular vibration, H2's ~4400 cm^-1 (from memory; small basis sets stay
+#: within 6000); anything beyond is a damaged number (a digit or an exponent too many)
+MAX_WAVENUMBER_CM = 10000.0
 #: nuclei closer than this (angstrom) are one atom printed twice: the shortest bond, H2's, is 0.74 A
 #: (from memory), and no structure a program optimises brings two nuclei within a quarter of it
 COINCIDENT_A = 0.2
@@ -109,6 +117,9 @@ def frequency_problem(printed: np.ndarray, natoms: int, expected: int | None, al
     """
     if not np.all(np.isfinite(printed)):
         return "a frequency is not a finite number (damaged frequency block?)"
+    if printed.size and np.max(np.abs(printed)) > MAX_WAVENUMBER_CM:
+        worst = printed[np.argmax(np.abs(printed))]
+        return f"a frequency of {worst:.6g} cm^-1, beyond any molecular vibration (damaged frequency block?)"
     full, n_printed = 3 * natoms, printed.size
     allowed = (full - 6, full - 5, full) if all_modes else (full - 6, full - 5)
     if n_printed > full or (n_printed not in allowed and n_printed > (expected or 0)):
@@ -136,10 +147,21 @@ def symbol_problem(symbols) -> str | None:
     return None
 
 
+def energy_bound(symbols) -> float:
+    """The largest total energy magnitude (hartree) the atoms ``symbols`` can have: ENERGY_MARGIN times the sum
+    of their Thomas-Fermi energies 0.7687 Z^(7/3) (see :data:`THOMAS_FERMI_EH`)."""
+    z = np.array([electron_count([s], 0) for s in symbols], dtype=float)
+    return float(ENERGY_MARGIN * THOMAS_FERMI_EH * np.sum(z ** (7.0 / 3.0)))
+
+
 def state_problem(symbols, charge: int, multiplicity: int, energy: float) -> str | None:
     """Why the energy, charge or multiplicity read cannot be those of the molecule ``symbols``, or None."""
     if energy == 0.0 or not np.isfinite(energy):
         return f"the final energy reads {energy!r} (damaged energy line?)"
+    bound = energy_bound(symbols)
+    if energy > 0 or energy < -bound:
+        return (f"the final energy reads {energy!r} Eh, outside what these atoms allow (0 to -{bound:.6g} Eh): "
+                "damaged energy line?")
     electrons = electron_count(symbols, charge)
     if electrons < 0:
         return f"charge {charge:+d} exceeds the nuclear charge of the molecule"
