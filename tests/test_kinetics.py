@@ -95,6 +95,10 @@ def test_eckart_against_quadrature(v1_kcal, v2_kcal, nu):
     # measured: 2e-10 at worst (Simpson's rule against quad's adaptive Gauss-Kronrod)
     np.testing.assert_allclose(kappa, reference, rtol=1e-8)
     assert eckart_kappa(-nu, v1, v2, 298.15) == pytest.approx(reference[2], rel=1e-8)
+    # the reverse reaction (barriers swapped) has the same kappa (Johnston and Heicklen 1962: P(E) is one function
+    # of the total energy), which is why one kappa serves k_forward and k_reverse, and why passing V1 and V2 in
+    # either order to the Eckart correction gives the same rate constants
+    np.testing.assert_allclose(eckart_kappa(-nu, v2, v1, temps), reference, rtol=1e-8)
 
 
 def test_eckart_transmission_against_schroedinger_equation():

@@ -233,6 +233,32 @@ def test_own_concentration_by_hand():
         reaction_kinetics([Participant(-1.0, -1.0, coefficient=0.5)], product, ts, t)
 
 
+# -- detailed balance in the units of the rate constants ----------------------------------------------------------
+
+
+@pytest.mark.parametrize("state", ["1M", "1atm"])
+def test_forward_over_reverse_is_the_equilibrium_constant_in_the_rate_units(tmp_path, samples, state):
+    # detailed balance (Tolman, Proc. Natl. Acad. Sci. 1925, 11, 436, from memory): k_f / k_r = K_c, and
+    # K_c = exp(-dG / RT) (c0)^dn for a step whose molecularity falls by dn (Atkins' Physical Chemistry, from
+    # memory), c0 = 1 mol/L, or p0 / (k_B T) in molecule cm^-3 for 1 atm. The hydration with water at 1 M is
+    # 2 -> 1 (k_f in M^-1 s^-1 or cm^3 molecule^-1 s^-1, k_r in s^-1); with water at 55.3 M both are s^-1 and
+    # K_c = exp(-dG / RT), the 55.3 M inside dG. dG is the reactions table's, by another route than k.
+    path = tmp_path / "reactions.toml"
+    path.write_text(SOLVENT.format(s=samples.as_posix()))
+    t = np.array([298.15, 350.0])
+    results = qcthermo.run(samples, reactions=path, conditions=Conditions(temperature=t, standard_state=state),
+                           jobs=1, cache=False)
+    df = results.reactions.set_index(["reaction", "T_K"])
+    kcal_j = constants.calorie * 1000 / constants.N_A  # J per molecule for 1 kcal/mol
+    c0 = 1.0 if state == "1M" else constants.atm / (constants.k * t) * 1e-6
+    for reaction, dn in (("bimolecular", 1), ("pseudo", 0)):
+        row = df.loc[reaction]
+        k_eq = np.exp(-row["dG_qrrho_kcal_mol"].to_numpy() * kcal_j / (constants.k * t)) / c0**dn
+        np.testing.assert_allclose(row["k_forward"] / row["k_reverse"], k_eq, rtol=1e-8)
+    unit = "M^-1 s^-1" if state == "1M" else "cm^3 molecule^-1 s^-1"
+    assert set(df.loc["bimolecular", "k_unit"]) == {f"{unit} (forward), s^-1 (reverse)"}
+
+
 # -- a transition state holding other atoms than its reactants ---------------------------------------------------
 
 
