@@ -435,3 +435,18 @@ def test_a_single_point_caught_by_a_logs_glob_is_pointed_to_single_point(tmp_pat
     res = qcthermo.run(samples, reactions=path, jobs=1, cache=False)
     messages = [f.message for f in res.findings if f.subject.endswith("ch4_mp2.out")]
     assert any("a single point belongs under single_point" in m for m in messages)
+
+
+def test_run_without_a_reaction_file_and_inits_conditions_are_the_python_defaults(tmp_path, samples, cache_dir):
+    # one set of defaults (docs/thermo.md): qcthermo.run with no reaction file takes Conditions() as the command line
+    # does, and the [conditions] `qcthermo init` writes for gas-phase logs load back to the same Conditions
+    # (Grimme's qRRHO at 100 cm^-1, Chem. Eur. J. 2012, 18, 9955; 298.15 K; 1 atm, the gas convention)
+    from qcthermo.cli import main
+    from qcthermo.reactions import load_reaction_file
+    from qcthermo.records import Conditions
+    from qcthermo.workflow import default_conditions
+
+    assert qcthermo.run(samples / "gas", jobs=1).conditions == Conditions()
+    target = tmp_path / "starter.toml"
+    assert main(["init", str(samples / "gas"), "-o", str(target), "--jobs", "1", "--quiet"]) == 0
+    assert default_conditions(load_reaction_file(target)) == Conditions()
