@@ -23,6 +23,7 @@ COMMANDS = {
     "init": "write a starter reactions.toml listing the species found in DIR",
     "demo": "run the main job on the bundled sample scenario",
 }
+DIR_HELP = "folder of logs, searched recursively (docs/survey.md: which files are read)"
 
 
 def _count(lowest: int, highest: int | None = None):
@@ -48,8 +49,9 @@ def _add_reading(p: argparse.ArgumentParser) -> None:
     g.add_argument("--quiet", action="store_true", help="no progress bar, no table on the terminal")
 
 
-def _add_conditions(p: argparse.ArgumentParser) -> None:
-    g = p.add_argument_group("conditions (override the reaction file's [conditions])")
+def _add_conditions(p: argparse.ArgumentParser, reaction_file: bool = True) -> None:
+    g = p.add_argument_group("conditions (override the reaction file's [conditions])" if reaction_file
+                             else "conditions")
     one_or_range = g.add_mutually_exclusive_group()  # both given, one would be dropped without a word
     one_or_range.add_argument("--temperature", type=float, default=None, metavar="K", help="temperature, K (298.15)")
     one_or_range.add_argument("--temperature-range", default=None, metavar="START:STOP:STEP",
@@ -84,30 +86,30 @@ def build_parser() -> argparse.ArgumentParser:
     sub = parser.add_subparsers(dest="command", metavar="COMMAND")
 
     p = sub.add_parser("survey", help=COMMANDS["survey"], description=COMMANDS["survey"])
-    p.add_argument("directory", metavar="DIR")
+    p.add_argument("directory", metavar="DIR", help=DIR_HELP)
     p.add_argument("--csv", metavar="FILE", help="write the table as CSV")
     p.add_argument("--json", metavar="FILE", help="write the table as JSON")
     p.add_argument("--force", action="store_true", help="overwrite existing --csv/--json files")
     _add_reading(p)
 
     p = sub.add_parser("thermo", help=COMMANDS["thermo"], description=COMMANDS["thermo"])
-    p.add_argument("directory", metavar="DIR")
+    p.add_argument("directory", metavar="DIR", help=DIR_HELP)
     p.add_argument("--csv", metavar="FILE", help="write the table (G broken down by motion) as CSV")
     p.add_argument("--long", metavar="FILE", help="write every quantity, RRHO and the model's, as CSV: "
                    "one row per file, temperature and quantity")
     p.add_argument("--json", metavar="FILE", help="write the full record of each file as JSON")
     p.add_argument("--force", action="store_true", help="overwrite existing --csv/--long/--json files")
-    _add_conditions(p)
+    _add_conditions(p, reaction_file=False)
     _add_reading(p)
 
     for name in ("run", "demo"):
         p = sub.add_parser(name, help=COMMANDS[name], description=COMMANDS[name])
         if name == "run":
-            p.add_argument("directory", metavar="DIR")
+            p.add_argument("directory", metavar="DIR", help=DIR_HELP)
             p.add_argument("--reactions", metavar="FILE", help="reaction file (TOML); without it, one "
                            "species per frequency log and no reactions")
-        p.add_argument("--out", metavar="DIR", default="qcthermo_results" if name == "run" else "demo_results",
-                       help="output directory")
+        out = "qcthermo_results" if name == "run" else "demo_results"
+        p.add_argument("--out", metavar="DIR", default=out, help=f"output directory ({out})")
         p.add_argument("--force", action="store_true", help="write into an --out that holds other files")
         _add_conditions(p)
         _add_reading(p)
@@ -129,7 +131,7 @@ def build_parser() -> argparse.ArgumentParser:
     _add_reading(p)
 
     p = sub.add_parser("init", help=COMMANDS["init"], description=COMMANDS["init"])
-    p.add_argument("directory", metavar="DIR")
+    p.add_argument("directory", metavar="DIR", help=DIR_HELP)
     p.add_argument("-o", "--output", metavar="FILE", default=None,
                    help="where to write it (default: DIR/reactions.toml)")
     p.add_argument("--force", action="store_true", help="overwrite an existing file")
