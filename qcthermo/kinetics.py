@@ -298,6 +298,24 @@ def _eckart_kappa_block(t: np.ndarray, v1: float, v2: float, imag_freq_cm: float
         return np.exp(peak + np.log(integral) - np.log(kt[:, 0]))
 
 
+def _kelvin_list(t: np.ndarray) -> str:
+    return ", ".join(f"{x:g}" for x in t) + " K"
+
+
+def _out_of_range_notes(t: np.ndarray, kappa: np.ndarray, k_forward: np.ndarray, k_reverse: np.ndarray) -> list[str]:
+    """Refuse temperatures where a rate is not a number of double precision; note where one underflows to 0.
+
+    Deep tunnelling (kappa beyond ~1e308, a few kelvin for a 1000i cm^-1 barrier) lies outside what the
+    one-dimensional Eckart or Wigner models describe; a rate below ~1e-308 is 0 in double precision.
+    """
+    bad = ~(np.isfinite(kappa) & np.isfinite(k_forward) & np.isfinite(k_reverse))
+    if bad.any():
+        raise ValueError(f"the rate constant is not finite at {_kelvin_list(t[bad])} (deep tunnelling, beyond the "
+                         "one-dimensional model): choose higher temperatures")
+    zero = (k_forward == 0) | (k_reverse == 0)
+    return [f"a rate constant underflows to 0 (below 1e-308) at {_kelvin_list(t[zero])}"] if zero.any() else []
+
+
 def reaction_rates(
     dG_act_forward,
     dG_act_reverse,
@@ -351,12 +369,14 @@ def reaction_rates(
         notes.append(f"no {tunnelling.capitalize()} tunnelling correction ({missing[tunnelling]}); kappa = 1")
         chosen = 1.0
     kappa = _like_input(np.broadcast_to(np.asarray(chosen, dtype=float), t.shape).copy(), temperature)
-    k_forward, unit_forward = eyring_rate(
-        dG_act_forward, temperature, molecularity_forward, standard_state, kappa, degeneracy
-    )
-    k_reverse, unit_reverse = eyring_rate(
-        dG_act_reverse, temperature, molecularity_reverse, standard_state, kappa, degeneracy
-    )
+    with np.errstate(over="ignore", under="ignore", invalid="ignore"):  # judged below, with a reason
+        k_forward, unit_forward = eyring_rate(
+            dG_act_forward, temperature, molecularity_forward, standard_state, kappa, degeneracy
+        )
+        k_reverse, unit_reverse = eyring_rate(
+            dG_act_reverse, temperature, molecularity_reverse, standard_state, kappa, degeneracy
+        )
+    notes += _out_of_range_notes(t, np.atleast_1d(kappa), np.atleast_1d(k_forward), np.atleast_1d(k_reverse))
     return {
         "kappa": kappa,
         "kappa_wigner": kappa_wigner,

@@ -257,6 +257,10 @@ STANDARD_STATES = {"1atm": ("pressure", ATM_PA), "1bar": ("pressure", BAR_PA), "
 LOW_MODE_MODELS = ("rrho", "qrrho", "qrrho-enthalpy", "quasi-harmonic")
 
 
+#: the lowest temperature Conditions accepts, K
+MIN_TEMPERATURE_K = 1.0
+
+
 @dataclass
 class Conditions:
     """How to compute thermochemistry.
@@ -292,8 +296,10 @@ class Conditions:
                 f"unknown low-mode model {self.low_mode_model!r}; choose one of {', '.join(LOW_MODE_MODELS)}"
             )
         t = np.asarray(self.temperature, dtype=float)
-        if t.ndim > 1 or not np.all(np.isfinite(t) & (t > 0)):
-            raise ValueError("temperature must be a positive number or a 1-D array of them")
+        # below 1 K no molecule is an ideal gas of classical rotors (docs/thermo.md, "Model"); exp() of the
+        # energies over k_B T then overflows too
+        if t.ndim > 1 or not np.all(np.isfinite(t) & (t >= MIN_TEMPERATURE_K)):
+            raise ValueError(f"temperature must be a number >= {MIN_TEMPERATURE_K:g} K, or a 1-D array of them")
         if not (np.isfinite(self.low_mode_threshold) and self.low_mode_threshold >= 0):
             raise ValueError(f"low-mode threshold {self.low_mode_threshold}: expected a wavenumber >= 0 cm^-1")
         # scale factors of published tables lie within a few per cent of 1; far from it is a slip (common practice)

@@ -588,7 +588,7 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
         same = k["k_unit_forward"] == k["k_unit_reverse"]
         df.loc[mask, "k_unit"] = k["k_unit_forward"] if same else \
             f"{k['k_unit_forward']} (forward), {k['k_unit_reverse']} (reverse)"
-        results.findings += [Finding("warning", r.name, n) for n in k["notes"] if r.tunnelling != "none"]
+        results.findings += [Finding("warning", r.name, n) for n in k["notes"]]
         for i, temp in enumerate(t):
             rate_rows.append({"reaction": r.name, "T_K": temp, "kappa": np.atleast_1d(k["kappa"])[i],
                               "kappa_wigner": np.atleast_1d(k["kappa_wigner"])[i],
@@ -604,16 +604,27 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
     results.energy_span = _energy_span(results, kinetics)
 
 
+#: |n| of a modified Arrhenius fit beyond which its parameters are taken as ill-determined (common practice:
+#: tabulated exponents lie within a few units of 0)
+ARRHENIUS_N_LIMIT = 10.0
+
+
 def _arrhenius_rows(name: str, t: np.ndarray, k: dict, kinetics) -> list[dict]:
+    """Per direction, the modified Arrhenius fit A T^n exp(-Ea/RT). Over a narrow range, curvature from deep
+    tunnelling makes n and Ea trade off (n = 56 with Ea = -15 kcal/mol on the sample hydration, 250-400 K):
+    the note then says that the parameters mean little and k(T) itself is the result."""
     rows = []
     for direction in ("forward", "reverse"):
         try:
             fit = kinetics.fit_arrhenius(t, np.atleast_1d(k[f"k_{direction}"]), unit=k[f"k_unit_{direction}"])
         except ValueError:
             continue
+        note = (f"|n| > {ARRHENIUS_N_LIMIT:g}: n and Ea trade off over {fit.T_min:g}-{fit.T_max:g} K and mean "
+                "little one by one; use k(T) from rates.csv or fit a wider range") \
+            if abs(fit.n) > ARRHENIUS_N_LIMIT else ""
         rows.append({"reaction": name, "direction": direction, "A": fit.A, "A_unit": f"{fit.unit} K^-n", "n": fit.n,
                      "Ea_kcal_mol": fit.Ea_kcal_mol, "Ea_kJ_mol": fit.Ea_kJ_mol, "T_min_K": fit.T_min,
-                     "T_max_K": fit.T_max, "max_rel_error": fit.max_rel_error})
+                     "T_max_K": fit.T_max, "max_rel_error": fit.max_rel_error, "note": note})
     return rows
 
 

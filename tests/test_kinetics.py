@@ -273,3 +273,15 @@ def test_energy_span_rejects_malformed_cycles():
         energy_span([("ts", 0.02, True), ("cat", 0.0, False)], -0.01, 298.15)
     with pytest.raises(ValueError):
         energy_span([("cat", 0.0, False), ("a", 0.02, True), ("b", 0.03, True)], -0.01, 298.15)
+
+
+def test_rates_beyond_double_precision_are_refused_or_noted():
+    # IEEE 754 double precision ends near 1.8e308: an Eckart kappa of a 1200i cm^-1, 0.07 Eh barrier overflows
+    # at a few kelvin (deep tunnelling, outside the one-dimensional model), which must be a reason, not inf
+    t = np.array([5.0, 10.0, 300.0])
+    with pytest.raises(ValueError, match=r"not finite at 5, 10 K"):
+        reaction_rates(0.07, 0.05, t, 1, 1, "1M", -1200.0, 0.07, 0.05, tunnelling="eckart")
+    # exp(-0.3 Eh / k_B 20 K) = exp(-4737) is below the smallest double: k = 0 is said, not hidden
+    out = reaction_rates(0.3, 0.25, np.array([20.0, 300.0]), 1, 1, "1M", -1200.0, 0.3, 0.25, tunnelling="none")
+    assert out["k_forward"][0] == 0 and out["k_forward"][1] > 0
+    assert out["notes"] == ["a rate constant underflows to 0 (below 1e-308) at 20 K"]

@@ -299,3 +299,25 @@ def test_transition_state_of_other_atoms_is_an_error_finding_of_the_reaction_aud
     assert [f.severity for f in found] == ["error"]
     assert found[0].message == ("transition state 'ts_hcn' against the reactants: atoms do not balance "
                                 "(products minus reactants: H -4, N +1)")
+
+
+def test_a_degenerate_arrhenius_fit_says_so(samples):
+    # deep tunnelling (kappa ~ 370 at 298 K for the four-centre hydration) curves ln k against 1/T; over
+    # 250-400 K the modified Arrhenius form (Kooij 1893) then trades n against Ea; |n| > 10 is far outside
+    # tabulated exponents (common practice) and must carry a note; the H abstraction's fit must not
+    cond = Conditions(temperature=np.array([250.0, 300.0, 350.0, 400.0]), standard_state="1M")
+    res = qcthermo.run(samples, reactions=samples / "reactions.toml", conditions=cond, jobs=1, cache=False)
+    fits = res.arrhenius.set_index(["reaction", "direction"])
+    hydration = fits.loc[("formaldehyde_hydration", "forward")]
+    assert abs(hydration["n"]) > 10 and "mean little" in hydration["note"]
+    abstraction = fits.loc[("h_abstraction", "forward")]
+    assert abs(abstraction["n"]) < 10 and abstraction["note"] == ""
+
+
+def test_temperatures_below_one_kelvin_are_refused(capsys, samples):
+    # the classical rotor needs T >> Theta_rot (McQuarrie, Statistical Mechanics, ch. 6): 1 K is the floor
+    with pytest.raises(ValueError, match=">= 1 K"):
+        Conditions(temperature=0.5)
+    assert main(["thermo", str(samples / "gas"), "--temperature", "1e-300", "--no-cache", "--quiet"]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and ">= 1 K" in err[0]
