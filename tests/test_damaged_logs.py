@@ -277,3 +277,19 @@ def test_binary_and_nul_filled_files_are_still_refused(tmp_path):
     refused(tmp_path / "zeros.log", "binary file")
     (tmp_path / "odd.out").write_bytes(b"\x01\x00" * 4096)  # NUL every other byte, but no text either
     refused(tmp_path / "odd.out", "not a quantum-chemistry log|binary")
+
+
+@pytest.mark.parametrize(("log", "line", "edited", "reference"), [
+    ("gaussian16/dvb_ir.out", " Charge =  0 Multiplicity = 1", " Charge =  0 Multiplicity = 3", "RB3LYP"),
+    ("orca5.0/dvb_ir.out", "Multiplicity           Mult            ....    1",
+     "Multiplicity           Mult            ....    3", "RHF"),
+])
+def test_an_open_shell_multiplicity_on_a_closed_shell_scf_is_refused(third_party, tmp_path, log, line, edited,
+                                                                      reference):
+    # the logs print a restricted closed-shell SCF ("E(RB3LYP)", "HFTyp .... RHF"), which is a singlet by
+    # construction; a triplet read from an edited charge/multiplicity line (parity still possible for
+    # C10H10's 70 electrons) would shift G by RT ln 3 with status ok
+    text = (third_party / log).read_text()
+    assert reference in text and line in text
+    refused(write(tmp_path, Path(log).name, text.replace(line, edited)), f"restricted closed-shell \\({reference}\\)")
+    assert qcthermo.read_log(third_party / log).multiplicity == 1

@@ -181,6 +181,24 @@ def state_problem(symbols, charge: int, multiplicity: int, energy: float) -> str
     return None
 
 
+#: how a program names a restricted closed-shell reference, which holds only singlets: Gaussian's
+#: "SCF Done:  E(RB3LYP)" (R, not RO), ORCA's "HFTyp .... RHF"
+_CLOSED_SHELL = {
+    "gaussian": re.compile(r"SCF Done:\s+E\((R(?!O)\w*)\)"),
+    "orca": re.compile(r"HFTyp\s+\.+\s+(RHF)\b"),
+}
+
+
+def reference_problem(program: str, text: str, multiplicity: int) -> str | None:
+    """Why ``multiplicity`` contradicts the closed-shell reference the log's last SCF names, or None."""
+    pattern = _CLOSED_SHELL.get(program)
+    found = pattern.findall(text) if pattern and multiplicity != 1 else []
+    if found:
+        return (f"multiplicity {multiplicity}, but the SCF is restricted closed-shell ({found[-1]}), which holds "
+                "only singlets (damaged multiplicity line?)")
+    return None
+
+
 def geometry_problem(coordinates) -> str | None:
     """Why the final coordinates cannot be a molecule's (not finite, two nuclei on one spot), or None."""
     coords = np.asarray(coordinates, dtype=float)

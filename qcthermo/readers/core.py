@@ -198,6 +198,7 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         mult, note = inferred_multiplicity(symbols, charge)
         notes.append(note)
     _refuse(source, checks.state_problem(symbols, charge, int(mult), float(found["energy"])))
+    _refuse(source, checks.reference_problem(program, text, int(mult)))
     if not found.get("coordinates_unknown"):
         _refuse(source, checks.geometry_problem(coords))
 
