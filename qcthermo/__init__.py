@@ -23,7 +23,7 @@ _PUBLIC = {
     "Conditions": "qcthermo.records",
     "ThermoResult": "qcthermo.records",
     "thermochemistry": "qcthermo.thermo",
-    "free_energy_parts": "qcthermo.commands.thermo",
+    "free_energy_parts": "qcthermo.thermo",
     "survey": "qcthermo.survey",
     "load_reaction_file": "qcthermo.reactions",
     "run": "qcthermo.workflow",

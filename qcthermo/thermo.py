@@ -590,3 +590,57 @@ def _result(
         scale_factors=info.scale_factors,
         notes=[f"low-mode model {conditions.low_mode_model}", *info.notes],
     )
+
+
+# -- free energy by motion ------------------------------------------------------------------------
+
+#: the free-energy parts of the wide table, in the order they add up to G (docs/thermo.md)
+PARTS = ("E_elec", "G_trans", "G_rot", "G_vib", "G_elec", "G_low_mode")
+#: short names of the motions in column names
+MOTIONS = dict(zip(COMPONENTS, ("trans", "rot", "vib", "elec"), strict=True))
+
+
+def temperatures_of(res: ThermoResult) -> np.ndarray:
+    """The temperatures of ``res`` as a 1-D array, K."""
+    return np.atleast_1d(np.asarray(res.conditions.temperature, dtype=float))
+
+
+def per_temperature(value, n: int) -> np.ndarray:
+    """A scalar or per-temperature value as an array over the ``n`` temperatures."""
+    return np.broadcast_to(np.asarray(value, dtype=float), (n,)).astype(float)
+
+
+def motion_free_energy(u, s, temperature, pv: float | np.ndarray = 0.0):
+    """G of one motion, Eh: G_x = U_x + pV_x - T S_x = -kT ln q_x.
+
+    Only translation carries the pV = kT of H = U + kT: with Stirling's N!, the ideal gas has
+    G = -NkT ln(q/N) (McQuarrie, Statistical Mechanics, chapters 5 and 8), and the 1/N and the pV
+    term both come from the translational q_t V/N. Thus G_trans = -kT ln(q_t V/N), G_rot = -kT ln q_rot,
+    G_vib = -kT ln q_vib (from the bottom of the well, ZPE included), G_elec = -kT ln g0.
+    """
+    return u + pv - temperature * s
+
+
+def free_energy_parts(res: ThermoResult) -> dict[str, np.ndarray]:
+    """G of ``res`` broken down by motion (the ``qcthermo thermo`` table), Eh, arrays over its temperatures:
+    E_elec, G_trans, G_rot, G_vib, G_elec, G_low_mode; they add up to ``res.gibbs`` (the chosen model).
+
+    G_vib is the harmonic (RRHO) vibrational part, the RRHO total less the other motions, and
+    G_low_mode = G(model) - G(RRHO) is what the low-mode model changes (zero under "rrho").
+    Translation, rotation and electronic levels do not depend on the low-mode model.
+    """
+    t = temperatures_of(res)
+    n = len(t)
+    comp = {c: {q: per_temperature(v, n) for q, v in res.components[c].items()} for c in COMPONENTS}
+    kt = K_B_EH * t
+    parts = {"E_elec": per_temperature(res.electronic_energy, n)}
+    for c in ("translational", "rotational", "electronic"):
+        pv = kt if c == "translational" else 0.0
+        parts[f"G_{MOTIONS[c]}"] = motion_free_energy(comp[c]["U"], comp[c]["S"], t, pv)
+    fixed_u = sum(comp[c]["U"] for c in ("translational", "rotational", "electronic"))
+    fixed_s = sum(comp[c]["S"] for c in ("translational", "rotational", "electronic"))
+    u_vib = per_temperature(res.rrho["thermal_energy"], n) - res.electronic_energy - fixed_u
+    s_vib = per_temperature(res.rrho["entropy"], n) - fixed_s
+    parts["G_vib"] = motion_free_energy(u_vib, s_vib, t)
+    parts["G_low_mode"] = per_temperature(res.gibbs, n) - per_temperature(res.rrho["gibbs"], n)
+    return {name: parts[name] for name in PARTS}

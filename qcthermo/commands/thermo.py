@@ -22,62 +22,13 @@ from .. import __version__
 from ..errors import QcthermoError
 from ..fileio import atomic_write, display, json_text
 from ..records import Conditions, Molecule, ThermoResult
-from ..thermo import COMPONENTS, TOTALS
-from ..units import K_B_EH, hartree_to, unit_suffix
+from ..thermo import COMPONENTS, MOTIONS, PARTS, TOTALS, free_energy_parts, per_temperature, temperatures_of
+from ..units import hartree_to, unit_suffix
 from .common import conditions_from_args
 
-#: the free-energy parts of the wide table, in the order they add up to G (docs/thermo.md)
-PARTS = ("E_elec", "G_trans", "G_rot", "G_vib", "G_elec", "G_low_mode")
-#: short names of the motions in column names
-MOTIONS = dict(zip(COMPONENTS, ("trans", "rot", "vib", "elec"), strict=True))
 #: ThermoResult totals -> (long-form quantity, unit)
 TOTAL_NAMES = {"zpe": ("ZPE", "Eh"), "thermal_energy": ("U", "Eh"), "enthalpy": ("H", "Eh"),
                "entropy": ("S", "Eh/K"), "gibbs": ("G", "Eh"), "cv": ("Cv", "Eh/K"), "cp": ("Cp", "Eh/K")}  # fmt: skip
-
-
-def _temperatures(res: ThermoResult) -> np.ndarray:
-    return np.atleast_1d(np.asarray(res.conditions.temperature, dtype=float))
-
-
-def _over_t(value, n: int) -> np.ndarray:
-    """A scalar or per-temperature value as an array over the ``n`` temperatures."""
-    return np.broadcast_to(np.asarray(value, dtype=float), (n,)).astype(float)
-
-
-def motion_free_energy(u, s, temperature, pv: float | np.ndarray = 0.0):
-    """G of one motion, Eh: G_x = U_x + pV_x - T S_x = -kT ln q_x.
-
-    Only translation carries the pV = kT of H = U + kT: with Stirling's N!, the ideal gas has
-    G = -NkT ln(q/N) (McQuarrie, Statistical Mechanics, chapters 5 and 8), and the 1/N and the pV
-    term both come from the translational q_t V/N. Thus G_trans = -kT ln(q_t V/N), G_rot = -kT ln q_rot,
-    G_vib = -kT ln q_vib (from the bottom of the well, ZPE included), G_elec = -kT ln g0.
-    """
-    return u + pv - temperature * s
-
-
-def free_energy_parts(res: ThermoResult) -> dict[str, np.ndarray]:
-    """G of ``res`` broken down, Eh, arrays over its temperatures: E_elec, G_trans, G_rot, G_vib, G_elec,
-    G_low_mode; they add up to ``res.gibbs`` (the chosen model).
-
-    G_vib is the harmonic (RRHO) vibrational part, the RRHO total less the other motions, and
-    G_low_mode = G(model) - G(RRHO) is what the low-mode model changes (zero under "rrho").
-    Translation, rotation and electronic levels do not depend on the low-mode model.
-    """
-    t = _temperatures(res)
-    n = len(t)
-    comp = {c: {q: _over_t(v, n) for q, v in res.components[c].items()} for c in COMPONENTS}
-    kt = K_B_EH * t
-    parts = {"E_elec": _over_t(res.electronic_energy, n)}
-    for c in ("translational", "rotational", "electronic"):
-        pv = kt if c == "translational" else 0.0
-        parts[f"G_{MOTIONS[c]}"] = motion_free_energy(comp[c]["U"], comp[c]["S"], t, pv)
-    fixed_u = sum(comp[c]["U"] for c in ("translational", "rotational", "electronic"))
-    fixed_s = sum(comp[c]["S"] for c in ("translational", "rotational", "electronic"))
-    u_vib = _over_t(res.rrho["thermal_energy"], n) - res.electronic_energy - fixed_u
-    s_vib = _over_t(res.rrho["entropy"], n) - fixed_s
-    parts["G_vib"] = motion_free_energy(u_vib, s_vib, t)
-    parts["G_low_mode"] = _over_t(res.gibbs, n) - _over_t(res.rrho["gibbs"], n)
-    return {name: parts[name] for name in PARTS}
 
 
 @dataclass
@@ -145,9 +96,9 @@ def _wide_rows(entry: Entry) -> list[dict[str, Any]]:
              "point_group": res.point_group, "symmetry_number": res.symmetry_number,
              "imaginary_cm1": res.imaginary_frequency}  # fmt: skip
     parts = free_energy_parts(res)
-    total = _over_t(res.gibbs, len(_temperatures(res)))  # the engine's G; the parts add up to it
+    total = per_temperature(res.gibbs, len(temperatures_of(res)))  # the engine's G; the parts add up to it
     rows = []
-    for i, t in enumerate(_temperatures(res)):
+    for i, t in enumerate(temperatures_of(res)):
         row = {**head, "T_K": float(t), "low_mode_model": res.conditions.low_mode_model}
         row |= {f"{name}_Eh": float(value[i]) for name, value in parts.items()}
         row |= {"G_total_Eh": float(total[i]), "status": entry.status, "reason": "; ".join(entry.notes)}
@@ -192,7 +143,7 @@ def long_table(entries: list[Entry]):
         if res is None:
             continue
         model = res.conditions.low_mode_model
-        t = _temperatures(res)
+        t = temperatures_of(res)
         sets = {"rrho": res.rrho, model: {k: getattr(res, k) for k in TOTALS}}  # one set under rrho
         series = [(label, *TOTAL_NAMES[k], values[k]) for label, values in sets.items() for k in TOTALS]
         for c in COMPONENTS:
@@ -200,7 +151,7 @@ def long_table(entries: list[Entry]):
                        for q, v in res.components[c].items()]
         series += [(model, name, "Eh", value) for name, value in free_energy_parts(res).items()]
         for label, quantity, unit, value in series:
-            values = _over_t(value, len(t))
+            values = per_temperature(value, len(t))
             rows += [{"file": entry.path, "formula": entry.formula, "T_K": float(ti), "model": label,
                       "quantity": quantity, "value": float(v), "unit": unit} for ti, v in zip(t, values, strict=True)]
     return pd.DataFrame(rows, columns=["file", "formula", "T_K", "model", "quantity", "value", "unit"])
@@ -211,12 +162,12 @@ def _json_record(entry: Entry) -> dict[str, Any]:
     record: dict[str, Any] = {"file": entry.path, "formula": entry.formula, "status": entry.status}
     if res is None:
         return record | {"reason": entry.reason}
-    n = len(_temperatures(res))
+    n = len(temperatures_of(res))
 
     def totals(values) -> dict[str, list[float]]:
         # the ZPE does not depend on T: one number
-        return {f"{k}_{TOTAL_NAMES[k][1].replace('/', '_')}": float(values[k]) if k == "zpe" else _over_t(values[k], n)
-                for k in TOTALS}
+        return {f"{k}_{TOTAL_NAMES[k][1].replace('/', '_')}":
+                float(values[k]) if k == "zpe" else per_temperature(values[k], n) for k in TOTALS}
 
     return record | {
         "notes": entry.notes, "program": calc.program, "level_of_theory": calc.level_of_theory,
@@ -225,8 +176,8 @@ def _json_record(entry: Entry) -> dict[str, Any]:
         "imaginary_cm1": res.imaginary_frequency, "scale_factors": res.scale_factors,
         "frequencies_cm1": res.frequencies_used, "electronic_energy_Eh": res.electronic_energy,
         "rrho": totals(res.rrho), "model": totals({k: getattr(res, k) for k in TOTALS}),
-        "components": {c: {f"{q}_{'Eh' if q == 'U' else 'Eh_K'}": _over_t(v, n) for q, v in res.components[c].items()}
-                       for c in COMPONENTS},
+        "components": {c: {f"{q}_{'Eh' if q == 'U' else 'Eh_K'}": per_temperature(v, n)
+                           for q, v in res.components[c].items()} for c in COMPONENTS},
         "free_energy_parts_Eh": free_energy_parts(res),
     }  # fmt: skip
 
