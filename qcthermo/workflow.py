@@ -33,7 +33,7 @@ from .reactions import (
     reaction_energetics,
     state_values,
 )
-from .records import Calculation, Conditions
+from .records import Calculation, Conditions, parse_standard_state
 from .species import Finding, SpeciesOptions, SpeciesResult, build_species, mirror_images
 from .units import check_energy_unit, hartree_to, unit_suffix
 
@@ -452,6 +452,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     for s in species.values():
         findings += s.findings
     findings += _unused_warnings(survey_result, species)
+    findings += _standard_state_warnings(species, conditions)
     reactions_df, energetics = _reactions_table(rf, species, conditions, energy_unit, findings)
     results = RunResults(
         settings=_settings(directory, rf, conditions, energy_unit, jobs, cache),
@@ -463,6 +464,20 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     add_kinetics(results, energetics)
     results.findings = _sorted_findings(results.findings)
     return results
+
+
+def _standard_state_warnings(species: dict[str, SpeciesResult], conditions: Conditions) -> list[Finding]:
+    """Species computed in a continuum solvent but given a gas standard state: their G then lacks the
+    RT ln(24.46) = 1.89 kcal/mol (298 K) of 1 atm -> 1 M per species, the usual convention for solutes
+    (common practice; docs/reactions.md). Said once per species, as a warning: a gas-phase comparison
+    may be meant."""
+    if conditions.pressure is None and parse_standard_state(conditions.standard_state)[0] == "concentration":
+        return []
+    state = conditions.standard_state if conditions.pressure is None else f"{conditions.pressure:g} Pa"
+    return [Finding("warning", name, f"species {name!r}: computed with a solvent model ({s.reference.solvent_model}) "
+                    f"but at the gas standard state {state}; solutes are usually given 1M (--standard-state 1M)")
+            for name, s in species.items()
+            if s.usable and s.reference.solvent_model and s.options.concentration is None]
 
 
 def _unused_warnings(survey_result, species: dict[str, SpeciesResult]) -> list[Finding]:

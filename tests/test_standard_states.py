@@ -211,3 +211,24 @@ def test_atom_batched_with_molecules_under_molecular_rotor_inertia(model):
     ase = IdealGasThermo([], "monatomic", atoms=Atoms("H", masses=h.masses), spin=0.5, symmetrynumber=1)
     s_ase = ase.get_entropy(298.15, constants.atm, verbose=False) / HARTREE_EV
     assert atom.entropy == pytest.approx(s_ase, rel=1e-6)
+
+
+def test_solvent_logs_at_a_gas_standard_state_are_flagged(tmp_path, samples):
+    # a solute in a continuum is quoted at 1 M (common practice): at 1 atm its G lacks RT ln(24.46), 1.89 kcal/mol
+    # per species at 298.15 K, so a run doing that says so; water at its own 55.3 M is not a solute at 1 atm
+    import qcthermo
+
+    path = tmp_path / "hydration.toml"
+    path.write_text(f"""
+[species.formaldehyde]
+logs = "{samples.as_posix()}/solvent/formaldehyde.out"
+[species.water]
+logs = "{samples.as_posix()}/solvent/water.out"
+concentration = "55.3M"
+""")
+    flagged = {}
+    for state in ("1atm", "1M"):
+        cond = qcthermo.Conditions(standard_state=state)
+        res = qcthermo.run(samples / "solvent", reactions=path, conditions=cond, jobs=1, cache=False)
+        flagged[state] = sorted(f.subject for f in res.findings if "gas standard state" in f.message)
+    assert flagged == {"1atm": ["formaldehyde"], "1M": []}
