@@ -224,10 +224,7 @@ def split_runs(source: LogSource) -> list[LogSource]:
     banner, text = rules(source.program).run_banner, source.text
     if banner is None:
         return [source]
-    starts, at = [], text.find(banner)
-    while at >= 0:
-        starts.append(text.rfind("\n", 0, at) + 1)
-        at = text.find(banner, at + len(banner))
+    starts = [text.rfind("\n", 0, at) + 1 for at in _starts(text, banner)]  # the banners' lines
     if len(starts) < 2:
         return [source]
     bounds = zip([0, *starts[1:]], [*starts[1:], len(text)], strict=True)
