@@ -159,13 +159,14 @@ def remove_stale_temporaries(directory: str | os.PathLike) -> list[Path]:
     return removed
 
 
-def written_by_qcthermo(run_json: Path) -> bool:
-    """True when ``run_json`` is a run.json that qcthermo wrote (a JSON object with "tool": "qcthermo")."""
+def _qcthermo_run_json(run_json: Path) -> dict | None:
+    """The document of ``run_json`` when it is a run.json that qcthermo wrote (a JSON object with
+    "tool": "qcthermo"), else None."""
     try:
         doc = json.loads(run_json.read_text(encoding="utf-8"))
     except (OSError, UnicodeDecodeError, ValueError):
-        return False
-    return isinstance(doc, dict) and doc.get("tool") == "qcthermo"
+        return None
+    return doc if isinstance(doc, dict) and doc.get("tool") == "qcthermo" else None
 
 
 def holds_only_run_outputs(out: Path) -> bool:
@@ -176,7 +177,7 @@ def holds_only_run_outputs(out: Path) -> bool:
                                     or _TMP.match(entry.name))
         if not ours:
             return False
-    return not (out / "run.json").exists() or written_by_qcthermo(out / "run.json")
+    return not (out / "run.json").exists() or _qcthermo_run_json(out / "run.json") is not None
 
 
 def _run_named(name: str) -> bool:
@@ -188,8 +189,9 @@ def earlier_run_outputs(out: str | os.PathLike) -> set[str]:
     (a killed run), every file of a directory that holds nothing but run outputs. A user's own files are
     never among them, also in a folder written with --force."""
     out = Path(out)
-    if written_by_qcthermo(out / "run.json"):
-        listed = json.loads((out / "run.json").read_text(encoding="utf-8")).get("files")
+    doc = _qcthermo_run_json(out / "run.json")
+    if doc is not None:
+        listed = doc.get("files")
         names = {n for n in listed if isinstance(n, str)} if isinstance(listed, list) else set()
         return {n for n in names | {"run.json"} if _run_named(n)}
     if out.is_dir() and holds_only_run_outputs(out):
@@ -221,7 +223,8 @@ def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise QcthermoError(f"{display(str(out))} exists and is not a directory")
-    if out.is_dir() and not force and not written_by_qcthermo(out / "run.json") and not holds_only_run_outputs(out):
+    if out.is_dir() and not force and _qcthermo_run_json(out / "run.json") is None \
+            and not holds_only_run_outputs(out):
         raise QcthermoError(f"{display(str(out))} already holds other files; use --force to write into it anyway")
     try:
         out.mkdir(parents=True, exist_ok=True)
