@@ -200,14 +200,14 @@ _RECORD_TYPES: dict[str, tuple[type, ...]] = {
     "gas_energy": (*_NUMBER, _NONE), "thermo_printed": (dict,), "notes": (list,),
 }
 _STRING_LISTS = ("symbols", "job_types", "notes")
+_CALCULATION_FIELDS = frozenset(f.name for f in dataclasses.fields(Calculation))
 
 
 def cached_calculation(record: dict[str, Any]) -> Calculation | None:
     """The Calculation of a record read back from the cache, or None when the record is not one (keys
     missing or unknown, a value of the wrong kind, arrays of the wrong shape): a damaged or foreign row
     is a cache miss, never a crash or a wrong row."""
-    names = {f.name for f in dataclasses.fields(Calculation)}
-    if set(record) != names:
+    if set(record) != _CALCULATION_FIELDS:
         return None
     for name, kinds in _RECORD_TYPES.items():
         value = record.get(name)
