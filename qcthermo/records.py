@@ -54,6 +54,10 @@ class Calculation(_Composition):
         energy: final electronic energy in hartree, as the program reports it (solvation included).
         frequencies: (3N-6) or (3N-5) vibrational wavenumbers, cm^-1, imaginary as negative,
             translations/rotations removed; None when the file has no frequency job.
+        normal_modes: (n_modes, N, 3) displacement vectors of the same modes as ``frequencies``, in the same
+            order: Cartesian displacements (not mass-weighted) of each atom, dimensionless, each mode
+            scaled to unit length and rounded to 5 decimals; None when the log prints none (or no
+            frequencies). Read from cclib's ``vibdisps`` or the program's own block (NWChem, ORCA 6).
         job_types: subset of :data:`JOB_TYPES`.
         normal_termination: True/False, or None when the file does not say.
         optimization_converged: for optimisations, whether the optimiser reported convergence.
@@ -73,6 +77,7 @@ class Calculation(_Composition):
     multiplicity: int | None = 1
     energy: float | None = None
     frequencies: np.ndarray | None = None
+    normal_modes: np.ndarray | None = None
     job_types: frozenset[str] = frozenset()
     normal_termination: bool | None = None
     optimization_converged: bool | None = None
@@ -130,6 +135,8 @@ class Calculation(_Composition):
         data["coordinates"] = np.asarray(data["coordinates"], dtype=float).reshape(-1, 3)
         if data.get("frequencies") is not None:
             data["frequencies"] = np.asarray(data["frequencies"], dtype=float)
+        if data.get("normal_modes") is not None:
+            data["normal_modes"] = np.asarray(data["normal_modes"], dtype=float).reshape(-1, len(data["symbols"]), 3)
         data["job_types"] = frozenset(data.get("job_types", ()))
         return cls(**data)
 

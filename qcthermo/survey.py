@@ -194,6 +194,7 @@ _NONE = type(None)
 _RECORD_TYPES: dict[str, tuple[type, ...]] = {
     "path": (str,), "program": (str,), "symbols": (list,), "coordinates": (list,), "charge": (int,),
     "multiplicity": (int, _NONE), "energy": (*_NUMBER, _NONE), "frequencies": (list, _NONE),
+    "normal_modes": (list, _NONE),
     "job_types": (list,), "normal_termination": (bool, _NONE), "optimization_converged": (bool, _NONE),
     "program_version": (str, _NONE), "method": (str, _NONE), "basis": (str, _NONE),
     "solvent_model": (str, _NONE), "solvent": (str, _NONE), "s2": (*_NUMBER, _NONE),
@@ -218,6 +219,8 @@ def cached_calculation(record: dict[str, Any]) -> Calculation | None:
     try:
         calc = Calculation.from_dict(record)
         ok = calc.coordinates.shape == (calc.natoms, 3) and (calc.frequencies is None or calc.frequencies.ndim == 1)
+        ok = ok and (calc.normal_modes is None or (calc.frequencies is not None
+                     and calc.normal_modes.shape == (len(calc.frequencies), calc.natoms, 3)))
     except (TypeError, ValueError):
         return None
     return calc if ok else None

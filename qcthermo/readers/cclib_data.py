@@ -202,6 +202,8 @@ def fields(data, program: str) -> dict:
     out["multiplicity"] = int(data.mult) if getattr(data, "mult", None) is not None else None
     if getattr(data, "vibfreqs", None) is not None:
         out["frequencies"] = np.asarray(data.vibfreqs, dtype=float)
+        if getattr(data, "vibdisps", None) is not None:  # (modes, atoms, 3), one per frequency
+            out["normal_modes"] = np.asarray(data.vibdisps, dtype=float)
     if getattr(data, "optdone", None) is not None:
         out["optimization_converged"] = bool(data.optdone)
     if meta.get("solvent_model"):

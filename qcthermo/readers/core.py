@@ -22,6 +22,7 @@ from .normalise import (
     inferred_multiplicity,
     method_name,
     n_vibrations,
+    normal_mode_vectors,
     solvent_model_name,
     vibrational_modes,
 )
@@ -206,20 +207,21 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
     spec_jobs = job_types_from_spec(program, spec)
     if spec is None and found.get("optimization_converged") is not None:  # cclib saw an optimiser
         spec_jobs.add("optimization")
-    freqs = found.get("frequencies")
+    freqs, modes = found.get("frequencies"), None
     if freqs is not None:
         expected = n_vibrations(symbols, coords)
         # all 3N modes are a list the program projected, or one of a program we know no rule of
         all_modes = rules(program).projected or program not in RULES
         printed = np.asarray(freqs, dtype=float).ravel()
         _refuse(source, checks.frequency_problem(printed, len(symbols), expected, all_modes))
+        modes = normal_mode_vectors(found.get("normal_modes"), printed, symbols, coords, rules(program).projected)
         freqs, note = vibrational_modes(freqs, symbols, coords, rules(program).projected)
         if note:
             notes.append(note)
         _refuse(source, checks.zero_mode_problem(freqs, PROJECTED_ZERO_CM))
         if expected is not None and freqs.size != expected:
             notes.append(f"frequencies dropped: {freqs.size} modes found where {expected} belong (incomplete block)")
-            freqs = None
+            freqs = modes = None
     if freqs is None and "frequencies" in spec_jobs:
         notes.append("frequency job without a complete list of frequencies")
     jobs = set(spec_jobs)
@@ -251,6 +253,7 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         multiplicity=int(mult),
         energy=float(found["energy"]),
         frequencies=None if freqs is None else np.asarray(freqs, dtype=float),
+        normal_modes=modes,
         job_types=frozenset(jobs),
         normal_termination=ended,
         optimization_converged=converged,

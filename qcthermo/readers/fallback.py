@@ -120,6 +120,36 @@ def _orca_frequencies(text: str) -> np.ndarray | None:
     return values[first:] if first is not None else values
 
 
+def mode_columns(block: str) -> np.ndarray | None:
+    """Normal-mode vectors printed as columns, a few modes side by side (NWChem, ORCA): a line of column
+    numbers, optional label lines (frequencies, symmetry species), then one row per Cartesian coordinate,
+    "index value value ...". Returns (n_modes, 3N) in the order printed, None when the block is not whole."""
+    columns: dict[int, list[float]] = {}
+    current: list[int] = []
+    for line in block.splitlines():
+        tokens = line.split()
+        if tokens and all(t.isdigit() for t in tokens):  # a header of column numbers
+            current = [int(t) for t in tokens]
+            for c in current:
+                columns.setdefault(c, [])
+        elif current and len(tokens) == len(current) + 1 and tokens[0].isdigit():
+            try:
+                values = [float(t) for t in tokens[1:]]
+            except ValueError:
+                continue
+            for c, v in zip(current, values, strict=True):
+                columns[c].append(v)
+    lengths = {len(v) for v in columns.values()}
+    if not columns or len(lengths) != 1 or lengths == {0}:
+        return None
+    return np.array([columns[c] for c in sorted(columns)])
+
+
+def _orca_normal_modes(text: str) -> np.ndarray | None:
+    block = last_section(text, "NORMAL MODES", "IR SPECTRUM")
+    return None if block is None else mode_columns(block)
+
+
 def orca(text: str) -> dict:
     """Fields of an ORCA (5 or 6) output: geometry, energy, charge/multiplicity, frequencies, thermochemistry."""
     out: dict = {}
@@ -135,6 +165,8 @@ def orca(text: str) -> dict:
             charge, mult = int(m.group(1)), int(m.group(2))
     out |= _found(energy=_last_float(text, "FINAL SINGLE POINT ENERGY", rf"^FINAL SINGLE POINT ENERGY\s+{_F}"),
                   charge=charge, multiplicity=mult, frequencies=_orca_frequencies(text))
+    if "frequencies" in out:
+        out |= _found(normal_modes=_orca_normal_modes(text))
     out["program_version"] = _last(text, "Program Version", r"Program Version (\S+)")
     out["basis"] = _last(text, "Your calculation utilizes the basis:", r"Your calculation utilizes the basis: (\S+)")
     out["method"] = orca_method(echo)
@@ -192,13 +224,13 @@ def _nwchem_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
     return symbols, np.array([[float(x) for x in row[3:6]] for row in rows])
 
 
-def _nwchem_frequencies(text: str) -> np.ndarray | None:
-    """The projected frequencies (P.Frequency) of the last normal-mode analysis."""
+def _nwchem_frequencies(text: str) -> tuple[np.ndarray | None, np.ndarray | None]:
+    """The projected frequencies (P.Frequency) of the last normal-mode analysis, and their mode vectors."""
     block = last_section(text, "Projected Frequencies expressed in cm-1", "Normal Eigenvalue")
     if block is None:
-        return None
+        return None, None
     values = [float(v) for line in re.findall(r"^\s*P\.Frequency\s+(.*)$", block, re.MULTILINE) for v in line.split()]
-    return np.array(values) if values else None
+    return (np.array(values), mode_columns(block)) if values else (None, None)
 
 
 def nwchem_multiplicity(text: str) -> int | None:
@@ -238,8 +270,9 @@ def nwchem(text: str) -> dict:
     method, energy = nwchem_level(text)
     if energy is not None:
         out["energy"], out["method"] = energy, method
+    frequencies, modes = _nwchem_frequencies(text)
     out |= _found(charge=_last_int(text, "Charge", r"^\s*Charge\s+:\s+(-?\d+)"),
-                  multiplicity=nwchem_multiplicity(text), frequencies=_nwchem_frequencies(text))
+                  multiplicity=nwchem_multiplicity(text), frequencies=frequencies, normal_modes=modes)
     out["program_version"] = _last(text, "(NWChem) ", r"\(NWChem\) (\d[\w.]*)")
     basis = last_block_match(text, 'Summary of "ao basis"', _NWCHEM_BASIS)
     if basis:

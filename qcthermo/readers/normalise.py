@@ -33,8 +33,8 @@ def n_vibrations(symbols, coordinates) -> int | None:
     return 3 * n - (5 if linear else 6)
 
 
-def vibrational_modes(frequencies, symbols, coordinates, projected: bool) -> tuple[np.ndarray, str | None]:
-    """Keep the 3N-6 (3N-5) vibrations of a list that may hold translations and rotations too.
+def vibrational_mode_index(frequencies, symbols, coordinates, projected: bool) -> tuple[np.ndarray, str | None]:
+    """Indices of the 3N-6 (3N-5) vibrations in a list that may hold translations and rotations too.
 
     With ``projected`` (NWChem's "P.Frequency", xTB, ORCA), the program has projected the six (five)
     rigid-body motions out and prints them as exact zeros: those are removed, and nothing is chosen by
@@ -48,15 +48,54 @@ def vibrational_modes(frequencies, symbols, coordinates, projected: bool) -> tup
         expected = freqs.size - int(zero.sum()) if projected else freqs.size
     extra = freqs.size - expected
     if extra <= 0:
-        return freqs, None
+        return np.arange(freqs.size), None
     if projected and int(zero.sum()) == extra:
-        return freqs[~zero], f"{extra} zero modes (projected translations/rotations) removed"
+        return np.flatnonzero(~zero), f"{extra} zero modes (projected translations/rotations) removed"
     order = np.argsort(np.abs(freqs), kind="stable")
-    keep = np.sort(order[extra:])
     largest = float(np.abs(freqs[order[extra - 1]]))
-    return freqs[keep], (
+    return np.sort(order[extra:]), (
         f"{extra} translation/rotation modes removed by count (the smallest |nu|, up to {largest:.2f} cm^-1)"
     )
+
+
+def vibrational_modes(frequencies, symbols, coordinates, projected: bool) -> tuple[np.ndarray, str | None]:
+    """The 3N-6 (3N-5) vibrations of a list that may hold translations and rotations too (see
+    :func:`vibrational_mode_index`), and the note of what was removed."""
+    keep, note = vibrational_mode_index(frequencies, symbols, coordinates, projected)
+    return np.asarray(frequencies, dtype=float).ravel()[keep], note
+
+
+#: decimals kept of the normal-mode vectors (NWChem prints 5; the torsion projection needs far fewer)
+MODE_DECIMALS = 5
+
+
+def normal_mode_vectors(displacements, frequencies, symbols, coordinates, projected: bool) -> np.ndarray | None:
+    """The displacement vectors of the modes :func:`vibrational_modes` keeps, as (n_modes, N, 3).
+
+    ``displacements`` holds one vector of 3N numbers per printed frequency, in the same order. Each
+    vector is returned as a Cartesian displacement (not mass-weighted) of unit length, rounded to
+    :data:`MODE_DECIMALS`: a vector printed mass-weighted (sum_i sqrt(m_i) L_i = 0 rather than
+    sum_i m_i d_i = 0, the centre of mass at rest) is divided by sqrt(m_i) first. None when the
+    vectors do not fit the frequencies and the atoms (an incomplete block).
+    """
+    if displacements is None:
+        return None
+    freqs = np.asarray(frequencies, dtype=float).ravel()
+    vectors = np.asarray(displacements, dtype=float)
+    natoms = len(symbols)
+    if vectors.size != freqs.size * natoms * 3 or not np.all(np.isfinite(vectors)):
+        return None
+    keep, _ = vibrational_mode_index(freqs, symbols, coordinates, projected)
+    vectors = vectors.reshape(freqs.size, natoms, 3)[keep]
+    masses = atomic_masses(symbols)
+    cartesian = np.linalg.norm(np.einsum("i,kij->kj", masses, vectors))
+    weighted = np.linalg.norm(np.einsum("i,kij->kj", np.sqrt(masses), vectors))
+    if weighted < cartesian:
+        vectors = vectors / np.sqrt(masses)[None, :, None]
+    norms = np.linalg.norm(vectors.reshape(len(keep), -1), axis=1)
+    if np.any(norms == 0):
+        return None
+    return np.round(vectors / norms[:, None, None], MODE_DECIMALS)
 
 
 #: spellings of the field that plain upper-casing gets wrong (common practice, as in the methods' papers)
