@@ -6,7 +6,7 @@
 # appended to timings.tsv. The flawed files under flawed/ are made here too (see README.md).
 #
 #   ./generate.sh            everything
-#   ./generate.sh gas sp     only some parts: gas solvent sp conformers flawed
+#   ./generate.sh gas sp     only some parts: gas solvent sp atoms conformers flawed
 #
 # NWChem runs as one process (plain `nwchem x.nw`); set NWCHEM="mpirun -np 2 nwchem" to use two cores.
 set -euo pipefail
@@ -64,6 +64,7 @@ write_mp2_input() { # write_mp2_input NAME MULT : MP2/cc-pVTZ single point on th
         1) ref="rhf singlet" ;;
         2) ref="uhf doublet" ;;
         3) ref="uhf triplet" ;;
+        4) ref="uhf quartet" ;;
     esac
     {
         echo "start ${name}_mp2"
@@ -112,6 +113,20 @@ part_sp() {
     done
 }
 
+part_atoms() {
+    # free atoms in their ground states (C 3P, N 4S, O 3P) at both levels of the gas-phase species, for the
+    # atomization route to heats of formation (H is gas/h_atom and sp/h_atom_mp2 of the gas and sp parts)
+    for job in c_atom n_atom o_atom; do
+        nwchem_job "gas/$job"
+    done
+    write_mp2_input c_atom 3
+    write_mp2_input n_atom 4
+    write_mp2_input o_atom 3
+    for job in c_atom n_atom o_atom; do
+        nwchem_job "sp/${job}_mp2"
+    done
+}
+
 part_conformers() {
     for xyz in "$here"/inputs/conformers/*.xyz; do
         xtb_job "conformers/$(basename "$xyz" .xyz)"
@@ -131,7 +146,7 @@ part_flawed() {
 }
 
 parts=("$@")
-[ ${#parts[@]} -eq 0 ] && parts=(gas solvent sp conformers flawed)
+[ ${#parts[@]} -eq 0 ] && parts=(gas solvent sp atoms conformers flawed)
 for part in "${parts[@]}"; do
     echo "== $part"
     "part_$part"

@@ -40,6 +40,9 @@ CLEAN = [
     ("gas/ts_hcn.out", "nwchem", SADDLE_FREQ, B3LYP, None, 0, 1, 3, False, 1),
     ("gas/o2.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 3, 2, True, 0),
     ("gas/water.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 1, 3, False, 0),
+    ("gas/c_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 3, 1, False, None),  # 3P
+    ("gas/n_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 4, 1, False, None),  # 4S
+    ("gas/o_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 3, 1, False, None),  # 3P
     ("solvent/water.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 3, False, 0),
     ("solvent/formaldehyde.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 4, False, 0),
     ("solvent/methanediol.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 7, False, 0),
@@ -51,6 +54,9 @@ CLEAN = [
     ("sp/h2_mp2.out", "nwchem", ENERGY, MP2, None, 0, 1, 2, True, None),
     ("sp/o2_mp2.out", "nwchem", ENERGY, MP2, None, 0, 3, 2, True, None),
     ("sp/water_mp2.out", "nwchem", ENERGY, MP2, None, 0, 1, 3, False, None),
+    ("sp/c_atom_mp2.out", "nwchem", ENERGY, MP2, None, 0, 3, 1, False, None),
+    ("sp/n_atom_mp2.out", "nwchem", ENERGY, MP2, None, 0, 4, 1, False, None),
+    ("sp/o_atom_mp2.out", "nwchem", ENERGY, MP2, None, 0, 3, 1, False, None),
     *[
         (f"conformers/pentane_{c}.out", "xtb", OPT_FREQ, GFN2, None, 0, 1, 17, False, 0)
         for c in ("tt", "tt_b", "tgp", "tgp_b", "tgm", "gpgp", "gmgm", "gpgm")
@@ -74,6 +80,9 @@ SINGLE_POINT_PAIRS = [
     ("sp/h2_mp2.out", "gas/h2.out"),
     ("sp/o2_mp2.out", "gas/o2.out"),
     ("sp/water_mp2.out", "gas/water.out"),
+    ("sp/c_atom_mp2.out", "gas/c_atom.out"),
+    ("sp/n_atom_mp2.out", "gas/n_atom.out"),
+    ("sp/o_atom_mp2.out", "gas/o_atom.out"),
 ]
 
 

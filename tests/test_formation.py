@@ -1,0 +1,155 @@
+"""Heats of formation (qcthermo.formation) against experimental thermochemistry.
+
+Sources: NIST-JANAF Thermochemical Tables, 4th ed. (Chase 1998) and Curtiss, Raghavachari, Redfern, Pople,
+J. Chem. Phys. 1997, 106, 1063 (its table of atomic heats of formation at 0 K and of the elements'
+H298 - H0); spectroscopic dissociation energies D0 of diatomics from Huber and Herzberg, Constants of
+Diatomic Molecules (1979). Every number below is from memory of those tables, none read from a file.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from test_thermo_cantera import MOLECULES
+
+from qcthermo import Conditions, Molecule, thermochemistry
+from qcthermo.formation import (
+    ELEMENT_REFERENCES,
+    KJ_MOL_PER_EH,
+    FormationInput,
+    FormationScheme,
+    atomization_energy,
+    bonds,
+    formation_enthalpy_0k,
+    formation_enthalpy_298,
+    heats_of_formation,
+    reaction_route,
+)
+
+# Curtiss et al. 1997, atomic dfH(0 K) and element H298 - H0 in kcal/mol (from memory)
+CURTISS_KCAL = {"H": (51.63, 1.01), "C": (169.98, 0.25), "N": (112.53, 1.04), "O": (58.99, 1.04),
+                "F": (18.47, 1.05), "Si": (106.6, 0.76), "P": (75.42, 1.28), "S": (65.66, 1.05),
+                "Cl": (28.59, 1.10)}
+
+
+@pytest.mark.parametrize("element", sorted(CURTISS_KCAL))
+def test_element_table_is_curtiss_1997(element):
+    formation, increment = CURTISS_KCAL[element]
+    ref = ELEMENT_REFERENCES[element]
+    assert ref.formation_0k / 4.184 == pytest.approx(formation, abs=0.03)
+    assert ref.increment / 4.184 == pytest.approx(increment, abs=0.01)
+
+
+# (molecule, elements, spectroscopic D0 in kJ/mol: H2 36118.1 cm^-1, O2 5.115 eV, N2 9.759 eV; Huber & Herzberg)
+DIATOMICS = [("H2", "HH", 432.07), ("O2", "OO", 493.6), ("N2", "NN", 941.6)]
+
+
+@pytest.mark.parametrize("name, atoms, d0", DIATOMICS, ids=[d[0] for d in DIATOMICS])
+def test_atomization_of_an_element_gives_zero(name, atoms, d0):
+    # an element in its reference state has dfH = 0 (0 K, gaseous diatomic): the atomic heats of formation of
+    # JANAF and the spectroscopic D0 meet to within their uncertainties (~0.2 kJ/mol)
+    e_atom = -1.0
+    e0 = 2 * e_atom - d0 / KJ_MOL_PER_EH
+    d0_computed = atomization_energy(e0, [e_atom, e_atom]) * KJ_MOL_PER_EH
+    assert d0_computed == pytest.approx(d0, abs=1e-9)
+    dfh = formation_enthalpy_0k([ELEMENT_REFERENCES[a].formation_0k for a in atoms], d0_computed)
+    assert dfh == pytest.approx(0.0, abs=0.2)
+
+
+def test_methane_worked_example():
+    # JANAF CH4: dfH(0 K) = -66.911, dfH(298.15) = -74.873, H298 - H0 = 10.016 kJ/mol; C(g) 711.185 and H(g)
+    # 216.035 at 0 K give D0(CH4) = 711.185 + 4 * 216.035 + 66.911 = 1642.236 kJ/mol. The 298 K value follows
+    # from Curtiss's eq. 2 with graphite's 1.051 and half of H2's 8.468 per H
+    d0 = 711.185 + 4 * 216.035 + 66.911
+    e = {"C": -37.8, "H": -0.5}
+    e0 = e["C"] + 4 * e["H"] - d0 / KJ_MOL_PER_EH
+    symbols = ["C", "H", "H", "H", "H"]
+    d0_computed = atomization_energy(e0, [e[s] for s in symbols]) * KJ_MOL_PER_EH
+    dfh0 = formation_enthalpy_0k([ELEMENT_REFERENCES[s].formation_0k for s in symbols], d0_computed)
+    assert dfh0 == pytest.approx(-66.911, abs=1e-6)
+    dfh298 = formation_enthalpy_298(dfh0, 10.016, [ELEMENT_REFERENCES[s].increment for s in symbols])
+    assert dfh298 == pytest.approx(-74.873, abs=0.01)
+
+
+def test_298_minus_0_from_the_engine_matches_janaf():
+    # dfH(298) - dfH(0) = [H(298) - H(0)](engine) - sum of the elements' increments; JANAF: CH4 -74.873 - (-66.911)
+    # = -7.962, H2O(g) -241.826 - (-238.921) = -2.905 kJ/mol. Experimental geometries and fundamentals from memory
+    # (shared with the gri30 test); the RRHO H(298) - H(0) is within ~0.05 kJ/mol of JANAF for such stiff molecules
+    for name, expected in (("CH4", -7.962), ("H2O", -2.905)):
+        (symbols, xyz), freqs, mult, sigma = MOLECULES[name]
+        mol = Molecule(symbols, xyz, freqs, multiplicity=mult, symmetry_number=sigma)
+        r = thermochemistry(mol, Conditions(temperature=298.15, low_mode_model="rrho", standard_state="1atm"))
+        s = FormationInput(name, tuple(symbols), "exp", float(r.electronic_energy + r.zpe), float(r.enthalpy))
+        increments = [ELEMENT_REFERENCES[el].increment for el in symbols]
+        assert formation_enthalpy_298(0.0, s.thermal_kj_mol, increments) == pytest.approx(expected, abs=0.06)
+
+
+def test_reaction_route_is_hess_law():
+    # JANAF dfH(298): CH3 145.69, CH4 -74.873, H 217.999, H2 0 -> dH_r(CH4 + H -> CH3 + H2) = 2.564 kJ/mol
+    dh = 145.69 + 0.0 - (-74.873) - 217.999
+    assert reaction_route(dh, 1.0, [(-1.0, -74.873), (-1.0, 217.999), (1.0, 0.0)]) == pytest.approx(145.69)
+    assert reaction_route(dh, -1.0, [(-1.0, 217.999), (1.0, 145.69), (1.0, 0.0)]) == pytest.approx(-74.873)
+
+
+def _janaf_species():
+    """Species whose computed energies reproduce JANAF exactly (0 K D0 from JANAF dfH(0 K), H298 - H0 from
+    JANAF): H2O(g) dfH0 -238.921, H298-H0 9.904; OH dfH0 37.25 (from memory), H298-H0 9.172; atoms' 6.197
+    (5/2 RT). Energies of the atoms are arbitrary: only differences enter."""
+    e_h, e_o = -0.5, -75.0
+    rt52 = 2.5 * 8.314462618e-3 * 298.15
+
+    def molecule(name, symbols, dfh0, thermal):
+        d0 = sum(ELEMENT_REFERENCES[s].formation_0k for s in symbols) - dfh0
+        e0 = sum({"H": e_h, "O": e_o}[s] for s in symbols) - d0 / KJ_MOL_PER_EH
+        return FormationInput(name, tuple(symbols), "L", e0, e0 + thermal / KJ_MOL_PER_EH)
+
+    return {
+        "h": FormationInput("h", ("H",), "L", e_h, e_h + rt52 / KJ_MOL_PER_EH),
+        "o": FormationInput("o", ("O",), "L", e_o, e_o + rt52 / KJ_MOL_PER_EH),
+        "water": molecule("water", ["O", "H", "H"], -238.921, 9.904),
+        "oh": molecule("oh", ["O", "H"], 37.25, 9.172),
+    }
+
+
+def test_routes_on_consistent_data():
+    inputs = _janaf_species()
+    scheme = FormationScheme(atoms=["h", "o"], references={"water": (-241.826, "JANAF"), "h": (217.999, "JANAF")},
+                             reactions={"oh": ("split", [(1.0, "water")], [(1.0, "oh"), (1.0, "h")])})
+    rows, notes = heats_of_formation(inputs, scheme)
+    assert notes == []
+    table = {(r["species"], r["route"].split()[0]): r for r in rows}
+    # atomization of water: JANAF dfH(298) of H2O(g), -241.826 kJ/mol
+    assert table["water", "atomization"]["dfH_298_kJ_mol"] == pytest.approx(-241.826, abs=0.01)
+    # the H atom's own atomization value is the experimental one (217.999 at 298 K)
+    assert table["h", "atomization"]["dfH_298_kJ_mol"] == pytest.approx(217.999, abs=0.01)
+    # OH by the reaction water -> OH + H: JANAF-consistent dfH(298) of OH = 37.25 + 9.172 - 8.683/2 - 8.468/2
+    expected_oh = 37.25 + 9.172 - 8.683 / 2 - 8.468 / 2
+    assert table["oh", "reaction"]["dfH_298_kJ_mol"] == pytest.approx(expected_oh, abs=0.01)
+    assert table["oh", "reaction"]["dfH_0K_kJ_mol"] == pytest.approx(37.25, abs=0.01)
+    # the route NASA-7 data take: the reference value first, then the reaction, then atomization
+    chosen = {r["species"]: r["route"] for r in rows if r["nasa7"]}
+    assert chosen == {"water": "reference value", "h": "reference value", "oh": "reaction split", "o": "atomization"}
+
+
+def test_corrections_and_missing_atoms():
+    inputs = _janaf_species()
+    inputs["water"] = FormationInput("water", ("O", "H", "H"), "L", inputs["water"].e0, inputs["water"].h298,
+                                     bonds=("H-O", "H-O"))
+    plain, _ = heats_of_formation(inputs, FormationScheme(atoms=["h", "o"]))
+    corrected, _ = heats_of_formation(inputs, FormationScheme(atoms=["h", "o"], atom_corrections={"O": 1.0},
+                                                             bond_corrections={"H-O": -2.0}))
+    value = {r["species"]: r["dfH_298_kJ_mol"] for r in plain}
+    shifted = {r["species"]: r["dfH_298_kJ_mol"] for r in corrected}
+    assert shifted["water"] - value["water"] == pytest.approx(1.0 - 4.0)
+    # without the O atom, only H has a value, and the others say why
+    rows, notes = heats_of_formation(inputs, FormationScheme(atoms=["h"]))
+    assert {r["species"] for r in rows} == {"h"}
+    assert any(n == "water" and "no atom energy at L for O" in why for n, why in notes)
+
+
+def test_bonds_of_methane(samples):
+    import qcthermo
+
+    calc = qcthermo.read_log(samples / "gas" / "ch4.out")
+    assert sorted(bonds(calc.symbols, calc.coordinates)) == ["C-H"] * 4
+    assert bonds(["H"], np.zeros((1, 3))) == []
