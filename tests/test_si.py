@@ -143,3 +143,26 @@ def test_si_of_a_real_run(sample_run, tmp_path):
         done = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", tex.name], cwd=tmp_path,
                               capture_output=True, text=True, timeout=120)
         assert done.returncode == 0, done.stdout[-2000:]
+
+
+def test_composite_species_name_their_single_point_file(samples, tmp_path):
+    # sample_outputs/reactions.toml pairs gas/ch4.out (B3LYP frequencies) with sp/ch4_mp2.out (MP2 energy)
+    ch4 = qcthermo.read_log(samples / "gas/ch4.out")
+    sp = qcthermo.read_log(samples / "sp/ch4_mp2.out")
+    cond = Conditions(standard_state="1M")
+    run = SimpleNamespace(conditions=cond, settings={"directory": str(samples)},
+                          species_results={"ch4": build_species("ch4", [ch4], cond, single_points=[sp])})
+    md, tex = write_si(run, tmp_path)
+    assert "| file | gas/ch4.out |" in md.read_text()
+    assert "| single-point file | sp/ch4\\_mp2.out |" in md.read_text()
+    # the energy shown is the single point's, as NWChem prints it ("Total MP2 energy")
+    energy = last_printed(samples / "sp/ch4_mp2.out", r"Total MP2 energy\s+(-?\d+\.\d+)")
+    assert f"| E / Eh | {energy:.6f} |" in md.read_text()
+    assert r"single-point file & sp/ch4\_mp2.out \\" in tex.read_text()
+
+
+def test_latex_uses_scalable_fonts(run_like, tmp_path):
+    # T1 encoding without a scalable font family falls back to bitmap (Type 3) EC fonts in the PDF
+    _, tex = write_si(run_like, tmp_path)
+    preamble = tex.read_text().split(r"\begin{document}")[0]
+    assert r"\usepackage[T1]{fontenc}" in preamble and r"\usepackage{lmodern}" in preamble

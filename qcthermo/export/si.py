@@ -30,6 +30,7 @@ class SpeciesBlock:
     multiplicity: int | None
     level: str | None
     source: str
+    single_point_source: str | None
     point_group: str | None
     symmetry_number: int | None
     energies: dict[str, float]  # display name -> hartree, in document order
@@ -73,6 +74,7 @@ def species_block(species, index: int = 0, model: str = "rrho") -> SpeciesBlock 
         multiplicity=calc.multiplicity,
         level=conf.level,
         source=str(calc.path),
+        single_point_source=str(conf.single_point.path) if conf.single_point is not None else None,
         point_group=thermo.point_group if thermo is not None else None,
         symmetry_number=thermo.symmetry_number if thermo is not None else None,
         energies=_energies(conf.values, index, model),
@@ -106,6 +108,8 @@ def run_blocks(results) -> tuple[list[SpeciesBlock], list[str]]:
             left_out.append(name)
             continue
         block.source = _relative_source(block.source, root)
+        if block.single_point_source is not None:
+            block.single_point_source = _relative_source(block.single_point_source, root)
         blocks.append(block)
     return blocks, left_out
 
@@ -133,6 +137,7 @@ def _properties(block: SpeciesBlock) -> list[tuple[str, str]]:
         ("charge, multiplicity", f"{block.charge}, {block.multiplicity if block.multiplicity else 'unknown'}"),
         ("level of theory", block.level or "unknown"),
         ("file", block.source),
+        *([("single-point file", block.single_point_source)] if block.single_point_source else []),
         ("point group (symmetry number)", f"{block.point_group or 'unknown'} ({block.symmetry_number or '?'})"),
     ]
     rows += [(f"{label} / Eh", f"{value:.6f}") for label, value in block.energies.items()]
@@ -216,6 +221,7 @@ def _tex_value(value: str) -> str:
 TEX_PREAMBLE = r"""\documentclass[10pt]{article}
 \usepackage[T1]{fontenc}
 \usepackage[utf8]{inputenc}
+\usepackage{lmodern}
 \usepackage[margin=2.5cm]{geometry}
 \usepackage{booktabs}
 \usepackage{longtable}
