@@ -25,6 +25,7 @@ from typing import Any
 import numpy as np
 
 from .errors import ReactionFileError
+from .formation import FormationScheme, normalise_bond
 from .records import LOW_MODE_MODELS, Conditions, parse_standard_state
 
 #: keys of [conditions]: the fields of qcthermo.Conditions a file may set
@@ -41,7 +42,9 @@ PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "
 #: presentation keys of a profile, passed to the figures as given (after a type check)
 PRESENTATION_TYPES: dict[str, tuple[type, ...]] = {"color": (str,), "label_states": (list,), "style": (str,),
                                                    "order": (int, float), "overlay": (str,)}
-TOP_KEYS = ("conditions", "ensemble", "species", "reaction", "profile")
+#: keys of [heats_of_formation] (docs/formation.md)
+FORMATION_KEYS = ("atoms", "references", "reactions", "atom_corrections", "bond_corrections")
+TOP_KEYS = ("conditions", "ensemble", "species", "reaction", "profile", "heats_of_formation")
 IMAGINARY_POLICIES = ("error", "invert", "drop")
 TUNNELLING = ("eckart", "wigner", "none")
 
@@ -149,6 +152,7 @@ class ReactionFile:
         conditions: the [conditions] keys, ready for ``conditions_from_args(..., file_settings=...)``.
         ensemble: [ensemble] settings merged with :data:`ENSEMBLE_DEFAULTS`.
         species, reactions, profiles: the tables in file order.
+        heats_of_formation: the [heats_of_formation] table, reactions resolved (None when absent).
         text: the file's text (to find lines for later errors, e.g. balance).
     """
 
@@ -159,6 +163,7 @@ class ReactionFile:
     reactions: list[ReactionSpec]
     profiles: list[ProfileSpec]
     text: str = ""
+    heats_of_formation: FormationScheme | None = None
 
     def error(self, message: str, line: int | None = None) -> ReactionFileError:
         """A ReactionFileError "FILE, line N: message"."""
@@ -358,7 +363,9 @@ class _Parser:
         species = {name: self.species(name, table) for name, table in species_tables.items()}
         reactions = self.reactions(data.get("reaction", []), species)
         profiles = self.profiles(data.get("profile", []), species)
-        return ReactionFile(self.path, conditions, ensemble, species, reactions, profiles, self.text)
+        formation = self.formation(data["heats_of_formation"], species, reactions) \
+            if "heats_of_formation" in data else None
+        return ReactionFile(self.path, conditions, ensemble, species, reactions, profiles, self.text, formation)
 
     def conditions(self, table: Any) -> dict[str, Any]:
         """Each key checked for its type here and for its range by Conditions itself, with the key's line."""
@@ -601,6 +608,62 @@ class _Parser:
             out.append(ProfileSpec(name, states, labels, cyclic, self.presentation(table, what, labels, key_line),
                                    line))
         return out
+
+    def formation(self, table: Any, species: dict, reactions: list[ReactionSpec]) -> FormationScheme:
+        """[heats_of_formation]: atoms (species), references {species = kJ/mol or {value, source}}, reactions
+        {species = reaction name}, atom_corrections {element = kJ/mol}, bond_corrections {"C-H" = kJ/mol}."""
+        line = (self.where.header("heats_of_formation") or [self.where.key(0, "heats_of_formation")])[0]
+        what = "[heats_of_formation]"
+        self.check_keys(self.table(table, what, line), FORMATION_KEYS, what, line)
+        key_line = partial(self.where.key, line)
+        scheme = FormationScheme()
+        atoms = table.get("atoms", [])
+        if not isinstance(atoms, list) or not all(isinstance(a, str) for a in atoms):
+            self.fail(f"{what} atoms must be a list of species names, not {_show(atoms)}", key_line("atoms"))
+        for name in atoms:
+            if name not in species:
+                self.unknown_species(f"{what} atoms", name, species, key_line("atoms"))
+        scheme.atoms = list(dict.fromkeys(atoms))
+        references = self.table(table.get("references", {}), f"{what} references", key_line("references"))
+        for name, value in references.items():
+            scheme.references[name] = self.reference_value(name, value, species, key_line("references"))
+        by_name = {r.name: r for r in reactions}
+        for name, value in self.table(table.get("reactions", {}), f"{what} reactions", key_line("reactions")).items():
+            at = key_line("reactions")
+            if name not in species:
+                self.unknown_species(f"{what} reactions", name, species, at)
+            if not isinstance(value, str) or value not in by_name:
+                self.fail(f"{what} reactions: {name} = {_show(value)} is not the name of a [[reaction]]", at)
+            r = by_name[value]
+            if name not in {n for _, n in r.reactants + r.products}:
+                self.fail(f"{what} reactions: reaction {value!r} does not hold {name!r}", at)
+            scheme.reactions[name] = (value, r.reactants, r.products)
+        for key in ("atom_corrections", "bond_corrections"):
+            at = key_line(key)
+            for label, value in self.table(table.get(key, {}), f"{what} {key}", at).items():
+                if not _is_number(value):
+                    self.fail(f"{what} {key}: {label} = {_show(value)} is not a number (kJ/mol)", at)
+                if key == "bond_corrections":
+                    try:
+                        label = normalise_bond(label)
+                    except ValueError as err:
+                        self.fail(f"{what} {key}: {err}", at)
+                elif not re.fullmatch(r"[A-Z][a-z]?", label):
+                    self.fail(f"{what} {key}: {_show(label)} is not an element symbol", at)
+                getattr(scheme, key)[label] = float(value)
+        return scheme
+
+    def reference_value(self, name: str, value: Any, species: dict, line: int | None) -> tuple[float, str]:
+        """A reference heat of formation: kJ/mol at 298.15 K, alone or as {value = ..., source = "..."}."""
+        what = f"[heats_of_formation] references: {name}"
+        if name not in species:
+            self.unknown_species("[heats_of_formation] references", name, species, line)
+        table = value if isinstance(value, dict) else {"value": value}
+        if set(table) - {"value", "source"} or not _is_number(table.get("value")):
+            self.fail(f"{what} = {_show(value)}: expected kJ/mol at 298.15 K, or {{value = ..., source = \"...\"}}",
+                      line)
+        source = self.check_text(table["source"], f"{what} source", line) if "source" in table else ""
+        return float(table["value"]), source
 
     def presentation(self, table: dict, what: str, labels: list[str], key_line) -> dict[str, Any]:
         """The figure keys of a profile, each of its type (strings usable as text, a finite order)."""

@@ -70,6 +70,8 @@ class RunResults:
         energy_span: one row per cyclic profile and temperature, or None.
         reaction_file: the parsed reaction file, or None.
         survey_result: the :class:`qcthermo.survey.SurveyResult` behind ``survey``.
+        heats_of_formation: one row per species and route (docs/formation.md), or None without a
+            [heats_of_formation] table.
     """
 
     settings: dict[str, Any]
@@ -86,6 +88,7 @@ class RunResults:
     energy_span: Any = None
     reaction_file: ReactionFile | None = None
     survey_result: Any = None
+    heats_of_formation: Any = None
 
     @property
     def temperatures(self) -> np.ndarray:
@@ -462,8 +465,55 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
         survey_result=survey_result,
     )
     add_kinetics(results, energetics)
+    results.heats_of_formation = _heats_of_formation(rf, species, conditions, results.findings)
     results.findings = _sorted_findings(results.findings)
     return results
+
+
+def _heats_of_formation(rf: ReactionFile | None, species: dict[str, SpeciesResult], conditions: Conditions,
+                        findings: list[Finding]) -> Any:
+    """heats_of_formation.csv as a DataFrame, or None without [heats_of_formation]; the science is
+    :func:`qcthermo.formation.heats_of_formation`. Each minimum's H(298.15 K) is its ensemble enthalpy under
+    the NASA-7 fits' low-mode model (export.nasa7.fit_model), so that thermo.yaml's h(298.15) is the table's
+    value; H(0) is E + ZPE of its lowest conformer (the only one populated at 0 K)."""
+    if rf is None or rf.heats_of_formation is None:
+        return None
+    import pandas as pd
+
+    from .export.nasa7 import fit_model
+    from .formation import FormationInput, bonds, heats_of_formation
+    from .species import species_thermo
+
+    scheme = rf.heats_of_formation
+    cond = conditions.replace(temperature=np.array([298.15]), standard_state="1atm", pressure=None,
+                              low_mode_model=fit_model(conditions.low_mode_model)[0])
+    inputs = {}
+    for name, s in species.items():
+        if not s.usable or s.options.transition_state:
+            continue
+        st = species_thermo(s, cond)
+        calc = s.lowest.calculation
+        inputs[name] = FormationInput(
+            name, tuple(calc.symbols), s.levels[0].split("//")[0],
+            min(float(c.values["E"][0] + c.values["ZPE"][0]) for c in st.conformers), float(st.values["H"][0]),
+            tuple(bonds(calc.symbols, calc.coordinates)) if scheme.bond_corrections else (),
+            gas=s.reference.solvent_model is None)
+    findings += [Finding("warning", n, f"species {n!r} is in [heats_of_formation] atoms but is not a single atom")
+                 for n in scheme.atoms if n in inputs and len(inputs[n].symbols) != 1]
+    rows, notes = heats_of_formation(inputs, scheme)
+    findings += [Finding("warning", n, message) for n, message in notes]
+    return pd.DataFrame(rows)
+
+
+def formation_caption(results: RunResults) -> str:
+    """The caption of heats_of_formation.csv/md/tex: units, temperatures, sources, the model of H(298) - H(0)."""
+    from .export.nasa7 import fit_model
+
+    model = fit_model(results.conditions.low_mode_model)[0]
+    return ("Standard heats of formation of the gas-phase species, kJ/mol, at 0 K and 298.15 K (1 atm); routes: "
+            "atomization (Curtiss et al., J. Chem. Phys. 1997, 106, 1063; atomic data NIST-JANAF), reference values "
+            "and reference reactions as given; H(298.15) - H(0) from the ideal-gas model with low-mode model "
+            f"{MODEL_NAMES[model]}; the NASA-7 column marks the value thermo.yaml and thermo.dat use.")
 
 
 def _standard_state_warnings(species: dict[str, SpeciesResult], conditions: Conditions) -> list[Finding]:
@@ -779,6 +829,8 @@ def run_json(results: RunResults, written: list[Path]) -> str:
                                        for c in s.conformers]}
                     for n, s in results.species_results.items()},
         "reactions": results.reactions.to_dict(orient="records") if len(results.reactions) else [],
+        "heats_of_formation": results.heats_of_formation.to_dict(orient="records")
+        if results.heats_of_formation is not None else None,
         "files": sorted(p.name for p in written),
     }
     return json_text(doc, indent=2)  # strict JSON: NaN and inf as null, file names in their display form
@@ -800,6 +852,10 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
                                 f"free energies of activation, {results.energy_unit}; "
                                 f"{display(caption_context(results, names))}.",
                                 [display(n) for n in _table_notes(results, subjects)])
+    if results.heats_of_formation is not None and len(results.heats_of_formation):
+        written += _write_table(results.heats_of_formation, out_dir, "heats_of_formation",
+                                formation_caption(results), [display(n) for n in _table_notes(
+                                    results, set(results.heats_of_formation["species"]))])
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):

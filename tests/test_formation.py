@@ -153,3 +153,102 @@ def test_bonds_of_methane(samples):
     calc = qcthermo.read_log(samples / "gas" / "ch4.out")
     assert sorted(bonds(calc.symbols, calc.coordinates)) == ["C-H"] * 4
     assert bonds(["H"], np.zeros((1, 3))) == []
+
+
+# -- the main job on the sample scenario -------------------------------------------------------------------
+
+
+@pytest.fixture(scope="module")
+def sample_results():
+    """The sample scenario (sample_outputs/reactions.toml, its [heats_of_formation]) over 300-1000 K."""
+    from conftest import SAMPLES
+
+    import qcthermo
+    from qcthermo.reactions import load_reaction_file
+    from qcthermo.workflow import default_conditions
+
+    rf = load_reaction_file(SAMPLES / "reactions.toml")
+    cond = default_conditions(rf).replace(temperature=np.arange(300.0, 1001.0, 100.0))
+    return qcthermo.run(SAMPLES, reactions=rf, conditions=cond, jobs=1, cache=False)
+
+
+def _row(results, species, route):
+    table = results.heats_of_formation
+    return table[(table["species"] == species) & table["route"].str.startswith(route)].iloc[0]
+
+
+def test_sample_atomization_of_methane_from_the_logs(sample_results):
+    # numbers printed in the logs: MP2 energies (sp/ch4_mp2.out -40.411508166426, sp/c_atom_mp2.out
+    # -37.758487696279, sp/h_atom_mp2.out -0.499809811302) and gas/ch4.out's "Zero-Point correction to Energy"
+    # 0.045197 au and "Thermal correction to Enthalpy" 0.049004 au
+    d0 = (-37.758487696279 + 4 * -0.499809811302 - (-40.411508166426 + 0.045197)) * KJ_MOL_PER_EH
+    row = _row(sample_results, "ch4", "atomization")
+    assert row["atomization_energy_kJ_mol"] == pytest.approx(d0, abs=0.1)
+    assert row["H298_minus_H0_kJ_mol"] == pytest.approx((0.049004 - 0.045197) * KJ_MOL_PER_EH, abs=0.02)
+    assert row["dfH_0K_kJ_mol"] == pytest.approx(711.185 + 4 * 216.035 - d0, abs=0.1)  # JANAF atoms (above)
+    assert row["level"] == "MP2/cc-pVTZ" and not row["nasa7"]
+
+
+def test_sample_reference_reaction_route(sample_results):
+    # CH3 from CH4 + H -> CH3 + H2 with the JANAF values of reactions.toml: dfH(CH3) = dH_r + dfH(CH4) + dfH(H)
+    # - dfH(H2), dH_r from the species table's H at 298.15 K (qrrho-enthalpy = RRHO for these stiff molecules)
+    from conftest import SAMPLES
+
+    import qcthermo
+
+    one = qcthermo.run(SAMPLES, reactions=SAMPLES / "reactions.toml", jobs=1, cache=False)
+    h = one.species.set_index("species")["H_Eh"]
+    dh = (h["ch3"] + h["h2"] - h["ch4"] - h["h"]) * KJ_MOL_PER_EH
+    row = _row(sample_results, "ch3", "reaction h_abstraction")
+    assert row["dfH_298_kJ_mol"] == pytest.approx(dh - 74.873 + 217.999, abs=0.01)
+    assert row["nasa7"]
+    assert _row(sample_results, "ch4", "reference value")["nasa7"]
+    assert _row(sample_results, "ch4", "reference value")["source"].startswith("NIST-JANAF")
+    # no atoms at GFN2-xTB: pentane has no value, and the run says why
+    assert "pentane" not in set(sample_results.heats_of_formation["species"])
+    assert any(f.subject == "pentane" and "no atom energy at GFN2-xTB" in f.message for f in sample_results.findings)
+
+
+def test_sample_tables_and_run_json(sample_results, tmp_path):
+    import json
+
+    import pandas as pd
+
+    written = {p.name for p in sample_results.write(tmp_path / "out")}
+    assert {"heats_of_formation.csv", "heats_of_formation.md", "heats_of_formation.tex"} <= written
+    table = pd.read_csv(tmp_path / "out" / "heats_of_formation.csv")
+    assert len(table) == len(sample_results.heats_of_formation)
+    assert {"atomization", "reference value", "reaction h_abstraction"} <= set(table["route"])
+    doc = json.loads((tmp_path / "out" / "run.json").read_text())
+    assert {r["species"] for r in doc["heats_of_formation"]} == set(table["species"])
+    assert "ΔfH°(298.15 K)" in (tmp_path / "out" / "heats_of_formation.md").read_text()
+
+
+BAD_FORMATION = [
+    ('atoms = ["nope"]', "unknown species 'nope'"),
+    ("references = { ch4 = \"x\" }", "expected kJ/mol at 298.15 K"),
+    ('reactions = { ch3 = "missing" }', "is not the name of a [[reaction]]"),
+    ('reactions = { hcn = "h_abstraction" }', "does not hold 'hcn'"),
+    ('bond_corrections = { "C=H" = 1.0 }', "expected two element symbols"),
+    ("atom_corrections = { Xyz = 1.0 }", "is not an element symbol"),
+    ("colour = 1", "unknown key 'colour'"),
+]
+
+
+@pytest.mark.parametrize("line, message", BAD_FORMATION, ids=[b[1] for b in BAD_FORMATION])
+def test_bad_formation_table_is_one_line_with_its_line(samples, tmp_path, line, message):
+    from qcthermo.errors import ReactionFileError
+    from qcthermo.reactions import load_reaction_file
+
+    text = (samples / "reactions.toml").read_text()
+    start = text.index("[heats_of_formation]")
+    end = text.index("\n\n", start)
+    path = tmp_path / "reactions.toml"
+    body = text[:start] + "[heats_of_formation]\n" + line + "\n" + text[end:]
+    path.write_text(body.replace('"gas/', f'"{samples.as_posix()}/gas/').replace('"sp/', f'"{samples.as_posix()}/sp/')
+                    .replace('"solvent/', f'"{samples.as_posix()}/solvent/')
+                    .replace('"conformers/', f'"{samples.as_posix()}/conformers/'))
+    with pytest.raises(ReactionFileError) as err:
+        load_reaction_file(path)
+    assert message in str(err.value) and "\n" not in str(err.value)
+    assert f"line {body[:body.index(line)].count(chr(10)) + 1}" in str(err.value)

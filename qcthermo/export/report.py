@@ -129,7 +129,8 @@ def _figures_section(results) -> str:
 
 
 #: further tables of a run, shown only when the run has them: attribute -> (anchor, heading)
-OPTIONAL_TABLES = {"arrhenius": ("arrhenius-fits", "Arrhenius fits"), "energy_span": ("energy-span", "Energy span")}
+OPTIONAL_TABLES = {"arrhenius": ("arrhenius-fits", "Arrhenius fits"), "energy_span": ("energy-span", "Energy span"),
+                   "heats_of_formation": ("heats-of-formation", "Heats of formation")}
 
 
 def _optional_tables(results) -> list[str]:

@@ -114,8 +114,21 @@ WORDS = {
     "notes": "Notes",
     "k_unit": "Unit of k",
     "symmetry_number": "σ",
+    "route": "Route",
+    "source": "Source",
+    "nasa7": "NASA-7",
+    "dfH_0K_kJ_mol": "ΔfH°(0 K) / kJ mol⁻¹",
+    "dfH_298_kJ_mol": "ΔfH°(298.15 K) / kJ mol⁻¹",
+    "H298_minus_H0_kJ_mol": "H(298.15 K) − H(0) / kJ mol⁻¹",
+    "atomization_energy_kJ_mol": "ΣD₀ / kJ mol⁻¹",
+    "correction_kJ_mol": "Correction / kJ mol⁻¹",
 }
-WORDS_TEX = {"symmetry_number": r"$\sigma$"}
+WORDS_TEX = {"symmetry_number": r"$\sigma$",
+             "dfH_0K_kJ_mol": r"$\Delta_{\mathrm{f}}H^{\circ}(0\,\mathrm{K})$ / kJ\,mol$^{-1}$",
+             "dfH_298_kJ_mol": r"$\Delta_{\mathrm{f}}H^{\circ}(298.15\,\mathrm{K})$ / kJ\,mol$^{-1}$",
+             "H298_minus_H0_kJ_mol": r"$H(298.15\,\mathrm{K}) - H(0)$ / kJ\,mol$^{-1}$",
+             "atomization_energy_kJ_mol": r"$\sum D_0$ / kJ\,mol$^{-1}$",
+             "correction_kJ_mol": r"Correction / kJ\,mol$^{-1}$"}
 
 #: number formats by name; "int" and "text" are decided from the data
 NUMBER_FORMATS = {
