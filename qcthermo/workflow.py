@@ -466,6 +466,9 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     )
     add_kinetics(results, energetics)
     results.heats_of_formation = _heats_of_formation(rf, species, conditions, results.findings)
+    from .export.nasa7 import run_enthalpy_reference
+
+    results.settings["nasa7_enthalpy_reference"] = run_enthalpy_reference(results)[1][0]
     results.findings = _sorted_findings(results.findings)
     return results
 

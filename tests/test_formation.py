@@ -172,6 +172,14 @@ def sample_results():
     return qcthermo.run(SAMPLES, reactions=rf, conditions=cond, jobs=1, cache=False)
 
 
+@pytest.fixture(scope="module")
+def sample_out(sample_results, tmp_path_factory):
+    """The sample run's files."""
+    out = tmp_path_factory.mktemp("formation") / "out"
+    sample_results.write(out)
+    return out
+
+
 def _row(results, species, route):
     table = results.heats_of_formation
     return table[(table["species"] == species) & table["route"].str.startswith(route)].iloc[0]
@@ -209,19 +217,74 @@ def test_sample_reference_reaction_route(sample_results):
     assert any(f.subject == "pentane" and "no atom energy at GFN2-xTB" in f.message for f in sample_results.findings)
 
 
-def test_sample_tables_and_run_json(sample_results, tmp_path):
+def test_sample_tables_and_run_json(sample_results, sample_out):
     import json
 
     import pandas as pd
 
-    written = {p.name for p in sample_results.write(tmp_path / "out")}
-    assert {"heats_of_formation.csv", "heats_of_formation.md", "heats_of_formation.tex"} <= written
-    table = pd.read_csv(tmp_path / "out" / "heats_of_formation.csv")
+    table = pd.read_csv(sample_out / "heats_of_formation.csv")
     assert len(table) == len(sample_results.heats_of_formation)
     assert {"atomization", "reference value", "reaction h_abstraction"} <= set(table["route"])
-    doc = json.loads((tmp_path / "out" / "run.json").read_text())
+    doc = json.loads((sample_out / "run.json").read_text())
     assert {r["species"] for r in doc["heats_of_formation"]} == set(table["species"])
-    assert "ΔfH°(298.15 K)" in (tmp_path / "out" / "heats_of_formation.md").read_text()
+    assert "ΔfH°(298.15 K)" in (sample_out / "heats_of_formation.md").read_text()
+    assert doc["settings"]["nasa7_enthalpy_reference"].startswith("ENTHALPY REFERENCE: standard heats of formation")
+    assert "Heats of formation" in (sample_out / "report.html").read_text()
+
+
+def test_cantera_reads_the_heats_of_formation_back(sample_results, sample_out):
+    # Cantera (the outside reader) loads thermo.yaml: h(298.15 K) of every species is the table's dfH(298.15)
+    # (the NASA convention, McBride et al. 1993: a6 fixed by the heat of formation), and cp is the engine's
+    # within the fit's own stated error
+    import cantera as ct
+    import pandas as pd
+
+    from qcthermo.export.nasa7 import fit_model
+    from qcthermo.species import species_thermo
+    from qcthermo.units import entropy_to_j_mol_k
+
+    gas = ct.Solution(str(sample_out / "thermo.yaml"))
+    table = pd.read_csv(sample_out / "heats_of_formation.csv")
+    chosen = table[table["nasa7"]].set_index("species")["dfH_298_kJ_mol"]
+    assert set(gas.species_names) == set(chosen.index)
+    gas.TP = 298.15, ct.one_atm
+    h = dict(zip(gas.species_names, gas.standard_enthalpies_RT * ct.gas_constant * 298.15 / 1e6, strict=True))
+    for name, value in chosen.items():
+        assert h[name] == pytest.approx(value, abs=1e-6)
+    assert h["ch4"] == pytest.approx(-74.873, abs=1e-6)  # JANAF, as reactions.toml gives it
+    cond = sample_results.conditions.replace(temperature=np.array([298.15, 1000.0]), standard_state="1atm",
+                                             low_mode_model=fit_model(sample_results.conditions.low_mode_model)[0])
+    for name in ("ch3", "hcn", "water_gas"):
+        engine = entropy_to_j_mol_k(species_thermo(sample_results.species_results[name], cond).values["cp"])
+        species = gas.species(name)
+        note = species.input_data["note"]
+        limit = float(note.split("cp within ")[1].split(" %")[0]) / 100
+        for t, cp in zip((298.15, 1000.0), engine, strict=True):
+            assert species.thermo.cp(t) / 1000 == pytest.approx(cp, rel=1.05 * limit + 1e-6)
+    # the left-out species are named at the top of the file, and in the findings
+    text = (sample_out / "thermo.yaml").read_text()
+    assert "left out (no heat of formation, so no place on this reference): formaldehyde" in text
+    assert any(f.subject == "pentane" and "left out of thermo.yaml" in f.message for f in sample_results.findings)
+
+
+def test_anchoring_against_gri30_methane():
+    # GRI-Mech 3.0 (Cantera's gri30.yaml) CH4: a fit of the engine's CH4 (experimental geometry and fundamentals,
+    # from memory) anchored at gri30's own h(298.15) follows gri30's h(T) within the RRHO model's error
+    import cantera as ct
+
+    from qcthermo.export.nasa7 import nasa7_from_molecule
+
+    gri = ct.Solution("gri30.yaml").species("CH4").thermo
+    (symbols, xyz), freqs, mult, sigma = MOLECULES["CH4"]
+    mol = Molecule(symbols, xyz, freqs, multiplicity=mult, symmetry_number=sigma)
+    fit = nasa7_from_molecule(mol, Conditions(low_mode_model="rrho"), t_low=298.15, h_reference=gri.h(298.15) / 1e6)
+    assert fit.enthalpy(298.15) == pytest.approx(gri.h(298.15) / 1000, abs=1e-6)
+    for t in (400.0, 500.0):  # J/mol
+        assert fit.enthalpy(t) == pytest.approx(gri.h(t) / 1000, abs=20.0)
+    # at 1000 K the harmonic model of the fundamentals misses anharmonic heat capacity: 1.2 % of h(T) - h(298.15)
+    rise = (gri.h(1000.0) - gri.h(298.15)) / 1000
+    assert fit.enthalpy(1000.0) - fit.enthalpy(298.15) == pytest.approx(rise, rel=0.02)
+    assert "heat of formation -74.600 kJ/mol" in fit.note  # gri30 CH4: -74.600 kJ/mol at 298.15 K
 
 
 BAD_FORMATION = [

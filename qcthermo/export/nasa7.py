@@ -223,7 +223,8 @@ def enthalpy_offset(symbols: Sequence[str], h_reference) -> tuple[float, str]:
     the same level of theory, and the atom's standard heat of formation at 298.15 K in kJ/mol —
     gives the atomisation-based heat of formation (Curtiss, Raghavachari, Redfern, Pople, J. Chem.
     Phys. 1997, 106, 1063): dHf(M, T) = H(M, T) + sum_atoms [dHf_atom - H_atom]. Both are a constant
-    per element, so reaction enthalpies within one mechanism are the same either way.
+    per element, so reaction enthalpies within one mechanism are the same either way. (The fitting
+    functions also take a number, a species' own heat of formation: :func:`anchored_at_298`.)
     """
     if isinstance(h_reference, str):
         if h_reference != "electronic":
@@ -280,14 +281,43 @@ def _gas_conditions(conditions: Conditions | None, grid: np.ndarray,
 def _fit_values(values: Mapping[str, np.ndarray], grid: np.ndarray, symbols: Sequence[str], name: str,
                 provenance: str, model_note: str, pressure: float, t_mid, h_reference) -> Nasa7Fit:
     """Fit H, S, cp (hartree per molecule, hartree/K over ``grid``) converted to molar units."""
-    offset, reference_note = enthalpy_offset(symbols, h_reference)
+    formation = _heat_of_formation(h_reference)
+    offset, reference_note = enthalpy_offset(symbols, "electronic" if formation is not None else h_reference)
     fit = fit_nasa7(grid, entropy_to_j_mol_k(values["cp"]), values["H"] * _EH_TO_J_MOL + offset,
                     entropy_to_j_mol_k(values["S"]), t_mid=t_mid, name=name, composition=Counter(symbols),
-                    note=f"qcthermo {hill_formula(symbols)} ({provenance}); {reference_note}",
                     reference_pressure=pressure)
+    if formation is not None:
+        fit = anchored_at_298(fit, 1000.0 * formation)
+        reference_note = f"h(298.15 K) is the heat of formation {formation:.3f} kJ/mol"
     quality = (f"fit: cp within {100 * fit.max_cp_rel_error:.2g} %, h within {fit.max_h_error:.2g} J/mol, "
                f"s within {fit.max_s_error:.2g} J/(mol K)")
-    return replace(fit, note=f"{fit.note}; {quality}", model_note=model_note)
+    return replace(fit, note=f"qcthermo {hill_formula(symbols)} ({provenance}); {reference_note}; {quality}",
+                   model_note=model_note)
+
+
+def _heat_of_formation(h_reference) -> float | None:
+    """The kJ/mol of a heat-of-formation reference (a number), else None."""
+    if isinstance(h_reference, (int, float, np.floating)) and not isinstance(h_reference, bool):
+        return float(h_reference)
+    return None
+
+
+#: the temperature at which a heat-of-formation reference fixes h, K (thermochemical tables' reference)
+T_REFERENCE = 298.15
+
+
+def anchored_at_298(fit: Nasa7Fit, dfh_298_j_mol: float) -> Nasa7Fit:
+    """The fit with a6 of both ranges shifted by one constant so that h(298.15 K) = ``dfh_298_j_mol`` exactly.
+
+    The convention of NASA thermochemical data (McBride, Gordon and Reno, NASA TM-4513, 1993: H(298.15) is
+    the standard heat of formation). One constant keeps h continuous at t_mid and leaves cp, s and the fit's
+    errors against its own (equally shifted) data unchanged.
+    """
+    shift = (dfh_298_j_mol - fit.enthalpy(T_REFERENCE)) / R_GAS
+    low, high = list(fit.low), list(fit.high)
+    low[5] += shift
+    high[5] += shift
+    return replace(fit, low=tuple(low), high=tuple(high))
 
 
 def _provenance(level: str | None, model: str, n_conformers: int) -> str:
@@ -311,7 +341,8 @@ def nasa7_from_molecule(
     (low-mode model as :func:`fit_model` says, scaling, ...; default Conditions()) but at the gas standard
     state ``reference_state`` ("1atm", the reference pressure of Chemkin and Cantera, or "1bar"), converted
     to molar units and fitted by :func:`fit_nasa7`. ``h_reference`` sets the enthalpy zero (see
-    :func:`enthalpy_offset`). ``t_mid="auto"`` picks the middle temperature per species (see
+    :func:`enthalpy_offset`; a number is the heat of formation at 298.15 K, kJ/mol:
+    :func:`anchored_at_298`). ``t_mid="auto"`` picks the middle temperature per species (see
     :func:`fit_nasa7`).
     """
     from ..thermo import thermochemistry
@@ -348,11 +379,41 @@ def nasa7_from_species(species, conditions: Conditions | None = None, t_low: flo
                        _provenance(levels, cond.low_mode_model, len(used)), model_note, pressure, t_mid, h_reference)
 
 
+#: the loud header line of NASA-7 files on the absolute-energy enthalpy reference
+ABSOLUTE_REFERENCE = ("ENTHALPY REFERENCE: absolute electronic energies of the level of theory (h = E + ZPE + thermal "
+                      "enthalpy), NOT heats of formation: these species combine only with each other, at one level "
+                      "of theory, and cannot be merged into another mechanism; a [heats_of_formation] table in the "
+                      "reaction file gives heats of formation (docs/formation.md)")
+FORMATION_REFERENCE = ("ENTHALPY REFERENCE: standard heats of formation, h(298.15 K) = dfH(298.15 K) of "
+                       "heats_of_formation.csv (each species' note names its route); the species can be merged into "
+                       "another mechanism on the same reference")
+
+
+def run_enthalpy_reference(results) -> tuple[dict[str, float] | None, list[str]]:
+    """The run's NASA-7 enthalpy reference: {species: dfH(298.15 K) kJ/mol} (None: absolute energies), and the
+    header lines that state it. Heats of formation are the reference whenever the run has some
+    (results.heats_of_formation); a species without one is then left out, since one file has one reference."""
+    from ..formation import preferred_values
+
+    table = getattr(results, "heats_of_formation", None)
+    values = preferred_values(table.to_dict(orient="records")) if table is not None and len(table) else {}
+    if not values:
+        return None, [ABSOLUTE_REFERENCE]
+    left_out = [n for n, sp in results.species_results.items()
+                if sp.usable and not sp.options.transition_state and n not in values]
+    lines = [FORMATION_REFERENCE]
+    if left_out:
+        lines.append("left out (no heat of formation, so no place on this reference): " + ", ".join(left_out))
+    return values, lines
+
+
 def write_run_thermo(results, out_dir) -> list:
     """thermo.yaml and thermo.dat of every minimum of a run (qcthermo.workflow.RunResults) into ``out_dir``.
 
     Each species gets its own middle temperature (``t_mid="auto"``): a common 1000 K leaves cp errors of
-    0.3-0.5 % for CH4 or pentane, the per-species choice about half or less (docs/kinetics.md).
+    0.3-0.5 % for CH4 or pentane, the per-species choice about half or less (docs/kinetics.md). The range
+    starts at 298.15 K, the reference temperature of heats of formation. The enthalpy reference is
+    :func:`run_enthalpy_reference`'s, stated at the top of both files.
 
     Transition states are left out (kinetics codes take them through the rate constants). A species
     that cannot be fitted, or a file that cannot be written (a name too long for Chemkin), becomes a
@@ -362,12 +423,18 @@ def write_run_thermo(results, out_dir) -> list:
 
     from ..species import Finding
 
+    formation, header = run_enthalpy_reference(results)
     fits = []
     for name, sp in results.species_results.items():
         if sp.options.transition_state or not sp.usable:
             continue
+        if formation is not None and name not in formation:
+            results.findings.append(Finding("warning", name, "left out of thermo.yaml and thermo.dat: no heat of "
+                                            "formation, and the files hold heats of formation"))
+            continue
         try:
-            fits.append(nasa7_from_species(sp, results.conditions, t_mid="auto"))
+            fits.append(nasa7_from_species(sp, results.conditions, t_low=T_REFERENCE, t_mid="auto",
+                                           h_reference=formation[name] if formation else "electronic"))
         except (QcthermoError, ValueError) as err:
             results.findings.append(Finding("warning", name, f"no NASA-7 fit: {err}"))
     if not fits:
@@ -375,7 +442,7 @@ def write_run_thermo(results, out_dir) -> list:
     written = []
     for file_name, writer in (("thermo.yaml", write_cantera_yaml), ("thermo.dat", write_chemkin)):
         try:
-            written.append(writer(fits, Path(out_dir) / file_name))
+            written.append(writer(fits, Path(out_dir) / file_name, header=header))
         except QcthermoError as err:
             results.findings.append(Finding("warning", file_name, f"not written: {err}"))
     return written
@@ -413,21 +480,23 @@ def _yaml_list(values: Sequence[float]) -> str:
     return "[" + ", ".join(repr(float(v)) for v in values) + "]"
 
 
-def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None = None, phase: str = "gas") -> str:
+def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None = None, phase: str = "gas",
+                      header: Sequence[str] = ()) -> str:
     """Cantera YAML text: one ideal-gas phase holding every species, each with its NASA-7 data.
 
     Follows Cantera's YAML input format (cantera.org, "YAML input file reference": phases, species,
     thermo model NASA7 with temperature-ranges, data (low range first) and reference-pressure).
-    Strings are written JSON-quoted, which YAML reads as they are.
+    Strings are written JSON-quoted, which YAML reads as they are. ``header``: comment lines (and parts of
+    the description) after the low-mode model's, e.g. the enthalpy reference.
     """
     import json
 
     _check_names(fits)
     element_list = _elements(fits, elements)
     description = "; ".join(["NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo",
-                             *_model_notes(fits)])
+                             *_model_notes(fits), *header])
     lines = [
-        *(f"# {note}" for note in _model_notes(fits)),
+        *(f"# {note}" for note in [*_model_notes(fits), *header]),
         "description: " + json.dumps(description),
         "generator: qcthermo",
         "units: {length: cm, time: s, quantity: mol, activation-energy: cal/mol}",
@@ -459,11 +528,10 @@ def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None =
     return "\n".join(lines) + "\n"
 
 
-def write_cantera_yaml(
-    fits: Sequence[Nasa7Fit], path: str | os.PathLike, elements: Sequence[str] | None = None, phase: str = "gas"
-):
+def write_cantera_yaml(fits: Sequence[Nasa7Fit], path: str | os.PathLike, elements: Sequence[str] | None = None,
+                       phase: str = "gas", header: Sequence[str] = ()):
     """Write :func:`cantera_yaml_text` atomically to ``path`` (e.g. thermo.yaml); return the path."""
-    return atomic_write(path, cantera_yaml_text(fits, elements, phase))
+    return atomic_write(path, cantera_yaml_text(fits, elements, phase, header))
 
 
 def _fortran_e(value: float) -> str:
@@ -495,13 +563,14 @@ def _chemkin_entry(fit: Nasa7Fit) -> list[str]:
     return lines
 
 
-def chemkin_text(fits: Sequence[Nasa7Fit]) -> str:
-    """Chemkin thermo text (thermo.dat): header, the common temperature ranges, one entry per species."""
+def chemkin_text(fits: Sequence[Nasa7Fit], header: Sequence[str] = ()) -> str:
+    """Chemkin thermo text (thermo.dat): header (``header`` lines after the model's), the common temperature
+    ranges, one entry per species."""
     _check_names(fits, max_length=18)
     if any(abs(fit.reference_pressure - ATM_PA) > 1e-6 for fit in fits):
         raise QcthermoError("Chemkin thermo data are at 1 atm; these fits are at another reference pressure")
     lines = ["! NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo (reference 1 atm)"]
-    lines += [f"! {note}" for note in _model_notes(fits)]
+    lines += [f"! {note}" for note in [*_model_notes(fits), *header]]
     lines += [f"! {fit.name}: {fit.note}" for fit in fits if fit.note]
     # the default ranges line: every entry carries its own ranges, which readers prefer
     t_mid = statistics.mode(fit.t_mid for fit in fits)
@@ -513,6 +582,6 @@ def chemkin_text(fits: Sequence[Nasa7Fit]) -> str:
     return "\n".join(lines) + "\n"
 
 
-def write_chemkin(fits: Sequence[Nasa7Fit], path: str | os.PathLike):
+def write_chemkin(fits: Sequence[Nasa7Fit], path: str | os.PathLike, header: Sequence[str] = ()):
     """Write :func:`chemkin_text` atomically to ``path`` (e.g. thermo.dat); return the path."""
-    return atomic_write(path, chemkin_text(fits))
+    return atomic_write(path, chemkin_text(fits, header))
