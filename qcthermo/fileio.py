@@ -17,6 +17,7 @@ import math
 import os
 import re
 import secrets
+import stat
 from collections.abc import Iterator
 from pathlib import Path
 from typing import IO, Any
@@ -25,7 +26,7 @@ from .errors import QcthermoError
 
 #: the codec error handler that writes an undecodable file-name byte as ``\xNN`` (see :func:`display`)
 DISPLAY_ERRORS = "qcthermo-display"
-#: what a run writes into --out (workflow.py); a directory holding nothing else is a run's, even a killed one's
+#: what a run writes into --out (workflow.py): such a file not listed in the folder's run.json is a user's
 RUN_OUTPUTS = (
     "run.json", "survey.csv", "species.*", "reactions.*", "rates.csv", "arrhenius.csv", "energy_span.csv",
     "coordinates.xyz", "thermo.yaml", "thermo.dat", "profile*.svg", "profile*.png", "profile*.pdf",
@@ -94,19 +95,93 @@ def _write_error(path: Path, err: OSError) -> QcthermoError:
     return QcthermoError(f"cannot write {display(str(path))}: {err.strerror or type(err).__name__}")
 
 
+#: what an existing output path may be besides a regular file: written to as a stream, never renamed over
+_STREAMS = {stat.S_IFCHR: "a character device", stat.S_IFIFO: "a named pipe"}
+_REFUSED = {stat.S_IFSOCK: "a socket", stat.S_IFBLK: "a block device", stat.S_IFDIR: "a directory"}
+#: system folders in which qcthermo never creates or renames a file (their entries are devices and magic links)
+_SYSTEM_DIRS = ("/dev", "/proc", "/sys")
+
+
+def _existing_kind(path: Path) -> int | None:
+    """The file type (stat.S_IFMT) of what ``path`` names, links followed; None when nothing is there."""
+    try:
+        return stat.S_IFMT(os.stat(path).st_mode)
+    except (FileNotFoundError, NotADirectoryError):
+        return None
+    except OSError as err:
+        raise _write_error(path, err) from None
+
+
+def _in_system_dir(path: Path) -> bool:
+    parent = os.path.realpath(path.parent)
+    return any(parent == d or parent.startswith(d + "/") for d in _SYSTEM_DIRS)
+
+
+def output_kind(path: str | os.PathLike) -> str:
+    """How :func:`atomic_open` writes ``path``: "file" (a new or regular file, replaced atomically) or
+    "stream" (a character device such as /dev/null, or a named pipe: opened and written in place, never
+    renamed over). Anything else (a socket, a block device, a directory, a regular file reached through
+    /dev or /proc such as /dev/stdout redirected to a file) is a one-line QcthermoError."""
+    path = Path(path)
+    kind = _existing_kind(path)
+    if kind in _STREAMS:
+        return "stream"
+    if kind in _REFUSED:
+        raise QcthermoError(f"cannot write {display(str(path))}: it is {_REFUSED[kind]}")
+    if kind is not None and kind != stat.S_IFREG:
+        raise QcthermoError(f"cannot write {display(str(path))}: it is not a regular file")
+    if _in_system_dir(path):
+        raise QcthermoError(f"cannot write {display(str(path))}: qcthermo creates no file in "
+                            f"{', '.join(_SYSTEM_DIRS)}; name the file itself")
+    return "file"
+
+
+def check_output_file(path: str | os.PathLike, force: bool) -> Path:
+    """Refuse, before any work, an output file that cannot be written (:func:`output_kind`) or a regular
+    file that exists, unless ``force``. A device or pipe (``--json /dev/null``) is written as a stream."""
+    path = Path(path)
+    if output_kind(path) == "file" and path.exists() and not force:
+        raise QcthermoError(f"{display(str(path))} exists; use --force to overwrite it")
+    return path
+
+
+@contextlib.contextmanager
+def _stream(path: Path, mode: str, encoding: str | None) -> Iterator[IO]:
+    """``path`` (a device or a pipe) opened for writing as it is: no temporary file, no rename."""
+    binary = "b" in mode
+    try:
+        fd = os.open(path, os.O_WRONLY)
+        handle = os.fdopen(fd, "wb" if binary else "w", encoding=None if binary else encoding,
+                           errors=None if binary else DISPLAY_ERRORS)
+    except OSError as err:
+        raise _write_error(path, err) from None
+    try:
+        with handle:
+            yield handle
+    except OSError as err:
+        raise _write_error(path, err) from None
+
+
 @contextlib.contextmanager
 def atomic_open(path: str | os.PathLike, mode: str = "w", encoding: str | None = "utf-8") -> Iterator[IO]:
     """Open a temporary sibling of ``path`` for writing; rename it onto ``path`` on success.
 
     Text is written with :data:`DISPLAY_ERRORS`, so a file name that is not UTF-8 comes out in its
     :func:`display` form. An OSError (disk full, permissions, file-size limit) becomes a one-line
-    QcthermoError naming ``path``; the temporary file is removed whatever went wrong.
+    QcthermoError naming ``path``; the temporary file is removed whatever went wrong. A device or a named
+    pipe is written as a stream instead (:func:`output_kind`). Inside :func:`staged_outputs` of its
+    folder, the rename waits for :meth:`Staging.commit`.
     """
     path = Path(path)
-    binary = "b" in mode
-    tmp = path.parent / f".{path.name}.{os.getpid()}-{secrets.token_hex(8)}.tmp"
     if path.parent.exists() and not path.parent.is_dir():
         raise QcthermoError(f"cannot write {display(str(path))}: {display(str(path.parent))} is not a directory")
+    staging = _STAGING.get(os.path.realpath(path.parent))
+    if staging is None and output_kind(path) == "stream":  # a run's folder gets files (Staging.check refuses others)
+        with _stream(path, mode, encoding) as handle:
+            yield handle
+        return
+    binary = "b" in mode
+    tmp = path.parent / f".{path.name}.{os.getpid()}-{secrets.token_hex(8)}.tmp"
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         # mode 0o666 as a plain open() uses: the kernel applies the umask (mkstemp's files would be 0600)
@@ -119,7 +194,10 @@ def atomic_open(path: str | os.PathLike, mode: str = "w", encoding: str | None =
             yield handle
             handle.flush()
             os.fsync(handle.fileno())
-        os.replace(tmp, path)
+        if staging is not None:
+            staging.moves.append((tmp, path))
+        else:
+            os.replace(tmp, path)
     except BaseException as err:
         with contextlib.suppress(OSError):
             os.unlink(tmp)
@@ -169,34 +247,220 @@ def _qcthermo_run_json(run_json: Path) -> dict | None:
     return doc if isinstance(doc, dict) and doc.get("tool") == "qcthermo" else None
 
 
-def holds_only_run_outputs(out: Path) -> bool:
-    """True when every entry of ``out`` is a file named as a run writes it (:data:`RUN_OUTPUTS`) or a
-    temporary file of :func:`atomic_open`, and run.json, if there, is qcthermo's."""
-    for entry in out.iterdir():
-        ours = entry.is_file() and (any(fnmatch.fnmatchcase(entry.name, p) for p in RUN_OUTPUTS)
-                                    or _TMP.match(entry.name))
-        if not ours:
-            return False
-    return not (out / "run.json").exists() or _qcthermo_run_json(out / "run.json") is not None
-
-
 def _run_named(name: str) -> bool:
     return "/" not in name and any(fnmatch.fnmatchcase(name, p) for p in RUN_OUTPUTS)
 
 
-def earlier_run_outputs(out: str | os.PathLike) -> set[str]:
-    """Names of the files an earlier run left in ``out``: those its run.json lists, or, without run.json
-    (a killed run), every file of a directory that holds nothing but run outputs. A user's own files are
-    never among them, also in a folder written with --force."""
+def owned_outputs(out: str | os.PathLike) -> set[str] | None:
+    """Names of the files of ``out`` that qcthermo may replace or remove without --force: those the
+    folder's run.json lists (complete, or "incomplete": what a run was writing when it stopped), and
+    run.json itself. None when ``out`` holds no run.json that qcthermo wrote."""
+    doc = _qcthermo_run_json(Path(out) / "run.json")
+    if doc is None:
+        return None
+    listed = doc.get("files")
+    names = {n for n in listed if isinstance(n, str)} if isinstance(listed, list) else set()
+    return {n for n in names | {"run.json"} if _run_named(n)}
+
+
+def _bookkeeping(name: str) -> bool:
+    """The lock file and temporary files: qcthermo's own, never a user's."""
+    return name == LOCK_NAME or _TMP.match(name) is not None
+
+
+def _foreign(out: Path, owned: set[str] | None) -> str | None:
+    """The first entry of ``out`` a run may not replace without --force, or None. Without a run.json of
+    qcthermo's every entry is foreign; with one, every file named as a run writes them that it does not
+    list (a hand-edited si.tex, a profile_draft.png). Other files beside a run's are left alone."""
+    for entry in sorted(os.listdir(out)):
+        if _bookkeeping(entry):
+            continue
+        if owned is None or (_run_named(entry) and entry not in owned):
+            return entry
+    return None
+
+
+def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:
+    """Make sure ``out`` may be written to, clear stale temporary files from it, and return it.
+
+    An absent or empty directory is fine, and so is one that a run wrote (its run.json is qcthermo's)
+    as long as every file named as a run output in it is one that run.json lists. Anything else is
+    refused unless ``force``: files the user had are never overwritten without being asked.
+    """
     out = Path(out)
-    doc = _qcthermo_run_json(out / "run.json")
-    if doc is not None:
-        listed = doc.get("files")
-        names = {n for n in listed if isinstance(n, str)} if isinstance(listed, list) else set()
-        return {n for n in names | {"run.json"} if _run_named(n)}
-    if out.is_dir() and holds_only_run_outputs(out):
-        return {p.name for p in out.iterdir() if p.is_file() and _run_named(p.name)}
-    return set()
+    if out.exists() and not out.is_dir():
+        raise QcthermoError(f"{display(str(out))} exists and is not a directory")
+    if out.is_dir() and not force:
+        owned = owned_outputs(out)
+        foreign = _foreign(out, owned)
+        if foreign is not None:
+            why = "already holds other files" if owned is None else \
+                f"holds {display(foreign)}, which its run.json does not list (not written by qcthermo)"
+            raise QcthermoError(f"{display(str(out))} {why}; use --force to write into it anyway")
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as err:
+        raise QcthermoError(f"cannot create {display(str(out))}: {err.strerror}") from None
+    remove_stale_temporaries(out)
+    return out
+
+
+# -- one run's folder: a lock, and files renamed into place only once run.json says what they are ----------
+
+#: the lock file of an output folder (fcntl.flock); it stays, empty, so that no two runs lock different files
+LOCK_NAME = ".qcthermo.lock"
+_HELD: dict[str, list] = {}  # realpath of a locked folder -> [file descriptor, depth]: the lock is re-entrant
+
+
+@contextlib.contextmanager
+def output_lock(out: str | os.PathLike, create: bool = True) -> Iterator[None]:
+    """Hold an exclusive lock on the folder ``out`` (``OUT/.qcthermo.lock``, fcntl.flock) so that two runs
+    never write into it at once: the second gets a one-line QcthermoError. Re-entrant in one process.
+    With ``create`` False an absent folder is not made (nor locked): the lock is then taken at writing time."""
+    out = Path(out)
+    if not create and not out.is_dir():
+        yield
+        return
+    key = os.path.realpath(out)
+    if key in _HELD:
+        _HELD[key][1] += 1
+        try:
+            yield
+        finally:
+            _HELD[key][1] -= 1
+        return
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as err:
+        raise QcthermoError(f"cannot create {display(str(out))}: {err.strerror}") from None
+    fd = _lock(out)
+    _HELD[key] = [fd, 1]
+    try:
+        yield
+    finally:
+        del _HELD[key]
+        os.close(fd)  # closing the descriptor releases the lock
+
+
+def _lock(out: Path) -> int:
+    import fcntl
+
+    lock = out / LOCK_NAME
+    try:
+        fd = os.open(lock, os.O_RDWR | os.O_CREAT, 0o666)
+    except OSError as err:
+        raise _write_error(lock, err) from None
+    try:
+        fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+    except OSError:
+        holder = os.read(fd, 32).decode("ascii", "replace").strip()
+        os.close(fd)
+        raise QcthermoError(f"{display(str(out))} is being written by another qcthermo run"
+                            + (f" (process {holder})" if holder.isdigit() else "")
+                            + "; wait for it to finish or choose another --out") from None
+    with contextlib.suppress(OSError):  # who holds it, for the message above; the lock works without
+        os.ftruncate(fd, 0)
+        os.pwrite(fd, f"{os.getpid()}\n".encode(), 0)
+    return fd
+
+
+@contextlib.contextmanager
+def checked_output_dir(out: str | os.PathLike, force: bool, create: bool = True) -> Iterator[None]:
+    """``out`` checked (:func:`prepare_output_dir`) and locked (:func:`output_lock`) while inside. An
+    existing folder is checked before its lock file is made, so that a user's folder that is refused
+    gets no lock file, and again once locked (another run may have written into it meanwhile)."""
+    if Path(out).exists():
+        prepare_output_dir(out, force=force)
+    with output_lock(out, create=create):
+        if Path(out).exists():
+            prepare_output_dir(out, force=force)
+        yield
+
+
+class Staging:
+    """The files written into one folder, waiting as temporaries to be renamed into place together."""
+
+    def __init__(self, out: Path):
+        self.out = out
+        self.moves: list[tuple[Path, Path]] = []
+
+    @property
+    def names(self) -> list[str]:
+        return [target.name for _, target in self.moves]
+
+    def discard(self) -> None:
+        for tmp, _ in self.moves:
+            with contextlib.suppress(OSError):
+                os.unlink(tmp)
+        self.moves.clear()
+
+    def check(self, owned: set[str], force: bool) -> None:
+        """Refuse to rename over anything but a regular file, or over a file qcthermo did not write
+        (not in ``owned``) unless ``force``: one line, and nothing renamed."""
+        for _, target in self.moves:
+            kind = _existing_kind(target) if os.path.lexists(target) else None
+            if kind is None:
+                continue
+            if kind != stat.S_IFREG or os.path.islink(target):
+                what = _STREAMS.get(kind) or _REFUSED.get(kind) or ("a link" if kind == stat.S_IFREG else "special")
+                raise QcthermoError(f"cannot write {display(str(target))}: it is {what}, not a file a run wrote")
+            if not force and target.name not in owned:
+                raise QcthermoError(f"{display(str(target))} was not written by qcthermo (run.json does not "
+                                    "list it); use --force to replace it")
+
+    def commit(self) -> None:
+        for tmp, target in self.moves:
+            try:
+                os.replace(tmp, target)
+            except OSError as err:
+                raise _write_error(target, err) from None
+        self.moves.clear()
+
+
+_STAGING: dict[str, Staging] = {}
+
+
+@contextlib.contextmanager
+def staged_outputs(out: Path) -> Iterator[Staging]:
+    """Inside, every :func:`atomic_open` into ``out`` leaves its complete temporary file for
+    :meth:`Staging.commit` to rename; an exception removes them all."""
+    key = os.path.realpath(out)
+    staging = _STAGING[key] = Staging(out)
+    try:
+        yield staging
+    except BaseException:
+        staging.discard()
+        raise
+    finally:
+        del _STAGING[key]
+
+
+def write_run_folder(out: str | os.PathLike, force: bool, write_all, final_json) -> list[Path]:
+    """Write a run's files into the folder ``out`` so that it never claims what it does not hold.
+
+    Under the folder's lock (:func:`output_lock`): ``write_all(out)`` writes every file as a temporary
+    (:func:`staged_outputs`) and returns their paths; then run.json is written as "incomplete", listing
+    the new files and those of the earlier run; then the files are renamed into place, the earlier run's
+    files not written again are removed, and ``final_json(written)`` (the complete run.json) is written
+    last. A run stopped at any point leaves either the earlier run's folder as it was, or an incomplete
+    run.json that lists every file qcthermo may have put there (the next run replaces them without --force).
+    """
+    out = Path(out)
+    with checked_output_dir(out, force):
+        earlier = owned_outputs(out) or set()
+        with staged_outputs(out) as staging:
+            written = write_all(out)
+        try:
+            staging.check(earlier, force)
+            names = set(staging.names)
+            atomic_write(out / "run.json", json_text({"tool": "qcthermo", "status": "incomplete",
+                                                      "files": sorted(names | earlier | {"run.json"})}))
+            staging.commit()
+        finally:
+            staging.discard()  # what was not renamed (a refusal, a failed rename)
+        remove_outputs(out, earlier - names - {"run.json"})
+        atomic_write(out / "run.json", final_json(written))
+    return [*written, out / "run.json"]
 
 
 def remove_outputs(out: str | os.PathLike, names: set[str]) -> None:
@@ -210,25 +474,3 @@ def remove_outputs(out: str | os.PathLike, names: set[str]) -> None:
         except OSError as err:
             raise QcthermoError(f"cannot remove {display(str(path))} of an earlier run: "
                                 f"{err.strerror or type(err).__name__}") from None
-
-
-def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:
-    """Make sure ``out`` may be written to, clear stale temporary files from it, and return it.
-
-    An absent or empty directory is fine, and so is one that a run wrote: its run.json is qcthermo's,
-    or (a run killed or failed before it wrote run.json) it holds nothing but files a run writes. Any
-    other non-empty directory is refused unless ``force``: files the user had are never overwritten
-    without being asked.
-    """
-    out = Path(out)
-    if out.exists() and not out.is_dir():
-        raise QcthermoError(f"{display(str(out))} exists and is not a directory")
-    if out.is_dir() and not force and _qcthermo_run_json(out / "run.json") is None \
-            and not holds_only_run_outputs(out):
-        raise QcthermoError(f"{display(str(out))} already holds other files; use --force to write into it anyway")
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as err:
-        raise QcthermoError(f"cannot create {display(str(out))}: {err.strerror}") from None
-    remove_stale_temporaries(out)
-    return out

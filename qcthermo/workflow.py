@@ -127,14 +127,12 @@ class RunResults:
         return list(dict.fromkeys(p.resolve() for p in files))
 
     def write(self, out: str | Path, force: bool = False) -> list[Path]:
-        """Write every export into ``out`` (atomically, never over a user's files without ``force``)."""
-        from .fileio import earlier_run_outputs, prepare_output_dir, remove_outputs
+        """Write every export into ``out``: never over a user's files without ``force``, never beside another
+        run's, and never so that run.json claims files the folder does not hold (docs/survey.md, "Output files")."""
+        from .fileio import write_run_folder
 
-        earlier = earlier_run_outputs(out)
-        out_dir = prepare_output_dir(out, force=force)
-        written = _write_all(self, out_dir)
-        remove_outputs(out_dir, earlier - {p.name for p in written})  # nothing left that contradicts run.json
-        return written
+        return write_run_folder(out, force, lambda out_dir: _write_all(self, out_dir),
+                                lambda written: run_json(self, written))
 
 
 # -- building the run --------------------------------------------------------------------------------
@@ -817,6 +815,7 @@ def run_json(results: RunResults, written: list[Path]) -> str:
               if p.is_file()]
     doc = {
         "tool": "qcthermo",
+        "status": "complete",
         "version": __version__,
         "settings": results.settings,
         "inputs": inputs,
@@ -867,7 +866,6 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     if blocks:
         written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))
     written += _model_files_figures_and_documents(results, out_dir)
-    written.append(atomic_write(out_dir / "run.json", run_json(results, written)))
     return written
 
 

@@ -41,30 +41,32 @@ def test_output_dir_with_other_files_needs_force(tmp_path):
     assert prepare_output_dir(tmp_path, force=True) == tmp_path
     previous_run = tmp_path / "again"
     previous_run.mkdir()
-    (previous_run / "run.json").write_text('{"tool": "qcthermo"}')
+    (previous_run / "run.json").write_text('{"tool": "qcthermo", "files": ["species.csv"]}')
     (previous_run / "species.csv").write_text("")
     assert prepare_output_dir(previous_run) == previous_run
 
 
-def test_a_killed_runs_directory_is_refilled_but_a_users_files_are_protected(tmp_path):
-    killed = tmp_path / "killed"  # a run stopped before run.json: only files a run writes
-    killed.mkdir()
-    for name in ("survey.csv", "species.xlsx", "profile_hcn_hnc.svg"):
-        (killed / name).write_text("")
-    assert prepare_output_dir(killed) == killed
+def test_files_named_like_run_outputs_are_a_users_unless_a_run_json_of_qcthermo_lists_them(tmp_path):
+    # a folder of a hand-edited si.tex and a draft figure is not a killed run's: refused, and nothing changed
     theirs = tmp_path / "theirs"
     theirs.mkdir()
-    (theirs / "species.csv").write_text("")
-    (theirs / "notes.txt").write_text("mine")
-    with pytest.raises(QcthermoError, match="--force"):
+    (theirs / "si.tex").write_text("my edits")
+    (theirs / "profile_draft.png").write_bytes(b"mine")
+    with pytest.raises(QcthermoError, match="already holds other files; use --force"):
         prepare_output_dir(theirs)
-    (theirs / "notes.txt").unlink()
-    (theirs / "run.json").write_text('{"tool": "another program"}')  # a run.json qcthermo did not write
-    with pytest.raises(QcthermoError, match="--force"):
+    # beside a run.json of qcthermo's, a run-named file it does not list is still the user's
+    (theirs / "run.json").write_text('{"tool": "qcthermo", "status": "complete", "files": ["si.tex"]}')
+    with pytest.raises(QcthermoError, match=r"holds profile_draft\.png, which its run.json does not list"):
         prepare_output_dir(theirs)
-    (theirs / "run.json").write_text("not JSON")
-    with pytest.raises(QcthermoError, match="--force"):
-        prepare_output_dir(theirs)
+    assert sorted(p.name for p in theirs.iterdir()) == ["profile_draft.png", "run.json", "si.tex"]
+    # a run stopped while renaming its files into place left an incomplete run.json listing them
+    (theirs / "run.json").write_text('{"tool": "qcthermo", "status": "incomplete", '
+                                     '"files": ["si.tex", "profile_draft.png"]}')
+    assert prepare_output_dir(theirs) == theirs
+    for text in ('{"tool": "another program", "files": ["si.tex", "profile_draft.png"]}', "not JSON"):
+        (theirs / "run.json").write_text(text)  # a run.json qcthermo did not write
+        with pytest.raises(QcthermoError, match="--force"):
+            prepare_output_dir(theirs)
 
 
 def test_temporary_files_of_a_dead_writer_are_removed(tmp_path):
@@ -73,7 +75,7 @@ def test_temporary_files_of_a_dead_writer_are_removed(tmp_path):
     live = tmp_path / f".species.csv.{os.getpid()}-{'cd' * 8}.tmp"  # this process may still be writing it
     stale.write_text("half")
     live.write_text("half")
-    prepare_output_dir(tmp_path)  # only temporaries: a run's directory
+    prepare_output_dir(tmp_path)  # only temporaries: an empty directory to a run
     assert not stale.exists() and live.exists()
 
 

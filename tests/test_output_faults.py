@@ -12,6 +12,7 @@ import errno
 import json
 import os
 import shutil
+import stat
 import subprocess
 import sys
 from pathlib import Path
@@ -94,7 +95,8 @@ def test_read_only_output_folder(samples, tmp_path, capsys, monkeypatch):
     monkeypatch.setattr(os, "open", read_only_open)
     assert _run(samples, out) == 2
     line = _one_error_line(capsys.readouterr().err)
-    assert f"cannot write {out / 'survey.csv'}: {os.strerror(errno.EROFS)}" in line
+    # the first file a run makes in --out is its lock file (docs/survey.md, "Output files")
+    assert f"cannot write {out / '.qcthermo.lock'}: {os.strerror(errno.EROFS)}" in line
     assert list(out.iterdir()) == []
 
 
@@ -210,16 +212,138 @@ def test_a_rerun_removes_the_files_of_an_earlier_run_it_does_not_write(samples, 
     (out / "notes.txt").write_text("mine")  # a user's file beside a run's is never removed
     assert _run(samples, out, *reactions, "--force") == 0
     listed = set(json.loads((out / "run.json").read_text())["files"])
-    assert {p.name for p in out.iterdir()} == listed | {"run.json", "notes.txt"}
+    assert {p.name for p in out.iterdir()} == listed | {"run.json", "notes.txt", ".qcthermo.lock"}
     assert not listed & {"rates.csv", "arrhenius.csv", "dG_T.svg", "arrhenius.svg"}
 
 
-def test_a_temperature_range_run_killed_after_its_figures_is_retried_without_force(samples, isomerisation_file,
-                                                                                   tmp_path):
-    # docs/survey.md "Output files": a folder holding only files named as a run writes them is a killed run's
+class Killed(BaseException):
+    """Stands for SIGKILL: nothing of the run's own clean-up may run after it (not an Exception)."""
+
+
+def _killed_at_rename(monkeypatch, n: int) -> None:
+    """os.replace stops the process at its n-th call (the kill of a run while it renames files into place)."""
+    real, calls = os.replace, []
+
+    def replace(src, dst):
+        calls.append(dst)
+        if len(calls) == n:
+            raise Killed
+        return real(src, dst)
+
+    monkeypatch.setattr(os, "replace", replace)
+
+
+def test_a_run_killed_during_a_rerun_leaves_no_complete_run_json_beside_new_tables(samples, isomerisation_file,
+                                                                                   tmp_path, monkeypatch):
+    # docs/survey.md "Output files": run.json is written "incomplete" (listing every file that may be there)
+    # before any new file is renamed into place, and "complete" last
     out = tmp_path / "out"
     reactions = ["--reactions", str(isomerisation_file)]
     assert _run(samples, out, *reactions, "--temperature-range", "250:350:50") == 0
-    (out / "run.json").unlink()  # killed before its last step: dG_T.svg and arrhenius.svg are there, run.json not
-    assert _run(samples, out, *reactions) == 0
-    assert not (out / "dG_T.svg").exists() and json.loads((out / "run.json").read_text())["tool"] == "qcthermo"
+    before = json.loads((out / "run.json").read_text())
+    assert before["status"] == "complete" and "dG_T.svg" in before["files"]
+    _killed_at_rename(monkeypatch, 5)  # the incomplete run.json, then three new tables are in place
+    with pytest.raises(Killed):
+        _run(samples, out, *reactions)
+    monkeypatch.undo()
+    doc = json.loads((out / "run.json").read_text())
+    present = {p.name for p in out.iterdir() if not p.name.startswith(".")}
+    assert doc["status"] == "incomplete" and present <= set(doc["files"])
+    assert "dG_T.svg" in doc["files"]  # the earlier run's files are still listed: the retry may remove them
+    assert _run(samples, out, *reactions) == 0  # the retry needs no --force
+    doc = json.loads((out / "run.json").read_text())
+    assert doc["status"] == "complete" and not (out / "dG_T.svg").exists()
+    assert {p.name for p in out.iterdir() if not p.name.startswith(".")} == set(doc["files"]) | {"run.json"}
+
+
+def test_a_run_that_fails_while_writing_leaves_the_earlier_run_as_it_was(samples, tmp_path, full_disk_after):
+    out = tmp_path / "out"
+    assert _run(samples, out) == 0
+    before = {p.name: p.read_bytes() for p in out.iterdir()}
+    full_disk_after(2)
+    assert _run(samples, out, "--temperature", "350") == 2
+    assert {p.name: p.read_bytes() for p in out.iterdir()} == before
+
+
+LOCK_HOLDER = """
+import sys, time
+from qcthermo.fileio import output_lock
+with output_lock(sys.argv[1]):
+    print("locked", flush=True)
+    time.sleep(120)
+"""
+
+
+def test_two_runs_into_one_folder_at_once_the_second_is_refused(samples, tmp_path):
+    # two real processes: one holds the folder's lock (fcntl.flock, released when it ends), the other is a run
+    out = tmp_path / "out"
+    holder = subprocess.Popen([sys.executable, "-c", LOCK_HOLDER, str(out)], stdout=subprocess.PIPE, text=True)
+    try:
+        assert holder.stdout.readline().strip() == "locked"
+        second = subprocess.run([sys.executable, "-m", "qcthermo", "run", str(samples / "gas"), "--out", str(out),
+                                 "--jobs", "1", "--no-cache", "--quiet"], capture_output=True, text=True, timeout=300)
+    finally:
+        holder.kill()
+        holder.wait()
+    assert second.returncode == 2
+    line = _one_error_line(second.stderr)
+    assert f"is being written by another qcthermo run (process {holder.pid})" in line
+    assert [p.name for p in out.iterdir()] == [".qcthermo.lock"]
+    assert _run(samples, out) == 0  # the holder is gone: its lock went with it
+
+
+def test_a_users_si_tex_and_draft_figure_are_not_taken_for_a_killed_run(samples, tmp_path, capsys):
+    out = tmp_path / "paper"
+    out.mkdir()
+    (out / "si.tex").write_text("hand-edited")
+    (out / "profile_draft.png").write_bytes(b"draft")
+    assert _run(samples, out) == 2
+    assert "already holds other files; use --force" in _one_error_line(capsys.readouterr().err)
+    assert sorted(p.name for p in out.iterdir()) == ["profile_draft.png", "si.tex"]  # not even a lock file
+    assert (out / "si.tex").read_text() == "hand-edited"
+
+
+def test_a_device_or_a_pipe_in_the_output_folder_is_never_renamed_over(samples, tmp_path, capsys):
+    out = tmp_path / "out"
+    out.mkdir()
+    os.mkfifo(out / "survey.csv")
+    assert _run(samples, out, "--force") == 2
+    assert f"cannot write {out / 'survey.csv'}: it is a named pipe" in _one_error_line(capsys.readouterr().err)
+    assert stat.S_ISFIFO(os.lstat(out / "survey.csv").st_mode) and not (out / "run.json").exists()
+
+
+def test_a_named_pipe_or_a_device_given_as_an_output_file_is_written_as_a_stream(samples, tmp_path, capsys):
+    # docs/survey.md "Output files": `--json /dev/null --force` must leave /dev/null a device. The devices here
+    # are made in tmp_path (mknod, as root: the same major/minor 1:3 as /dev/null, Linux devices.txt), never
+    # the system's own
+    import threading
+
+    pipe = tmp_path / "rows.pipe"
+    os.mkfifo(pipe)
+    received = []
+    reader = threading.Thread(target=lambda: received.append(pipe.read_text()))
+    reader.start()
+    assert main(["survey", str(samples / "gas"), "--json", str(pipe), "--force", "--jobs", "1", "--no-cache",
+                 "--quiet"]) == 0
+    reader.join(timeout=60)
+    assert stat.S_ISFIFO(os.lstat(pipe).st_mode)
+    assert [row["path"] for row in json.loads(received[0])] == sorted(p.name for p in (samples / "gas").iterdir()
+                                                                     if p.suffix == ".out")
+    if os.geteuid() != 0:
+        pytest.skip("making a device node needs root")
+    null = tmp_path / "null"
+    os.mknod(null, 0o666 | stat.S_IFCHR, os.makedev(1, 3))
+    for command in (["survey", str(samples / "gas"), "--csv", str(null)],
+                    ["profile", str(samples / "reactions.toml"), "-o", str(null.with_suffix(".svg"))]):
+        if command[0] == "profile":
+            os.mknod(null.with_suffix(".svg"), 0o666 | stat.S_IFCHR, os.makedev(1, 3))
+        assert main([*command, "--force", "--jobs", "1", "--no-cache", "--quiet"]) in (0, 1), capsys.readouterr()
+    assert stat.S_ISCHR(os.lstat(null).st_mode) and stat.S_ISCHR(os.lstat(null.with_suffix(".svg")).st_mode)
+    capsys.readouterr()
+    sock_path = tmp_path / "s.csv"
+    import socket
+
+    with socket.socket(socket.AF_UNIX) as sock:
+        sock.bind(str(sock_path))
+        assert main(["survey", str(samples / "gas"), "--csv", str(sock_path), "--force", "--quiet"]) == 2
+    assert _one_error_line(capsys.readouterr().err).endswith(f"cannot write {sock_path}: it is a socket")

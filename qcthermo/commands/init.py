@@ -147,14 +147,13 @@ def starter_text(survey_result, base: Path) -> str:
 
 
 def main(args: argparse.Namespace) -> int:
-    from ..fileio import atomic_write, display
+    from ..fileio import atomic_write, check_output_file, display
     from ..survey import survey
     from .survey import print_errors
 
     directory = Path(args.directory)
     output = Path(args.output) if args.output else directory / "reactions.toml"
-    if output.exists() and not args.force:
-        raise QcthermoError(f"{output} exists; use --force to overwrite it")
+    check_output_file(output, args.force)
     result = survey(directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
     if not result.calculations:
         raise QcthermoError(f"no readable log under {directory}")

@@ -23,13 +23,11 @@ from .common import conditions_from_args
 def _check_output(path: Path, force: bool) -> None:
     """Refuse, before any work, a bad extension or a file that would be overwritten without --force."""
     from ..export.figures import FORMATS
+    from ..fileio import check_output_file
 
     if path.suffix.lower() not in FORMATS:
         raise QcthermoError(f"{path}: figure format must be .svg, .png or .pdf")
-    if path.exists() and not force:
-        raise QcthermoError(f"{path} already exists; use --force to overwrite it")
-    if path.is_dir():
-        raise QcthermoError(f"{path} is a directory")
+    check_output_file(path, force)
 
 
 def main(args: argparse.Namespace) -> int:

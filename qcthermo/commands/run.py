@@ -13,14 +13,6 @@ from .common import conditions_from_args
 SHOWN_FINDINGS = 12
 
 
-def check_out(out: str | Path, force: bool) -> None:
-    """Refuse, before any work, an --out that holds other files (the same test as the final write)."""
-    from ..fileio import prepare_output_dir
-
-    if Path(out).exists():
-        prepare_output_dir(out, force=force)  # raises with the one-line reason
-
-
 def print_summary(results, out: Path | None, quiet: bool) -> None:
     """Species count, the reactions table in the run's unit, findings (errors first), where the files are.
 
@@ -77,10 +69,16 @@ def _num(value) -> str:
 
 def execute(directory: str | Path, reactions: str | Path | None, args: argparse.Namespace) -> int:
     """Shared by ``run`` and ``demo``: load, compute, write, summarise; the exit status."""
+    from ..fileio import checked_output_dir
+
+    with checked_output_dir(args.out, args.force, create=False):  # an existing --out: checked, locked for the run
+        return _execute(directory, reactions, args)
+
+
+def _execute(directory: str | Path, reactions: str | Path | None, args: argparse.Namespace) -> int:
     from ..reactions import load_reaction_file
     from ..workflow import run
 
-    check_out(args.out, args.force)
     rf = load_reaction_file(reactions) if reactions else None
     conditions = conditions_from_args(args, file_settings=rf.conditions if rf else None)
     results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit,

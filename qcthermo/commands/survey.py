@@ -6,8 +6,7 @@ import argparse
 import sys
 from pathlib import Path
 
-from ..errors import QcthermoError
-from ..fileio import atomic_write, display, json_text
+from ..fileio import atomic_write, check_output_file, display, json_text
 from ..survey import LOG_SUFFIXES, SurveyResult, survey
 
 #: the columns of the terminal table: (heading, how to show a row)
@@ -38,14 +37,9 @@ def _blank(value) -> str:
 
 
 def check_outputs(paths: list[str | None], force: bool) -> list[Path]:
-    """The requested output files; refuse (before any work) to overwrite one without ``force``."""
-    out = [Path(p) for p in paths if p]
-    for path in out:
-        if path.exists() and not force:
-            raise QcthermoError(f"{display(str(path))} exists; use --force to overwrite it")
-        if path.is_dir():
-            raise QcthermoError(f"{display(str(path))} is a directory")
-    return out
+    """The requested output files; refuse (before any work) to overwrite one without ``force``, or to write
+    one that is no file (qcthermo.fileio.check_output_file; a device or a pipe is written as a stream)."""
+    return [check_output_file(p, force) for p in paths if p]
 
 
 def write_csv(result: SurveyResult, path: str | Path) -> Path:
