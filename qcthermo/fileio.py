@@ -30,7 +30,8 @@ DISPLAY_ERRORS = "qcthermo-display"
 RUN_OUTPUTS = (
     "run.json", "survey.csv", "species.*", "reactions.*", "rates.csv", "arrhenius.csv", "energy_span.csv",
     "coordinates.xyz", "thermo.yaml", "thermo.dat", "profile*.svg", "profile*.png", "profile*.pdf",
-    "dG_T.svg", "arrhenius.svg", "si.md", "si.tex", "report.html",
+    "dG_T.svg", "arrhenius.svg", "si.md", "si.tex", "report.html", "heats_of_formation.*", "pka.*", "redox.*",
+    "concentrations.*",
 )
 #: temporary files of :func:`atomic_open`: ``.<name>.<pid>-<16 hex>.tmp``
 _TMP = re.compile(r"^\..+\.(\d+)-[0-9a-f]{16}\.tmp$")
@@ -247,8 +248,13 @@ def _qcthermo_run_json(run_json: Path) -> dict | None:
     return doc if isinstance(doc, dict) and doc.get("tool") == "qcthermo" else None
 
 
+def _plain_name(name: str) -> bool:
+    """A file name in the folder itself: no separator, not hidden (the lock and temporaries are not listed)."""
+    return "/" not in name and "\\" not in name and not name.startswith(".")
+
+
 def _run_named(name: str) -> bool:
-    return "/" not in name and any(fnmatch.fnmatchcase(name, p) for p in RUN_OUTPUTS)
+    return _plain_name(name) and any(fnmatch.fnmatchcase(name, p) for p in RUN_OUTPUTS)
 
 
 def owned_outputs(out: str | os.PathLike) -> set[str] | None:
@@ -260,7 +266,7 @@ def owned_outputs(out: str | os.PathLike) -> set[str] | None:
         return None
     listed = doc.get("files")
     names = {n for n in listed if isinstance(n, str)} if isinstance(listed, list) else set()
-    return {n for n in names | {"run.json"} if _run_named(n)}
+    return {n for n in names | {"run.json"} if _plain_name(n)}
 
 
 def _bookkeeping(name: str) -> bool:
