@@ -254,6 +254,41 @@ def test_compressed_logs_read_the_same_and_damaged_archives_are_refused(samples,
     refused(tmp_path / "noise.out.gz", "not a quantum-chemistry log")
 
 
+def _bomb(pack, pieces: int) -> bytes:
+    """``pieces`` MB of zeros as concatenated compressed streams (every format reads them as one file: RFC 1952
+    members, bzip2 and xz streams), built from one packed MB, so a 2 GB bomb costs the test nothing to make."""
+    return pack(b"\x00" * 2**20) * pieces
+
+
+@pytest.mark.parametrize("pack", [bz2.compress, lzma.compress, gzip.compress])
+def test_decompression_bombs_are_refused_without_being_unpacked(tmp_path, pack):
+    import tracemalloc
+
+    # 2 GB of zeros in at most 2 MB, as the report describes (gzip: 64 MB in one member, the usual form, since
+    # Python's gzip reader unpacks concatenated members slowly); unpacked whole it is a MemoryError
+    data = gzip.compress(b"\x00" * 64 * 2**20, 1) if pack is gzip.compress else _bomb(pack, 2048)
+    assert len(data) <= 2 * 2**20
+    path = tmp_path / "bomb.out.gz"
+    path.write_bytes(data)
+    tracemalloc.start()
+    try:
+        refused(path, r"(gzip|bzip2|xz) file unpacking to \d+ times its size .*a decompression bomb")
+        peak = tracemalloc.get_traced_memory()[1]
+    finally:
+        tracemalloc.stop()
+    assert peak < 64 * 2**20  # streamed: a few tens of MB at most, never the bomb
+
+
+def test_a_log_beyond_the_size_cap_is_refused_on_disk_and_packed(samples, tmp_path, monkeypatch):
+    source = samples / "solvent" / "ts_hydration.out"  # 1.5 MB, the largest real log at hand
+    monkeypatch.setenv("QCTHERMO_MAX_LOG_MB", "1")
+    refused(source, "file beyond 1 MB, the most a log is read to")
+    (tmp_path / "ts.out.xz").write_bytes(lzma.compress(source.read_bytes()))  # 14:1, a real log's ratio
+    refused(tmp_path / "ts.out.xz", "xz file unpacking beyond 1 MB")
+    monkeypatch.setenv("QCTHERMO_MAX_LOG_MB", "2")
+    assert qcthermo.read_log(tmp_path / "ts.out.xz").energy == qcthermo.read_log(source).energy
+
+
 # ------------------------------------------------------------------------------- text encodings
 
 

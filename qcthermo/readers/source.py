@@ -9,7 +9,9 @@ from __future__ import annotations
 
 import bz2
 import gzip
+import io
 import lzma
+import os
 import re
 import zlib
 from dataclasses import dataclass
@@ -19,6 +21,19 @@ from ..errors import LogReadError
 
 #: how much of the start of a file is searched for a program banner (input echoes come first)
 SNIFF_CHARS = 65536
+
+#: the largest log read, in bytes, on disk and after decompression alike (``QCTHERMO_MAX_LOG_MB`` changes it).
+#: The largest real logs at hand are 1.5 MB (an NWChem saddle search with frequencies); a long Gaussian
+#: optimisation of a 200-atom molecule prints tens of MB (from memory). 256 MB is ~170 times the largest at
+#: hand and still fits a reader's memory (the text, then cclib's copy of it: about 1 GB per worker at the
+#: cap); a compressed file that unpacks beyond it is a decompression bomb or no log, and is never unpacked whole.
+MAX_LOG_BYTES = 256 * 2**20
+#: the size of each piece read and unpacked: the memory in use never exceeds the cap by more than this
+_CHUNK_BYTES = 2**16
+#: a compressed log that has unpacked past BOMB_AFTER_BYTES at more than BOMB_RATIO times its packed size is
+#: refused at once: real logs pack 5:1 to 22:1 (gzip -9 to xz -9 on the largest logs at hand), a bomb 1000:1,
+#: so the cap is not waited for (unpacking 256 MB of zeros takes seconds)
+BOMB_RATIO, BOMB_AFTER_BYTES = 200, 16 * 2**20
 
 #: program family -> (banner regex in the first SNIFF_CHARS, cclib parser class name or None)
 PROGRAMS: dict[str, tuple[str, str | None]] = {
@@ -81,13 +96,15 @@ class LogSource:
 def load(path: str | Path) -> LogSource:
     """Read ``path`` once (gzip, bzip2, xz undone) and recognise the program; raise LogReadError if it is no log."""
     path = str(path)
+    limit = max_log_bytes()
     try:
-        raw = Path(path).read_bytes()
+        with open(path, "rb") as stream:
+            raw = _read_capped(path, stream, limit, "file")
     except IsADirectoryError:
         raise LogReadError(path, "is a directory, not a log file") from None
     except OSError as err:
         raise LogReadError(path, f"cannot be read: {err.strerror or err}") from None
-    raw = _decompressed(path, raw)
+    raw = _decompressed(path, raw, limit)
     if not raw.strip():
         raise LogReadError(path, "empty file")
     encoding = _utf16(raw)
@@ -99,19 +116,50 @@ def load(path: str | Path) -> LogSource:
     return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
 
 
-#: compressed formats by their magic bytes (the content decides, not the file name): name, decompressor
-_COMPRESSED = ((b"\x1f\x8b", "gzip", gzip.decompress), (b"BZh", "bzip2", bz2.decompress),
-               (b"\xfd7zXZ\x00", "xz", lzma.decompress))
+def max_log_bytes() -> int:
+    """:data:`MAX_LOG_BYTES`, or ``QCTHERMO_MAX_LOG_MB`` megabytes (2**20 bytes) when that is set to a
+    positive number (any other value keeps the default)."""
+    try:
+        megabytes = float(os.environ.get("QCTHERMO_MAX_LOG_MB", ""))
+    except ValueError:
+        return MAX_LOG_BYTES
+    return int(megabytes * 2**20) if 0 < megabytes < 2**24 else MAX_LOG_BYTES
 
 
-def _decompressed(path: str, raw: bytes) -> bytes:
-    """``raw`` uncompressed if it starts with a gzip, bzip2 or xz signature; a damaged archive (cut short,
-    CRC error, corrupt data) is a LogReadError. Anything else is returned as it is (a ".gz" that is not
-    gzip is read as the text it holds)."""
-    for magic, name, decompress in _COMPRESSED:
+def _read_capped(path: str, stream, limit: int, what: str, packed=None) -> bytes:
+    """All of ``stream`` in pieces of :data:`_CHUNK_BYTES`, or a LogReadError ("``what`` beyond N MB ...") as soon
+    as it passes ``limit`` bytes (a file that never ends, or a decompression bomb, is never held whole).
+    ``packed``: the compressed input the stream unpacks, whose position tells the ratio (:data:`BOMB_RATIO`)."""
+    pieces, size = [], 0
+    while piece := stream.read(_CHUNK_BYTES):
+        size += len(piece)
+        if size > limit:
+            raise LogReadError(path, f"{what} beyond {limit / 2**20:g} MB, the most a log is read to "
+                                     "(a decompression bomb? QCTHERMO_MAX_LOG_MB raises the limit)")
+        if packed is not None and size > BOMB_AFTER_BYTES and size > BOMB_RATIO * max(1, packed.tell()):
+            raise LogReadError(path, f"{what} to {size / max(1, packed.tell()):.0f} times its size (real logs pack "
+                                     f"below {BOMB_RATIO}:1): a decompression bomb, not a log")
+        pieces.append(piece)
+    return b"".join(pieces)
+
+
+#: compressed formats by their magic bytes (the content decides, not the file name): name, streaming reader
+_COMPRESSED = ((b"\x1f\x8b", "gzip", gzip.open), (b"BZh", "bzip2", bz2.open),
+               (b"\xfd7zXZ\x00", "xz", lzma.open))
+
+
+def _decompressed(path: str, raw: bytes, limit: int) -> bytes:
+    """``raw`` uncompressed if it starts with a gzip, bzip2 or xz signature, unpacked piece by piece and
+    refused once it passes ``limit`` bytes; a damaged archive (cut short, CRC error, corrupt data) is a
+    LogReadError. Anything else is returned as it is (a ".gz" that is not gzip is read as the text it holds)."""
+    for magic, name, reader in _COMPRESSED:
         if raw.startswith(magic):
             try:
-                return decompress(raw)
+                packed = io.BytesIO(raw)
+                with reader(packed) as stream:
+                    return _read_capped(path, stream, limit, f"{name} file unpacking", packed)
+            except LogReadError:
+                raise
             except (OSError, EOFError, ValueError, zlib.error, lzma.LZMAError) as err:
                 raise LogReadError(path, f"damaged {name} file ({err or type(err).__name__})") from None
     return raw
