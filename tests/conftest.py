@@ -8,7 +8,8 @@ import pytest
 ROOT = Path(__file__).resolve().parent.parent
 SAMPLES = ROOT / "sample_outputs"
 #: beside the project; QCTHERMO_THIRD_PARTY_LOGS names it for a checkout kept elsewhere (a git worktree)
-THIRD_PARTY = Path(os.environ.get("QCTHERMO_THIRD_PARTY_LOGS") or ROOT.parent / "shared" / "fixtures" / "third-party-logs")
+THIRD_PARTY = Path(os.environ.get("QCTHERMO_THIRD_PARTY_LOGS")
+                   or ROOT.parent / "shared" / "fixtures" / "third-party-logs")
 
 #: a reaction file over three bundled NWChem outputs: HCN -> HNC through its transition state, and its profile
 ISOMERISATION_TOML = """

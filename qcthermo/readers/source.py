@@ -99,6 +99,8 @@ def load(path: str | Path) -> LogSource:
     limit = max_log_bytes()
     try:
         with open(path, "rb") as stream:
+            if os.fstat(stream.fileno()).st_size > limit:  # known beyond the cap without reading it
+                _refuse_size(path, "file", limit)
             raw = _read_capped(path, stream, limit, "file")
     except IsADirectoryError:
         raise LogReadError(path, "is a directory, not a log file") from None
@@ -134,13 +136,17 @@ def _read_capped(path: str, stream, limit: int, what: str, packed=None) -> bytes
     while piece := stream.read(_CHUNK_BYTES):
         size += len(piece)
         if size > limit:
-            raise LogReadError(path, f"{what} beyond {limit / 2**20:g} MB, the most a log is read to "
-                                     "(a decompression bomb? QCTHERMO_MAX_LOG_MB raises the limit)")
+            _refuse_size(path, what, limit)
         if packed is not None and size > BOMB_AFTER_BYTES and size > BOMB_RATIO * max(1, packed.tell()):
             raise LogReadError(path, f"{what} to {size / max(1, packed.tell()):.0f} times its size (real logs pack "
                                      f"below {BOMB_RATIO}:1): a decompression bomb, not a log")
         pieces.append(piece)
     return b"".join(pieces)
+
+
+def _refuse_size(path: str, what: str, limit: int) -> None:
+    raise LogReadError(path, f"{what} beyond {limit / 2**20:g} MB, the most a log is read to "
+                             "(QCTHERMO_MAX_LOG_MB raises the limit)")
 
 
 #: compressed formats by their magic bytes (the content decides, not the file name): name, streaming reader
