@@ -136,6 +136,107 @@ def test_gaussian_link1_steps_stay_one_job(third_party, tmp_path):
     assert {"optimization", "frequencies"} <= calc.job_types
 
 
+#: one real log of each program that prints a run banner and an end phrase (every one ends normally)
+ONE_PER_PROGRAM = {"nwchem": "sample:sp/water_mp2.out", "xtb": "sample:conformers/pentane_tt.out",
+                   "gaussian": "third:gaussian16/water_hf_solvent_smd.log", "orca": "third:orca6.0/dvb_sp_dft.out",
+                   "qchem": "third:qchem5.4/dvb_ir.out", "gamess": "third:gamess-us2018/nh3_ts_ir.out",
+                   "psi4": "third:psi4-1.2.1/dvb_ir_rhf.out"}
+
+
+def _log_text(samples: Path, third_party: Path, where: str) -> str:
+    folder, name = where.split(":")
+    return ((samples if folder == "sample" else third_party) / name).read_text()
+
+
+PAIRS = [(a, b) for a in ONE_PER_PROGRAM for b in ONE_PER_PROGRAM if a != b]
+
+
+@pytest.mark.parametrize(("first", "second"), PAIRS)
+def test_logs_of_two_programs_pasted_or_spliced_are_refused(samples, third_party, tmp_path, first, second):
+    # each log prints its own run banner once and its end phrase once (read in each of them); a second
+    # program's banner (the paste) or its end phrase (the splice: the first log's head, the second's tail)
+    # means the file mixes two logs, whichever molecule each holds
+    a, b = (_log_text(samples, third_party, ONE_PER_PROGRAM[p]) for p in (first, second))
+    assert qcthermo.read_log(write(tmp_path, "a.out", a)).program == first
+    reason = refused(write(tmp_path, "pasted.out", a + b), rf"a run of {second} at line \d+ of this {first} log: "
+                                                           "logs of different programs pasted")
+    assert int(re.search(r"at line (\d+)", reason).group(1)) > a.count("\n")  # in the second log
+    refused(write(tmp_path, "spliced.out", a[: len(a) // 2] + b[len(b) // 2 :]),
+            rf"the normal end of a run of {second} at line \d+ of this {first} log")
+
+
+@pytest.mark.parametrize("log", ["sample:sp/water_mp2.out", "sample:gas/hcn.out", "third:gaussian16/dvb_ir.out",
+                                 "third:orca6.0/dvb_ir.out", "third:qchem5.4/dvb_ir.out"])
+def test_a_run_ending_inside_another_of_the_same_program_is_refused(samples, third_party, tmp_path, log):
+    # the same log spliced into itself half-way (a job restarted into its own file while the first still
+    # wrote): its end phrase, printed last in the real log, is now followed by the other half
+    text = _log_text(samples, third_party, log)
+    half = text.index("\n", len(text) // 2) + 1
+    refused(write(tmp_path, "spliced.out", text[:half] + text + text[half:]),
+            r"run ends normally at line \d+, but the log goes on for \d+ more lines: logs spliced")
+
+
+#: Firefly 8.0.1's header, as printed at the top of its dvb_sp.out in cclib's regression data
+#: (data/GAMESS/basicFirefly8.0): it names "GAMESS VERSION" twice, and Firefly prints no other banner
+FIREFLY_HEADER = """
+          ******************************************************
+          *      Firefly version 8.0.1, build number 8540      *
+          ******************************************************
+
+          ******************************************************
+          *  PARTIALLY BASED ON  US GAMESS VERSION 6 JUN 1999, *
+          *   US GAMESS VERSIONS  6 SEP 2001 AND 12 DEC 2003   *
+          *             FROM IOWA STATE UNIVERSITY             *
+          ******************************************************
+"""
+
+
+def test_a_firefly_header_is_one_run_not_two(third_party, tmp_path):
+    # the real GAMESS-US log with Firefly's header and its "EXECUTION OF FIREFLY BEGUN/TERMINATED" lines (the
+    # form of Firefly 8.0.1's output, above) in place of GAMESS's: one run, read as the GAMESS-US log is
+    text = (third_party / "gamess-us2018" / "nh3_ts_ir.out").read_text()
+    box = text[text.index("          ******") : text.index("BIT LINUX VERSION ****************\n") + 35]
+    firefly = text.replace(box, FIREFLY_HEADER).replace("EXECUTION OF GAMESS", "EXECUTION OF FIREFLY")
+    calc = qcthermo.read_log(write(tmp_path, "firefly.out", firefly))
+    assert not any("runs in one file" in note for note in calc.notes), calc.notes
+    assert calc.normal_termination is True
+    # README: E = -9.12869607 (the first "FINAL R-AM1 ENERGY"; the Hessian's displaced points follow within
+    # 4e-7 Eh), 6 modes, one imaginary
+    assert calc.energy == pytest.approx(-9.12869607, abs=1e-6)
+    assert (calc.frequencies < 0).sum() == 1 and calc.frequencies.size == 6
+
+
+def test_openmolcas_modules_that_all_end_well_are_a_normal_termination():
+    from qcthermo.readers.programs import terminated_normally
+
+    # the end of OpenMolcas 18.0's water_mbpt2.out (cclib's regression data, data/Molcas/basicOpenMolcas18.0):
+    # every module stops with "/rc=_RC_ALL_IS_WELL_", then the driver's timing line
+    ended = ("--- Stop Module: scf at Thu Jul 26 18:40:30 2018 /rc=_RC_ALL_IS_WELL_ ---\n"
+             "*** symbolic link created: INPORB -> water_mpbt2.ScfOrb\n"
+             "--- Start Module: mbpt2 at Thu Jul 26 18:40:30 2018 ---\n"
+             "::    Total MBPT2 energy                              -75.0008801966\n"
+             "--- Stop Module: mbpt2 at Thu Jul 26 18:40:30 2018 /rc=_RC_ALL_IS_WELL_ ---\n"
+             "*** files: xmldump\n    saved to directory /home/kunal/OpenMolcas/build\n\n"
+             "    Timing: Wall=2.05 User=1.05 System=0.60\n")
+    assert terminated_normally("molcas", ended) is True
+    cut = ended[: ended.index("::")]  # stopped inside the mbpt2 module
+    assert terminated_normally("molcas", cut) is False
+    failed = ended.replace("mbpt2 at Thu Jul 26 18:40:30 2018 /rc=_RC_ALL_IS_WELL_",
+                           "mbpt2 at Thu Jul 26 18:40:30 2018 /rc=_RC_NOT_CONVERGED_")
+    assert terminated_normally("molcas", failed) is False
+
+
+def test_gamess_uk_names_its_method_from_the_echoed_input():
+    from qcthermo.readers.programs import gamess_uk_method
+
+    # the input echo of GAMESS-UK 8.0's dvb_sp_ks.out (cclib's regression data, data/GAMESS-UK/basicGAMESS-UK8.0)
+    echo = (" >>>>> BASIS STO3G\n >>>>> RUNTYPE SCF\n >>>>> SCFTYPE RHF\n >>>>> DFT B3LYP\n >>>>> ENTER\n"
+            "   SCF TYPE  rhf\n")
+    assert gamess_uk_method(echo) == "B3LYP"
+    assert gamess_uk_method(echo.replace(" >>>>> DFT B3LYP\n", "")) == "HF"  # the dvb_sp_hf.out form
+    assert gamess_uk_method(echo.replace("SCFTYPE RHF", "SCFTYPE MP3").replace(" >>>>> DFT B3LYP\n", "")) is None
+
+
 # ------------------------------------------------------------- impossible values read from the file
 
 

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .normalise import electron_count
-from .programs import rules
+from .programs import RULES, rules
 from .source import LogSource
 
 #: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
@@ -214,18 +214,89 @@ def geometry_problem(coordinates) -> str | None:
     return None
 
 
-def split_runs(source: LogSource) -> list[LogSource]:
+@dataclass(frozen=True)
+class Mark:
+    """Where a run of a program starts (``kind`` "banner") or ends normally ("end") in a log."""
+
+    at: int
+    program: str
+    kind: str
+
+
+#: literal -> (program, kind) for every program's run banners and end phrases
+_MARK_LITERALS = {literal: (program, kind) for program, rule in RULES.items()
+                  for kind, literals in (("banner", rule.run_banners), ("end", rule.end_literals))
+                  for literal in literals}
+#: all of them in one alternation: one pass over the text finds every mark (re.escape: literals only)
+_MARKS = re.compile("|".join(map(re.escape, sorted(_MARK_LITERALS, key=len, reverse=True))))
+#: programs whose logs print another program's output as their own (ORCA's xTB interface copies xtb's
+#: output, banner included, into its log: from memory): those marks are not a second log while the host's
+#: own run goes on after them (a mark of the host follows)
+_EMBEDS = {"orca": {"xtb"}}
+#: a run's end phrase lies within this many characters of the run's end: what programs print after it is at
+#: most 1045 characters in the real logs at hand (GAMESS's job accounting; NWChem 52, Gaussian 63, ORCA 90,
+#: Q-Chem 201, xTB 687), so 8000 leaves room for a long accounting; an end phrase followed by more is a run
+#: that ended inside another
+END_WINDOW = 8000
+
+
+def run_marks(text: str) -> list[Mark]:
+    """Every run banner and end phrase of every program in ``text``, in order (one pass over the text)."""
+    return [Mark(found.start(), *_MARK_LITERALS[found.group()]) for found in _MARKS.finditer(text)]
+
+
+def _line(text: str, at: int) -> int:
+    return text.count("\n", 0, at) + 1
+
+
+def mixed_programs_problem(source: LogSource, marks: list[Mark]) -> str | None:
+    """Why the log holds part of another program's log (its banner, or its end phrase: two logs pasted or
+    spliced together), or None."""
+    embedded = _EMBEDS.get(source.program, set())
+    last_own = max((m.at for m in marks if m.program == source.program), default=-1)
+    for mark in marks:
+        if mark.program != source.program and (mark.program not in embedded or mark.at > last_own):
+            what = "a run" if mark.kind == "banner" else "the normal end of a run"
+            return (f"{what} of {mark.program} at line {_line(source.text, mark.at)} of this {source.program} "
+                    "log: logs of different programs pasted or spliced together? split the file")
+    return None
+
+
+def _run_starts(source: LogSource, marks: list[Mark]) -> list[int]:
+    """Where each run of the program starts (the line of its banner; the first run at 0)."""
+    starts = [source.text.rfind("\n", 0, m.at) + 1 for m in marks if m.program == source.program and m.kind == "banner"]
+    return [0, *starts[1:]] if starts else [0]
+
+
+def split_runs(source: LogSource, marks: list[Mark]) -> list[LogSource]:
     """The runs of the program in one file, one per line holding its run banner (two pasted logs: two).
 
     A Gaussian job of several steps (opt then freq, "--Link1--") is one run: its later steps print
     "Link1: Proceeding to internal job step" and no new "Entering Gaussian System". Programs without a
-    banner known to be printed once per run (``ProgramRules.run_banner``) are one run.
+    banner known to be printed once per run (``ProgramRules.run_banners``) are one run.
     """
-    banner, text = rules(source.program).run_banner, source.text
-    if banner is None:
-        return [source]
-    starts = [text.rfind("\n", 0, at) + 1 for at in _starts(text, banner)]  # the banners' lines
+    starts = _run_starts(source, marks)
     if len(starts) < 2:
         return [source]
-    bounds = zip([0, *starts[1:]], [*starts[1:], len(text)], strict=True)
-    return [LogSource(source.path, text[a:b], source.program) for a, b in bounds]
+    bounds = zip(starts, [*starts[1:], len(source.text)], strict=True)
+    return [LogSource(source.path, source.text[a:b], source.program) for a, b in bounds]
+
+
+def spliced_run_problem(source: LogSource, marks: list[Mark]) -> str | None:
+    """Why a run of the log ends normally and then goes on (another log spliced into it), or None.
+
+    A program prints its end phrase once, at the end of its run: one followed by more than
+    :data:`END_WINDOW` characters before the run's end (the next banner or the end of the file) is a run
+    that ended inside another. A Gaussian step that ends and is followed by "Link1:" is one step of a job.
+    """
+    text, step = source.text, rules(source.program).step_literal
+    starts = _run_starts(source, marks)
+    for mark in marks:
+        if mark.program != source.program or mark.kind != "end":
+            continue
+        end = next((a for a in starts if a > mark.at), len(text))
+        if end - mark.at <= END_WINDOW or (step and text.find(step, mark.at, mark.at + 400) >= 0):
+            continue
+        return (f"the {source.program} run ends normally at line {_line(text, mark.at)}, but the log goes on "
+                f"for {text.count(chr(10), mark.at, end)} more lines: logs spliced together? split the file")
+    return None

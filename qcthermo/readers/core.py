@@ -28,6 +28,7 @@ from .normalise import (
 )
 from .programs import (
     RULES,
+    gamess_uk_method,
     job_spec,
     job_types_from_spec,
     last_s2,
@@ -62,7 +63,10 @@ def read_log(path: str | Path) -> Calculation:
 def _read(source: LogSource) -> Calculation:
     """One run: read it. Several (logs pasted into one file): the last readable one, if all that read are
     of one molecule; otherwise refuse, as the file mixes molecules (docs/readers.md, "Damaged input")."""
-    runs = checks.split_runs(source)
+    marks = checks.run_marks(source.text)
+    _refuse(source, checks.mixed_programs_problem(source, marks))
+    _refuse(source, checks.spliced_run_problem(source, marks))
+    runs = checks.split_runs(source, marks)
     if len(runs) == 1:
         return _read_run(source)
     read, reasons = [], []
@@ -131,6 +135,8 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
         found.update(cosmo)
     elif source.program == "xtb":
         _amend_xtb(text, found, notes)
+    elif source.program == "gamess-uk" and found.get("method") in (None, "DFT"):
+        found["method"] = method_name(gamess_uk_method(text)) or found.get("method")
     elif source.program == "psi4" and found.get("method") in (None, "DFT"):
         functional = re.search(
             r"^\s+(\S+) (?:Hyb-)?(?:GGA|LSDA|Meta-GGA|LDA) Exchange-Correlation",

@@ -31,8 +31,12 @@ class ProgramRules:
         projected: the program prints the rigid-body modes as projected zeros among 3N frequencies.
         thermo_ev: cclib 1.8.1 gives this program's zpve/enthalpy/freeenergy in eV, not hartree.
         thermo_corrections: cclib's enthalpy/freeenergy are thermal corrections, not totals.
-        run_banner: a phrase printed once per run of the program, at its start (two in one file: two
-            logs pasted together); None when no such phrase is known.
+        run_banners: phrases printed once per run of the program, at its start (two in one file: two
+            logs pasted together; one of another program's: logs of two programs); empty when none is known.
+        end_literals: phrases of ``end_marker`` found by a plain string search (one of another program's
+            in a log, or one of its own far from the end of its run: logs spliced together).
+        step_literal: what follows an ``end_literals`` phrase where one step of a multi-step job ends and the next
+            begins in the same run (Gaussian's "Link1:").
     """
 
     keywords: str | None = None
@@ -44,7 +48,9 @@ class ProgramRules:
     projected: bool = False
     thermo_ev: bool = False
     thermo_corrections: bool = False
-    run_banner: str | None = None
+    run_banners: tuple[str, ...] = ()
+    end_literals: tuple[str, ...] = ()
+    step_literal: str | None = None
 
 
 RULES: dict[str, ProgramRules] = {
@@ -61,7 +67,9 @@ RULES: dict[str, ProgramRules] = {
         end_marker=r"Normal termination of Gaussian",
         converged=r"Optimization completed|Stationary point found",
         converged_literals=("Optimization completed", "Stationary point found"),
-        run_banner="Entering Gaussian System",
+        run_banners=("Entering Gaussian System",),
+        end_literals=("Normal termination of Gaussian",),
+        step_literal="Link1:",
     ),
     "orca": ProgramRules(
         keywords=r"^\|\s*\d+>\s*(!.*)$|^\s*\*\s*(GEOMETRY OPTIMIZATION CYCLE)",
@@ -76,7 +84,8 @@ RULES: dict[str, ProgramRules] = {
         converged=r"THE OPTIMIZATION HAS CONVERGED|OPTIMIZATION RUN DONE",
         converged_literals=("THE OPTIMIZATION HAS CONVERGED", "OPTIMIZATION RUN DONE"),
         projected=True,
-        run_banner="O   R   C   A",
+        run_banners=("O   R   C   A",),
+        end_literals=("ORCA TERMINATED NORMALLY",),
     ),
     "nwchem": ProgramRules(
         # NWChem echoes its input only on request: the modules it ran are the reliable record
@@ -100,7 +109,8 @@ RULES: dict[str, ProgramRules] = {
         converged=r"Optimization converged",
         converged_literals=("Optimization converged",),
         projected=True,
-        run_banner="Northwest Computational Chemistry Package",
+        run_banners=("Northwest Computational Chemistry Package",),
+        end_literals=("Total times  cpu:",),
     ),
     "xtb": ProgramRules(
         keywords=r"program call\s*:\s*(.*)$",
@@ -115,7 +125,8 @@ RULES: dict[str, ProgramRules] = {
         converged_literals=("GEOMETRY OPTIMIZATION CONVERGED",),
         projected=True,
         thermo_ev=True,
-        run_banner="xtb version",
+        run_banners=("xtb version",),
+        end_literals=("* finished run on",),
     ),
     "qchem": ProgramRules(
         keywords=r"^\s*job_?type\s*=?\s*(\w+)",
@@ -131,7 +142,8 @@ RULES: dict[str, ProgramRules] = {
         converged=r"\*\*\s+OPTIMIZATION CONVERGED\s+\*\*|TRANSITION STATE CONVERGED",
         converged_literals=("OPTIMIZATION CONVERGED", "TRANSITION STATE CONVERGED"),
         thermo_corrections=True,
-        run_banner="Welcome to Q-Chem",
+        run_banners=("Welcome to Q-Chem",),
+        end_literals=("Thank you very much for using Q-Chem",),
     ),
     "psi4": ProgramRules(
         keywords=r"^\s*(\w+)\(\s*['\"]",
@@ -143,7 +155,8 @@ RULES: dict[str, ProgramRules] = {
         end_marker=r"Psi4 exiting successfully",
         converged=r"Optimization is complete!",
         converged_literals=("Optimization is complete!",),
-        run_banner="Psi4: An Open-Source Ab Initio Electronic Structure Package",
+        run_banners=("Psi4: An Open-Source Ab Initio Electronic Structure Package",),
+        end_literals=("Psi4 exiting successfully",),
     ),
     "gamess": ProgramRules(
         keywords=r"RUNTYP=(\w+)",
@@ -157,7 +170,19 @@ RULES: dict[str, ProgramRules] = {
         end_marker=r"TERMINATED NORMALLY",
         converged=r"EQUILIBRIUM GEOMETRY LOCATED|SADDLE POINT LOCATED",
         converged_literals=("EQUILIBRIUM GEOMETRY LOCATED", "SADDLE POINT LOCATED"),
-        run_banner="GAMESS VERSION",
+        # not "GAMESS VERSION": Firefly's header prints it twice ("BASED ON US GAMESS VERSION 6 JUN 1999,
+        # US GAMESS VERSIONS 6 SEP 2001"), which read as two runs (Firefly 8.0.1's dvb_sp.out, cclib's data)
+        run_banners=("EXECUTION OF GAMESS BEGUN", "EXECUTION OF FIREFLY BEGUN", "EXECUTION OF PC GAMESS BEGUN"),
+        end_literals=("EXECUTION OF GAMESS TERMINATED", "EXECUTION OF FIREFLY TERMINATED",
+                      "EXECUTION OF PC GAMESS TERMINATED"),
+    ),
+    "molcas": ProgramRules(
+        # (Open)Molcas ends every module with "--- Stop Module: <name> at <date> /rc=<code> ---": the run ended
+        # normally when the last module stopped with _RC_ALL_IS_WELL_ and no module started after it
+        # (OpenMolcas 18.0's water_mbpt2.out, cclib's data; cclib 1.8.1 never sets its success flag)
+        # (each line consumed whole, once: no backtracking over the lines that follow)
+        end_marker=r"^--- Stop Module:[^\n]*/rc=_RC_ALL_IS_WELL_ ---\n(?:(?!--- St(?:art|op) Module)[^\n]*\n)*"
+                   r"(?!--- St(?:art|op) Module)[^\n]*\Z",
     ),
 }
 
@@ -217,3 +242,18 @@ def last_s2(text: str) -> float | None:
     for m in _S2.finditer(lines_with(text, "<S")):  # every format starts with "<S"
         value = float(next(g for g in m.groups() if g is not None))
     return value
+
+
+#: GAMESS-UK echoes its input as " >>>>> KEYWORD value" lines; the method is "DFT <functional>", else an
+#: "SCFTYPE" of a Hartree-Fock reference (GAMESS-UK 8.0's dvb_sp_ks.out and water_mp3.in, cclib's data:
+#: ">>>>> SCFTYPE RHF", ">>>>> DFT B3LYP"); correlated methods come from cclib's MP energies
+_GAMESS_UK_DFT = re.compile(r"^ >>>>> DFT\s+(\S+)", re.MULTILINE | re.IGNORECASE)
+_GAMESS_UK_SCF = re.compile(r"^ >>>>> SCFTYPE\s+(RHF|UHF|ROHF)\b", re.MULTILINE | re.IGNORECASE)
+
+
+def gamess_uk_method(text: str) -> str | None:
+    """The method GAMESS-UK's echoed input names (the functional, or "HF"), which cclib 1.8.1 leaves out."""
+    echo = lines_with(text, ">>>>>")
+    if found := _GAMESS_UK_DFT.search(echo):
+        return found.group(1)
+    return "HF" if _GAMESS_UK_SCF.search(echo) else None
