@@ -27,8 +27,11 @@ from .units import ENERGY_UNITS, K_B_EH
 RMSD_THRESHOLD = 0.1
 #: default energy window for duplicates, kcal/mol (common practice)
 ENERGY_WINDOW = 0.1
-#: default largest RMSD between a single point's geometry and its frequency job's, angstrom
-SINGLE_POINT_RMSD = 0.05
+#: default largest RMSD between a single point's geometry and its frequency job's, angstrom: a single point
+#: is an energy of *that* structure. The same geometry printed by two jobs agrees to ~1e-5 A (8 decimals
+#: copied, a program re-centring and turning it); 1e-3 A is about an optimiser's own step criterion
+#: (docs/reactions.md, "Composite energies"), so anything beyond it is another geometry.
+SINGLE_POINT_RMSD = 1e-3
 
 
 @dataclass
@@ -155,8 +158,10 @@ def bond_signature(calc: Calculation) -> tuple[tuple[str, str, int], ...]:
 def single_point_mismatch(calc: Calculation, sp: Calculation) -> str | None:
     """Why ``sp`` cannot be a single point of ``calc``'s structure, or None.
 
-    Refused: no energy, another formula, charge or multiplicity (when both files give one), another
-    implicit-solvent model (a gas-phase energy on a solvated geometry is not that structure's energy).
+    Refused: no energy, another formula, charge or multiplicity (when both files give one), a solvated
+    structure's single point in another implicit-solvent model or in the gas phase (not that structure's
+    energy). A solvent single point on a gas-phase structure is the solution protocol
+    (:mod:`qcthermo.solution`) and is accepted.
     """
     if sp.energy is None:
         return "it has no energy"
@@ -166,7 +171,7 @@ def single_point_mismatch(calc: Calculation, sp: Calculation) -> str | None:
         return f"its charge {sp.charge} is not {calc.charge}"
     if sp.multiplicity is not None and calc.multiplicity is not None and sp.multiplicity != calc.multiplicity:
         return f"its multiplicity {sp.multiplicity} is not {calc.multiplicity}"
-    if sp.solvent_model != calc.solvent_model:
+    if calc.solvent_model and sp.solvent_model != calc.solvent_model:
         return f"its solvent model {sp.solvent_model or 'none (gas)'} is not {calc.solvent_model or 'none (gas)'}"
     return None
 

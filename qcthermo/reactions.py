@@ -34,8 +34,8 @@ CONDITION_KEYS = (
     "frequency_scale", "zpe_scale", "imaginary_policy", "imaginary_threshold",
 )
 #: keys of [ensemble] and their defaults (angstrom, kcal/mol, angstrom)
-ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1, "single_point_rmsd": 0.05}
-SPECIES_KEYS = ("logs", "single_point", "symmetry_number", "electronic_degeneracy", "enantiomers",
+ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1, "single_point_rmsd": 1e-3}
+SPECIES_KEYS = ("logs", "single_point", "gas_single_point", "symmetry_number", "electronic_degeneracy", "enantiomers",
                 "imaginary_policy", "concentration", "transition_state", "label")
 REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling")
 PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "style", "order", "overlay")
@@ -44,7 +44,12 @@ PRESENTATION_TYPES: dict[str, tuple[type, ...]] = {"color": (str,), "label_state
                                                    "order": (int, float), "overlay": (str,)}
 #: keys of [heats_of_formation] (docs/formation.md)
 FORMATION_KEYS = ("atoms", "references", "reactions", "atom_corrections", "bond_corrections")
-TOP_KEYS = ("conditions", "ensemble", "species", "reaction", "profile", "heats_of_formation")
+PKA_KEYS = ("name", "acid", "base", "scheme", "reference")
+REDOX_KEYS = ("name", "oxidised", "reduced", "electrons", "protons", "ph", "reference")
+#: keys of [solution]: named literature values of qcthermo.solution (or numbers, kcal/mol and V)
+SOLUTION_KEYS = ("proton_solvation", "absolute_she", "electron")
+TOP_KEYS = ("conditions", "ensemble", "species", "reaction", "profile", "heats_of_formation", "solution",
+            "pka", "redox")
 IMAGINARY_POLICIES = ("error", "invert", "drop")
 TUNNELLING = ("eckart", "wigner", "none")
 
@@ -61,6 +66,8 @@ class SpeciesSpec:
         single_point: higher-level single-point files, absolute paths; paired with ``logs`` by geometry.
         single_point_pairs: explicit pairing log -> single point (absolute paths), when the file
             gave a table instead of a glob.
+        gas_single_point: gas-phase single points at the level of solvent ``single_point`` files (the
+            thermodynamic-cycle route, docs/solution.md), absolute paths.
         symmetry_number, electronic_degeneracy, imaginary_policy: overrides for the engine (None: its default).
         enantiomers: 2 when a chiral species computed as one enantiomer stands for both mirror images
             (its G then takes -RT ln 2), 1 to say one enantiomer is meant; None when not said.
@@ -75,6 +82,7 @@ class SpeciesSpec:
     logs: list[Path]
     single_point: list[Path] = field(default_factory=list)
     single_point_pairs: dict[Path, Path] = field(default_factory=dict)
+    gas_single_point: list[Path] = field(default_factory=list)
     symmetry_number: int | None = None
     electronic_degeneracy: int | None = None
     enantiomers: int | None = None
@@ -144,6 +152,46 @@ class ProfileSpec:
 
 
 @dataclass
+class PkaReference:
+    """``reference = {acid, base, pka}`` of a relative pKa: a reference acid of known (experimental) pKa."""
+
+    acid: str
+    base: str
+    pka: float
+
+
+@dataclass
+class PkaSpec:
+    """One ``[[pka]]`` table: HA -> A- + H+ ("direct") or against a reference acid ("relative")."""
+
+    name: str
+    acid: str
+    base: str
+    reference: PkaReference | None = None
+    line: int | None = None
+
+
+@dataclass
+class RedoxSpec:
+    """One ``[[redox]]`` table: Ox + n e- (+ m H+) -> Red against a reference electrode.
+
+    Attributes:
+        reference: "SHE" or the name given with ``vs_she``; reference_vs_she: its potential against SHE, V.
+        ph: the pH the potential is quoted at (a shift only with protons).
+    """
+
+    name: str
+    oxidised: str
+    reduced: str
+    electrons: int
+    protons: int = 0
+    ph: float = 0.0
+    reference: str = "SHE"
+    reference_vs_she: float = 0.0
+    line: int | None = None
+
+
+@dataclass
 class ReactionFile:
     """A validated reaction file.
 
@@ -164,6 +212,9 @@ class ReactionFile:
     profiles: list[ProfileSpec]
     text: str = ""
     heats_of_formation: FormationScheme | None = None
+    pka: list[PkaSpec] = field(default_factory=list)
+    redox: list[RedoxSpec] = field(default_factory=list)
+    solution: dict[str, Any] = field(default_factory=dict)
 
     def error(self, message: str, line: int | None = None) -> ReactionFileError:
         """A ReactionFileError "FILE, line N: message"."""
@@ -365,7 +416,9 @@ class _Parser:
         profiles = self.profiles(data.get("profile", []), species)
         formation = self.formation(data["heats_of_formation"], species, reactions) \
             if "heats_of_formation" in data else None
-        return ReactionFile(self.path, conditions, ensemble, species, reactions, profiles, self.text, formation)
+        return ReactionFile(self.path, conditions, ensemble, species, reactions, profiles, self.text, formation,
+                            self.pka(data.get("pka", []), species), self.redox(data.get("redox", []), species),
+                            self.solution(data.get("solution", {})))
 
     def conditions(self, table: Any) -> dict[str, Any]:
         """Each key checked for its type here and for its range by Conditions itself, with the key's line."""
@@ -458,6 +511,11 @@ class _Parser:
             spec.single_point = list(spec.single_point_pairs.values())
         elif sp is not None:
             spec.single_point = self.globs(sp, f"{what} single_point", key_line("single_point"))
+        if "gas_single_point" in table:
+            if sp is None:
+                self.fail(f"{what} gas_single_point needs a solvent single_point", key_line("gas_single_point"))
+            spec.gas_single_point = self.globs(table["gas_single_point"], f"{what} gas_single_point",
+                                               key_line("gas_single_point"))
         limits = {"symmetry_number": MAX_SYMMETRY_NUMBER, "electronic_degeneracy": MAX_ELECTRONIC_DEGENERACY,
                   "enantiomers": 2}
         for key, top in limits.items():
@@ -664,6 +722,79 @@ class _Parser:
                       line)
         source = self.check_text(table["source"], f"{what} source", line) if "source" in table else ""
         return float(table["value"]), source
+
+    # -- solution chemistry (qcthermo.solution) -----------------------------------------------------
+    def species_name(self, value: Any, what: str, species: dict, line: int | None) -> str:
+        if not isinstance(value, str) or value not in species:
+            self.unknown_species(what, value, species, line)
+        return value
+
+    def pka(self, value: Any, species: dict) -> list[PkaSpec]:
+        out = []
+        for table, line, name in self.named_tables(value, "pka", PKA_KEYS):
+            what, key_line = f"pka {name!r}", partial(self.where.key, line)
+            acid, base = (self.species_name(table.get(k), f"{what} {k}", species, key_line(k))
+                          for k in ("acid", "base"))
+            scheme = table.get("scheme", "direct")
+            if scheme not in ("direct", "relative"):
+                self.fail(f"{what} scheme {_show(scheme)}: expected \"direct\" or \"relative\"", key_line("scheme"))
+            if (scheme == "relative") != ("reference" in table):
+                self.fail(f"{what}: " + ("a relative scheme needs reference = {acid, base, pka}" if scheme == "relative"
+                                         else "reference is for scheme = \"relative\""), key_line("reference"))
+            reference = None
+            if scheme == "relative":
+                ref = self.table(table["reference"], f"{what} reference", key_line("reference"))
+                self.check_keys(ref, ("acid", "base", "pka"), f"{what} reference", key_line("reference"))
+                if not _is_number(ref.get("pka")):
+                    self.fail(f"{what} reference: missing or not a number: pka (the reference acid's known pKa)",
+                              key_line("reference"))
+                reference = PkaReference(*(self.species_name(ref.get(k), f"{what} reference {k}", species,
+                                                             key_line("reference")) for k in ("acid", "base")),
+                                         float(ref["pka"]))
+            out.append(PkaSpec(name, acid, base, reference, line))
+        return out
+
+    def redox(self, value: Any, species: dict) -> list[RedoxSpec]:
+        out = []
+        for table, line, name in self.named_tables(value, "redox", REDOX_KEYS):
+            what, key_line = f"redox {name!r}", partial(self.where.key, line)
+            spec = RedoxSpec(name, *(self.species_name(table.get(k), f"{what} {k}", species, key_line(k))
+                                     for k in ("oxidised", "reduced")), electrons=0, line=line)
+            for key, low in (("electrons", 1), ("protons", 0)):
+                n = table.get(key, low)
+                if isinstance(n, bool) or not isinstance(n, int) or not low <= n <= 10:
+                    self.fail(f"{what} {key} {_show(n)}: expected an integer from {low} to 10", key_line(key))
+                setattr(spec, key, n)
+            ph = table.get("ph", 0.0)
+            if not _is_number(ph) or not -2 <= ph <= 16:
+                self.fail(f"{what} ph {_show(ph)}: expected a number from -2 to 16", key_line("ph"))
+            spec.ph = float(ph)
+            ref = table.get("reference", "SHE")
+            if isinstance(ref, dict):
+                self.check_keys(ref, ("name", "vs_she"), f"{what} reference", key_line("reference"))
+                if not _is_number(ref.get("vs_she")) or abs(ref["vs_she"]) > 10:
+                    self.fail(f"{what} reference: vs_she (V against SHE in that solvent) must be a number of at "
+                              "most 10 V", key_line("reference"))
+                spec.reference = self.check_text(ref.get("name"), f"{what} reference name", key_line("reference"))
+                spec.reference_vs_she = float(ref["vs_she"])
+            elif ref != "SHE":
+                self.fail(f"{what} reference {_show(ref)}: expected \"SHE\" or {{name = ..., vs_she = V}}",
+                          key_line("reference"))
+            out.append(spec)
+        return out
+
+    def solution(self, table: Any) -> dict[str, Any]:
+        from .solution import ABSOLUTE_SHE, DEFAULTS, ELECTRON, PROTON_SOLVATION
+
+        line = (self.where.header("solution") or [self.where.key(0, "solution")])[0]
+        self.check_keys(self.table(table, "[solution]", line), SOLUTION_KEYS, "[solution]", line)
+        choices = {"proton_solvation": PROTON_SOLVATION, "absolute_she": ABSOLUTE_SHE, "electron": ELECTRON}
+        for key, value in table.items():
+            numeric = key != "electron" and _is_number(value)
+            if not numeric and not (isinstance(value, str) and value in choices[key]):
+                self.fail(f"[solution] {key} {_show(value)}: expected one of {', '.join(choices[key])}"
+                          + ("" if key == "electron" else " or a number"), self.where.key(line, key))
+        return {**DEFAULTS, **table}
 
     def presentation(self, table: dict, what: str, labels: list[str], key_line) -> dict[str, Any]:
         """The figure keys of a profile, each of its type (strings usable as text, a finite order)."""

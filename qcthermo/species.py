@@ -68,6 +68,8 @@ class Conformer:
             (an error finding says why, in ``reason``).
         molecule, thermo: the engine's input and result (None unless used).
         single_point: the higher-level single point paired with it, and the geometry RMSD (angstrom).
+        gas_single_point: with a solvent single point, the gas-phase one at the same level on the same
+            geometry (the thermodynamic-cycle route: dG_solv = E(solvent) - E(gas), docs/solution.md).
         population: Boltzmann population under the chosen low-mode model, array over T (0 unless used).
         values: this conformer's E, E_zpe, H, S, G (chosen model) and *_rrho, hartree (composite
             energies included), arrays over T.
@@ -82,6 +84,7 @@ class Conformer:
     thermo: ThermoResult | None = None
     single_point: Calculation | None = None
     single_point_rmsd: float | None = None
+    gas_single_point: Calculation | None = None
     population: np.ndarray | float = 0.0
     values: dict[str, np.ndarray] = field(default_factory=dict)
     duplicate_of: str | None = None
@@ -95,11 +98,23 @@ class Conformer:
 
     @property
     def level(self) -> str | None:
-        """"high//low" with a single point, else the frequency job's level."""
+        """"high//low" with a single point, else the frequency job's level; a solvent single point on a
+        gas-phase structure names its solvent: "COSMO(water)-B3LYP/6-31+G*//B3LYP/6-31G*"."""
+        from .solution import single_point_level
+
         low = self.calculation.level_of_theory or "?"
         if self.single_point is None:
             return self.calculation.level_of_theory
-        return f"{self.single_point.level_of_theory or '?'}//{low}"
+        return f"{single_point_level(self.single_point, self.calculation)}//{low}"
+
+    @property
+    def solvation_energy(self) -> float | None:
+        """dG_solv = E(single point, solvent) - E(single point, gas), hartree, on the thermodynamic-cycle route."""
+        from .solution import solvation_free_energy
+
+        if self.single_point is None or self.gas_single_point is None:
+            return None
+        return solvation_free_energy(self.single_point.energy, self.gas_single_point.energy)
 
 
 @dataclass
@@ -150,6 +165,15 @@ class SpeciesResult:
         return self.reference.multiplicity
 
     @property
+    def solvent(self) -> str | None:
+        """The implicit solvent of the energies, "COSMO(water)" say: the single points' when they are in one
+        (the solution protocol), else the structures'; None in the gas phase."""
+        from .solution import solvent_label
+
+        c = self.lowest or (self.conformers[0] if self.conformers else None)
+        return None if c is None else solvent_label(c.single_point or c.calculation)
+
+    @property
     def levels(self) -> list[str]:
         """Distinct level labels ("high//low") of the used conformers."""
         return sorted({c.level or "?" for c in self.used})
@@ -159,6 +183,15 @@ class SpeciesResult:
         """The used conformer of highest population at the first temperature."""
         used = self.used
         return max(used, key=lambda c: float(np.atleast_1d(c.population)[0])) if used else None
+
+    def solvation_energy(self) -> np.ndarray | None:
+        """Population-weighted dG_solv of the used conformers, hartree, array over T; None off the cycle route."""
+        used = self.used
+        values = [c.solvation_energy for c in used]
+        if not used or any(v is None for v in values):
+            return None
+        return ensemble.population_average(np.array(values)[:, None],
+                                           np.array([np.atleast_1d(c.population) for c in used]))
 
     def population_text(self) -> str:
         """"conf1.out 0.71; conf2.out 0.29" at the first temperature, most populated first."""
@@ -357,12 +390,14 @@ def _pair_single_points(name: str, confs: list[Conformer], single_points: list[C
         idx, rmsd = ensemble.pair_single_point(c.calculation, single_points, max_rmsd)
         if idx is None:
             c.status = "excluded"
-            c.reason = "no single point matches its geometry" + (f" (best RMSD {rmsd:.3f} A)" if np.isfinite(rmsd)
-                                                                 else "") + _refused_text(c, single_points, max_rmsd)
+            c.reason = "no single point matches its geometry" + (f" ({_another_geometry(rmsd, max_rmsd)})"
+                                                                 if np.isfinite(rmsd) else "") \
+                + _refused_text(c, single_points, max_rmsd)
             found.append(Finding("error", c.path, f"species {name!r}: {c.reason}; a mixed-level ensemble is "
                                                   "refused, so the conformer is left out"))
             continue
         c.single_point, c.single_point_rmsd = single_points[idx], rmsd
+        found += _loosened(name, c, rmsd)
         paired.add(idx)
     for j, sp in enumerate(single_points):
         if j not in paired and sp.path not in {s.path for s in explicit.values()}:
@@ -376,14 +411,54 @@ def _pair_explicit(name: str, c: Conformer, sp: Calculation, max_rmsd: float) ->
     if mismatch:
         c.status, c.reason = "excluded", f"its single point {_short(sp.path)} is refused: {mismatch}"
         return [Finding("error", c.path, f"species {name!r}: {c.reason}; the conformer is left out")]
-    c.single_point = sp
     idx, rmsd = ensemble.pair_single_point(c.calculation, [sp], float("inf"))
-    c.single_point_rmsd = rmsd if idx is not None else None
     if idx is None or rmsd > max_rmsd:
-        return [Finding("warning", sp.path, f"species {name!r}: named as the single point of {_short(c.path)} "
-                                            f"but its geometry differs (RMSD "
-                                            f"{'n/a' if idx is None else f'{rmsd:.3f} A'})")]
-    return []
+        c.status = "excluded"
+        where = "another atom order (no aligned RMSD)" if idx is None else _another_geometry(rmsd, max_rmsd)
+        c.reason = f"its single point {_short(sp.path)} is {where}"
+        return [Finding("error", c.path, f"species {name!r}: {c.reason}; not a composite energy, the conformer is "
+                                         "left out")]
+    c.single_point, c.single_point_rmsd = sp, rmsd
+    return _loosened(name, c, rmsd)
+
+
+def _another_geometry(rmsd: float, max_rmsd: float) -> str:
+    """The finding text of a single point on another geometry than its structure's."""
+    return (f"single point on another geometry: RMSD {rmsd:.4f} A > {max_rmsd:g} A (a single point must be on "
+            "the frequency job's own final geometry; [ensemble] single_point_rmsd loosens this)")
+
+
+def _loosened(name: str, c: Conformer, rmsd: float) -> list[Finding]:
+    """A warning for a pair accepted only because [ensemble] single_point_rmsd was loosened."""
+    if rmsd <= ensemble.SINGLE_POINT_RMSD:
+        return []
+    return [Finding("warning", c.path, f"species {name!r}: single point on another geometry "
+                                       f"({_short(c.single_point.path)}, RMSD {rmsd:.4f} A > "
+                                       f"{ensemble.SINGLE_POINT_RMSD:g} A), accepted by a loosened "
+                                       "[ensemble] single_point_rmsd")]
+
+
+def _pair_gas_single_points(name: str, confs: list[Conformer], gas: list[Calculation],
+                            max_rmsd: float) -> list[Finding]:
+    """The thermodynamic-cycle route (docs/solution.md): every used conformer's solvent single point needs a
+    gas-phase single point at the same level on the same geometry; a conformer without one is left out (the
+    route is the user's explicit choice, never half taken)."""
+    found: list[Finding] = []
+    for c in (c for c in confs if c.status == "used"):
+        sp = c.single_point
+        if sp is None or not sp.solvent_model or c.calculation.solvent_model:
+            c.reason = "gas_single_point needs a solvent single point on a gas-phase structure"
+        else:
+            same_level = [g for g in gas if not g.solvent_model and g.level_of_theory == sp.level_of_theory]
+            idx, rmsd = ensemble.pair_single_point(c.calculation, same_level, max_rmsd)
+            if idx is not None:
+                c.gas_single_point = same_level[idx]
+                continue
+            c.reason = f"no gas-phase single point at {sp.level_of_theory or '?'} on its geometry" + (
+                f" ({_another_geometry(rmsd, max_rmsd)})" if np.isfinite(rmsd) else "")
+        c.status = "excluded"
+        found.append(Finding("error", c.path, f"species {name!r}: {c.reason}; the conformer is left out"))
+    return found
 
 
 def _refused_text(c: Conformer, single_points: list[Calculation], max_rmsd: float) -> str:
@@ -440,12 +515,15 @@ def species_conditions(conditions: Conditions, options: SpeciesOptions) -> Condi
 
 def build_species(name: str, calcs: list[Calculation], conditions: Conditions, options: SpeciesOptions | None = None,
                   single_points: Sequence[Calculation] = (), explicit_pairs: dict[str, Calculation] | None = None,
-                  settings: dict[str, float] | None = None) -> SpeciesResult:
+                  settings: dict[str, float] | None = None,
+                  gas_single_points: Sequence[Calculation] = ()) -> SpeciesResult:
     """Audit, de-duplicate, pair, compute and Boltzmann-weight one species.
 
     ``calcs``: its frequency files (several = a conformer ensemble); ``single_points``: candidate
     higher-level single points, paired by geometry; ``explicit_pairs``: frequency path -> single point
-    named in the reaction file; ``settings``: the [ensemble] thresholds (see reactions.ENSEMBLE_DEFAULTS).
+    named in the reaction file; ``settings``: the [ensemble] thresholds (see reactions.ENSEMBLE_DEFAULTS);
+    ``gas_single_points``: gas-phase single points at the level of solvent ones (the thermodynamic-cycle
+    route, :func:`_pair_gas_single_points`).
     Never raises for bad input: problems become findings, and a species with no usable conformer has
     empty ``values``.
     """
@@ -484,6 +562,9 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
     if single_points or explicit_pairs:
         findings.extend(_pair_single_points(name, result.conformers, list(single_points), explicit_pairs,
                                             settings["single_point_rmsd"]))
+    if gas_single_points:
+        findings.extend(_pair_gas_single_points(name, result.conformers, list(gas_single_points),
+                                                settings["single_point_rmsd"]))
     cond = species_conditions(conditions, options)
     findings.extend(problem for c in result.used if (problem := _thermo(c, name, options, cond)))
     if len(result.levels) > 1:

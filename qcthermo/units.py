@@ -38,6 +38,10 @@ BAR_PA = _c.bar
 #: B_av, the average moment of inertia of the free-rotor limit of the qRRHO entropy, kg m^2
 #: (Grimme, Chem. Eur. J. 2012, 18, 9955)
 FREE_ROTOR_INERTIA_KG_M2 = 1e-44
+#: elementary charge, C
+ELEMENTARY_CHARGE = _c.e
+#: Faraday constant, C/mol
+FARADAY = _c.physical_constants["Faraday constant"][0]
 #: thermochemical calorie, J
 CALORIE_J = _c.calorie
 

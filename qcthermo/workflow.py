@@ -34,6 +34,7 @@ from .reactions import (
     state_values,
 )
 from .records import Calculation, Conditions, parse_standard_state
+from .solution import check_solution, constants_used, pka_table, redox_table, solvent_label
 from .species import Finding, SpeciesOptions, SpeciesResult, build_species, mirror_images
 from .units import check_energy_unit, hartree_to, unit_suffix
 
@@ -68,6 +69,8 @@ class RunResults:
         rates: long table of k(T) per reaction (with several temperatures), or None.
         arrhenius: one row per reaction with a modified Arrhenius fit (several temperatures), or None.
         energy_span: one row per cyclic profile and temperature, or None.
+        pka, redox: one row per [[pka]] / [[redox]] entry (and temperature), or None without any
+            (qcthermo.solution; docs/solution.md).
         reaction_file: the parsed reaction file, or None.
         survey_result: the :class:`qcthermo.survey.SurveyResult` behind ``survey``.
         heats_of_formation: one row per species and route (docs/formation.md), or None without a
@@ -89,6 +92,8 @@ class RunResults:
     reaction_file: ReactionFile | None = None
     survey_result: Any = None
     heats_of_formation: Any = None
+    pka: Any = None
+    redox: Any = None
 
     @property
     def temperatures(self) -> np.ndarray:
@@ -175,7 +180,10 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
     """Every [species.NAME] of the file, built once atoms and charge of its reactions are known to balance."""
     logs = {name: [c for c in (calcs.get(p) for p in spec.logs) if c is not None] for name, spec in rf.species.items()}
     readable = {n: found[0] for n, found in logs.items() if found}
-    check_balance(rf, {n: Counter(c.symbols) for n, c in readable.items()}, {n: c.charge for n, c in readable.items()})
+    formulas = {n: Counter(c.symbols) for n, c in readable.items()}
+    charges = {n: c.charge for n, c in readable.items()}
+    check_balance(rf, formulas, charges)
+    check_solution(rf, formulas, charges, {n: _sp_solvent(spec, calcs) for n, spec in rf.species.items()})
     out = {}
     ts_names = rf.transition_states()
     for name, spec in rf.species.items():
@@ -191,9 +199,16 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
             out[name] = SpeciesResult(name, spec.label or name, options, [], findings=[
                 *unread, Finding("error", name, f"species {name!r}: none of its files could be read")])
             continue
-        out[name] = build_species(name, logs[name], conditions, options, sps, pairs, rf.ensemble)
+        gas = [c for c in (calcs.get(p) for p in spec.gas_single_point) if c is not None]
+        out[name] = build_species(name, logs[name], conditions, options, sps, pairs, rf.ensemble, gas)
         out[name].findings[:0] = unread
     return out
+
+
+def _sp_solvent(spec, calcs: _Calculations) -> str | None:
+    """The solvent of a species' first readable single point ("COSMO(water)"), None in the gas phase."""
+    first = next((c for c in (calcs.get(p) for p in spec.single_point) if c is not None), None)
+    return solvent_label(first) if first is not None else None
 
 
 def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, SpeciesResult]:
@@ -379,8 +394,9 @@ def _profile_record(p: ProfileSpec, species: dict[str, SpeciesResult]) -> dict[s
     return {"name": p.name, "states": states, "cyclic": p.cyclic, **p.presentation}
 
 
-def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) -> Any:
-    """species.csv as a long DataFrame (one row per species and temperature)."""
+def _species_table(species: dict[str, SpeciesResult], conditions: Conditions, unit: str = "kcal/mol") -> Any:
+    """species.csv as a long DataFrame (one row per species and temperature); a dG_solv column (``unit``) when
+    some species took the thermodynamic-cycle route."""
     import pandas as pd
 
     t = np.atleast_1d(np.asarray(conditions.temperature, dtype=float))
@@ -389,6 +405,7 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) ->
     if conditions.low_mode_model != "rrho":
         quantities += [(f"H_{m}_Eh", "H"), (f"S_{m}_Eh_K", "S"), (f"G_{m}_Eh", "G")]
     rows = []
+    solvation = any(s.usable and s.solvation_energy() is not None for s in species.values())
     for s in species.values():
         low = s.lowest
         thermo = low.thermo if low is not None else None
@@ -409,12 +426,18 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions) ->
                 "imaginary_frequency_cm1": imag,
                 "standard_state": state,
                 "transition_state": s.options.transition_state,
+                **({f"dG_solv_{unit_suffix(unit)}": _solvation(s, i, unit)} if solvation else {}),
                 "populations": s.population_text(),
                 "status": "ok" if s.usable else "excluded",
                 "notes": "; ".join([*_mirror_image_note(s), *(f.message for f in s.findings)]),
             })
             rows.append(row)
     return pd.DataFrame(rows)
+
+
+def _solvation(s: SpeciesResult, i: int, unit: str) -> float:
+    value = s.solvation_energy() if s.usable else None
+    return np.nan if value is None else float(hartree_to(np.atleast_1d(value)[i], unit))
 
 
 def _mirror_image_note(s: SpeciesResult) -> list[str]:
@@ -458,12 +481,18 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     results = RunResults(
         settings=_settings(directory, rf, conditions, energy_unit, jobs, cache),
         conditions=conditions, energy_unit=energy_unit, survey=survey_result.to_frame(),
-        species=_species_table(species, conditions), reactions=reactions_df, findings=findings,
+        species=_species_table(species, conditions, energy_unit), reactions=reactions_df, findings=findings,
         species_results=species, profiles=_profiles(rf, species, findings), reaction_file=rf,
         survey_result=survey_result,
     )
     add_kinetics(results, energetics)
     results.heats_of_formation = _heats_of_formation(rf, species, conditions, results.findings)
+    if rf and rf.pka:
+        results.pka, found = pka_table(rf, species, conditions, energy_unit)
+        results.findings += found
+    if rf and rf.redox:
+        results.redox, found = redox_table(rf, species, conditions, energy_unit)
+        results.findings += found
     from .export.nasa7 import run_enthalpy_reference
 
     results.settings["nasa7_enthalpy_reference"] = run_enthalpy_reference(results)[1][0]
@@ -525,10 +554,10 @@ def _standard_state_warnings(species: dict[str, SpeciesResult], conditions: Cond
     if conditions.pressure is None and parse_standard_state(conditions.standard_state)[0] == "concentration":
         return []
     state = conditions.standard_state if conditions.pressure is None else f"{conditions.pressure:g} Pa"
-    return [Finding("warning", name, f"species {name!r}: computed with a solvent model ({s.reference.solvent_model}) "
+    return [Finding("warning", name, f"species {name!r}: computed with a solvent model ({s.solvent}) "
                     f"but at the gas standard state {state}; solutes are usually given 1M (--standard-state 1M)")
             for name, s in species.items()
-            if s.usable and s.reference.solvent_model and s.options.concentration is None]
+            if s.usable and s.solvent and s.options.concentration is None]
 
 
 def _unused_warnings(survey_result, species: dict[str, SpeciesResult]) -> list[Finding]:
@@ -580,6 +609,7 @@ def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, 
         "conditions": conditions_dict(conditions),
         "energy_unit": energy_unit,
         "ensemble": dict(rf.ensemble) if rf else dict(ENSEMBLE_DEFAULTS),
+        "solution": constants_used(rf) if rf else {},
         "nasa7": "thermo.yaml and thermo.dat " + fit_model(conditions.low_mode_model)[1],
         "jobs": jobs,
         "cache": cache,
@@ -739,8 +769,19 @@ def caption_context(results: RunResults, names: set[str] | None = None) -> str:
     model = MODEL_NAMES[c.low_mode_model] + (f", threshold {c.low_mode_threshold:g} cm^-1"
                                              if c.low_mode_model != "rrho" else "")
     scale = c.frequency_scale if c.zpe_scale is None else f"{c.frequency_scale} (ZPE {c.zpe_scale})"
+    tight = ENSEMBLE_DEFAULTS["single_point_rmsd"]
+    loose = results.settings.get("ensemble", {}).get("single_point_rmsd", tight)
+    loosened = f"; single points paired up to {loose:g} A from their structure (loosened from {tight:g} A)" \
+        if loose > tight else ""
     return (f"{_temperature_text(results.temperatures)}; standard state {c.standard_state}; low-mode model {model}; "
-            f"frequency scale factor {scale}; level of theory {', '.join(levels) or 'n/a'}")
+            f"frequency scale factor {scale}; level of theory {', '.join(levels) or 'n/a'}{loosened}")
+
+
+def solution_caption(results: RunResults, stem: str) -> str:
+    """The literature constants of the pKa (``stem`` "pka") or potential table, by name (docs/solution.md)."""
+    s = results.reaction_file.solution
+    proton = f"proton solvation {s['proton_solvation']}"
+    return proton if stem == "pka" else f"{proton}, absolute SHE {s['absolute_she']}, electron {s['electron']}"
 
 
 def _reaction_subjects(results: RunResults) -> tuple[set[str], set[str]]:
@@ -827,12 +868,16 @@ def run_json(results: RunResults, written: list[Path]) -> str:
                         "conformers": [{"path": c.path, "status": c.status, "reason": c.reason,
                                         "duplicate_of": c.duplicate_of, "mirror_of": c.mirror_of,
                                         "single_point": c.single_point.path if c.single_point else None,
+                                        "gas_single_point": c.gas_single_point.path if c.gas_single_point
+                                        else None,
                                         "population": np.atleast_1d(c.population)}
                                        for c in s.conformers]}
                     for n, s in results.species_results.items()},
         "reactions": results.reactions.to_dict(orient="records") if len(results.reactions) else [],
         "heats_of_formation": results.heats_of_formation.to_dict(orient="records")
         if results.heats_of_formation is not None else None,
+        **{k: df.to_dict(orient="records") for k, df in (("pka", results.pka), ("redox", results.redox))
+           if df is not None},
         "files": sorted(p.name for p in written),
     }
     return json_text(doc, indent=2)  # strict JSON: NaN and inf as null, file names in their display form
@@ -858,6 +903,13 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
         written += _write_table(results.heats_of_formation, out_dir, "heats_of_formation",
                                 formation_caption(results), [display(n) for n in _table_notes(
                                     results, set(results.heats_of_formation["species"]))])
+    for stem, df, what in (("pka", results.pka, "pKa values"), ("redox", results.redox, "Reduction potentials")):
+        if df is not None and len(df):
+            names = {n for col in ("acid", "base", "oxidised", "reduced") if col in df for n in df[col]}
+            written += _write_table(printable_frame(df), out_dir, stem, f"{what} (solutes at 1 mol/L; "
+                                    f"{display(solution_caption(results, stem))}); "
+                                    f"{display(caption_context(results, names))}.",
+                                    [display(n) for n in _table_notes(results, set(df["name"]) | names)])
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):

@@ -132,7 +132,6 @@ def _water(samples):
 
 
 @pytest.mark.parametrize("change, why", [
-    ({"solvent_model": "cosmo"}, "solvent model"),
     ({"multiplicity": 3}, "multiplicity"),
     ({"charge": 1}, "charge"),
 ])
@@ -147,14 +146,25 @@ def test_a_single_point_of_another_state_is_never_paired(samples, change, why):
     assert any("no single point matches" in m and why in m for m in errors), errors
 
 
+def test_a_gas_phase_single_point_of_a_solvated_structure_is_never_paired(samples):
+    # the reverse of the solution protocol: a gas-phase energy is not the energy of a COSMO structure (the
+    # MP2 water is on the gas-phase geometry, here declared as computed in COSMO)
+    freq, sp = _water(samples)
+    species = build_species("water", [replace(freq, solvent_model="cosmo")], Conditions(), single_points=[sp])
+    assert not species.usable
+    assert any("solvent model none (gas) is not cosmo" in f.message for f in species.findings), species.findings
+
+
 def test_the_cosmo_water_is_not_the_single_point_of_the_gas_water(samples):
-    # a real file of another solvent model on nearly the same geometry (solvent/water.out, COSMO, RMSD 0.004 A
-    # from the gas-phase one): refused by the pairing, not paired because its geometry fits
+    # a real COSMO water on nearly the same geometry (solvent/water.out, its own COSMO optimisation, RMSD 0.004 A
+    # from the gas-phase one): a solvent energy on a gas structure is the solution protocol, but only on the
+    # structure's own geometry (1e-3 A, docs/reactions.md): this one is another geometry, never paired
     freq, _ = _water(samples)
     cosmo = qcthermo.read_log(samples / "solvent" / "water.out")
     species = build_species("water", [freq], Conditions(), single_points=[cosmo])
     assert not species.usable
-    assert any("solvent model cosmo is not none (gas)" in f.message for f in species.findings)
+    assert any("single point on another geometry: RMSD 0.00" in f.message for f in species.findings), \
+        species.findings
 
 
 def test_an_explicit_single_point_of_another_molecule_is_an_error(tmp_path, samples):
@@ -321,3 +331,43 @@ def test_the_sample_hydration_counts_both_mirror_images(tmp_path, samples):
     assert sample["k_forward"] / without["k_forward"] == pytest.approx(2.0, rel=1e-9)
     assert sample["k_reverse"] / without["k_reverse"] == pytest.approx(1.0, rel=1e-9)
     assert not any("counted as one enantiomer" in f.message for f in runs[0].findings)
+
+
+def _moved(sp, rmsd: float):
+    """The single point's geometry with its first bond stretched (atom 1 moved away from atom 0) so that the
+    aligned RMSD to the original is of the order of ``rmsd`` (angstrom)."""
+    xyz = np.array(sp.coordinates, dtype=float)
+    bond = xyz[1] - xyz[0]
+    xyz[1] += bond / np.linalg.norm(bond) * rmsd * np.sqrt(len(xyz))
+    return replace(sp, coordinates=xyz)
+
+
+@pytest.mark.parametrize("explicit", [False, True])
+def test_a_single_point_on_another_geometry_is_a_finding_not_a_composite(samples, explicit):
+    # the MP2 water of sp/water_mp2.out is on the B3LYP geometry of gas/water.out (RMSD < 1e-5 A, README); moved by
+    # ~0.02 A (a geometry of another level) it is another structure's energy: never paired, found or named
+    freq, sp = _water(samples)
+    moved = _moved(sp, 0.024)
+    species = build_species("water", [freq], Conditions(), single_points=[moved],
+                            explicit_pairs={freq.path: moved} if explicit else None)
+    assert not species.usable
+    assert any(f.severity == "error" and "single point on another geometry: RMSD 0.0" in f.message
+               for f in species.findings), species.findings
+
+
+def test_a_loosened_single_point_tolerance_is_a_warning_and_reported(tmp_path, samples, cache_dir):
+    # [ensemble] single_point_rmsd = 0.05 accepts the COSMO water (its own optimisation, RMSD 0.004 A from the
+    # gas-phase geometry) as a single point, with a warning on the pair and the loosened value in the caption
+    freq, _ = _water(samples)
+    cosmo = qcthermo.read_log(samples / "solvent" / "water.out")
+    species = build_species("water", [freq], Conditions(), single_points=[cosmo],
+                            settings={"single_point_rmsd": 0.05})
+    assert species.usable
+    assert any("accepted by a loosened [ensemble] single_point_rmsd" in f.message for f in species.findings)
+    path = tmp_path / "r.toml"
+    path.write_text(f'[ensemble]\nsingle_point_rmsd = 0.05\n[species.water]\nlogs = "{samples.as_posix()}/gas/'
+                    f'water.out"\nsingle_point = "{samples.as_posix()}/solvent/water.out"\n')
+    res = qcthermo.run(samples / "gas", reactions=path, cache=False)
+    res.write(tmp_path / "out")
+    assert "single points paired up to 0.05 A from their structure (loosened from 0.001 A)" in \
+        (tmp_path / "out" / "species.md").read_text()

@@ -65,9 +65,50 @@ def _toml_list(items: list[str]) -> str:
     return "[" + ", ".join(json.dumps(_glob_literal(i)) for i in items) + "]"
 
 
+def _single_point_lines(members: list[tuple[str, Calculation]], single_points: list[tuple[str, Calculation]]
+                        ) -> list[str]:
+    """``single_point`` (and ``gas_single_point``) lines for a group, with the protocol chosen as a comment.
+
+    Single points are sets of one level and one solvent; a set is a candidate when every member has one on its
+    own geometry (:data:`qcthermo.ensemble.SINGLE_POINT_RMSD`, same formula, charge and multiplicity). On
+    gas-phase structures a solvent set wins (the solution protocol), with the gas-phase set of its level as
+    the thermodynamic cycle when there is one; else the first gas-phase set. The others are listed."""
+    from ..ensemble import pair_single_point
+    from ..solution import single_point_level, solvent_label
+
+    sets: dict[tuple, list[tuple[str, Calculation]]] = defaultdict(list)
+    for path, sp in single_points:
+        sets[(solvent_label(sp) or "", sp.level_of_theory or "?")].append((path, sp))
+    complete: dict[tuple, list[str]] = {}
+    for key, sps in sorted(sets.items()):
+        matched = [pair_single_point(c, [sp for _, sp in sps])[0] for _, c in members]
+        if all(i is not None for i in matched):
+            complete[key] = sorted({sps[i][0] for i in matched})
+    if not complete:
+        return []
+    structure = members[0][1]
+    solvent = [k for k in complete if k[0] and not structure.solvent_model]
+    chosen = solvent[0] if solvent else next(iter(complete))
+    sp = next(c for p, c in sets[chosen] if p in complete[chosen])
+    low = structure.level_of_theory or "?"
+    lines = [f"# protocol: {single_point_level(sp, structure)}//{low}"]
+    gas = ("", chosen[1]) if solvent and ("", chosen[1]) in complete else None
+    if gas:
+        lines[0] += " by the thermodynamic cycle (gas-phase single points at the same level give dG_solv)"
+    elif solvent:
+        lines[0] += " (solvent single points on the gas-phase structures)"
+    lines.append(f"single_point = {_toml_list(complete[chosen])}   # paired by geometry")
+    if gas:
+        lines.append(f"gas_single_point = {_toml_list(complete[gas])}")
+    others = [k for k in complete if k not in (chosen, gas)]
+    lines += [f"# also on these geometries: {(k[0] + '-') if k[0] else ''}{k[1]}: {', '.join(complete[k])}"
+              for k in others]
+    return lines
+
+
 def starter_text(survey_result, base: Path) -> str:
     """The reaction file for the calculations of ``survey_result``, paths relative to ``base``."""
-    from ..ensemble import pair_single_point
+    from ..ensemble import SINGLE_POINT_RMSD, pair_single_point
 
     groups: dict[tuple, list[tuple[str, Calculation]]] = defaultdict(list)
     single_points: list[tuple[str, Calculation]] = []
@@ -112,16 +153,15 @@ def starter_text(survey_result, base: Path) -> str:
                   f"logs = {_toml_list([p for p, _ in members])}"]
         if saddle:
             lines.append("transition_state = true")
-        matched = [pair_single_point(c, [s for _, s in single_points]) for _, c in members]
-        if single_points and all(i is not None for i, _ in matched):
-            lines.append(f"single_point = {_toml_list(sorted({single_points[i][0] for i, _ in matched}))}"
-                         "   # paired by geometry")
-        lines.append("")
-    unmatched = [p for p, s in single_points
+        lines += [*_single_point_lines(members, single_points), ""]
+    unmatched = [(p, min((pair_single_point(c, [s], 0.0)[1] for m in groups.values() for _, c in m),
+                         default=float("inf"))) for p, s in single_points
                  if not any(pair_single_point(c, [s])[0] is not None for m in groups.values() for _, c in m)]
     if unmatched:
-        lines += ["# single points that match no frequency geometry (not used):"]
-        lines += [f"#   {p}" for p in unmatched] + [""]
+        lines += ["# single points that match no frequency geometry within "
+                  f"{SINGLE_POINT_RMSD:g} A (not used; a single point must be on its structure's own geometry):"]
+        lines += [f"#   {p}" + (f"   (single point on another geometry: RMSD {rmsd:.4f} A)" if rmsd < 0.5 else "")
+                  for p, rmsd in unmatched] + [""]
     if skipped:
         lines += ["# files without frequencies that are not single points (not usable as species):"]
         lines += [f"#   {p}" for p in skipped] + [""]

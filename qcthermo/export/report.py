@@ -3,7 +3,7 @@
 The page needs nothing but a browser: the figures are inline SVG, the style sheet is inline, there is
 no script and no network reference. Order, as a reader checks a run: the audit findings first (errors,
 then warnings, each naming its file), then the settings, the species and reaction tables (and the
-Arrhenius fits and energy spans when the run has them), and the figures.
+Arrhenius fits, energy spans, pKa values and reduction potentials when the run has them), and the figures.
 """
 
 from __future__ import annotations
@@ -142,6 +142,20 @@ def _optional_tables(results) -> list[str]:
     return out
 
 
+def _solution_section(results) -> list[str]:
+    """pKa values and reduction potentials, after the literature constants they used and their sources."""
+    pka, redox = getattr(results, "pka", None), getattr(results, "redox", None)
+    if pka is None and redox is None:
+        return []
+    constants = (getattr(results, "settings", None) or {}).get("solution", {})
+    out = ['<h2 id="solution">pKa and reduction potentials</h2>',
+           _table(["constant", "value"], [[k, v] for k, v in constants.items()], wrapped=[False, True])]
+    for frame, stem, what in ((pka, "pka", "pKa values"), (redox, "redox", "Reduction potentials")):
+        if frame is not None:
+            out.append(f"<h3>{what}</h3>" + _frame_table(frame, what, stem))
+    return out
+
+
 def render_report(results) -> str:
     """The whole page as a string (see the module docstring for its order)."""
     findings = sorted_findings(getattr(results, "findings", None))
@@ -155,6 +169,7 @@ def render_report(results) -> str:
         '<h2 id="reactions">Reactions</h2>'
         + _frame_table(getattr(results, "reactions", None), "reactions", "reactions"),
         *_optional_tables(results),
+        *_solution_section(results),
         _figures_section(results),
     ]
     return (

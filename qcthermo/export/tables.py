@@ -58,6 +58,7 @@ UNITS = (
     Unit("eV", "eV", "eV", "fixed3"),
     Unit("cm1", "cm⁻¹", r"cm$^{-1}$", "fixed1"),
     Unit("s-1", "s⁻¹", r"s$^{-1}$", "sci3"),
+    Unit("V", "V", "V", "fixed3"),
     Unit("K", "K", "K", "fixed2"),
 )
 
@@ -92,6 +93,9 @@ QUALIFIERS = (
     (("max",), "max"),
     (("wigner",), "Wigner"),
     (("eckart",), "Eckart"),
+    (("solv",), "solv"),
+    (("deprotonation",), "deprotonation"),
+    (("proton",), "H+"),
 )
 
 #: plain-word headers for the usual descriptive columns
@@ -122,6 +126,19 @@ WORDS = {
     "H298_minus_H0_kJ_mol": "H(298.15 K) − H(0) / kJ mol⁻¹",
     "atomization_energy_kJ_mol": "ΣD₀ / kJ mol⁻¹",
     "correction_kJ_mol": "Correction / kJ mol⁻¹",
+    "name": "Name",
+    "acid": "Acid",
+    "base": "Base",
+    "scheme": "Scheme",
+    "reference_acid": "Reference acid",
+    "reference_pKa": "Reference pKa",
+    "oxidised": "Oxidised",
+    "reduced": "Reduced",
+    "electrons": "n(e⁻)",
+    "protons": "m(H⁺)",
+    "electron": "Electron",
+    "reference": "Reference",
+    "E_abs_reference_V": "E_abs(reference) / V",
 }
 WORDS_TEX = {"symmetry_number": r"$\sigma$",
              "dfH_0K_kJ_mol": r"$\Delta_{\mathrm{f}}H^{\circ}(0\,\mathrm{K})$ / kJ\,mol$^{-1}$",
@@ -231,6 +248,8 @@ def number_kind(column: str, values: Sequence[Any]) -> str:
         return "sci3"  # rate constants span many decades: 3 significant digits
     if column.startswith("kappa") or column == "population":
         return "fixed3"
+    if column in ("pKa", "reference_pKa", "pH"):
+        return "fixed2"
     numbers = [v for v in values if _is_number(v) and not _missing(v)]
     if not numbers:
         return "text"
