@@ -47,6 +47,12 @@ def _add_reading(p: argparse.ArgumentParser) -> None:
     g.add_argument("--jobs", type=_count(1), default=None, metavar="N", help="worker processes (default: all cores)")
     g.add_argument("--no-cache", action="store_true", help="neither read nor write the parse cache")
     g.add_argument("--quiet", action="store_true", help="no progress bar, no table on the terminal")
+    g = p.add_argument_group("reading on a Dask cluster (pip install 'qcthermo[cluster]'; docs/cluster.md)")
+    where = g.add_mutually_exclusive_group()
+    where.add_argument("--scheduler", metavar="tcp://HOST:PORT", help="send the reading to this running Dask scheduler")
+    where.add_argument("--cluster", metavar="local:N|slurm|pbs|sge|lsf",
+                       help="start a Dask cluster: N processes here, or jobs of a batch system (jobqueue.yaml)")
+    g.add_argument("--workers", type=_count(1), default=None, metavar="N", help="worker processes --cluster starts")
 
 
 def _add_conditions(p: argparse.ArgumentParser, reaction_file: bool = True) -> None:

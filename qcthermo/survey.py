@@ -26,7 +26,7 @@ from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, NamedTuple
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
 
@@ -36,6 +36,9 @@ from .cache import DigestIndex, Entry, FileKey, ParseCache, default_cache_dir
 from .errors import LogReadError, QcthermoError
 from .progress import ProgressBar
 from .records import JOB_TYPES, Calculation
+
+if TYPE_CHECKING:
+    from .cluster import Target
 
 #: file names (case-insensitive endings) read as logs; the reader undoes gzip itself
 LOG_SUFFIXES = (".out", ".log", ".output", ".nwo")
@@ -461,6 +464,8 @@ def survey(
     cache: bool = True,
     progress: bool = False,
     reader: Reader | None = None,
+    scheduler: Any = None,
+    workers: int | None = None,
 ) -> SurveyResult:
     """Read every candidate log under ``directory`` and audit it; see :class:`SurveyResult`.
 
@@ -469,6 +474,9 @@ def survey(
         cache: use the parse cache (:func:`qcthermo.cache.default_cache_dir`).
         progress: show a progress bar on stderr (only if stderr is a terminal).
         reader: a function path -> Calculation raising LogReadError; default :func:`qcthermo.read_log`.
+        scheduler: read on a Dask cluster instead of local processes (:mod:`qcthermo.cluster`): a
+            ``distributed.Client``, ``"tcp://HOST:PORT"``, ``"local:N"`` or ``"slurm"|"pbs"|"sge"|"lsf"``
+            (with ``workers``); ``jobs`` is then unused. Only files the cache does not hold are sent.
 
     Raises:
         QcthermoError: ``directory`` does not exist or is not a directory.
@@ -478,6 +486,10 @@ def survey(
         raise QcthermoError(f"{directory}: {'not a directory' if root.exists() else 'no such directory'}")
     reader = reader or default_reader
     jobs = max(1, jobs or os.cpu_count() or 1)
+    if scheduler is not None:
+        from .cluster import target
+
+        jobs = target(scheduler, workers)  # checked before any work; stands for the workers from here on
     cache_dir = default_cache_dir()
     candidates, notes = find_candidates(root, skip=(cache_dir,))
     result = SurveyResult(str(directory), notes=notes)
@@ -515,9 +527,10 @@ def _from_cache(store: ParseCache | None, candidates: list[Candidate], outcomes:
     return misses
 
 
-def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int], outcomes: list, jobs: int,
+def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int], outcomes: list, jobs: int | Target,
                  store: ParseCache | None, bar: ProgressBar, stats: dict[str, int]) -> None:
-    """Hash, look up by digest, or parse the files step 1 did not find; store and count the outcomes."""
+    """Hash, look up by digest, or parse the files step 1 did not find; store and count the outcomes.
+    ``jobs``: local worker processes, or the Dask cluster to read on."""
     if not misses:
         return
     # largest files first, so that no big file is left for one worker at the end while the others idle
@@ -537,6 +550,11 @@ def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int],
         bar.advance()
 
     index = store if store is not None and store.enabled else None
+    if not isinstance(jobs, int):  # a Dask cluster (qcthermo.cluster.Target)
+        from .cluster import read_on_cluster
+
+        read_on_cluster(jobs, reader, paths, report, hash_files=index is not None)
+        return
     if jobs == 1 or len(paths) == 1:
         for k, path in enumerate(paths):
             report(k, read_one(reader, path, index))

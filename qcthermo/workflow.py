@@ -451,12 +451,13 @@ def _mirror_image_note(s: SpeciesResult) -> list[str]:
 
 def run(directory: str | Path, reactions: str | Path | ReactionFile | None = None,
         conditions: Conditions | None = None, *, energy_unit: str = "kcal/mol", jobs: int | None = None,
-        cache: bool = True, progress: bool = False) -> RunResults:
+        cache: bool = True, progress: bool = False, scheduler: Any = None, workers: int | None = None) -> RunResults:
     """The main job: survey ``directory``, build species, reactions and profiles; see :class:`RunResults`.
 
     ``reactions``: a reaction file (TOML path, or a parsed ReactionFile); without it every frequency
     log is a species and there are no reactions. ``conditions``: None takes the command line's
-    defaults and the file's [conditions]; given, it is used as it is. Raises ReactionFileError for a
+    defaults and the file's [conditions]; given, it is used as it is. ``scheduler``, ``workers``: read the logs
+    on a Dask cluster (:func:`qcthermo.survey`). Raises ReactionFileError for a
     bad reaction file (with its line), QcthermoError for a missing directory; bad logs become findings.
     """
     from .survey import survey
@@ -467,7 +468,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
         raise QcthermoError(str(err)) from None
     rf = reactions if isinstance(reactions, ReactionFile) or reactions is None else load_reaction_file(reactions)
     conditions = conditions if conditions is not None else default_conditions(rf)
-    survey_result = survey(directory, jobs=jobs, cache=cache, progress=progress)
+    survey_result = survey(directory, jobs=jobs, cache=cache, progress=progress, scheduler=scheduler, workers=workers)
     calcs = _Calculations(survey_result)
     findings = [Finding("error", str(Path(survey_result.directory) / rel), reason)
                 for rel, reason in survey_result.errors.items()]
@@ -479,7 +480,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     findings += _standard_state_warnings(species, conditions)
     reactions_df, energetics = _reactions_table(rf, species, conditions, energy_unit, findings)
     results = RunResults(
-        settings=_settings(directory, rf, conditions, energy_unit, jobs, cache),
+        settings=_settings(directory, rf, conditions, energy_unit, jobs, cache, scheduler),
         conditions=conditions, energy_unit=energy_unit, survey=survey_result.to_frame(),
         species=_species_table(species, conditions, energy_unit), reactions=reactions_df, findings=findings,
         species_results=species, profiles=_profiles(rf, species, findings), reaction_file=rf,
@@ -598,7 +599,7 @@ def conditions_dict(conditions: Conditions) -> dict[str, Any]:
     return out
 
 
-def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, Any]:
+def _settings(directory, rf, conditions, energy_unit, jobs, cache, scheduler) -> dict[str, Any]:
     from .export.nasa7 import fit_model
 
     return {
@@ -613,6 +614,8 @@ def _settings(directory, rf, conditions, energy_unit, jobs, cache) -> dict[str, 
         "nasa7": "thermo.yaml and thermo.dat " + fit_model(conditions.low_mode_model)[1],
         "jobs": jobs,
         "cache": cache,
+        # an address, local:N or a batch system as given; a Client as its repr (it names the scheduler)
+        "scheduler": scheduler if scheduler is None or isinstance(scheduler, str) else repr(scheduler),
     }
 
 

@@ -5,11 +5,12 @@ import sys
 
 
 def test_help_imports_no_heavy_library():
-    # Start-up budget: `qcthermo --help` must not import pandas, matplotlib or cclib (DEVELOPERS.md, "Package layout").
+    # Start-up budget: `qcthermo --help` must not import pandas, matplotlib or cclib (DEVELOPERS.md, "Package layout"),
+    # nor dask (only --scheduler/--cluster need it).
     code = (
         "import sys; from qcthermo.cli import main\n"
         "try:\n    main(['--help'])\nexcept SystemExit:\n    pass\n"
-        "heavy = [m for m in ('pandas', 'matplotlib', 'cclib', 'scipy') if m in sys.modules]\n"
+        "heavy = [m for m in ('pandas', 'matplotlib', 'cclib', 'scipy', 'dask', 'distributed') if m in sys.modules]\n"
         "print('HEAVY', heavy)\n"
     )
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout

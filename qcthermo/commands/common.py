@@ -43,6 +43,12 @@ def parse_rotor_inertia(value: Any) -> float | str:
     return _number_or_word(value, "molecular", "rotor inertia", "kg m^2 (e.g. 1e-44)")
 
 
+def reading_options(args: argparse.Namespace) -> dict[str, Any]:
+    """The survey's keyword arguments from the "reading" options every command that reads logs has."""
+    return {"jobs": args.jobs, "cache": not args.no_cache, "progress": not args.quiet,
+            "scheduler": args.scheduler or args.cluster, "workers": args.workers}
+
+
 def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any] | None = None) -> Conditions:
     """Conditions from, in rising priority: Conditions()'s defaults (the command line has no others), a
     reaction file's [conditions], options."""

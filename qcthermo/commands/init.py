@@ -189,12 +189,13 @@ def starter_text(survey_result, base: Path) -> str:
 def main(args: argparse.Namespace) -> int:
     from ..fileio import atomic_write, check_output_file, display
     from ..survey import survey
+    from .common import reading_options
     from .survey import print_errors
 
     directory = Path(args.directory)
     output = Path(args.output) if args.output else directory / "reactions.toml"
     check_output_file(output, args.force)
-    result = survey(directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
+    result = survey(directory, **reading_options(args))
     if not result.calculations:
         raise QcthermoError(f"no readable log under {directory}")
     atomic_write(output, starter_text(result, output.parent))

@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import QcthermoError
-from .common import conditions_from_args
+from .common import conditions_from_args, reading_options
 
 
 def _check_output(path: Path, force: bool) -> None:
@@ -51,8 +51,8 @@ def main(args: argparse.Namespace) -> int:
         raise QcthermoError(f"{reaction_file}: no [[profile]] table to draw")
     directory = Path(args.directory) if args.directory else rf.path.parent
     conditions = conditions_from_args(args, file_settings=rf.conditions)
-    results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit, jobs=args.jobs,
-                  cache=not args.no_cache, progress=not args.quiet)
+    results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit,
+                  **reading_options(args))
     for severity, subject, message in results.findings:
         if severity == "error":
             print(f"error: {subject}: {message}", file=sys.stderr)

@@ -8,6 +8,7 @@ from pathlib import Path
 
 from ..fileio import atomic_write, check_output_file, display, json_text
 from ..survey import LOG_SUFFIXES, SurveyResult, survey
+from .common import reading_options
 
 #: the columns of the terminal table: (heading, how to show a row)
 _TABLE = (
@@ -99,7 +100,7 @@ def print_errors(command: str, errors: dict[str, str], limit: int = SHOWN_ERRORS
 
 def main(args: argparse.Namespace) -> int:
     check_outputs([args.csv, args.json], args.force)
-    result = survey(args.directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
+    result = survey(args.directory, **reading_options(args))
     for note in result.notes:
         print(f"qcthermo survey: warning: {display(note)}", file=sys.stderr)
     if not result.rows:

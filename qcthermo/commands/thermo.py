@@ -24,7 +24,7 @@ from ..fileio import atomic_write, display, json_text
 from ..records import Conditions, Molecule, ThermoResult
 from ..thermo import COMPONENTS, MOTIONS, PARTS, TOTALS, free_energy_parts, per_temperature, temperatures_of
 from ..units import hartree_to, unit_suffix
-from .common import conditions_from_args
+from .common import conditions_from_args, reading_options
 
 #: ThermoResult totals -> (long-form quantity, unit)
 TOTAL_NAMES = {"zpe": ("ZPE", "Eh"), "thermal_energy": ("U", "Eh"), "enthalpy": ("H", "Eh"),
@@ -249,7 +249,7 @@ def main(args: argparse.Namespace) -> int:
 
     check_outputs([args.csv, args.long, args.json], args.force)
     cond = conditions_from_args(args)
-    result = survey(args.directory, jobs=args.jobs, cache=not args.no_cache, progress=not args.quiet)
+    result = survey(args.directory, **reading_options(args))
     for note in result.notes:
         print(f"qcthermo thermo: warning: {note}", file=sys.stderr)
     entries = compute_entries(result.calculations, result.errors, cond)
