@@ -45,17 +45,19 @@ def client():
 def test_rows_on_the_cluster_are_the_local_surveys(client, samples):
     local = survey(samples, jobs=1, cache=False)
     remote = survey(samples, scheduler=client, cache=False)
-    assert remote.rows == local.rows and len(remote.rows) == 33
-    assert remote.stats == {"files": 33, "parsed": 33, "cached": 0, "hashed": 0}
+    n = len(local.rows)
+    assert remote.rows == local.rows and n > 30
+    assert remote.stats == {"files": n, "parsed": n, "cached": 0, "hashed": 0}
     # the last energy NWChem printed in ch3.out: "Total DFT energy =      -39.838291827530" (line 3059)
     assert remote.calculations["gas/ch3.out"].energy == pytest.approx(-39.838291827530, abs=1e-9)
 
 
 def test_cache_is_filled_by_the_client_alone_and_cached_files_are_not_sent(client, samples, cache_dir):
     cold = survey(samples, scheduler=client)
-    assert cold.stats["parsed"] == 33 and cold.stats["hashed"] == 33
+    n = len(cold.rows)
+    assert cold.stats["parsed"] == n and cold.stats["hashed"] == n
     with sqlite3.connect(cache_dir / "parse-cache.sqlite") as db:
-        assert db.execute("SELECT count(*) FROM parsed").fetchone() == (33,)
+        assert db.execute("SELECT count(*) FROM parsed").fetchone() == (n,)
 
     def cache_connections():
         cache = sys.modules.get("qcthermo.cache")
@@ -64,7 +66,7 @@ def test_cache_is_filled_by_the_client_alone_and_cached_files_are_not_sent(clien
     assert set(client.run(cache_connections).values()) == {0}  # no worker opened the cache
     # a warm survey sends nothing: the scheduler it names does not even exist (port 1 refuses)
     warm = survey(samples, scheduler="tcp://127.0.0.1:1")
-    assert warm.rows == cold.rows and warm.stats["cached"] == 33 and warm.stats["parsed"] == 0
+    assert warm.rows == cold.rows and warm.stats["cached"] == n and warm.stats["parsed"] == 0
 
 
 def set_marker(path: str) -> None:
@@ -112,7 +114,7 @@ def test_a_file_that_kills_every_worker_is_an_error_row(client, samples, tmp_pat
 
 def test_command_line_on_a_running_scheduler(client, samples, capsys, cache_dir):
     assert main(["survey", str(samples), "--scheduler", client.scheduler.address, "--quiet"]) == 0
-    assert capsys.readouterr().out.strip().splitlines()[-1] == "33 files: 30 ok, 3 warning, 0 error"
+    assert capsys.readouterr().out.strip().splitlines()[-1] == survey(samples, jobs=1, cache=False).summary()
 
 
 @pytest.mark.parametrize(("options", "message"), [
