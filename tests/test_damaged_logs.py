@@ -100,6 +100,58 @@ def test_frequencies_for_another_atom_count_are_refused_not_trimmed():
     assert checks.frequency_problem(np.ones(9), 1, 0, all_modes=True)  # HCN's 9 modes read for an "H"
 
 
+# ---------------------------------------------------------- an element changed in the final geometry
+
+#: (log, the header of the last block the reader takes its atoms from, its row as printed, the row with one
+#: element changed, the reason): the other statements of the elements are the log's own (input orientation,
+#: the other coordinate block, the input echo, the nuclear charges table) or its printed nuclear repulsion
+ELEMENT_FLIPS = [
+    ("third:gaussian16/dvb_ir.out", "Standard orientation:", "      1          6           0 ",
+     "      1          8           0 ", "atom 1 is O in the final geometry but C in another geometry block"),
+    ("third:gaussian16/dvb_gopt.out", "Standard orientation:", "      1          6           0 ",
+     "      1          8           0 ", "atom 1 is O in the final geometry but C in another geometry block"),
+    ("third:orca5.0/dvb_ir.out", "CARTESIAN COORDINATES (ANGSTROEM)", "  C      1.415253",
+     "  O      1.415253", "atom 2 is O in the final geometry but C in another geometry block"),
+    ("third:orca6.0/dvb_ir.out", "CARTESIAN COORDINATES (ANGSTROEM)", "  C      1.415253",
+     "  O      1.415253", "atom 2 is O in the final geometry but C in another geometry block"),
+    ("third:qchem5.4/dvb_ir.out", "Standard Nuclear Orientation", "   1      C ", "   1      O ",
+     "atom 1 is O in the final geometry but C in another geometry block"),
+    # a single point: one coordinate block, whose charge column the reader takes; the printed repulsion disagrees
+    ("third:nwchem7.0/dvb_ir.out", "Output coordinates in angstroms", "    1 C                    6.0000",
+     "    1 C                    8.0000", "nuclear repulsion energy of the final geometry is 474.96"),
+    ("sample:gas/hcn.out", "Output coordinates in angstroms", "    2 C                    6.0000",
+     "    2 C                    8.0000", "atom 2 is O in the final geometry but C in another geometry block"),
+    ("third:psi4-1.2.1/dvb_ir_rhf.out", "Geometry (in Angstrom)", "         C           -1.4152",
+     "         O           -1.4152", "atom 1 is O in the final geometry but C in another geometry block"),
+    # H -> Li keeps the electron count's parity, so only the repulsion (12.3176 Eh printed) tells
+    ("third:gamess-us2018/nh3_ts_ir.out", "COORDINATES (BOHR)", " H           1.0", " H           3.0",
+     "nuclear repulsion energy of the final geometry is 21.155"),
+    ("sample:conformers/pentane_tt.out", "covCN", "     1   6 C ", "     1   8 O ",
+     "atom 1 is O in the final geometry but C in another geometry block"),
+]
+
+
+@pytest.mark.parametrize(("log", "header", "row", "flipped", "reason"), ELEMENT_FLIPS)
+def test_an_element_changed_in_the_final_geometry_is_refused(samples, third_party, tmp_path, log, header, row,
+                                                            flipped, reason):
+    # before the check these read as another molecule (C9H10O for C10H10) with the same energy, status ok
+    text = _log_text(samples, third_party, log)
+    at = text.index(row, text.rindex(header))
+    damaged = write(tmp_path, Path(log).name, text[:at] + flipped + text[at + len(row) :])
+    refused(damaged, reason)
+
+
+def test_the_recomputed_nuclear_repulsion_matches_every_real_log(samples, third_party):
+    # the check's premise: sum Z_i Z_j / r_ij over the final geometry equals a value each program printed
+    # (to 7.5e-8 relative: NWChem's older bohr), here for dvb, C10H10, in five programs
+    for log in ("gaussian16/dvb_ir.out", "orca6.0/dvb_ir.out", "qchem5.4/dvb_ir.out", "nwchem7.0/dvb_ir.out",
+                "psi4-1.2.1/dvb_ir_rhf.out"):
+        calc = qcthermo.read_log(third_party / log)
+        printed = float(re.findall(r"[Nn]uclear [Rr]epulsion(?: [Ee]nergy)?\s*[=:]?\s+(\d+\.\d+)",
+                                   (third_party / log).read_text())[0])
+        assert checks.nuclear_repulsion(calc.symbols, calc.coordinates) == pytest.approx(printed, rel=1e-7), log
+
+
 # -------------------------------------------------------------------------- two jobs in one file
 
 

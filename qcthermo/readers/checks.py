@@ -9,6 +9,7 @@ length of its frequency list) or with what physics allows, and gives the one-lin
 
 from __future__ import annotations
 
+import functools
 import re
 from dataclasses import dataclass
 
@@ -17,6 +18,7 @@ import numpy as np
 from .normalise import electron_count
 from .programs import RULES, rules
 from .source import LogSource
+from .text import lines_with
 
 #: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
 #: 23, 22; the coefficient from memory), exceeds the true magnitude (-0.500 vs -0.769 for H, -37.8 vs -50.3 for
@@ -33,14 +35,17 @@ COINCIDENT_A = 0.2
 
 @dataclass(frozen=True)
 class _Count:
-    """Where a program states its atom count: the literal that starts it and the regex matched there."""
+    """Where a program states its atoms: the literal that starts the statement, the regex matched there
+    (group 1: the count, or a block's rows) and, for a block, the column of each row that names the element
+    (a symbol or a nuclear charge; None: a free label such as NWChem's tags, not an element)."""
 
     literal: str
     regex: re.Pattern
+    element: int | None = None
 
 
-def _count(literal: str, pattern: str) -> _Count:
-    return _Count(literal, re.compile(pattern))
+def _count(literal: str, pattern: str, element: int | None = None) -> _Count:
+    return _Count(literal, re.compile(pattern), element)
 
 
 #: x, y, z and the end of a geometry row (spaces and tabs only: a row never runs onto the next line)
@@ -57,23 +62,36 @@ _DECLARED: dict[str, tuple[_Count, ...]] = {
     "psi4": (_count("Number of atoms is", r"Number of atoms is (\d+)\."),),
     "xtb": (_count("final structure:", r"final structure:\n=+\n\s*(\d+)\s*\n"),),
 }
-#: the geometry blocks of each program (group 1: the rows), every one printed (orientations, steps)
+#: the geometry blocks of each program (group 1: the rows), every one printed (orientations, steps, the
+#: input echo, and tables of the atoms' nuclear charges), with the column that names each row's element
 _BLOCKS: dict[str, tuple[_Count, ...]] = {
     "gaussian": (_count(" orientation:",
-                        rf" orientation:.*\n.*\n.*\n.*\n\s*-+\n((?:[ \t]+\d+[ \t]+-?\d+[ \t]+\d+{_XYZ})+)"),),
+                        rf" orientation:.*\n.*\n.*\n.*\n\s*-+\n((?:[ \t]+\d+[ \t]+-?\d+[ \t]+\d+{_XYZ})+)", 1),),
     "nwchem": (
         _count("Output coordinates in angstroms",
-               rf"Output coordinates in angstroms.*\n\n.*\n\s*-{{4}}.*\n((?:[ \t]*\d+(?:[ \t]+\S+){{2}}{_XYZ})+)"),
+               rf"Output coordinates in angstroms.*\n\n.*\n\s*-{{4}}.*\n((?:[ \t]*\d+(?:[ \t]+\S+){{2}}{_XYZ})+)", 2),
         _count("XYZ format geometry", rf"XYZ format geometry\n.*\n.*\n.*\n((?:[ \t]*[A-Za-z]\S*{_XYZ})+)"),
     ),
     "orca": (_count("CARTESIAN COORDINATES (ANGSTROEM)",
-                    rf"CARTESIAN COORDINATES \(ANGSTROEM\)\n-+\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)"),),
+                    rf"CARTESIAN COORDINATES \(ANGSTROEM\)\n-+\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)", 0),
+             # "NO LB ZA FRAG MASS X Y Z": the nuclear charge ZA
+             _count("CARTESIAN COORDINATES (A.U.)",
+                    rf"CARTESIAN COORDINATES \(A\.U\.\)\n-+\n.*\n((?:[ \t]+\d+[ \t]+\S+[ \t]+\d+\.\d+(?:[ \t]+\S+){{2}}"
+                    rf"{_XYZ})+)", 2)),
     "qchem": (
         _count("Standard Nuclear Orientation",
-               rf"Standard Nuclear Orientation.*\n.*\n\s*-+\n((?:[ \t]+\d+[ \t]+[A-Za-z]{{1,3}}{_XYZ})+)"),
-        _count("$molecule", rf"\$molecule\n.*\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)\$end"),  # the input echo
+               rf"Standard Nuclear Orientation.*\n.*\n\s*-+\n((?:[ \t]+\d+[ \t]+[A-Za-z]{{1,3}}{_XYZ})+)", 1),
+        _count("$molecule", rf"\$molecule\n.*\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)\$end", 0),  # the input echo
     ),
-    "xtb": (_count("final structure:", rf"final structure:\n=+\n.*\n.*\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)"),),
+    "gamess": (_count("COORDINATES (BOHR)", rf"COORDINATES \(BOHR\)\n.*\n((?:[ \t]*\S+[ \t]+\d+\.\d+{_XYZ})+)", 1),
+               _count("COORDINATES OF ALL ATOMS ARE (ANGS)",
+                      rf"COORDINATES OF ALL ATOMS ARE \(ANGS\)\n.*\n.*\n((?:[ \t]*\S+[ \t]+\d+\.\d+{_XYZ})+)", 1)),
+    "psi4": (_count("Geometry (in Angstrom)",  # "Center X Y Z [Mass]"
+                    r"Geometry \(in Angstrom\).*\n\n.*\n.*\n((?:[ \t]*[A-Za-z]\S*(?:[ \t]+\S+){3,4}[ \t]*\n)+)", 0),),
+    "xtb": (_count("final structure:", rf"final structure:\n=+\n.*\n.*\n((?:[ \t]*[A-Za-z]{{1,3}}{_XYZ})+)", 0),
+            # the charges table after the SCF: "#   Z   covCN   q   C6AA   alpha(0)"
+            _count("#   Z          covCN",
+                   r"#   Z          covCN.*\n((?:[ \t]+\d+[ \t]+\d+[ \t]+[A-Za-z]{1,2}(?:[ \t]+\S+){4}[ \t]*\n)+)", 1)),
 }
 
 
@@ -86,33 +104,136 @@ def _starts(text: str, literal: str) -> list[int]:
     return starts
 
 
-def _matches(text: str, specs: tuple[_Count, ...], starts: dict[str, list[int]]) -> list[re.Match]:
+def _matches(text: str, specs: tuple[_Count, ...], starts: dict[str, list[int]]) -> list[tuple[_Count, re.Match]]:
     """Every match of each spec's regex where its literal starts (``starts``: those indices per literal)."""
-    return [found for spec in specs for at in starts[spec.literal] if (found := spec.regex.match(text, at))]
+    return [(spec, found) for spec in specs for at in starts[spec.literal] if (found := spec.regex.match(text, at))]
 
 
-def atom_count_mismatch(program: str, text: str, natoms: int) -> str | None:
-    """Why ``natoms`` atoms in the final geometry contradict the log's own atom counts, or None.
+def atoms_problem(program: str, text: str, symbols, coordinates) -> str | None:
+    """Why the final geometry (``symbols``, ``coordinates`` in angstrom) contradicts what else the log states
+    about its atoms, or None.
 
     The program's statements of its atom count and the row counts of each of its geometry blocks (input
-    and standard orientations, every optimisation step) must all equal ``natoms``: a row lost from the
-    last block, a block cut short, or a job on another molecule in the same file shows here.
+    and standard orientations, every optimisation step, tables of nuclear charges) must all equal N: a row
+    lost from the last block, a block cut short, or a job on another molecule in the same file shows here.
+    Each block that names elements must name the final geometry's, atom by atom (an atomic number changed
+    in the last block turns C10H10 into C9H10O), and the nuclear repulsion energy recomputed from the final
+    geometry must equal one the program printed (:func:`nuclear_repulsion_problem`).
     """
+    natoms = len(symbols)
     declared_specs, block_specs = _DECLARED.get(program, ()), _BLOCKS.get(program, ())
-    # one pass over the text per phrase, shared by both checks (NWChem's "XYZ format geometry" is in both):
+    # one pass over the text per phrase, shared by every check (NWChem's "XYZ format geometry" is in two):
     # the passes are most of this check's time (30 to 50 us per 100 kB each on the development machine)
     starts = {literal: _starts(text, literal) for literal in {spec.literal for spec in (*declared_specs, *block_specs)}}
-    declared = [int(m.group(1)) for m in _matches(text, declared_specs, starts)]
+    declared = [int(m.group(1)) for _, m in _matches(text, declared_specs, starts)]
     wrong = sorted({n for n in declared if n != natoms})
     if wrong:
         return (f"the final geometry has {natoms} atoms but the log states {', '.join(map(str, wrong))} "
                 "(damaged geometry block, or several jobs in one file?)")
-    blocks = [m.group(1).count("\n") for m in _matches(text, block_specs, starts)]
-    wrong = sorted({n for n in blocks if n != natoms})
+    blocks = _matches(text, block_specs, starts)
+    wrong = sorted({n for _, m in blocks if (n := m.group(1).count("\n")) != natoms})
     if wrong:
         return (f"the final geometry has {natoms} atoms but another geometry block of the log has "
                 f"{', '.join(map(str, wrong))} (damaged or cut-short geometry block?)")
+    return _element_problem(text, symbols, blocks) or nuclear_repulsion_problem(program, text, symbols, coordinates)
+
+
+@functools.cache
+def _periodic_table() -> tuple[dict[str, int], tuple[str, ...]]:
+    """(symbol -> Z, Z -> symbol) of the elements (ASE's table, imported when first needed)."""
+    from ase.data import atomic_numbers, chemical_symbols
+
+    return {s: z for s, z in atomic_numbers.items() if z > 0}, tuple(chemical_symbols)
+
+
+def _nuclear_charges(symbols) -> np.ndarray:
+    """Z of each symbol (0 for one that is no element)."""
+    table = _periodic_table()[0]
+    return np.array([table.get(s, 0) for s in symbols], dtype=int)
+
+
+def _row_charge(token: str) -> int:
+    """The nuclear charge a geometry row names: a number ("6", "6.0000") or a symbol, maybe with a label
+    ("C", "c", "C1", "CA"); -1 when it names none."""
+    if token[:1].isdigit():
+        try:
+            return round(float(token))
+        except ValueError:
+            return -1
+    table, letters = _periodic_table()[0], re.match(r"[A-Za-z]{1,2}", token)
+    for symbol in ((letters.group().capitalize(), token[:1].upper()) if letters else ()):
+        if symbol in table:
+            return table[symbol]
+    return -1
+
+
+def _element_problem(text: str, symbols, blocks: list[tuple[_Count, re.Match]]) -> str | None:
+    """Why a geometry block names other elements than the final geometry, atom by atom, or None."""
+    final = _nuclear_charges(symbols)
+    for spec, found in blocks:
+        if spec.element is None:
+            continue
+        rows = found.group(1).splitlines()
+        charges = np.array([_row_charge(row.split()[spec.element]) for row in rows])
+        if charges.size == final.size and np.any(charges != final):
+            i = int(np.flatnonzero(charges != final)[0])
+            names = _periodic_table()[1]
+            named = names[charges[i]] if 0 < charges[i] < len(names) else rows[i].split()[spec.element]
+            return (f"atom {i + 1} is {symbols[i]} in the final geometry but {named} in another geometry block of "
+                    f"the log (line {text.count(chr(10), 0, found.start()) + 1}): damaged geometry block?")
     return None
+
+
+#: bohr in angstrom (CODATA 2018, scipy.constants: physical_constants["Bohr radius"])
+BOHR_A = 0.529177210903
+#: the printed nuclear repulsion energy (hartree) of each program, each regex matched on the lines of its literal
+_REPULSION: dict[str, tuple[tuple[str, re.Pattern], ...]] = {
+    program: tuple((literal, re.compile(pattern)) for literal, pattern in found) for program, found in {
+        "gaussian": (("nuclear repulsion energy", r"nuclear repulsion energy\s+(\d+\.\d+) Hartrees"),),
+        "orca": (("Nuclear Repulsion", r"Nuclear Repulsion\s+(?:ENuc\s+\.+|:)\s+(\d+\.\d+) Eh"),),
+        "qchem": (("Nuclear Repulsion Energy =", r"Nuclear Repulsion Energy =\s+(\d+\.\d+) hartrees"),),
+        "nwchem": (("Nuclear repulsion energy =", r"Nuclear repulsion energy =\s+(\d+\.\d+)"),),
+        "psi4": (("Nuclear repulsion =", r"Nuclear repulsion =\s+(\d+\.\d+)"),),
+        "gamess": (("NUCLEAR REPULSION ENERGY IS", r"NUCLEAR REPULSION ENERGY IS\s+(\d+\.\d+)"),),
+    }.items()
+}
+#: relative agreement required between the recomputed and a printed nuclear repulsion energy: the real logs
+#: at hand agree within 7.5e-8 (NWChem's older bohr; coordinates printed to 6 decimals), and one atomic number
+#: changed moves the sum by percents (C -> O in C10H10: 4 %)
+REPULSION_RTOL = 1e-5
+#: beyond krypton, logs usually use effective core potentials, whose printed repulsion counts valence charges only
+REPULSION_MAX_Z = 36
+
+
+def nuclear_repulsion(symbols, coordinates) -> float:
+    """E_nn = sum_{i<j} Z_i Z_j / r_ij (hartree; r in bohr), the nuclear repulsion energy every program prints."""
+    from scipy.spatial.distance import pdist
+
+    z = _nuclear_charges(symbols).astype(float)
+    pairs = np.outer(z, z)[np.triu_indices(len(z), 1)]
+    return float(np.sum(pairs / (pdist(np.asarray(coordinates, dtype=float)) / BOHR_A)))
+
+
+def nuclear_repulsion_problem(program: str, text: str, symbols, coordinates) -> str | None:
+    """Why the final geometry's nuclear repulsion energy is none of those the log printed, or None.
+
+    Any printed value may match (Psi4's finite-difference frequencies print displaced geometries' after the
+    reference's; NWChem's COSMO steps reprint it). Molecules with atoms beyond krypton (effective core
+    potentials), a single atom, or unknown coordinates are not checked.
+    """
+    z = _nuclear_charges(symbols)
+    coords = np.asarray(coordinates, dtype=float)
+    if len(z) < 2 or z.max() > REPULSION_MAX_Z or not np.all(np.isfinite(coords)) or program not in _REPULSION:
+        return None
+    printed = [float(v) for literal, rx in _REPULSION[program] for v in rx.findall(lines_with(text, literal))]
+    if not printed:
+        return None
+    with np.errstate(divide="ignore"):
+        computed = nuclear_repulsion(symbols, coords)
+    if not np.isfinite(computed) or min(abs(p - computed) for p in printed) <= REPULSION_RTOL * computed:
+        return None  # two nuclei on one spot: geometry_problem says so
+    return (f"the nuclear repulsion energy of the final geometry is {computed:.6f} Eh, but the log prints "
+            f"{printed[-1]:.6f} Eh (an element or a coordinate of the final geometry damaged?)")
 
 
 def frequency_problem(printed: np.ndarray, natoms: int, expected: int | None, all_modes: bool) -> str | None:

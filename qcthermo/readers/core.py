@@ -198,7 +198,7 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
     if len(symbols) != len(coords) or not symbols:
         raise LogReadError(source.path, f"{len(symbols)} atoms but {len(coords)} coordinate rows (damaged log?)")
     _refuse(source, checks.symbol_problem(symbols))
-    _refuse(source, checks.atom_count_mismatch(program, text, len(symbols)))
+    _refuse(source, checks.atoms_problem(program, text, symbols, None if found.get("coordinates_unknown") else coords))
     charge = int(found.get("charge", 0))
     mult = found.get("multiplicity")
     if mult is None:
