@@ -75,6 +75,9 @@ class RunResults:
         survey_result: the :class:`qcthermo.survey.SurveyResult` behind ``survey``.
         heats_of_formation: one row per species and route (docs/formation.md), or None without a
             [heats_of_formation] table.
+        mechanism: the gas-phase reactions with their modified Arrhenius fits in Cantera's units
+            (:func:`mechanism_reactions`), written into thermo.yaml and thermo.dat;
+            mechanism_left_out: one line per reaction left out, with the reason.
     """
 
     settings: dict[str, Any]
@@ -94,6 +97,8 @@ class RunResults:
     heats_of_formation: Any = None
     pka: Any = None
     redox: Any = None
+    mechanism: list = field(default_factory=list)
+    mechanism_left_out: list[str] = field(default_factory=list)
 
     @property
     def temperatures(self) -> np.ndarray:
@@ -494,6 +499,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     if rf and rf.redox:
         results.redox, found = redox_table(rf, species, conditions, energy_unit)
         results.findings += found
+    results.mechanism, results.mechanism_left_out = mechanism_reactions(results)
     from .export.nasa7 import run_enthalpy_reference
 
     results.settings["nasa7_enthalpy_reference"] = run_enthalpy_reference(results)[1][0]
@@ -622,12 +628,15 @@ def _settings(directory, rf, conditions, energy_unit, jobs, cache, scheduler) ->
 # -- kinetics -------------------------------------------------------------------------------------
 
 
-def _participants(terms, species: dict[str, SpeciesResult]) -> list:
-    """One side of a reaction as qcthermo.kinetics takes it: G, E+ZPE, coefficient, sigma, own concentration."""
+def _participants(terms, species: dict[str, SpeciesResult], values: dict | None = None) -> list:
+    """One side of a reaction as qcthermo.kinetics takes it: G, E+ZPE, coefficient, sigma, own concentration;
+    ``values``: species -> values to use instead of the species' own (another temperature grid)."""
     from .kinetics import Participant
 
-    return [Participant(species[n].values["G"], species[n].values["E_zpe"], c, _symmetry_number(species[n]),
-                        species[n].options.concentration is not None) for c, n in terms]
+    values = values or {}
+    return [Participant(values.get(n, species[n].values)["G"], values.get(n, species[n].values)["E_zpe"], c,
+                        _symmetry_number(species[n]), species[n].options.concentration is not None)
+            for c, n in terms]
 
 
 def _symmetry_number(s: SpeciesResult) -> int:
@@ -636,10 +645,11 @@ def _symmetry_number(s: SpeciesResult) -> int:
     return low.thermo.symmetry_number if low and low.thermo else 1
 
 
-def _transition_state(s: SpeciesResult):
+def _transition_state(s: SpeciesResult, values: dict | None = None):
     from .kinetics import TransitionState
 
-    return TransitionState(s.values["G"], s.values["E_zpe"], _symmetry_number(s), s.lowest.thermo.imaginary_frequency)
+    v = values or s.values
+    return TransitionState(v["G"], v["E_zpe"], _symmetry_number(s), s.lowest.thermo.imaginary_frequency)
 
 
 def _double_count(reaction: ReactionSpec, ts: SpeciesResult) -> list[Finding]:
@@ -725,6 +735,53 @@ def _arrhenius_rows(name: str, t: np.ndarray, k: dict, kinetics) -> list[dict]:
                      "Ea_kcal_mol": fit.Ea_kcal_mol, "Ea_kJ_mol": fit.Ea_kJ_mol, "T_min_K": fit.T_min,
                      "T_max_K": fit.T_max, "max_rel_error": fit.max_rel_error, "note": note})
     return rows
+
+
+#: temperatures of a mechanism's rate fits when the run has fewer than three, K (combustion and pyrolysis range)
+MECHANISM_TEMPERATURES = np.arange(300.0, 2001.0, 50.0)
+
+
+def mechanism_reactions(results: RunResults) -> tuple[list, list[str]]:
+    """The run's reactions as a kinetics code takes them (export.mechanism.ArrheniusReaction), and a line per reaction
+    left out saying why.
+
+    A reaction enters when it was included, has a transition state, and every species is a gas-phase species
+    at the standard state (no solvent model, no own concentration). Its k(T) is the run's science
+    (kinetics.reaction_kinetics with its tunnelling and degeneracy), at 1 mol/L so that k is in Cantera's
+    concentration units, over the run's temperatures when it has three or more, else over
+    :data:`MECHANISM_TEMPERATURES`; then a modified Arrhenius fit (docs/formation.md, "Mechanism")."""
+    from . import kinetics
+    from .export.mechanism import arrhenius_reaction
+    from .species import species_thermo
+
+    rf = results.reaction_file
+    t = results.temperatures if len(results.temperatures) >= 3 else MECHANISM_TEMPERATURES
+    cond = results.conditions.replace(temperature=t, standard_state="1M", pressure=None)
+    df = results.reactions
+    included = set(df["reaction"][df["status"] == "ok"]) if len(df) else set()
+    out, left_out = [], []
+    for r in rf.reactions if rf else []:
+        names = _names(r)
+        why = ("excluded by the audit (reactions.csv)" if r.name not in included else
+               "no transition state (and no rate in the reaction file)" if not r.transition_state else
+               "not a gas-phase reaction at the standard state" if any(
+                   results.species_results[n].reference.solvent_model or
+                   results.species_results[n].options.concentration for n in names) else None)
+        if why is None:
+            values = {n: species_thermo(results.species_results[n], cond).values for n in names}
+            try:
+                k = kinetics.reaction_kinetics(
+                    _participants(r.reactants, results.species_results, values),
+                    _participants(r.products, results.species_results, values),
+                    _transition_state(results.species_results[r.transition_state], values[r.transition_state]),
+                    t, "1M", r.tunnelling, r.degeneracy)
+                fit = kinetics.fit_arrhenius(t, k["k_forward"], unit=k["k_unit_forward"])
+                out.append(arrhenius_reaction(r.name, r.reactants, r.products, fit, t, k["k_forward"], k["k_reverse"]))
+                continue
+            except ValueError as err:
+                why = f"no rate constant: {err}"
+        left_out.append(f"{r.name}: left out, {why}")
+    return out, left_out
 
 
 def _energy_span(results: RunResults, kinetics) -> Any:

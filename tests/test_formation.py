@@ -315,3 +315,70 @@ def test_bad_formation_table_is_one_line_with_its_line(samples, tmp_path, line, 
         load_reaction_file(path)
     assert message in str(err.value) and "\n" not in str(err.value)
     assert f"line {body[:body.index(line)].count(chr(10)) + 1}" in str(err.value)
+
+
+# -- the mechanism: reactions in thermo.yaml and thermo.dat ------------------------------------------------
+
+
+def test_cantera_rate_constants_are_the_runs(sample_results, sample_out):
+    # Cantera (the outside reader) loads thermo.yaml as a mechanism: its forward rate constants at the run's
+    # temperatures are rates.csv's k_forward (1 M standard state: M^-1 s^-1 = m^3 kmol^-1 s^-1, Cantera's unit)
+    # within the error each fit states; its reverse ones (from the thermo data) are the run's k_reverse within
+    # that error and the stated thermo deviation
+    import cantera as ct
+
+    gas = ct.Solution(str(sample_out / "thermo.yaml"))
+    assert [r.equation for r in gas.reactions()] == ["ch4 + h <=> ch3 + h2", "hcn <=> hnc"]
+    fits = {r.name: r for r in sample_results.mechanism}
+    rates = sample_results.rates
+    for i, name in enumerate(("h_abstraction", "hcn_isomerisation")):
+        fit = fits[name]
+        assert (fit.t_min, fit.t_max) == (300.0, 1000.0)
+        assert 0 < fit.max_rel_error < 0.2
+        rows = rates[rates["reaction"] == name]
+        assert set(rows["k_unit_forward"]) <= {"M^-1 s^-1", "s^-1"}
+        for t, kf, kr in zip(rows["T_K"], rows["k_forward"], rows["k_reverse"], strict=True):
+            gas.TP = t, ct.one_atm
+            assert gas.forward_rate_constants[i] == pytest.approx(kf, rel=1.0001 * fit.max_rel_error)
+            assert gas.reverse_rate_constants[i] == pytest.approx(kr, rel=1.01 * fit.max_rel_error + 0.005)
+    # the reactions without a transition state (and without a rate) or in solution are left out, and said so
+    text = (sample_out / "thermo.yaml").read_text()
+    assert "# water_formation: left out, no transition state" in text
+    assert "# formaldehyde_hydration: left out, not a gas-phase reaction" in text
+
+
+def test_chemkin_mechanism_through_ck2yaml(sample_out, tmp_path):
+    # Cantera's own Chemkin converter (cantera.ck2yaml) reads thermo.dat as a whole mechanism: the same species,
+    # h(298.15) and rate constants as thermo.yaml, to the precision of Chemkin's printed columns
+    import cantera as ct
+    from cantera import ck2yaml
+
+    out = tmp_path / "from_chemkin.yaml"
+    ck2yaml.convert(str(sample_out / "thermo.dat"), out_name=str(out), quiet=True)
+    chemkin, yaml = ct.Solution(str(out)), ct.Solution(str(sample_out / "thermo.yaml"))
+    assert chemkin.species_names == yaml.species_names and chemkin.n_reactions == yaml.n_reactions == 2
+    for t in (300.0, 650.0, 1000.0):
+        chemkin.TP = yaml.TP = t, ct.one_atm
+        np.testing.assert_allclose(chemkin.forward_rate_constants, yaml.forward_rate_constants, rtol=1e-3)
+        np.testing.assert_allclose(chemkin.standard_enthalpies_RT * t, yaml.standard_enthalpies_RT * t, atol=1e-3)
+    assert "REACTIONS KJOULES/MOLE MOLES" in (sample_out / "thermo.dat").read_text()
+
+
+def test_one_temperature_run_fits_the_mechanism_over_its_own_range(samples, isomerisation_file):
+    # a run at one temperature has no Arrhenius fit of its own; the mechanism's k(T) is the same science over
+    # 300-2000 K (docs/formation.md), checked against the Eyring equation at 1000 K from the run's own numbers
+    import qcthermo
+    from qcthermo.kinetics import eyring_rate
+    from qcthermo.workflow import MECHANISM_TEMPERATURES
+
+    res = qcthermo.run(samples / "gas", reactions=isomerisation_file, jobs=1, cache=False)
+    (reaction,) = res.mechanism
+    assert (reaction.t_min, reaction.t_max) == (MECHANISM_TEMPERATURES[0], MECHANISM_TEMPERATURES[-1])
+    at = list(reaction.temperature).index(1000.0)
+    # unimolecular: k = kappa kT/h exp(-dG/RT) with no standard-state factor; kappa >= 1 (Eckart, a deep barrier)
+    cond = res.conditions.replace(temperature=1000.0)
+    run_k = qcthermo.run(samples / "gas", reactions=isomerisation_file, conditions=cond, jobs=1, cache=False)
+    dg = float(run_k.reactions["dG_act_kcal_mol"].iloc[0]) * 4184.0 / (qcthermo.units.HARTREE_J * qcthermo.units.N_A)
+    k_eyring, _ = eyring_rate(dg, 1000.0, 1)
+    assert reaction.k_forward[at] == pytest.approx(float(run_k.reactions["k_forward"].iloc[0]), rel=1e-9)
+    assert 1.0 <= reaction.k_forward[at] / k_eyring < 1.5

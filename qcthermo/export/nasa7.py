@@ -439,13 +439,28 @@ def write_run_thermo(results, out_dir) -> list:
             results.findings.append(Finding("warning", name, f"no NASA-7 fit: {err}"))
     if not fits:
         return []
+    reactions, left_out = _mechanism(results, {fit.name for fit in fits})
     written = []
     for file_name, writer in (("thermo.yaml", write_cantera_yaml), ("thermo.dat", write_chemkin)):
         try:
-            written.append(writer(fits, Path(out_dir) / file_name, header=header))
+            written.append(writer(fits, Path(out_dir) / file_name, header=header, reactions=reactions,
+                                  left_out=left_out))
         except QcthermoError as err:
             results.findings.append(Finding("warning", file_name, f"not written: {err}"))
     return written
+
+
+def _mechanism(results, fitted: set[str]) -> tuple[list, list[str]]:
+    """The run's mechanism reactions (RunResults.mechanism) whose species all have NASA-7 data here, and the
+    reasons of those left out (the run's, then this file's)."""
+    reactions, left_out = [], list(getattr(results, "mechanism_left_out", []))
+    for r in getattr(results, "mechanism", []):
+        missing = [n for _, n in r.reactants + r.products if n not in fitted]
+        if missing:
+            left_out.append(f"{r.name}: left out, species {missing[0]} has no NASA-7 data in this file")
+        else:
+            reactions.append(r)
+    return reactions, left_out
 
 
 def _elements(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None) -> list[str]:
@@ -458,7 +473,7 @@ def _elements(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None) -> list[
     return list(elements)
 
 
-def _check_names(fits: Sequence[Nasa7Fit], max_length: int | None = None) -> None:
+def _check_names(fits: Sequence[Nasa7Fit]) -> None:
     names = [fit.name for fit in fits]
     if not fits:
         raise QcthermoError("no species to write")
@@ -466,9 +481,8 @@ def _check_names(fits: Sequence[Nasa7Fit], max_length: int | None = None) -> Non
     if duplicates:
         raise QcthermoError(f"species names must be unique: {', '.join(duplicates)}")
     for n in names:
-        if not n or any(c.isspace() for c in n) or (max_length and len(n) > max_length):
-            limit = f" of at most {max_length} characters" if max_length else ""
-            raise QcthermoError(f"species name {n!r}: a kinetics code needs a name without spaces{limit}")
+        if not n or any(c.isspace() for c in n):
+            raise QcthermoError(f"species name {n!r}: a kinetics code needs a name without spaces")
 
 
 def _model_notes(fits: Sequence[Nasa7Fit]) -> list[str]:
@@ -481,15 +495,19 @@ def _yaml_list(values: Sequence[float]) -> str:
 
 
 def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None = None, phase: str = "gas",
-                      header: Sequence[str] = ()) -> str:
+                      header: Sequence[str] = (), reactions: Sequence = (), left_out: Sequence[str] = ()) -> str:
     """Cantera YAML text: one ideal-gas phase holding every species, each with its NASA-7 data.
 
     Follows Cantera's YAML input format (cantera.org, "YAML input file reference": phases, species,
     thermo model NASA7 with temperature-ranges, data (low range first) and reference-pressure).
     Strings are written JSON-quoted, which YAML reads as they are. ``header``: comment lines (and parts of
-    the description) after the low-mode model's, e.g. the enthalpy reference.
+    the description) after the low-mode model's, e.g. the enthalpy reference. ``reactions``
+    (export.mechanism.ArrheniusReaction) make it a mechanism (gas kinetics, reversible reactions in the
+    declared units m, s, kmol, J/kmol); ``left_out`` lines are comments.
     """
     import json
+
+    from .mechanism import yaml_reactions
 
     _check_names(fits)
     element_list = _elements(fits, elements)
@@ -499,13 +517,14 @@ def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None =
         *(f"# {note}" for note in [*_model_notes(fits), *header]),
         "description: " + json.dumps(description),
         "generator: qcthermo",
-        "units: {length: cm, time: s, quantity: mol, activation-energy: cal/mol}",
+        "units: {length: m, time: s, quantity: kmol, activation-energy: J/kmol}",
         "",
         "phases:",
         f"- name: {json.dumps(phase)}",
         "  thermo: ideal-gas",
         f"  elements: [{', '.join(element_list)}]",
         f"  species: [{', '.join(json.dumps(f.name) for f in fits)}]",
+        *(["  kinetics: gas", "  reactions: all"] if reactions else []),
         f"  state: {{T: {fits[0].t_low!r}, P: {fits[0].reference_pressure!r}}}",
         "",
         "species:",
@@ -525,13 +544,15 @@ def cantera_yaml_text(fits: Sequence[Nasa7Fit], elements: Sequence[str] | None =
         ]
         if fit.note:
             lines.append(f"  note: {json.dumps(fit.note)}")
+    lines += yaml_reactions(reactions, {fit.name: fit for fit in fits}, left_out)
     return "\n".join(lines) + "\n"
 
 
 def write_cantera_yaml(fits: Sequence[Nasa7Fit], path: str | os.PathLike, elements: Sequence[str] | None = None,
-                       phase: str = "gas", header: Sequence[str] = ()):
+                       phase: str = "gas", header: Sequence[str] = (), reactions: Sequence = (),
+                       left_out: Sequence[str] = ()):
     """Write :func:`cantera_yaml_text` atomically to ``path`` (e.g. thermo.yaml); return the path."""
-    return atomic_write(path, cantera_yaml_text(fits, elements, phase, header))
+    return atomic_write(path, cantera_yaml_text(fits, elements, phase, header, reactions, left_out))
 
 
 def _fortran_e(value: float) -> str:
@@ -563,25 +584,43 @@ def _chemkin_entry(fit: Nasa7Fit) -> list[str]:
     return lines
 
 
-def chemkin_text(fits: Sequence[Nasa7Fit], header: Sequence[str] = ()) -> str:
+def chemkin_text(fits: Sequence[Nasa7Fit], header: Sequence[str] = (), reactions: Sequence = (),
+                 left_out: Sequence[str] = ()) -> str:
     """Chemkin thermo text (thermo.dat): header (``header`` lines after the model's), the common temperature
-    ranges, one entry per species."""
-    _check_names(fits, max_length=18)
+    ranges, one entry per species. A name longer than Chemkin's 18 characters gets a short unique one
+    (export.mechanism.chemkin_names), listed in the header. With ``reactions`` the file is a whole Chemkin
+    mechanism: ELEMENTS, SPECIES, THERMO ALL and REACTIONS (units on its line); ``left_out`` lines are comments."""
+    from .mechanism import chemkin_names, chemkin_reactions
+
+    _check_names(fits)
     if any(abs(fit.reference_pressure - ATM_PA) > 1e-6 for fit in fits):
         raise QcthermoError("Chemkin thermo data are at 1 atm; these fits are at another reference pressure")
+    names = chemkin_names([fit.name for fit in fits])
     lines = ["! NASA-7 fits of computed ideal-gas thermochemistry, written by qcthermo (reference 1 atm)"]
     lines += [f"! {note}" for note in [*_model_notes(fits), *header]]
+    renamed = [(short, full) for full, short in names.items() if short != full]
+    if renamed:
+        lines.append("! Chemkin names (at most 18 characters) of the species with longer names:")
+        lines += [f"!   {short:<18s} = {full}" for short, full in renamed]
     lines += [f"! {fit.name}: {fit.note}" for fit in fits if fit.note]
+    if reactions:
+        lines += ["ELEMENTS", " ".join(_elements(fits, None)), "END", "SPECIES",
+                  *(" ".join(names[f.name] for f in fits[i:i + 4]) for i in range(0, len(fits), 4)), "END"]
+    else:
+        lines += [f"! {line}" for line in left_out]
     # the default ranges line: every entry carries its own ranges, which readers prefer
     t_mid = statistics.mode(fit.t_mid for fit in fits)
     t_low, t_high = min(fit.t_low for fit in fits), max(fit.t_high for fit in fits)
     lines += ["THERMO ALL", f"{t_low:10.3f}{t_mid:10.3f}{t_high:10.3f}"]
     for fit in fits:
-        lines += _chemkin_entry(fit)
+        lines += _chemkin_entry(replace(fit, name=names[fit.name]))
     lines.append("END")
+    if reactions:
+        lines += chemkin_reactions(reactions, {fit.name: fit for fit in fits}, names, left_out)
     return "\n".join(lines) + "\n"
 
 
-def write_chemkin(fits: Sequence[Nasa7Fit], path: str | os.PathLike, header: Sequence[str] = ()):
+def write_chemkin(fits: Sequence[Nasa7Fit], path: str | os.PathLike, header: Sequence[str] = (),
+                  reactions: Sequence = (), left_out: Sequence[str] = ()):
     """Write :func:`chemkin_text` atomically to ``path`` (e.g. thermo.dat); return the path."""
-    return atomic_write(path, chemkin_text(fits, header))
+    return atomic_write(path, chemkin_text(fits, header, reactions, left_out))
