@@ -891,10 +891,10 @@ def _xyz_blocks(results: RunResults) -> list:
             name = s.name if len(s.used) == 1 else f"{s.name}/{Path(c.path).stem}"
             blocks.append(XyzBlock(name, c.calculation.symbols, c.calculation.coordinates, {
                 "level": c.level, "charge": c.calculation.charge, "multiplicity": c.calculation.multiplicity,
-                "E_Eh": f"{v['E'][0]:.8f}" if v else None,
-                f"G_{model_tag(results.conditions.low_mode_model)}_Eh": f"{v['G'][0]:.8f}" if v else None,
-                "T_K": f"{results.temperatures[0]:g}",
-                "population": f"{float(np.atleast_1d(c.population)[0]):.4f}",
+                "E_Eh": float(v["E"][0]) if v else None,
+                f"G_{model_tag(results.conditions.low_mode_model)}_Eh": float(v["G"][0]) if v else None,
+                "T_K": float(results.temperatures[0]),
+                "population": float(np.atleast_1d(c.population)[0]),
                 "source": Path(c.path).name,
             }))
     return blocks

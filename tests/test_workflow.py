@@ -5,6 +5,7 @@ import json
 
 import numpy as np
 import pytest
+from log_text import last_printed
 
 import qcthermo
 from qcthermo.errors import QcthermoError
@@ -197,6 +198,25 @@ def test_write_exports_and_run_json(results, tmp_path):
 
     frames = read(out / "coordinates.xyz", index=":", format="xyz")
     assert len(frames) == sum(len(s.used) for s in results.species_results.values())
+
+
+def test_coordinates_are_extended_xyz_that_ase_reads_back(results, samples, tmp_path):
+    from ase.io import read
+
+    results.write(tmp_path / "out")
+    frames = {f.info["name"]: f for f in read(tmp_path / "out" / "coordinates.xyz", index=":", format="extxyz")}
+    ch4 = frames["ch4"]
+    calc = results.species_results["ch4"].used[0].calculation
+    assert ch4.get_chemical_formula() == "CH4"
+    assert np.allclose(ch4.positions, calc.coordinates, atol=1e-8)
+    # the energy as NWChem prints it last in gas/ch4.out ("Total DFT energy"), a number, not text
+    assert ch4.info["E_Eh"] == pytest.approx(last_printed(samples / "gas/ch4.out",
+                                                          r"Total DFT energy =\s+(-?\d+\.\d+)"), abs=1e-9)
+    row = results.species[results.species["species"] == "ch4"].iloc[0]
+    assert ch4.info["G_qrrho_Eh"] == pytest.approx(row["G_qrrho_Eh"], abs=1e-12)
+    assert ch4.info["level"] == "B3LYP/6-31G*"
+    assert (ch4.info["charge"], ch4.info["multiplicity"], ch4.info["T_K"]) == (0, 1, 298.15)
+    assert ch4.info["source"] == "ch4.out"
 
 
 def test_write_does_not_clobber_without_force(results, tmp_path):

@@ -1,7 +1,10 @@
-"""coordinates.xyz: every structure of a run, one block each, name and energies in the comment line.
+"""coordinates.xyz: every structure of a run, one frame each, in the extended XYZ convention.
 
-The blocks are plain XYZ (atom count, comment, one "symbol x y z" line per atom, angstrom), written
-with ASE's XYZ writer so that any viewer or ``ase.io.read(..., index=":")`` reads them back.
+Each frame is an atom count, a comment line of ``key=value`` pairs (the species name, level of theory,
+charge, multiplicity, energies in hartree, temperature, population, source file; text with spaces or
+quotes quoted, numbers at full precision) and one "symbol x y z" line per atom (angstrom). It is written
+by ASE's extended XYZ writer, so ``ase.io.read(path, index=":")`` gives back the structures with these
+values in each ``Atoms.info``, typed (numbers as numbers); viewers that read plain XYZ read it as well.
 """
 
 from __future__ import annotations
@@ -20,30 +23,34 @@ class XyzBlock:
     """One structure: ``symbols``, ``coordinates`` (N, 3) angstrom, and the comment line's fields.
 
     Attributes:
-        name: species (and conformer) name.
-        fields: ordered "key=value" items for the comment line, e.g. level, E_Eh, G_Eh, source file.
+        name: species (and conformer) name, the frame's ``name`` value.
+        fields: ordered further values of the comment line (e.g. level, E_Eh, G_Eh, source file); text or
+            numbers, None for a value that is not known (left out).
     """
 
     name: str
     symbols: tuple[str, ...]
     coordinates: np.ndarray
-    fields: dict[str, str]
+    fields: dict[str, str | float | int | None]
 
-    def comment(self) -> str:
-        """"name key=value key=value ..." on one line (values may not hold line breaks)."""
-        items = [f"{k}={' '.join(str(v).split())}" for k, v in self.fields.items() if v is not None]
-        return " ".join([self.name.replace(" ", "_"), *items])
+    def info(self) -> dict[str, str | float | int]:
+        """The frame's key=value pairs: ``name`` first, then ``fields`` (text on one line)."""
+        values = {"name": self.name, **{k: v for k, v in self.fields.items() if v is not None}}
+        return {k: " ".join(v.split()) if isinstance(v, str) else v for k, v in values.items()}
 
 
 def xyz_text(blocks: list[XyzBlock]) -> str:
-    """The XYZ text of all ``blocks``, in order."""
+    """The extended XYZ text of all ``blocks``, in order."""
     from ase import Atoms
-    from ase.io.xyz import write_xyz
+    from ase.io import write
 
-    buffer = io.StringIO()
+    frames = []
     for block in blocks:
         atoms = Atoms(symbols=list(block.symbols), positions=np.asarray(block.coordinates, dtype=float))
-        write_xyz(buffer, [atoms], comment=block.comment(), fmt="%14.8f")
+        atoms.info.update(block.info())
+        frames.append(atoms)
+    buffer = io.StringIO()
+    write(buffer, frames, format="extxyz")
     return buffer.getvalue()
 
 
