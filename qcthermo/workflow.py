@@ -759,7 +759,7 @@ def mechanism_reactions(results: RunResults) -> tuple[list, list[str]]:
     cond = results.conditions.replace(temperature=t, standard_state="1M", pressure=None)
     df = results.reactions
     included = set(df["reaction"][df["status"] == "ok"]) if len(df) else set()
-    out, left_out = [], []
+    out, left_out, values = [], [], {}
     for r in rf.reactions if rf else []:
         names = _names(r)
         why = ("excluded by the audit (reactions.csv)" if r.name not in included else
@@ -768,7 +768,8 @@ def mechanism_reactions(results: RunResults) -> tuple[list, list[str]]:
                    results.species_results[n].reference.solvent_model or
                    results.species_results[n].options.concentration for n in names) else None)
         if why is None:
-            values = {n: species_thermo(results.species_results[n], cond).values for n in names}
+            for n in set(names) - set(values):  # each species once, however many reactions it is in
+                values[n] = species_thermo(results.species_results[n], cond).values
             try:
                 k = kinetics.reaction_kinetics(
                     _participants(r.reactants, results.species_results, values),
