@@ -152,6 +152,46 @@ def test_the_recomputed_nuclear_repulsion_matches_every_real_log(samples, third_
         assert checks.nuclear_repulsion(calc.symbols, calc.coordinates) == pytest.approx(printed, rel=1e-7), log
 
 
+# ------------------------------------------------------------------------- a stray energy line
+
+#: (log, the phrase of the line the reader takes its energy from (its last), the stray line put after it, the
+#: log's own restatement of the energy that disagrees): an impossible value for the molecule (-1.0 Eh for
+#: C10H10, whose B3LYP energy is -382 Eh and xTB's -26 Eh: no bound on the magnitude tells both apart)
+STRAY_ENERGY_LINES = [
+    ("third:gaussian16/dvb_ir.out", "SCF Done:", " SCF Done:  E(RB3LYP) =  -1.00000000000     A.U. after    1 cycles",
+     "archive block gives -382.3082666"),
+    ("third:gaussian16/dvb_gopt.out", "SCF Done:", " SCF Done:  E(RB3LYP) =  -1.00000000000     A.U. after    1 cycles",
+     "archive block gives -382.3082666"),
+    ("third:orca6.0/dvb_ir.out", "FINAL SINGLE POINT ENERGY", "FINAL SINGLE POINT ENERGY        -1.000000000000",
+     r"restates it as -382.05510711 Eh \(\"Electronic energy\"\)"),
+    ("third:xtb6.6.1/dvb_ir.out", "| TOTAL ENERGY", "          | TOTAL ENERGY               -1.000000000000 Eh   |",
+     r"restates it as -26.438242468338 Eh \(\":: total energy\"\)"),
+    ("sample:conformers/pentane_tt.out", "| TOTAL ENERGY",
+     "          | TOTAL ENERGY               -1.000000000000 Eh   |", r"restates it as -16.829456631413 Eh"),
+    ("third:qchem5.4/dvb_ir.out", "Total energy in the final basis set",
+     " Total energy in the final basis set =       -1.0000000000",
+     r"restates it as -382.3082745764 Eh \(\"Convergence criterion met\"\)"),
+]
+
+
+@pytest.mark.parametrize(("log", "phrase", "stray", "reason"), STRAY_ENERGY_LINES)
+def test_a_stray_energy_line_is_refused(samples, third_party, tmp_path, log, phrase, stray, reason):
+    # before the check these read with E = -1.0 Eh, status ok; the restatements are the log's own lines
+    text = _log_text(samples, third_party, log)
+    end = text.index("\n", text.rindex(phrase)) + 1
+    refused(write(tmp_path, Path(log).name, text[:end] + stray + "\n" + text[end:]),
+            rf"the final energy reads -1.0 Eh, but .*{reason}.*: a stray or damaged energy line")
+
+
+def test_a_digit_changed_in_the_last_energy_line_is_refused(third_party, tmp_path):
+    # printed in dvb_ir.out: "SCF Done:  E(RB3LYP) =  -382.308266557" and the archive's HF=-382.3082666; a
+    # 2 read as 7 gives -387.3 Eh, inside the Thomas-Fermi bound, 3000 kcal/mol off
+    text = (third_party / "gaussian16" / "dvb_ir.out").read_text()
+    line = re.findall(r"SCF Done:.*", text)[-1]
+    damaged = replace_last(text, line, line.replace("-382.3", "-387.3"))
+    refused(write(tmp_path, "dvb_ir.out", damaged), r"the final energy reads -387.3\d+ Eh, but the job's archive")
+
+
 # -------------------------------------------------------------------------- two jobs in one file
 
 

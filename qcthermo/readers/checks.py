@@ -302,6 +302,98 @@ def state_problem(symbols, charge: int, multiplicity: int, energy: float) -> str
     return None
 
 
+@dataclass(frozen=True)
+class _Restated:
+    """A statement that restates the final energy of a program's run: the literal on its line, the regex
+    (group 1: the value), whether only the last one counts (else any may match: Psi4 prints its
+    finite-difference SCFs after the reference's) and whether it is an SCF-level energy (not compared when
+    the final energy is a correlated one, which it does not restate); ``requires``: a phrase without which
+    the statement is not about the final geometry."""
+
+    literal: str
+    regex: re.Pattern
+    last: bool = True
+    scf_level: bool = True
+    requires: str | None = None
+
+
+def _restated(literal: str, pattern: str, last: bool = True, scf_level: bool = True,
+              requires: str | None = None) -> _Restated:
+    return _Restated(literal, re.compile(pattern, re.MULTILINE), last, scf_level, requires)
+
+
+#: where each program restates its final energy for the same geometry, after the line it is read from: its
+#: final summary (ORCA's and xTB's thermochemistry/summary box), the optimiser's last step (NWChem's "@" lines,
+#: Q-Chem's "Final energy is"), the SCF summary (Q-Chem's last iteration, Psi4's "Total Energy =", GAMESS's
+#: energy components).
+#: Gaussian's archive block is read apart (:func:`_gaussian_archive`). A log that prints none (a single
+#: point of NWChem or ORCA, a truncated log) is not checked.
+_RESTATEMENTS: dict[str, tuple[_Restated, ...]] = {
+    "orca": (_restated("Electronic energy", r"Electronic energy\s+\.\.\.\s+(-?\d+\.\d+) Eh", scf_level=False),),
+    "xtb": (_restated("| TOTAL ENERGY", r"\|\s+TOTAL ENERGY\s+(-?\d+\.\d+) Eh", scf_level=False),
+            _restated(":: total energy", r"::\s+total energy\s+(-?\d+\.\d+) Eh", scf_level=False)),
+    # the last step is the final geometry's only once the optimiser converged (a killed run's last SCF may
+    # be of a step it never reported)
+    "nwchem": (_restated("\n@ ", r"^@\s+\d+\s+(-?\d+\.\d+)\s", requires="Optimization converged"),),
+    # the SCF's last iteration, "11    -382.3082745764      6.10e-09  Convergence criterion met" (Q-Chem 5.4),
+    # and the optimiser's "Final energy is"
+    "qchem": (_restated("Convergence criterion met", r"^\s*\d+\s+(-?\d+\.\d+)\s+\S+\s+Convergence criterion met"),
+              _restated("Final energy is", r"Final energy is\s+(-?\d+\.\d+)")),
+    "psi4": (_restated("Total Energy =", r"^\s+Total Energy =\s+(-?\d+\.\d+)", last=False),),
+    "gamess": (_restated("TOTAL ENERGY =", r"TOTAL ENERGY =\s+(-?\d+\.\d+)", last=False),),
+}
+#: hartree: the final energy and a restatement agree to the digits both print (7 decimals in Gaussian's
+#: archive) or nearly: NWChem's frequency job reruns the SCF of the last optimisation step (within 1e-6 Eh
+#: of it), and its numerical Hessian (COSMO) ends on a displaced geometry whose SCF energy, the one read,
+#: is 1.0e-5 Eh off the last step's (sample ts_hydration.out); finite-difference steps of 0.01 bohr move it
+#: by a few 1e-5 Eh. 1e-4 Eh (0.06 kcal/mol, below any chemical conclusion) leaves room for those, while a
+#: stray or damaged energy line is off by far more (-1.0 against -382 Eh).
+RESTATED_TOLERANCE_EH = 1e-4
+#: Gaussian's archive energies (hartree) by method, as printed after the job's last step
+_ARCHIVE_ENERGY = re.compile(r"\\(HF|MP2|MP3|MP4D|MP4DQ|MP4SDQ|MP4SDTQ|MP5|CCSD|CCSD\(T\)|QCISD|QCISD\(T\)|CISD|BD"
+                             r"|BD\(T\))=(-?\d+\.\d+)")
+
+
+def _gaussian_archive(text: str) -> list[float]:
+    """The energies of the last archive block ("1\\1\\GINC-...\\@", wrapped at 70 columns with a leading space)."""
+    end = text.rfind("\\@")
+    start = text.rfind("1\\1\\", 0, end) if end >= 0 else -1
+    if start < 0:
+        return []
+    return [float(v) for _, v in _ARCHIVE_ENERGY.findall(text[start:end].replace("\n ", ""))]
+
+
+def _correlated(method: str | None) -> bool:
+    upper = (method or "").upper()
+    return upper.startswith(("MP", "CC", "QCI", "DLPNO", "LPNO", "CIS", "BD")) or "CCSD" in upper
+
+
+def restated_energy_problem(program: str, text: str, energy: float, method: str | None) -> str | None:
+    """Why the final ``energy`` (hartree) disagrees with the log's own restatement of it, or None.
+
+    A stray energy line (one of an impossible value appended or pasted, or a digit changed in the last one)
+    is taken as the final energy by any reader that reads the last; a bound on the magnitude cannot catch it
+    (an xTB energy of C10H10 is -26 Eh, a B3LYP one -382 Eh). So the final energy must equal what the
+    program prints again for the same geometry (:data:`_RESTATEMENTS`, Gaussian's archive) within
+    :data:`RESTATED_TOLERANCE_EH`.
+    """
+    if program == "gaussian":
+        archive = _gaussian_archive(text)
+        if archive and min(abs(v - energy) for v in archive) > RESTATED_TOLERANCE_EH:
+            return (f"the final energy reads {energy!r} Eh, but the job's archive block gives "
+                    f"{', '.join(f'{v:.7f}' for v in archive)} Eh: a stray or damaged energy line?")
+        return None
+    for statement in _RESTATEMENTS.get(program, ()):
+        if (statement.scf_level and _correlated(method)) or (statement.requires and statement.requires not in text):
+            continue
+        values = [float(v) for v in statement.regex.findall(lines_with(text, statement.literal.strip("\n")))]
+        values = values[-1:] if statement.last else values
+        if values and min(abs(v - energy) for v in values) > RESTATED_TOLERANCE_EH:
+            return (f"the final energy reads {energy!r} Eh, but the log restates it as {values[-1]!r} Eh "
+                    f"(\"{statement.literal.strip()}\"): a stray or damaged energy line?")
+    return None
+
+
 #: how a program names a restricted closed-shell reference, which holds only singlets: Gaussian's
 #: "SCF Done:  E(RB3LYP)" (R, not RO), ORCA's "HFTyp .... RHF"
 _CLOSED_SHELL = {

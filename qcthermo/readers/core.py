@@ -206,6 +206,7 @@ def _finish(source: LogSource, found: dict, notes: list[str]) -> Calculation:
         notes.append(note)
     _refuse(source, checks.state_problem(symbols, charge, int(mult), float(found["energy"])))
     _refuse(source, checks.reference_problem(program, text, int(mult)))
+    _refuse(source, checks.restated_energy_problem(program, text, float(found["energy"]), found.get("method")))
     if not found.get("coordinates_unknown"):
         _refuse(source, checks.geometry_problem(coords))
 
