@@ -970,7 +970,7 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
             written += _write_table(printable_frame(df), out_dir, stem, f"{what} (solutes at 1 mol/L; "
                                     f"{display(solution_caption(results, stem))}); "
                                     f"{display(caption_context(results, names))}.",
-                                    [display(n) for n in _table_notes(results, set(df["name"]) | names)])
+                                    [display(n) for n in _table_notes(results, set(df["name"]))])
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):

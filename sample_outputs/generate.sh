@@ -6,7 +6,7 @@
 # appended to timings.tsv. The flawed files under flawed/ are made here too (see README.md).
 #
 #   ./generate.sh            everything
-#   ./generate.sh gas sp     only some parts: gas solvent sp atoms conformers flawed
+#   ./generate.sh gas sp     only some parts: gas solvent sp atoms conformers flawed solution
 #
 # NWChem runs as one process (plain `nwchem x.nw`); set NWCHEM="mpirun -np 2 nwchem" to use two cores.
 set -euo pipefail
@@ -127,6 +127,49 @@ part_atoms() {
     done
 }
 
+write_solution_sp_input() { # write_solution_sp_input SRC NAME CHARGE MULT SOLVENT : B3LYP/6-31+G* single point
+    # on the final geometry of SRC.out, in COSMO water (SOLVENT=cosmo) or in the gas phase (SOLVENT=gas)
+    local src=$1 name=$2 charge=$3 mult=$4 solvent=$5 where
+    where="in the gas phase"
+    [ "$solvent" = cosmo ] && where="in COSMO water"
+    {
+        echo "start ${name}_${solvent}"
+        echo "title \"$name, B3LYP/6-31+G* single point $where on the B3LYP/6-31G* geometry of $src.out\""
+        echo "charge $charge"
+        echo "geometry units angstrom noautoz"
+        final_geometry "$here/$src.out"
+        echo "end"
+        echo "basis"
+        echo " * library 6-31+G*"
+        echo "end"
+        echo "dft"
+        echo " xc b3lyp"
+        echo " mult $mult"
+        echo "end"
+        [ "$solvent" = cosmo ] && printf 'cosmo\n solvent water\nend\n'
+        echo "task dft energy"
+    } > "$here/inputs/solution/sp/${name}_${solvent}.nw"
+}
+
+part_solution() {
+    # gas-phase structures and frequencies, then single points in COSMO water and in the gas phase at one
+    # higher level on each final geometry (the solvent single-point protocol and the thermodynamic cycle)
+    for job in formic_acid formate acetic_acid acetate no2 nitrite; do
+        nwchem_job "solution/$job"
+    done
+    mkdir -p "$here/inputs/solution/sp"
+    local spec src name charge mult solvent
+    for spec in "solution/formic_acid formic_acid 0 1" "solution/formate formate -1 1" \
+                "solution/acetic_acid acetic_acid 0 1" "solution/acetate acetate -1 1" \
+                "solution/no2 no2 0 2" "solution/nitrite nitrite -1 1"; do
+        read -r src name charge mult <<< "$spec"
+        for solvent in cosmo gas; do
+            write_solution_sp_input "$src" "$name" "$charge" "$mult" "$solvent"
+            nwchem_job "solution/sp/${name}_${solvent}"
+        done
+    done
+}
+
 part_conformers() {
     for xyz in "$here"/inputs/conformers/*.xyz; do
         xtb_job "conformers/$(basename "$xyz" .xyz)"
@@ -146,7 +189,7 @@ part_flawed() {
 }
 
 parts=("$@")
-[ ${#parts[@]} -eq 0 ] && parts=(gas solvent sp atoms conformers flawed)
+[ ${#parts[@]} -eq 0 ] && parts=(gas solvent sp atoms conformers flawed solution)
 for part in "${parts[@]}"; do
     echo "== $part"
     "part_$part"

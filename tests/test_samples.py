@@ -57,6 +57,20 @@ CLEAN = [
     ("sp/c_atom_mp2.out", "nwchem", ENERGY, MP2, None, 0, 3, 1, False, None),
     ("sp/n_atom_mp2.out", "nwchem", ENERGY, MP2, None, 0, 4, 1, False, None),
     ("sp/o_atom_mp2.out", "nwchem", ENERGY, MP2, None, 0, 3, 1, False, None),
+    # solution part: gas-phase structures, B3LYP/6-31+G* single points in COSMO water and in the gas phase
+    ("solution/formic_acid.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 1, 5, False, 0),
+    ("solution/formate.out", "nwchem", OPT_FREQ, B3LYP, None, -1, 1, 4, False, 0),
+    ("solution/acetic_acid.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 1, 8, False, 0),
+    ("solution/acetate.out", "nwchem", OPT_FREQ, B3LYP, None, -1, 1, 7, False, 0),
+    ("solution/no2.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 2, 3, False, 0),
+    ("solution/nitrite.out", "nwchem", OPT_FREQ, B3LYP, None, -1, 1, 3, False, 0),
+    *[
+        (f"solution/sp/{name}_{solvent}.out", "nwchem", ENERGY, ("B3LYP", "6-31+G*"), model, charge, mult, n,
+         False, None)
+        for name, charge, mult, n in (("formic_acid", 0, 1, 5), ("formate", -1, 1, 4), ("acetic_acid", 0, 1, 8),
+                                      ("acetate", -1, 1, 7), ("no2", 0, 2, 3), ("nitrite", -1, 1, 3))
+        for solvent, model in (("cosmo", "cosmo"), ("gas", None))
+    ],
     *[
         (f"conformers/pentane_{c}.out", "xtb", OPT_FREQ, GFN2, None, 0, 1, 17, False, 0)
         for c in ("tt", "tt_b", "tgp", "tgp_b", "tgm", "gpgp", "gmgm", "gpgm")
@@ -83,6 +97,8 @@ SINGLE_POINT_PAIRS = [
     ("sp/c_atom_mp2.out", "gas/c_atom.out"),
     ("sp/n_atom_mp2.out", "gas/n_atom.out"),
     ("sp/o_atom_mp2.out", "gas/o_atom.out"),
+    *[(f"solution/sp/{name}_{solvent}.out", f"solution/{name}.out") for solvent in ("cosmo", "gas")
+      for name in ("formic_acid", "formate", "acetic_acid", "acetate", "no2", "nitrite")],
 ]
 
 
@@ -183,8 +199,10 @@ def test_single_point_is_on_the_low_level_geometry(samples, sp, low):
     high, freq = read(samples, sp), read(samples, low)
     assert high.symbols == freq.symbols
     assert (high.charge, high.multiplicity) == (freq.charge, freq.multiplicity)
-    # generate.sh copies the 8-decimal coordinates; NWChem may move the molecule as a whole (centre, axes)
-    assert rmsd(freq.coordinates, high.coordinates) < 1e-5
+    # generate.sh copies the 8-decimal coordinates; NWChem may move the molecule as a whole (centre, axes). The
+    # formate optimisation (started without symmetry) ends 2e-4 A short of C2v; NWChem symmetrises the copied
+    # geometry of its single points to C2v (autosym), still well inside the pairing tolerance of 1e-3 A
+    assert rmsd(freq.coordinates, high.coordinates) < (5e-4 if "formate_" in sp else 1e-5)
 
 
 def rmsd(a: np.ndarray, b: np.ndarray, reflect: bool = False) -> float:
