@@ -945,6 +945,7 @@ def run_json(results: RunResults, written: list[Path]) -> str:
 
 
 def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
+    from .export.conformers import write_conformers
     from .export.xyz import write_xyz_file
     from .fileio import atomic_write, display, printable_frame
 
@@ -978,6 +979,7 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     blocks = _xyz_blocks(results)
     if blocks:
         written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))
+    written += write_conformers(results, out_dir, display(caption_context(results)), _write_table)
     written += _model_files_figures_and_documents(results, out_dir)
     return written
 
