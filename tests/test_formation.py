@@ -383,3 +383,18 @@ def test_one_temperature_run_fits_the_mechanism_over_its_own_range(samples, isom
     k_eyring, _ = eyring_rate(dg, 1000.0, 1)
     assert reaction.k_forward[at] == pytest.approx(float(run_k.reactions["k_forward"].iloc[0]), rel=1e-9)
     assert 1.0 <= reaction.k_forward[at] / k_eyring < 1.5
+
+
+def test_report_states_the_enthalpy_reference(sample_out, samples, isomerisation_file, tmp_path):
+    # without [heats_of_formation] the NASA-7 files are on absolute energies, and the report says so at its top
+    import html
+
+    import qcthermo
+
+    report = html.unescape((sample_out / "report.html").read_text())
+    assert "thermo.yaml, thermo.dat:</strong> ENTHALPY REFERENCE: standard heats of formation" in report
+    res = qcthermo.run(samples / "gas", reactions=isomerisation_file, jobs=1, cache=False)
+    res.write(tmp_path / "out")
+    report = html.unescape((tmp_path / "out" / "report.html").read_text())
+    assert report.index("ENTHALPY REFERENCE: absolute electronic energies") < report.index('id="audit"')
+    assert "ENTHALPY REFERENCE: absolute electronic energies" in (tmp_path / "out" / "thermo.dat").read_text()

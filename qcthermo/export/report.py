@@ -156,6 +156,13 @@ def _solution_section(results) -> list[str]:
     return out
 
 
+def _enthalpy_reference(settings: dict[str, Any] | None) -> list[str]:
+    """The NASA-7 files' enthalpy reference, at the top: absolute energies cannot join another mechanism."""
+    reference = (settings or {}).get("nasa7_enthalpy_reference")
+    return [f'<p class="meta"><strong>thermo.yaml, thermo.dat:</strong> {html.escape(reference)}</p>'] \
+        if reference else []
+
+
 def render_report(results) -> str:
     """The whole page as a string (see the module docstring for its order)."""
     findings = sorted_findings(getattr(results, "findings", None))
@@ -163,6 +170,7 @@ def render_report(results) -> str:
         "<h1>qcthermo report</h1>",
         f'<p class="meta">qcthermo {html.escape(__version__)}; energies in '
         f"{html.escape(str(getattr(results, 'energy_unit', 'kcal/mol')))} where a column does not say hartree.</p>",
+        *_enthalpy_reference(getattr(results, "settings", None)),
         _findings_section(findings),
         _settings_section(getattr(results, "settings", None)),
         '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species", "species"),
