@@ -17,7 +17,7 @@ from log_text import last_printed
 from matplotlib.path import Path as MplPath
 
 from qcthermo.errors import QcthermoError
-from qcthermo.export import figures
+from qcthermo.export import figures, temperature_figures
 from qcthermo.export.figures import ProfileData, ProfileState, plot_profiles, profiles_from_records, save_figure
 
 # Final SCF energies of p-divinylbenzene printed by two programs, hartree (third-party-logs/README.md:
@@ -367,15 +367,33 @@ def _reactions_table():
 
 def test_temperature_plots_draw_the_table():
     table = _reactions_table()
-    fig = figures.plot_dG_T(table)
-    line = next(a for a in fig.axes[0].lines if a.get_gid() == "dG_kcal_mol:r1")
+    fig = temperature_figures.plot_dG_T(table)
+    dg_axis, act_axis = fig.axes[:2]  # ΔG and ΔG‡ on panels of their own over one T axis
+    line = next(a for a in dg_axis.lines if a.get_gid() == "dG_kcal_mol:r1")
     assert np.allclose(line.get_xdata(), [250, 300, 350])
     assert np.allclose(line.get_ydata(), -5.0 + 0.01 * np.array([250, 300, 350]))
-    assert "dG_act_kcal_mol:r2" not in {a.get_gid() for a in fig.axes[0].lines}  # no TS, no line
-    fig = figures.plot_arrhenius(table)
+    assert dg_axis.get_ylabel() == "ΔG / kcal mol⁻¹" and act_axis.get_ylabel() == "ΔG‡ / kcal mol⁻¹"
+    assert {a.get_gid() for a in act_axis.lines} == {"dG_act_kcal_mol:r1"}  # r2 has no TS: no line
+    assert dg_axis.get_shared_x_axes().joined(dg_axis, act_axis)
+    fig = temperature_figures.plot_arrhenius(table)
     (line,) = fig.axes[0].lines
     assert np.allclose(line.get_xdata(), 1000 / np.array([250, 300, 350]))
     assert np.allclose(line.get_ydata(), -20.0 / np.array([250, 300, 350]))
+
+
+def test_arrhenius_panels_hold_one_unit_each():
+    # a unimolecular (s^-1) and two bimolecular (M^-1 s^-1) rate constants: qcthermo.kinetics.rate_constant_unit
+    temps = np.array([300.0, 400.0])
+    rows = [{"reaction": name, "T_K": t, "k_forward": k0 * np.exp(-1000.0 / t), "k_unit": unit}
+            for name, k0, unit in (("uni", 1e13, "s^-1"), ("bi", 1e9, "M^-1 s^-1"),
+                                   ("bi2", 1e8, "M^-1 s^-1 (forward), s^-1 (reverse)"))
+            for t in temps]
+    fig = temperature_figures.plot_arrhenius(pd.DataFrame(rows))
+    panels = {ax.get_ylabel(): sorted(line.get_gid() for line in ax.lines) for ax in fig.axes if ax.lines}
+    assert panels == {"ln(k / s⁻¹)": ["arrhenius:uni"], "ln(k / M⁻¹ s⁻¹)": ["arrhenius:bi", "arrhenius:bi2"]}
+    # the y values are ln of k in its unit: ln(1e13) - 1000/T for the unimolecular one
+    uni = next(line for ax in fig.axes for line in ax.lines if line.get_gid() == "arrhenius:uni")
+    assert np.allclose(uni.get_ydata(), np.log(1e13) - 1000.0 / temps)
 
 
 def test_write_profile_figures_writes_the_run_figures(tmp_path):

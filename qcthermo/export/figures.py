@@ -35,7 +35,7 @@ from matplotlib.transforms import Bbox
 
 from ..errors import QcthermoError
 from ..fileio import atomic_open
-from ..units import hartree_to, unit_suffix
+from ..units import hartree_to
 
 #: Okabe-Ito colours, ordered so that the first few are the most distinct on white (yellow last)
 PALETTE = ("#0072B2", "#D55E00", "#009E73", "#CC79A7", "#E69F00", "#56B4E9", "#000000", "#F0E442")
@@ -764,84 +764,6 @@ def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str |
         ax.set_title(title, loc="left")
 
 
-def _reaction_series(reactions, column: str):
-    """(reaction name, T array, values array) for every reaction with finite values in ``column``."""
-    for name, group in reactions.groupby("reaction", sort=False):
-        group = group.sort_values("T_K")
-        t = group["T_K"].to_numpy(dtype=float)
-        y = group[column].to_numpy(dtype=float)
-        ok = np.isfinite(y)
-        if ok.any():
-            yield str(name), t[ok], y[ok]
-
-
-def energy_column(reactions, stem: str, unit: str, model: str | None) -> str:
-    """The reactions-table column of ``stem`` ("dG", "dG_act") under the chosen low-mode model when the
-    table has one (e.g. dG_qrrho_kcal_mol), else the plain column (dG_kcal_mol)."""
-    suffix = unit_suffix(unit)
-    tagged = f"{stem}_{model.replace('-', '_')}_{suffix}" if model else None
-    return tagged if tagged and tagged in reactions else f"{stem}_{suffix}"
-
-
-def plot_dG_T(reactions, unit: str = "kcal/mol", model: str | None = None) -> Figure:
-    """ΔG (solid) and ΔG‡ (dashed) of every reaction against temperature, from a long reactions table
-    (under the low-mode ``model`` when the table has its columns)."""
-    with matplotlib.rc_context(STYLE):
-        fig = _new_figure(COLUMN_WIDTH_IN)
-        ax = fig.add_axes((0.17, 0.16, 0.8, 0.8))
-        _style_axes(ax)
-        series = [(energy_column(reactions, "dG", unit, model), "-", ""),
-                  (energy_column(reactions, "dG_act", unit, model), "--", " (‡)")]
-        colors: dict[str, str] = {}
-        for column, ls, tag in series:
-            if column not in reactions:
-                continue
-            for name, t, y in _reaction_series(reactions, column):
-                color = colors.setdefault(name, PALETTE[len(colors) % len(PALETTE)])
-                ax.plot(t, y, ls=ls, color=color, marker="o", ms=2.5, label=f"{name}{tag}", gid=f"{column}:{name}")
-        ax.set_xlabel("T / K")
-        ax.set_ylabel(f"ΔG, ΔG‡ / {UNIT_LABELS.get(unit, unit)}")
-        _legend_below(ax)
-    return fig
-
-
-def _legend_below(ax) -> None:
-    """The legend under the x axis label, out of the data's way (the saved file's box grows to hold it)."""
-    ax.legend(loc="upper center", bbox_to_anchor=(0.5, -0.2), ncol=2, handlelength=2.0, columnspacing=1.2)
-
-
-_SUPERSCRIPTS = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
-
-
-def _rate_unit(reactions, name: str) -> str | None:
-    """The unit of a reaction's rate constant from the table's k_unit column, without its remark and
-    with typeset exponents ("cm^3 molecule^-1 s^-1" -> "cm³ molecule⁻¹ s⁻¹")."""
-    if "k_unit" not in reactions:
-        return None
-    units = reactions.loc[reactions["reaction"] == name, "k_unit"].dropna()
-    if not len(units):
-        return None
-    text = re.sub(r"\s*\(.*\)\s*$", "", str(units.iloc[0]))
-    return re.sub(r"\^(-?\d+)", lambda m: m.group(1).translate(_SUPERSCRIPTS), text)
-
-
-def plot_arrhenius(reactions, rate_column: str = "k_forward") -> Figure:
-    """ln k against 1000 K / T for every reaction with a rate constant; the legend gives k's unit."""
-    with matplotlib.rc_context(STYLE):
-        fig = _new_figure(COLUMN_WIDTH_IN)
-        ax = fig.add_axes((0.17, 0.16, 0.8, 0.8))
-        _style_axes(ax)
-        for k, (name, t, rate) in enumerate(_reaction_series(reactions, rate_column)):
-            ok = rate > 0
-            unit = _rate_unit(reactions, name)
-            ax.plot(1000.0 / t[ok], np.log(rate[ok]), color=PALETTE[k % len(PALETTE)], marker="o", ms=2.5,
-                    label=f"{name} (k in {unit})" if unit else name, gid=f"arrhenius:{name}")
-        ax.set_xlabel("1000 K / T")
-        ax.set_ylabel("ln k")
-        _legend_below(ax)
-    return fig
-
-
 # ---------------------------------------------------------------------------------------------------
 # files
 
@@ -917,6 +839,8 @@ def run_figures(results, *, overview: bool = True) -> dict[str, Figure]:
     reactions = getattr(results, "reactions", None)
     if reactions is not None and len(reactions) and "T_K" in reactions and reactions["T_K"].nunique() > 1:
         unit = getattr(results, "energy_unit", "kcal/mol")
+        from .temperature_figures import plot_arrhenius, plot_dG_T
+
         figures["dG_T"] = plot_dG_T(reactions, unit, getattr(results.conditions, "low_mode_model", None))
         if "k_forward" in reactions and np.any(np.asarray(reactions["k_forward"], dtype=float) > 0):
             figures["arrhenius"] = plot_arrhenius(reactions)
