@@ -134,6 +134,8 @@ class FormationInput:
         h298: its enthalpy at 298.15 K, hartree per molecule (the ensemble's, on the same energy scale).
         bonds: bond labels (:func:`bonds`), for bond-additivity corrections.
         gas: False for a species computed with a solvent model (no gas-phase heat of formation).
+        charge: its charge; atomization is for neutral species (an ion's needs a convention for the
+            electron's heat of formation, which is the user's to choose through a reference or a reaction).
     """
 
     name: str
@@ -143,6 +145,7 @@ class FormationInput:
     h298: float
     bonds: tuple[str, ...] = ()
     gas: bool = True
+    charge: int = 0
 
     @property
     def thermal_kj_mol(self) -> float:
@@ -196,6 +199,8 @@ def _increments(s: FormationInput, elements: Mapping[str, ElementReference]) -> 
 def _atomization(s: FormationInput, atoms: dict[tuple[str, str], FormationInput],
                  scheme: FormationScheme) -> tuple[dict | None, str | None]:
     """The atomization row of one species, or why there is none."""
+    if s.charge:
+        return None, "an ion: the atomization route is for neutral species (give a reference value or a reaction)"
     unknown = sorted(set(s.symbols) - set(scheme.elements))
     if unknown:
         return None, f"no experimental atomic data for {', '.join(unknown)}"

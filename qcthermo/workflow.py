@@ -534,7 +534,8 @@ def _heats_of_formation(rf: ReactionFile | None, species: dict[str, SpeciesResul
             name, tuple(calc.symbols), s.levels[0].split("//")[0],
             min(float(c.values["E"][0] + c.values["ZPE"][0]) for c in st.conformers), float(st.values["H"][0]),
             tuple(bonds(calc.symbols, calc.coordinates)) if scheme.bond_corrections else (),
-            gas=s.reference.solvent_model is None)
+            gas=not any(calc.solvent_model for c in s.used for calc in (c.calculation, c.single_point) if calc),
+            charge=s.charge)
     findings += [Finding("warning", n, f"species {n!r} is in [heats_of_formation] atoms but is not a single atom")
                  for n in scheme.atoms if n in inputs and len(inputs[n].symbols) != 1]
     rows, notes = heats_of_formation(inputs, scheme)

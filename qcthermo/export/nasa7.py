@@ -424,27 +424,30 @@ def write_run_thermo(results, out_dir) -> list:
     from ..species import Finding
 
     formation, header = run_enthalpy_reference(results)
-    fits = []
+    fits, left_out = [], []
     for name, sp in results.species_results.items():
         if sp.options.transition_state or not sp.usable:
             continue
         if formation is not None and name not in formation:
-            results.findings.append(Finding("warning", name, "left out of thermo.yaml and thermo.dat: no heat of "
-                                            "formation, and the files hold heats of formation"))
+            left_out.append(name)
             continue
         try:
             fits.append(nasa7_from_species(sp, results.conditions, t_low=T_REFERENCE, t_mid="auto",
                                            h_reference=formation[name] if formation else "electronic"))
         except (QcthermoError, ValueError) as err:
             results.findings.append(Finding("warning", name, f"no NASA-7 fit: {err}"))
+    if left_out:
+        results.findings.append(Finding("warning", "thermo.yaml", f"{len(left_out)} species left out of thermo.yaml "
+                                        f"and thermo.dat (no heat of formation; the files hold heats of formation): "
+                                        f"{', '.join(left_out)}"))
     if not fits:
         return []
-    reactions, left_out = _mechanism(results, {fit.name for fit in fits})
+    reactions, left_reactions = _mechanism(results, {fit.name for fit in fits})
     written = []
     for file_name, writer in (("thermo.yaml", write_cantera_yaml), ("thermo.dat", write_chemkin)):
         try:
             written.append(writer(fits, Path(out_dir) / file_name, header=header, reactions=reactions,
-                                  left_out=left_out))
+                                  left_out=left_reactions))
         except QcthermoError as err:
             results.findings.append(Finding("warning", file_name, f"not written: {err}"))
     return written
