@@ -246,8 +246,9 @@ def _molar_g(s: SpeciesResult, conditions: Conditions, t: np.ndarray) -> np.ndar
     return g if s.options.concentration else g + to_one_molar(t, conditions)
 
 
-def _problems(names: list[str], species: dict[str, SpeciesResult], subject: str) -> list[Finding]:
-    """Errors that exclude a pKa or potential (as for reactions), and a warning for gas-phase species."""
+def _problems(names: list[str], species: dict[str, SpeciesResult], subject: str, t: np.ndarray) -> list[Finding]:
+    """Errors that exclude a pKa or potential (as for reactions), a warning for gas-phase species and one for
+    temperatures away from those of the literature constants."""
     from .species import Finding
     from .workflow import audit_reaction
 
@@ -257,11 +258,15 @@ def _problems(names: list[str], species: dict[str, SpeciesResult], subject: str)
         if gas:
             found.append(Finding("warning", subject, f"species without a solvent model ({', '.join(gas)}): a "
                                                      "gas-phase energy stands for a solute"))
+    if np.any(np.abs(t - LITERATURE_T) > 0.5):
+        found.append(Finding("warning", subject, "the literature constants (proton solvation, electrode, electron) are "
+                                                 f"{LITERATURE_T} K values, used as they are at other temperatures"))
     return found
 
 
-def _routes(names: list[str], species: dict[str, SpeciesResult], subject: str) -> list[Finding]:
-    """A warning when some species take the thermodynamic cycle and others the direct route."""
+def mixed_routes(names: list[str], species: dict[str, SpeciesResult], subject: str) -> list[Finding]:
+    """A warning when some species of a reaction, pKa or potential take the thermodynamic cycle (a gas-phase
+    single point as well) and others the direct route."""
     from .species import Finding
 
     cycle = {n for n in names if species[n].usable and species[n].solvation_energy() is not None}
@@ -281,7 +286,7 @@ def pka_table(rf: ReactionFile, species: dict[str, SpeciesResult], conditions: C
     for p in rf.pka:
         ref = p.reference
         names = list(dict.fromkeys([p.acid, p.base] + ([ref.acid, ref.base] if ref else [])))
-        problems = _problems(names, species, p.name) + _routes(names, species, p.name)
+        problems = _problems(names, species, p.name, t)
         findings += problems
         errors = [f.message for f in problems if f.severity == "error"]
         dg = g_proton = pka = np.full(len(t), np.nan)
@@ -315,7 +320,7 @@ def redox_table(rf: ReactionFile, species: dict[str, SpeciesResult], conditions:
     rows, findings = [], []
     for r in rf.redox:
         names = [r.oxidised, r.reduced]
-        problems = _problems(names, species, r.name) + _routes(names, species, r.name)
+        problems = _problems(names, species, r.name, t)
         findings += problems
         errors = [f.message for f in problems if f.severity == "error"]
         e_ref = she + r.reference_vs_she

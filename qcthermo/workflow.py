@@ -34,7 +34,7 @@ from .reactions import (
     state_values,
 )
 from .records import Calculation, Conditions, parse_standard_state
-from .solution import check_solution, constants_used, pka_table, redox_table, solvent_label
+from .solution import check_solution, constants_used, mixed_routes, pka_table, redox_table, solvent_label
 from .species import Finding, SpeciesOptions, SpeciesResult, build_species, mirror_images
 from .units import check_energy_unit, hartree_to, unit_suffix
 
@@ -250,7 +250,8 @@ def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject:
     Errors (the reaction is excluded): a species with no usable structure, a side (``sides``, e.g.
     :func:`reaction_sides`) whose atoms or charge differ from the first side's, energies or frequencies
     at different levels of theory, different implicit solvent models (or solvent and gas phase).
-    Warning: different programs at the same level (grids and defaults differ).
+    Warning: different programs at the same level (grids and defaults differ); solvent single points with and
+    without gas-phase ones (two routes, :func:`qcthermo.solution.mixed_routes`).
     """
     found = []
     for n in names:
@@ -274,7 +275,7 @@ def audit_reaction(names: list[str], species: dict[str, SpeciesResult], subject:
     programs = {c.program for _, c in calcs}
     if len(programs) > 1:
         found.append(Finding("warning", subject, f"energies from different programs ({', '.join(sorted(programs))})"))
-    return found
+    return found + mixed_routes(names, species, subject)
 
 
 def reaction_sides(reaction: ReactionSpec) -> dict[str, list[Term]]:

@@ -254,3 +254,28 @@ def test_init_proposes_the_solvent_protocol(tmp_path, samples, cache_dir):
     rf = qcthermo.reactions.load_reaction_file(target)
     assert [p.name for p in rf.species["acetic_acid"].single_point] == ["acetic_acid_cosmo.out"]
     assert [p.name for p in rf.species["acetic_acid"].gas_single_point] == ["acetic_acid_gas.out"]
+
+
+def test_the_named_constants_move_e_by_their_published_differences(solution_run, tmp_path, samples):
+    # Trasatti's IUPAC 4.44 V against Kelly-Cramer-Truhlar's 4.28 V: E lower by 0.16 V; Bartmess's Fermi-Dirac
+    # electron (-0.867 kcal/mol at 298.15 K, from memory) lowers E by 0.867 kcal/mol / F = 0.0376 V
+    body = PKA.split("[[pka]]")[0] + '[solution]\nabsolute_she = "trasatti1986"\nelectron = "fermi-dirac"\n' + \
+        "[[redox]]" + PKA.split("[[redox]]")[1]
+    res = qcthermo.run(samples / "solution", reactions=_solution_file(tmp_path, samples, body), cache=False)
+    shift = 0.867 * KCAL_J / sc.physical_constants["Faraday constant"][0]
+    before = solution_run.redox.set_index("name").loc["nitrogen_dioxide", "E_V"]
+    after = res.redox.set_index("name").loc["nitrogen_dioxide", "E_V"]
+    assert after - before == pytest.approx(-0.16 - shift, abs=1e-9)
+
+
+def test_a_mixed_route_reaction_is_a_warning(tmp_path, samples):
+    # one species on the thermodynamic cycle, the other on the direct route: the same G, but not one protocol
+    path = _solution_file(tmp_path, samples, '\n[[reaction]]\nname = "exchange"\n'
+                                             'reactants = ["acetic_acid", "formate"]\nproducts = ["acetate", '
+                                             '"formic_acid"]\n')
+    text = path.read_text().replace(f'gas_single_point = "{samples.as_posix()}/solution/sp/formate_gas.out"\n', "")
+    path.write_text(text)
+    res = qcthermo.run(samples / "solution", reactions=path, cache=False)
+    assert any(f.subject == "exchange" and "thermodynamic cycle for acetate, acetic_acid, formic_acid only"
+               in f.message for f in res.findings), res.findings
+    assert res.reactions["status"].iloc[0] == "ok"
