@@ -279,3 +279,15 @@ def test_a_mixed_route_reaction_is_a_warning(tmp_path, samples):
     assert any(f.subject == "exchange" and "thermodynamic cycle for acetate, acetic_acid, formic_acid only"
                in f.message for f in res.findings), res.findings
     assert res.reactions["status"].iloc[0] == "ok"
+
+
+def test_qcthermo_run_prints_the_pka_and_potentials(tmp_path, samples, cache_dir, capsys):
+    # the command line's summary repeats the tables' values (pka.csv, redox.csv it wrote)
+    path = _solution_file(tmp_path, samples, PKA)
+    out = tmp_path / "out"
+    assert main(["run", str(samples / "solution"), "--reactions", str(path), "--out", str(out)]) == 0
+    text = capsys.readouterr().out
+    pka = pd.read_csv(out / "pka.csv").set_index("name")
+    redox = pd.read_csv(out / "redox.csv").set_index("name")
+    assert f"pKa: acetic {pka.loc['acetic', 'pKa']:.2f} (direct), formic {pka.loc['formic', 'pKa']:.2f}" in text
+    assert f"E: nitrogen_dioxide {redox.loc['nitrogen_dioxide', 'E_V']:+.3f} V vs SHE" in text

@@ -13,6 +13,24 @@ from .common import conditions_from_args, reading_options
 SHOWN_FINDINGS = 12
 
 
+def solution_lines(results) -> list[str]:
+    """"pKa: name 4.65 (direct), ..." and "E: name +1.070 V vs SHE, ..." at the first temperature, when the run
+    has them (the tables hold every column)."""
+    from ..fileio import display
+
+    lines = []
+    for frame, head, cell in (
+            (results.pka, "pKa", lambda r: f"{r['pKa']:.2f} ({r['scheme']})"),
+            (results.redox, "E", lambda r: f"{r['E_V']:+.3f} V vs {r['reference']}" + (f" at pH {r['pH']:g}"
+                                                                                       if r["protons"] else ""))):
+        if frame is not None and len(frame):
+            rows = frame.drop_duplicates("name")
+            lines.append(f"{head}: " + ", ".join(f"{display(str(r['name']))} " + (cell(r) if r["status"] == "ok"
+                                                                                  else "excluded")
+                                                 for _, r in rows.iterrows()))
+    return lines
+
+
 def print_summary(results, out: Path | None, quiet: bool) -> None:
     """Species count, the reactions table in the run's unit, findings (errors first), where the files are.
 
@@ -52,6 +70,9 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
                           "" if k is None or k != k else f"{k:.3g}", str(row["status"]),
                           style="red" if row["status"] != "ok" else None)
         console.print(table)
+    if not quiet:
+        for line in solution_lines(results):
+            console.print(Text(line))
     for severity, style in (("error", "red"), ("warning", "yellow")):
         found = [f for f in results.findings if f.severity == severity]
         for f in found[:SHOWN_FINDINGS]:
