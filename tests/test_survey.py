@@ -428,3 +428,23 @@ def test_survey_json_is_strict_without_nan_or_infinity(xyz_tree, tmp_path, monke
     result = survey(xyz_tree, jobs=1, reader=no_energy, cache=False)
     rows = json.loads(write_json(result, tmp_path / "s.json").read_text(), parse_constant=refuse)
     assert [r["E_elec_Eh"] for r in rows] == [None] * 5
+
+
+def test_more_rows_than_a_screenful_print_an_overview(xyz_tree, tmp_path, capsys, monkeypatch, stub_default_reader):
+    # 4 water files and 13 that are not XYZ (ASE's reader refuses them): 17 rows on a 15-line screen (10 rows)
+    for i in range(12):
+        (xyz_tree / f"bad{i:02d}.out").write_text("no atoms\n")
+    monkeypatch.setenv("LINES", "15")
+    csv = tmp_path / "all.csv"
+    assert main(["survey", str(xyz_tree), "--jobs", "1", "--csv", str(csv)]) == 1
+    out = capsys.readouterr().out.strip().splitlines()
+    assert out[0] == f"17 files, more than a screenful: the full table is in {csv}"
+    assert out[1] == "programs: unreadable (13), xyz (4)"
+    listed = [line for line in out if line.startswith("  error: ")]
+    assert len(listed) == 10 and listed[0].startswith("  error: bad.out: not an XYZ file")
+    assert out[-3] == "  ... and 3 more with a warning or an error"
+    assert out[-1] == "17 files: 4 ok, 0 warning, 13 error"
+    assert len(csv.read_text().splitlines()) == 1 + 17  # the heading and every row are in the file
+    monkeypatch.setenv("LINES", "40")  # the same survey fits a taller screen: the table
+    assert main(["survey", str(xyz_tree), "--jobs", "1"]) == 1
+    assert capsys.readouterr().out.split()[0] == "file"
