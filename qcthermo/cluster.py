@@ -62,7 +62,7 @@ def target(scheduler: Any, workers: int | None = None) -> Target:
     if workers is not None and workers < 1:
         raise QcthermoError(f"workers {workers}: expected 1 or more")
     if not isinstance(scheduler, str):
-        if type(scheduler).__name__ != "Client" or not hasattr(scheduler, "submit"):
+        if not all(hasattr(scheduler, name) for name in ("submit", "scheduler_info")):  # a distributed.Client
             raise QcthermoError(f"scheduler {scheduler!r}: expected a distributed.Client, tcp://HOST:PORT, "
                                 f"local:N or one of {', '.join(JOB_QUEUES)}")
         return Target("client", client=scheduler)

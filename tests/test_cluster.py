@@ -167,3 +167,13 @@ def test_slurm_job_script_from_jobqueue_configuration():
     assert lines.index("source /shared/venv/bin/activate") < len(lines) - 1
     # one single-threaded worker process per core (reading is GIL-bound), pointed at this scheduler
     assert "--nworkers 8" in worker and "--nthreads 1" in worker and jq.scheduler_address in worker
+
+
+def test_run_reads_on_the_cluster_and_records_where(client, samples, isomerisation_file, sample_run):
+    import qcthermo
+
+    results = qcthermo.run(samples / "gas", reactions=isomerisation_file, conditions=sample_run.conditions,
+                           cache=False, scheduler=client)
+    # the same species and reactions as the local run (test_workflow.py checks those against the logs)
+    assert results.species.equals(sample_run.species) and results.reactions.equals(sample_run.reactions)
+    assert client.scheduler.address in results.settings["scheduler"]
