@@ -18,6 +18,7 @@ _PUBLIC = {
     "ReactionFileError": "qcthermo.errors",
     "ThermoError": "qcthermo.errors",
     "QcthermoError": "qcthermo.errors",
+    "SimulationError": "qcthermo.errors",
     "Calculation": "qcthermo.records",
     "Molecule": "qcthermo.records",
     "Conditions": "qcthermo.records",

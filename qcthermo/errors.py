@@ -22,3 +22,7 @@ class ReactionFileError(QcthermoError):
 
 class ThermoError(QcthermoError):
     """A molecule cannot be treated as asked (e.g. a large imaginary mode on a minimum)."""
+
+
+class SimulationError(QcthermoError):
+    """A microkinetic simulation cannot be set up or run as asked (bad initial state, times, network)."""

@@ -79,3 +79,54 @@ def unit_suffix(unit: str) -> str:
 def entropy_to_j_mol_k(value):
     """Convert an entropy or heat capacity from hartree/K per molecule to J/(mol K)."""
     return value * HARTREE_J * N_A
+
+
+#: time units a duration may be given in, s (a year is the Julian year, 365.25 d)
+TIME_UNITS_S: dict[str, float] = {"fs": 1e-15, "ps": 1e-12, "ns": 1e-9, "us": 1e-6, "µs": 1e-6, "ms": 1e-3, "s": 1.0,
+                                  "min": 60.0, "h": 3600.0, "d": 86400.0, "y": 365.25 * 86400.0}
+#: concentration units, mol/L, and pressure units, Pa, an amount may be given in
+CONCENTRATION_UNITS_M: dict[str, float] = {"M": 1.0, "mol/L": 1.0, "mM": 1e-3, "uM": 1e-6, "µM": 1e-6, "nM": 1e-9}
+PRESSURE_UNITS_PA: dict[str, float] = {"Pa": 1.0, "kPa": 1e3, "MPa": 1e6, "bar": BAR_PA, "mbar": 1e-2 * BAR_PA,
+                                       "atm": ATM_PA, "Torr": ATM_PA / 760.0}
+
+
+def _number_and_unit(value, units: dict[str, float], what: str) -> tuple[float, str | None]:
+    """(number, unit or None) of a number or a string "<number> <unit>" (the space optional)."""
+    import math
+    import re
+
+    if isinstance(value, bool):
+        raise ValueError(f"{what} {value!r}: expected a number or a string such as {next(iter(units))!r}")
+    if isinstance(value, (int, float)):
+        number, unit = float(value), None
+    else:
+        m = re.fullmatch(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(\S*)\s*", str(value))
+        if not m or (m[2] and m[2] not in units):
+            raise ValueError(f"{what} {value!r}: expected a number with one of the units {', '.join(units)}")
+        number, unit = float(m[1]), m[2] or None
+    if not math.isfinite(number):
+        raise ValueError(f"{what} {value!r} is not a finite number")
+    return number, unit
+
+
+def parse_duration(value, what: str = "time") -> float:
+    """A duration in s from a number (s) or a string such as "1 h", "30 min", "1e-6 s" (:data:`TIME_UNITS_S`);
+    it must be finite and positive."""
+    number, unit = _number_and_unit(value, TIME_UNITS_S, what)
+    seconds = number * TIME_UNITS_S[unit or "s"]
+    if not seconds > 0:
+        raise ValueError(f"{what} {value!r} must be positive")
+    return seconds
+
+
+def parse_amount(value, what: str = "amount") -> tuple[str, float]:
+    """An initial amount: ("number", x) for a plain number, ("M", c) in mol/L for a concentration such as
+    "0.1 M" or "5 mM", ("Pa", p) for a partial pressure such as "0.2 atm" or "10 kPa"; finite and >= 0."""
+    number, unit = _number_and_unit(value, {**CONCENTRATION_UNITS_M, **PRESSURE_UNITS_PA}, what)
+    if number < 0:
+        raise ValueError(f"{what} {value!r} is negative")
+    if unit is None:
+        return "number", number
+    if unit in CONCENTRATION_UNITS_M:
+        return "M", number * CONCENTRATION_UNITS_M[unit]
+    return "Pa", number * PRESSURE_UNITS_PA[unit]
