@@ -28,6 +28,7 @@ _PUBLIC = {
     "survey": "qcthermo.survey",
     "load_reaction_file": "qcthermo.reactions",
     "run": "qcthermo.workflow",
+    "simulate": "qcthermo.simulate",
     "RunResults": "qcthermo.workflow",
 }
 

@@ -37,7 +37,7 @@ CONDITION_KEYS = (
 ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1, "single_point_rmsd": 1e-3}
 SPECIES_KEYS = ("logs", "single_point", "gas_single_point", "symmetry_number", "electronic_degeneracy", "enantiomers",
                 "imaginary_policy", "concentration", "transition_state", "label")
-REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling")
+REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling", "rate")
 PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "style", "order", "overlay")
 #: presentation keys of a profile, passed to the figures as given (after a type check)
 PRESENTATION_TYPES: dict[str, tuple[type, ...]] = {"color": (str,), "label_states": (list,), "style": (str,),
@@ -49,7 +49,7 @@ REDOX_KEYS = ("name", "oxidised", "reduced", "electrons", "protons", "ph", "refe
 #: keys of [solution]: named literature values of qcthermo.solution (or numbers, kcal/mol and V)
 SOLUTION_KEYS = ("proton_solvation", "absolute_she", "electron")
 TOP_KEYS = ("conditions", "ensemble", "species", "reaction", "profile", "heats_of_formation", "solution",
-            "pka", "redox")
+            "pka", "redox", "simulation")
 IMAGINARY_POLICIES = ("error", "invert", "drop")
 TUNNELLING = ("eckart", "wigner", "none")
 
@@ -103,6 +103,9 @@ class ReactionSpec:
         transition_state: species name of the transition state, or None.
         degeneracy: reaction-path degeneracy override (None: from the symmetry numbers).
         tunnelling: "eckart" | "wigner" | "none".
+        rate: for a step without a transition state, its forward rate constant in the unit the run gives
+            rate constants of its molecularity (M^-1 s^-1 at a solution standard state, cm^3 molecule^-1 s^-1
+            at a gas one), or "diffusion" (docs/simulate.md); None when not given.
         line: line of the ``[[reaction]]`` header.
     """
 
@@ -112,6 +115,7 @@ class ReactionSpec:
     transition_state: str | None = None
     degeneracy: float | None = None
     tunnelling: str = "eckart"
+    rate: float | str | None = None
     line: int | None = None
 
     @property
@@ -201,6 +205,7 @@ class ReactionFile:
         ensemble: [ensemble] settings merged with :data:`ENSEMBLE_DEFAULTS`.
         species, reactions, profiles: the tables in file order.
         heats_of_formation: the [heats_of_formation] table, reactions resolved (None when absent).
+        simulation: the [simulation] table checked (qcthermo.simulate.SimulationSettings), or None.
         text: the file's text (to find lines for later errors, e.g. balance).
     """
 
@@ -215,6 +220,7 @@ class ReactionFile:
     pka: list[PkaSpec] = field(default_factory=list)
     redox: list[RedoxSpec] = field(default_factory=list)
     solution: dict[str, Any] = field(default_factory=dict)
+    simulation: Any = None
 
     def error(self, message: str, line: int | None = None) -> ReactionFileError:
         """A ReactionFileError "FILE, line N: message"."""
@@ -416,9 +422,10 @@ class _Parser:
         profiles = self.profiles(data.get("profile", []), species)
         formation = self.formation(data["heats_of_formation"], species, reactions) \
             if "heats_of_formation" in data else None
+        simulation = self.simulation(data["simulation"], species, reactions) if "simulation" in data else None
         return ReactionFile(self.path, conditions, ensemble, species, reactions, profiles, self.text, formation,
                             self.pka(data.get("pka", []), species), self.redox(data.get("redox", []), species),
-                            self.solution(data.get("solution", {})))
+                            self.solution(data.get("solution", {})), simulation)
 
     def conditions(self, table: Any) -> dict[str, Any]:
         """Each key checked for its type here and for its range by Conditions itself, with the key's line."""
@@ -641,8 +648,56 @@ class _Parser:
                     self.fail(f"{what} tunnelling {_show(table['tunnelling'])}: expected one of "
                               f"{', '.join(TUNNELLING)}", key_line("tunnelling"))
                 spec.tunnelling = table["tunnelling"]
+            if "rate" in table:
+                spec.rate = self.rate(table["rate"], spec, key_line("rate"))
             out.append(spec)
         return out
+
+    def rate(self, value: Any, spec: ReactionSpec, line: int | None) -> float | str:
+        from .simulate import rate_setting
+
+        if spec.transition_state:
+            self.fail(f"reaction {spec.name!r} rate: a reaction with a transition state takes its rate constant "
+                      "from it", line)
+        try:
+            return rate_setting(value)
+        except ValueError as err:
+            self.fail(f"reaction {spec.name!r} {err}", line)
+
+    def simulation(self, table: Any, species: dict, reactions: list[ReactionSpec]):
+        """The [simulation] table: each key checked by qcthermo.simulate, every species named one that some
+        reaction uses (and not one held at its own concentration)."""
+        from .simulate import SETTING_PARSERS, SIMULATION_KEYS, simulation_settings
+
+        line = (self.where.header("simulation") or [self.where.key(0, "simulation")])[0]
+        self.check_keys(self.table(table, "[simulation]", line), SIMULATION_KEYS, "[simulation]", line)
+        for key in ("initial", "time"):
+            if key not in table:
+                self.fail(f"[simulation] needs {key!r}", line)
+        for key, value in table.items():
+            try:
+                SETTING_PARSERS[key](value)
+            except ValueError as err:
+                self.fail(f"[simulation] {err}", self.where.key(line, key))
+        used = {n for r in reactions for _, n in r.reactants + r.products}
+        try:
+            settings = simulation_settings(table)  # the keys against each other (fixed species in initial, ...)
+        except ValueError as err:
+            self.fail(f"[simulation] {err}", line)
+        named = {"initial": list(settings.initial), "fixed": settings.fixed, "catalyst": settings.catalyst,
+                 "product": [settings.product] if settings.product else [],
+                 "reactant": [settings.reactant] if settings.reactant else []}
+        for key, names in named.items():
+            for name in names:
+                at = self.where.key(line, key)
+                if name not in species:
+                    self.unknown_species(f"[simulation] {key}", name, species, at)
+                if name not in used:
+                    self.fail(f"[simulation] {key}: species {name!r} takes part in no reaction", at)
+                if species[name].concentration is not None and key != "catalyst":
+                    self.fail(f"[simulation] {key}: {name!r} is held at its own concentration "
+                              f"({species[name].concentration:g} M)", at)
+        return settings
 
     def profiles(self, value: Any, species: dict) -> list[ProfileSpec]:
         out = []

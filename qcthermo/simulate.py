@@ -10,6 +10,8 @@ decisions are written in docs/simulate.md.
 
 from __future__ import annotations
 
+import sys
+import types
 import warnings
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
@@ -22,6 +24,11 @@ from .units import K_B_EH, N_A, R_GAS
 
 #: solvers of scipy.integrate.solve_ivp suited to stiff kinetics
 METHODS = ("BDF", "Radau", "LSODA")
+#: the default solver: Radau (implicit Runge-Kutta, order 5). scipy's BDF is ~3x faster on a large network that
+#: keeps moving, but at an exact steady state (a catalytic cycle with reservoir species) its Newton test
+#: compares two round-off-sized corrections, fails at random and halves the step: thousands of steps per
+#: decade of time (docs/simulate.md, measured on the sample cycle)
+DEFAULT_METHOD = "Radau"
 #: default relative and absolute (mol/L) tolerances of the solver
 RTOL = 1e-8
 ATOL_M = 1e-20
@@ -258,7 +265,7 @@ def check_concentrations(initial: dict[str, float]) -> None:
 
 
 def integrate(network: Network, initial: dict[str, float], times: Sequence[float], *, fixed: Sequence[str] = (),
-              temperature=None, method: str = "BDF", rtol: float = RTOL, atol: float = ATOL_M,
+              temperature=None, method: str = DEFAULT_METHOD, rtol: float = RTOL, atol: float = ATOL_M,
               dense: bool = False, scale: tuple[np.ndarray, np.ndarray] | None = None) -> Trajectory:
     """Integrate dc/dt = S r(c) from t = 0 to max(times) and return the concentrations at ``times``.
 
@@ -329,7 +336,7 @@ def formation_rate(network: Network, rates: np.ndarray, product: str) -> np.ndar
 
 
 def degree_of_rate_control(network: Network, initial: dict[str, float], time: float, product: str, *,
-                           fixed: Sequence[str] = (), temperature=None, method: str = "BDF",
+                           fixed: Sequence[str] = (), temperature=None, method: str = DEFAULT_METHOD,
                            rtol: float = 1e-10, atol: float = ATOL_M,
                            step: float = RATE_CONTROL_STEP) -> dict[str, float]:
     """Degree of rate control of every reaction for the net formation rate r of ``product`` at ``time``.
@@ -355,3 +362,524 @@ def degree_of_rate_control(network: Network, initial: dict[str, float], time: fl
             log_rates[i, col] = np.log(r) if r > 0 else np.nan
     x = (log_rates[:, 0] - log_rates[:, 1]) / (np.log1p(step) - np.log1p(-step))
     return dict(zip(network.reactions, x.tolist(), strict=True))
+
+
+# -- settings: the [simulation] table and the keyword arguments of simulate() ---------------------------------
+
+#: keys of the [simulation] table (and keyword arguments of :func:`simulate`)
+SIMULATION_KEYS = ("initial", "time", "temperature", "fixed", "product", "reactant", "catalyst", "method", "rtol",
+                   "atol", "viscosity", "rate_control")
+#: largest number of output times (a finer grid than any table needs)
+MAX_TIMES = 10_000
+
+
+@dataclass
+class SimulationSettings:
+    """What a simulation is asked to do (validated; see docs/simulate.md).
+
+    Attributes:
+        initial: species -> (kind, value): ("number", x) mol/L in a solution standard state or a partial
+            pressure in the standard state's unit (atm, bar, Pa) in a gas one; ("M", c) mol/L; ("Pa", p).
+        times: s, the output times asked for (a list), or None for the default grid up to ``end_time``.
+        end_time: s.
+        temperature: None (the run's temperature), K, or a program [(t in s, T in K), ...].
+        fixed: species held at their initial concentration.
+        product: species whose net formation rate the degree of rate control and the TOF follow.
+        reactant: species that conversion, yields and selectivities refer to.
+        catalyst: species whose concentrations sum to the catalyst's (TOF = formation rate / their sum).
+        method, rtol, atol: the solver and its tolerances (atol in mol/L).
+        viscosity: Pa s, for diffusion-limited steps (None: water's at 298.15 K).
+        rate_control: compute the degree of rate control.
+    """
+
+    initial: dict[str, tuple[str, float]]
+    end_time: float
+    times: tuple[float, ...] | None = None
+    temperature: Any = None
+    fixed: tuple[str, ...] = ()
+    product: str | None = None
+    reactant: str | None = None
+    catalyst: tuple[str, ...] = ()
+    method: str = DEFAULT_METHOD
+    rtol: float = RTOL
+    atol: float = ATOL_M
+    viscosity: float | None = None
+    rate_control: bool = True
+
+
+def _names(value: Any, key: str) -> tuple[str, ...]:
+    items = [value] if isinstance(value, str) else value
+    if not isinstance(items, (list, tuple)) or not all(isinstance(i, str) and i for i in items):
+        raise ValueError(f"{key} {value!r}: expected a species name or a list of them")
+    return tuple(items)
+
+
+def _name(value: Any, key: str) -> str:
+    if not isinstance(value, str) or not value:
+        raise ValueError(f"{key} {value!r}: expected one species name")
+    return value
+
+
+def _positive(value: Any, key: str, unit: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value) or value <= 0:
+        raise ValueError(f"{key} {value!r}: expected a finite number > 0 ({unit})")
+    return float(value)
+
+
+def _initial(value: Any) -> dict[str, tuple[str, float]]:
+    from .units import parse_amount
+
+    if not isinstance(value, dict) or not value:
+        raise ValueError(f"initial {value!r}: expected a table of species = concentration, e.g. {{a = 0.1}}")
+    return {str(name): parse_amount(amount, f"initial concentration of {name!r}") for name, amount in value.items()}
+
+
+def _times(value: Any) -> tuple[float, tuple[float, ...] | None]:
+    from .units import parse_duration
+
+    if isinstance(value, list):
+        if not 1 <= len(value) <= MAX_TIMES:
+            raise ValueError(f"time: expected 1 to {MAX_TIMES} output times")
+        times = tuple(sorted(parse_duration(v, "time") for v in value))
+        return times[-1], times
+    return parse_duration(value, "time"), None
+
+
+def _temperature(value: Any) -> Any:
+    from .units import parse_duration
+
+    if isinstance(value, list):
+        points = []
+        for point in value:
+            if not isinstance(point, (list, tuple)) or len(point) != 2:
+                raise ValueError(f"temperature {value!r}: a program is a list of [time, kelvin] pairs")
+            t = 0.0 if point[0] == 0 and not isinstance(point[0], bool) else parse_duration(point[0], "program time")
+            points.append((t, _positive(point[1], "temperature", "K")))
+        if len(points) < 2:
+            raise ValueError("temperature: a program needs at least two [time, kelvin] points")
+        return sorted(points)
+    return _positive(value, "temperature", "K")
+
+
+def _method(value: Any) -> str:
+    if value not in METHODS:
+        raise ValueError(f"method {value!r}: expected one of {', '.join(METHODS)}")
+    return value
+
+
+def _flag(value: Any) -> bool:
+    if not isinstance(value, bool):
+        raise ValueError(f"rate_control {value!r}: expected true or false")
+    return value
+
+
+def _tolerance(key: str) -> Callable[[Any], float]:
+    def check(value: Any) -> float:
+        value = _positive(value, key, "relative" if key == "rtol" else "mol/L")
+        if key == "rtol" and value >= 1:
+            raise ValueError(f"rtol {value!r}: expected a number between 0 and 1")
+        return value
+    return check
+
+
+#: each key's check and conversion; raises ValueError with a one-line reason naming the key
+SETTING_PARSERS: dict[str, Callable[[Any], Any]] = {
+    "initial": _initial, "time": _times, "temperature": _temperature,
+    "fixed": lambda v: _names(v, "fixed"), "catalyst": lambda v: _names(v, "catalyst"),
+    "product": lambda v: _name(v, "product"), "reactant": lambda v: _name(v, "reactant"),
+    "method": _method, "rtol": _tolerance("rtol"), "atol": _tolerance("atol"),
+    "viscosity": lambda v: _positive(v, "viscosity", "Pa s"), "rate_control": _flag,
+}
+
+
+def simulation_settings(table: dict[str, Any]) -> SimulationSettings:
+    """Check and convert a [simulation] table (or simulate()'s keywords); ValueError names the first bad key."""
+    unknown = [k for k in table if k not in SIMULATION_KEYS]
+    if unknown:
+        raise ValueError(f"unknown key {unknown[0]!r} (allowed: {', '.join(SIMULATION_KEYS)})")
+    for key in ("initial", "time"):
+        if table.get(key) is None:
+            raise ValueError(f"a simulation needs {key!r}")
+    parsed = {k: SETTING_PARSERS[k](v) for k, v in table.items() if v is not None}
+    end_time, times = parsed.pop("time")
+    settings = SimulationSettings(end_time=end_time, times=times, **parsed)
+    cross_check(settings)
+    return settings
+
+
+def cross_check(settings: SimulationSettings) -> None:
+    """The keys against each other: fixed species and the reactant need an initial concentration."""
+    for name in settings.fixed:
+        if name not in settings.initial:
+            raise ValueError(f"fixed species {name!r} needs an initial concentration")
+    if settings.reactant is not None and settings.reactant not in settings.initial:
+        raise ValueError(f"reactant {settings.reactant!r} needs an initial concentration")
+    if settings.reactant is not None and settings.reactant in settings.fixed:
+        raise ValueError(f"reactant {settings.reactant!r} is fixed: its conversion is 0 by construction")
+
+
+def rate_setting(value: Any) -> float | str:
+    """The ``rate`` of a [[reaction]] without a transition state: a forward rate constant > 0 in the unit the
+    run gives rate constants of its molecularity, or "diffusion"."""
+    if value == "diffusion":
+        return "diffusion"
+    return _positive(value, "rate", 'the unit of the run\'s rate constants, or "diffusion"')
+
+
+# -- the network of a run -------------------------------------------------------------------------------------
+
+
+@dataclass
+class _Step:
+    """One reaction of a run as the network takes it."""
+
+    name: str
+    equation: str
+    reactants: list[str]
+    products: list[str]
+    k_forward: np.ndarray  # over the run's temperatures, mol/L units
+    k_reverse: np.ndarray
+    source: str
+    kappa: float = 1.0
+
+
+def _molecules(terms, own: set[str]) -> list[str] | None:
+    """Species names, one per molecule, leaving out those at their own concentration; None for a fractional
+    coefficient (not an elementary step)."""
+    out = []
+    for c, n in terms:
+        if c != round(c):
+            return None
+        if n not in own:
+            out += [n] * round(c)
+    return out
+
+
+def _standard_state(results) -> tuple[Any, bool]:
+    """The standard state the run's free energies used, and whether it is a gas (pressure) one."""
+    from .records import parse_standard_state
+
+    cond = results.conditions
+    if cond.pressure is not None:
+        return cond.pressure, True
+    return cond.standard_state, parse_standard_state(cond.standard_state)[0] == "pressure"
+
+
+def _c0_molar(results) -> np.ndarray:
+    """c0 of the run's standard state, mol/L, over its temperatures."""
+    from .kinetics import standard_concentration
+
+    c0, unit = standard_concentration(_standard_state(results)[0], results.temperatures)
+    return c0 / MOLECULES_PER_CM3_PER_M if unit != "M" else c0
+
+
+def _step(results, spec, own: set[str], viscosity: float | None, notes: list[str]) -> _Step | None:
+    """A reaction of the run with its rate constants in mol/L units, or None (with a note saying why)."""
+    from .reactions import reaction_energetics
+
+    df = results.reactions
+    rows = df[df["reaction"] == spec.name].sort_values("T_K") if len(df) else df
+    if not len(rows) or (rows["status"] != "ok").any():
+        notes.append(f"{spec.name}: left out (excluded from the run: see its findings)")
+        return None
+    left, right = _molecules(spec.reactants, own), _molecules(spec.products, own)
+    if left is None or right is None:
+        notes.append(f"{spec.name}: left out (fractional coefficients: not an elementary step)")
+        return None
+    gas = _standard_state(results)[1]
+    t = results.temperatures
+    kappa = 1.0
+    if spec.transition_state:
+        k_run, source = rows["k_forward"].to_numpy(dtype=float), "transition state"
+        kappa = float(rows["kappa"].to_numpy(dtype=float)[0]) if "kappa" in rows else 1.0
+        if not np.all(np.isfinite(k_run)):
+            notes.append(f"{spec.name}: left out (no rate constant from its transition state)")
+            return None
+    elif spec.rate == "diffusion":
+        if gas or len(left) != 2:
+            notes.append(f"{spec.name}: left out (a diffusion limit needs two molecules meeting in solution)")
+            return None
+        eta = viscosity or WATER_VISCOSITY_PA_S
+        k_run, source = diffusion_rate(t, eta, identical=left[0] == left[1]), f"diffusion, eta = {eta:g} Pa s"
+        gas = False  # already in M^-1 s^-1
+    elif spec.rate is not None:
+        k_run, source = np.full(len(t), float(spec.rate)), "given"
+    else:
+        notes.append(f"{spec.name}: left out (no transition state and no rate)")
+        return None
+    k_forward = k_run * (MOLECULES_PER_CM3_PER_M ** (len(left) - 1) if gas else 1.0)
+    values = {n: s.values for n, s in results.species_results.items() if s.usable}
+    dg = np.asarray(reaction_energetics(spec, values)["dG"], dtype=float)
+    k_eq = equilibrium_constant(dg, t, len(right) - len(left), _c0_molar(results))
+    return _Step(spec.name, spec.equation, left, right, k_forward, k_forward / k_eq, source, kappa)
+
+
+def run_network(results, viscosity: float | None = None) -> tuple[Network, list[_Step], dict[str, float], list[str]]:
+    """The network of a run: every reaction with a rate constant; the species held at their own concentration
+    (mol/L, outside the rate laws); notes on the reactions left out."""
+    rf = results.reaction_file
+    if rf is None:
+        raise SimulationError("a simulation needs the run's reactions (a reaction file)")
+    own = {n: s.options.concentration for n, s in results.species_results.items() if s.options.concentration}
+    notes: list[str] = []
+    steps = [s for s in (_step(results, r, set(own), viscosity, notes) for r in rf.reactions) if s is not None]
+    if not steps:
+        raise SimulationError("the network has no reaction with a rate constant (" + "; ".join(notes) + ")")
+    names = list(dict.fromkeys(n for s in steps for n in s.reactants + s.products))
+    index = {n: i for i, n in enumerate(names)}
+    network = Network(tuple(names), tuple(s.name for s in steps),
+                      tuple(tuple(index[n] for n in s.reactants) for s in steps),
+                      tuple(tuple(index[n] for n in s.products) for s in steps),
+                      np.array([s.k_forward for s in steps]), np.array([s.k_reverse for s in steps]),
+                      results.temperatures)
+    used_own = {n: c for n, c in own.items() if any(n in _names_of(r) for r in rf.reactions if r.name in
+                                                     network.reactions)}
+    return network, steps, used_own, notes
+
+
+def _names_of(spec) -> set[str]:
+    return {n for _, n in spec.reactants + spec.products}
+
+
+# -- simulate(): a run's network from its initial state to the end time ---------------------------------------
+
+#: points of the default output grid: logarithmic from 1e-9 of the end time, and linear
+LOG_POINTS, LINEAR_POINTS, LOG_DECADES = 181, 101, 9
+#: relative change of the turnover frequency over the last output interval below which it is a steady state
+STEADY_STATE_TOLERANCE = 1e-3
+
+
+@dataclass
+class SimulationResult:
+    """A run's network simulated (see :func:`simulate`).
+
+    Attributes:
+        concentrations: DataFrame indexed by time (s, "time_s"), one column per species, mol/L (species
+            held at their own concentration included, constant).
+        summary: one row per species: initial and final mol/L, conversion, half-life and time to 90 %
+            conversion (s), yield and selectivity relative to the reactant (molar, at the end time).
+        rate_control: one row per reaction: its degree of rate control for the product's formation rate.
+        tof: turnover frequency at the end time, s^-1 (product formation rate / catalyst), or None.
+        tof_comparison: the TOF against the energy span model of each cyclic profile of the catalyst, or None.
+        reactions: the simulated reactions: equation, where k comes from, k_forward and k_reverse (mol/L, s).
+        settings: the :class:`SimulationSettings` used; temperature: K (constant) or the program.
+        notes: reactions left out and anything a reader should know, one line each.
+        statistics: the solver's counts.
+    """
+
+    concentrations: Any
+    summary: Any
+    rate_control: Any
+    tof: float | None
+    tof_comparison: Any
+    reactions: Any
+    settings: SimulationSettings
+    notes: list[str]
+    statistics: dict[str, int]
+
+
+def _amounts_in_molar(settings: SimulationSettings, results, temperature: float) -> dict[str, float]:
+    """The initial amounts in mol/L: plain numbers in the standard state's unit, pressures by c = p / RT."""
+    from .units import ATM_PA, BAR_PA
+
+    state, gas = _standard_state(results)
+    per_unit = {"1atm": ATM_PA, "1bar": BAR_PA}.get(state, state) if gas else None
+    out = {}
+    for name, (kind, value) in settings.initial.items():
+        if kind == "number" and gas:
+            kind, value = "Pa", value * float(per_unit)
+        out[name] = value / (R_GAS * temperature) / 1000.0 if kind == "Pa" else value
+    return out
+
+
+def _output_times(settings: SimulationSettings) -> np.ndarray:
+    if settings.times is not None:
+        return np.asarray(settings.times)
+    end = settings.end_time
+    grid = np.concatenate([np.logspace(np.log10(end) - LOG_DECADES, np.log10(end), LOG_POINTS),
+                           np.linspace(0.0, end, LINEAR_POINTS)[1:]])
+    return np.unique(grid)
+
+
+def _check_species(settings: SimulationSettings, network: Network, own: dict[str, float]) -> None:
+    for key, names in (("initial", list(settings.initial)), ("fixed", settings.fixed), ("catalyst", settings.catalyst),
+                       ("product", [settings.product] if settings.product else []),
+                       ("reactant", [settings.reactant] if settings.reactant else [])):
+        for name in names:
+            if name in own:
+                raise SimulationError(f"{key}: {name!r} is held at its own concentration ({own[name]:g} M)")
+            if name not in network.species:
+                raise SimulationError(f"{key}: {name!r} takes part in no simulated reaction")
+
+
+def _check_temperature(settings: SimulationSettings, network: Network) -> Any:
+    """The temperature (or program) to integrate at, within the rate constants' temperatures."""
+    t = network.temperatures
+    if settings.temperature is None:
+        if len(t) > 1:
+            raise SimulationError(f"the run has {len(t)} temperatures: give the simulation's temperature")
+        return float(t[0])
+    wanted = [settings.temperature] if np.ndim(settings.temperature) == 0 else [p[1] for p in settings.temperature]
+    outside = [w for w in wanted if not (t.min() - 1e-6 <= w <= t.max() + 1e-6)]
+    if outside:
+        raise SimulationError(f"temperature {outside[0]:g} K is outside the run's temperatures "
+                              f"({t.min():g}-{t.max():g} K): run at the simulation's temperatures")
+    return settings.temperature
+
+
+def _first_time_below(dense, column: int, level: float, end: float) -> float:
+    """The first time the dense solution's ``column`` falls to ``level`` (NaN if it does not by ``end``)."""
+    from scipy.optimize import brentq
+
+    grid = np.unique(np.concatenate([[0.0], np.logspace(np.log10(end) - 12, np.log10(end), 1201)]))
+    values = dense(grid)[column]
+    below = np.flatnonzero(values <= level)
+    if not below.size:
+        return float("nan")
+    i = below[0]
+    if i == 0:
+        return 0.0
+    return float(brentq(lambda x: dense(x)[column] - level, grid[i - 1], grid[i], xtol=1e-14 * grid[i]))
+
+
+def _summary(run: Trajectory, network: Network, settings: SimulationSettings, initial: dict[str, float]):
+    """One row per species: initial, final, conversion, half-life, t90, yield and selectivity."""
+    import pandas as pd
+
+    free_column = {int(i): k for k, i in enumerate(run.free)}
+    first, last = run.concentrations[0], run.concentrations[-1]
+    reactant = settings.reactant or next((n for n in initial if n not in settings.fixed and initial[n] > 0), None)
+    r0 = initial.get(reactant, 0.0) if reactant else 0.0
+    converted = r0 - last[network.species.index(reactant)] if reactant else 0.0
+    rows = []
+    for i, name in enumerate(network.species):
+        row = {"species": name, "initial_M": first[i], "final_M": last[i], "fixed": name in settings.fixed,
+               "conversion": np.nan, "half_life_s": np.nan, "t90_s": np.nan, "yield": np.nan, "selectivity": np.nan}
+        if first[i] > 0 and name not in settings.fixed:
+            row["conversion"] = 1.0 - last[i] / first[i]
+            if run.dense is not None:
+                row["half_life_s"] = _first_time_below(run.dense, free_column[i], first[i] / 2, settings.end_time)
+                row["t90_s"] = _first_time_below(run.dense, free_column[i], first[i] / 10, settings.end_time)
+        elif name not in settings.fixed and last[i] > first[i] and r0 > 0:
+            row["yield"] = (last[i] - first[i]) / r0
+            row["selectivity"] = (last[i] - first[i]) / converted if converted > 0 else np.nan
+        rows.append(row)
+    return pd.DataFrame(rows), reactant
+
+
+def _rate_control(network, initial, settings, temperature, notes) -> Any:
+    import pandas as pd
+
+    if not settings.rate_control or settings.product is None:
+        return pd.DataFrame(columns=["reaction", "degree_of_rate_control"])
+    x = degree_of_rate_control(network, initial, settings.end_time, settings.product, fixed=settings.fixed,
+                               temperature=temperature, method=settings.method,
+                               rtol=min(settings.rtol, 1e-10), atol=settings.atol)
+    if all(np.isnan(v) for v in x.values()):
+        notes.append(f"degree of rate control: {settings.product} has no positive net formation rate at the end "
+                     "time (nothing formed, or equilibrium reached)")
+    else:
+        notes.append(f"degrees of rate control sum to {np.nansum(list(x.values())):.4f} (1 for a single cycle or "
+                     "chain at steady state)")
+    return pd.DataFrame({"reaction": list(x), "degree_of_rate_control": list(x.values())})
+
+
+def _tof(run: Trajectory, network: Network, settings: SimulationSettings, notes: list[str]) -> float | None:
+    """TOF = net formation rate of the product / sum of the catalyst's concentrations, at the end time."""
+    if not settings.catalyst or settings.product is None:
+        return None
+    columns = [network.species.index(n) for n in settings.catalyst]
+    total = run.concentrations[:, columns].sum(axis=1)
+    tof = formation_rate(network, run.rates, settings.product) / np.where(total > 0, total, np.nan)
+    if len(tof) > 2 and abs(tof[-1] - tof[-2]) > STEADY_STATE_TOLERANCE * abs(tof[-1]):
+        notes.append(f"TOF: not at steady state at the end time ({tof[-2]:.4g} -> {tof[-1]:.4g} s^-1 over the last "
+                     "output interval)")
+    return float(tof[-1])
+
+
+def _tof_comparison(results, steps: list[_Step], settings: SimulationSettings, tof: float | None,
+                    initial: dict[str, float], temperature) -> Any:
+    """The simulated TOF against the energy span model of every cyclic profile holding the catalyst."""
+    import pandas as pd
+
+    span = results.energy_span
+    if tof is None or span is None or not len(span) or np.ndim(temperature) != 0:
+        return None
+    c0 = float(_c0_molar(results)[int(np.argmin(np.abs(results.temperatures - temperature)))])
+    rows = []
+    profiles = {p.name: p for p in results.reaction_file.profiles}
+    for _, row in span[np.isclose(span["T_K"], temperature)].iterrows():
+        profile = profiles[row["profile"]]
+        members = {n for state in profile.states for _, n in state}
+        if not set(settings.catalyst) <= members:
+            continue
+        cycle = [s for s in steps if set(s.reactants + s.products) <= members]
+        reasons = [f"{s.name} has kappa = {s.kappa:.3g} (tunnelling), which the energy span leaves out"
+                   for s in cycle if s.source == "transition state" and abs(s.kappa - 1) > 1e-3]
+        reasons += [f"{s.name} has no transition state (k {s.source}): the energy span takes it as infinitely fast"
+                    for s in cycle if s.source != "transition state"]
+        reasons += [f"[{n}] = {initial[n]:.4g} M, not the standard state's {c0:.4g} M" for n in settings.fixed
+                    if n in members and abs(initial[n] - c0) > 1e-9 * c0]
+        rows.append({"profile": profile.name, "T_K": float(temperature), "TOF_simulated_s-1": tof,
+                     "TOF_energy_span_s-1": float(row["TOF_s-1"]), "ratio": tof / float(row["TOF_s-1"]),
+                     "why_they_differ": "; ".join(reasons) or "they should agree (a simple cycle at steady state)"})
+    return pd.DataFrame(rows) if rows else None
+
+
+def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, **settings: Any) -> SimulationResult:
+    """Simulate a run's reaction network: concentrations over time, yields, half-lives, rate control, TOF.
+
+    ``results`` is a :class:`qcthermo.workflow.RunResults` (``qcthermo.run(...)``); ``initial`` maps species to
+    initial concentrations (mol/L, or partial pressures at a gas standard state; strings with units such as
+    "0.2 atm" or "5 mM" too) and ``time`` is the end time ("1 h", s) or a list of output times. Without both,
+    the reaction file's [simulation] table is used. Other keywords: ``temperature`` (K or a program
+    [[t, T], ...]), ``fixed``, ``product``, ``reactant``, ``catalyst``, ``method`` ("BDF" | "Radau" |
+    "LSODA"), ``rtol``, ``atol`` (mol/L), ``viscosity`` (Pa s), ``rate_control`` (docs/simulate.md).
+    Raises :class:`~qcthermo.errors.SimulationError` (one line) for bad input and for a solver failure
+    (with the time reached).
+    """
+    import pandas as pd
+
+    if initial is None and time is None and not settings and getattr(results.reaction_file, "simulation", None):
+        spec = results.reaction_file.simulation
+    else:
+        try:
+            spec = simulation_settings({"initial": initial, "time": time, **settings})
+        except ValueError as err:
+            raise SimulationError(str(err)) from None
+    network, steps, own, notes = run_network(results, spec.viscosity)
+    _check_species(spec, network, own)
+    temperature = _check_temperature(spec, network)
+    t0 = temperature_program(temperature)(0.0)
+    amounts = _amounts_in_molar(spec, results, t0)
+    if spec.product is None:
+        notes.append("no product named: no degree of rate control and no TOF")
+    run = integrate(network, amounts, _output_times(spec), fixed=spec.fixed, temperature=temperature,
+                    method=spec.method, rtol=spec.rtol, atol=spec.atol, dense=True)
+    if not run.success:
+        raise SimulationError(f"the solver ({spec.method}) failed at t = {run.time_reached:.4g} s of "
+                              f"{spec.end_time:.4g} s: {run.message}")
+    frame = pd.DataFrame(run.concentrations, index=pd.Index(run.times, name="time_s"), columns=list(network.species))
+    for name, c in own.items():
+        frame[name] = c
+    summary, reactant = _summary(run, network, spec, amounts)
+    if reactant:
+        notes.append(f"conversion, yields and selectivities are molar, relative to {reactant}")
+    tof = _tof(run, network, spec, notes)
+    table = pd.DataFrame([{"reaction": s.name, "equation": s.equation, "k_source": s.source,
+                           "k_forward": float(k[0]), "k_reverse": float(k[1])}
+                          for s, k in zip(steps, zip(*network.rate_constants(t0), strict=True), strict=True)])
+    return SimulationResult(frame, summary, _rate_control(network, amounts, spec, temperature, notes), tof,
+                            _tof_comparison(results, steps, spec, tof, amounts, temperature), table, spec, notes,
+                            run.statistics)
+
+
+class _CallableModule(types.ModuleType):
+    """``qcthermo.simulate`` is both this module and the function :func:`simulate` (the public name of the
+    design): importing the module sets the package's attribute to the module, so the module is made callable."""
+
+    def __call__(self, *args: Any, **kwargs: Any) -> SimulationResult:
+        return simulate(*args, **kwargs)
+
+
+sys.modules[__name__].__class__ = _CallableModule
