@@ -49,7 +49,7 @@ def _run(tmp_path, samples, text, *extra):
         (('products = ["hnc"]', 'products = ["hnc", "hcn"]'), 11, "'isomerisation'"),  # unbalanced
         (('logs = "{s}/gas/hnc.out"', 'logs = "{s}/gas/hnc_*.log"'), 7, "hnc_*.log"),  # glob matching nothing
         (('[species.hnc]', '[species.hnc'), 6, "syntax"),  # TOML syntax error
-        (('name = "isomerisation"', 'name = "isomerisation"\nrate = 1'), 13, "'rate'"),  # unknown key
+        (('name = "isomerisation"', 'name = "isomerisation"\nspeed = 1'), 13, "'speed'"),  # unknown key
     ],
 )
 def test_bad_reaction_file_exits_2_with_line_and_name(tmp_path, samples, capsys, change, line, name):
