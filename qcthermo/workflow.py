@@ -535,7 +535,7 @@ def _heats_of_formation(rf: ReactionFile | None, species: dict[str, SpeciesResul
             name, tuple(calc.symbols), s.levels[0].split("//")[0],
             min(float(c.values["E"][0] + c.values["ZPE"][0]) for c in st.conformers), float(st.values["H"][0]),
             tuple(bonds(calc.symbols, calc.coordinates)) if scheme.bond_corrections else (),
-            gas=not any(calc.solvent_model for c in s.used for calc in (c.calculation, c.single_point) if calc),
+            gas=not in_solvent(s),
             charge=s.charge)
     findings += [Finding("warning", n, f"species {n!r} is in [heats_of_formation] atoms but is not a single atom")
                  for n in scheme.atoms if n in inputs and len(inputs[n].symbols) != 1]
@@ -747,11 +747,11 @@ def mechanism_reactions(results: RunResults) -> tuple[list, list[str]]:
     """The run's reactions as a kinetics code takes them (export.mechanism.ArrheniusReaction), and a line per reaction
     left out saying why.
 
-    A reaction enters when it was included, has a transition state, and every species is a gas-phase species
-    at the standard state (no solvent model, no own concentration). Its k(T) is the run's science
-    (kinetics.reaction_kinetics with its tunnelling and degeneracy), at 1 mol/L so that k is in Cantera's
-    concentration units, over the run's temperatures when it has three or more, else over
-    :data:`MECHANISM_TEMPERATURES`; then a modified Arrhenius fit (docs/formation.md, "Mechanism")."""
+    A reaction enters when it was included, every species is a gas-phase species at the standard state (no
+    solvent model, no own concentration), and it has a rate constant (:func:`_mechanism_rates`: from its transition
+    state, or the reaction file's ``rate``), over the run's temperatures when it has three or more, else over
+    :data:`MECHANISM_TEMPERATURES`, at 1 mol/L so that k is in Cantera's concentration units; then a modified
+    Arrhenius fit (docs/formation.md, "Mechanism")."""
     from . import kinetics
     from .export.mechanism import arrhenius_reaction
     from .species import species_thermo
@@ -764,27 +764,53 @@ def mechanism_reactions(results: RunResults) -> tuple[list, list[str]]:
     out, left_out, values = [], [], {}
     for r in rf.reactions if rf else []:
         names = _names(r)
+        rate = getattr(r, "rate", None)
         why = ("excluded by the audit (reactions.csv)" if r.name not in included else
-               "no transition state (and no rate in the reaction file)" if not r.transition_state else
                "not a gas-phase reaction at the standard state" if any(
-                   results.species_results[n].reference.solvent_model or
-                   results.species_results[n].options.concentration for n in names) else None)
+                   in_solvent(results.species_results[n]) or results.species_results[n].options.concentration
+                   for n in names) else
+               "no transition state (and no rate in the reaction file)" if not r.transition_state and rate is None else
+               "a diffusion limit is for solution" if rate == "diffusion" else None)
         if why is None:
             for n in set(names) - set(values):  # each species once, however many reactions it is in
                 values[n] = species_thermo(results.species_results[n], cond).values
             try:
-                k = kinetics.reaction_kinetics(
-                    _participants(r.reactants, results.species_results, values),
-                    _participants(r.products, results.species_results, values),
-                    _transition_state(results.species_results[r.transition_state], values[r.transition_state]),
-                    t, "1M", r.tunnelling, r.degeneracy)
-                fit = kinetics.fit_arrhenius(t, k["k_forward"], unit=k["k_unit_forward"])
-                out.append(arrhenius_reaction(r.name, r.reactants, r.products, fit, t, k["k_forward"], k["k_reverse"]))
+                k_forward, k_reverse, unit = _mechanism_rates(r, results, values, t)
+                fit = kinetics.fit_arrhenius(t, k_forward, unit=unit)
+                out.append(arrhenius_reaction(r.name, r.reactants, r.products, fit, t, k_forward, k_reverse))
                 continue
             except ValueError as err:
                 why = f"no rate constant: {err}"
         left_out.append(f"{r.name}: left out, {why}")
     return out, left_out
+
+
+def _mechanism_rates(r: ReactionSpec, results: RunResults, values: dict, t: np.ndarray):
+    """k_forward, k_reverse (over ``t``, mol/L units) and the forward unit of one mechanism reaction: TST from its
+    transition state (kinetics.reaction_kinetics, its tunnelling and degeneracy), or the reaction file's ``rate``
+    (the unit of the run's rate constants: cm^3 molecule^-1 s^-1 at a gas standard state becomes M^-1 s^-1 by
+    N_A / 1000 per order) with k_reverse = k_forward / K from the species' G at 1 mol/L."""
+    from . import kinetics
+    from .units import K_B_EH, N_A
+
+    species = results.species_results
+    if r.transition_state:
+        k = kinetics.reaction_kinetics(_participants(r.reactants, species, values),
+                                       _participants(r.products, species, values),
+                                       _transition_state(species[r.transition_state], values[r.transition_state]),
+                                       t, "1M", r.tunnelling, r.degeneracy)
+        return k["k_forward"], k["k_reverse"], k["k_unit_forward"]
+    order = r.molecularity_forward - 1
+    c = results.conditions
+    gas = c.pressure is not None or parse_standard_state(c.standard_state)[0] == "pressure"
+    k_forward = np.full(t.shape, float(r.rate) * ((N_A / 1000.0) ** order if gas else 1.0))
+    dg = sum(n * values[s]["G"] for n, s in r.products) - sum(n * values[s]["G"] for n, s in r.reactants)
+    return k_forward, k_forward * np.exp(dg / (K_B_EH * t)), kinetics.rate_constant_unit(round(order + 1), "M")
+
+
+def in_solvent(s: SpeciesResult) -> bool:
+    """Whether any energy of a species (frequency job or single point) was computed with a solvent model."""
+    return any(calc.solvent_model for c in s.used for calc in (c.calculation, c.single_point) if calc)
 
 
 def _energy_span(results: RunResults, kinetics) -> Any:

@@ -345,10 +345,11 @@ def test_cantera_rate_constants_are_the_runs(sample_results, sample_out):
     import cantera as ct
 
     gas = ct.Solution(str(sample_out / "thermo.yaml"))
-    assert [r.equation for r in gas.reactions()] == ["ch4 + h <=> ch3 + h2", "hcn <=> hnc"]
+    equations = [r.equation for r in gas.reactions()]
     fits = {r.name: r for r in sample_results.mechanism}
     rates = sample_results.rates
-    for i, name in enumerate(("h_abstraction", "hcn_isomerisation")):
+    for equation, name in (("ch4 + h <=> ch3 + h2", "h_abstraction"), ("hcn <=> hnc", "hcn_isomerisation")):
+        i = equations.index(equation)
         fit = fits[name]
         assert (fit.t_min, fit.t_max) == (300.0, 1000.0)
         assert 0 < fit.max_rel_error < 0.2
@@ -360,7 +361,6 @@ def test_cantera_rate_constants_are_the_runs(sample_results, sample_out):
             assert gas.reverse_rate_constants[i] == pytest.approx(kr, rel=1.01 * fit.max_rel_error + 0.005)
     # the reactions without a transition state (and without a rate) or in solution are left out, and said so
     text = (sample_out / "thermo.yaml").read_text()
-    assert "# water_formation: left out, no transition state" in text
     assert "# formaldehyde_hydration: left out, not a gas-phase reaction" in text
 
 
@@ -373,7 +373,7 @@ def test_chemkin_mechanism_through_ck2yaml(sample_out, tmp_path):
     out = tmp_path / "from_chemkin.yaml"
     ck2yaml.convert(str(sample_out / "thermo.dat"), out_name=str(out), quiet=True)
     chemkin, yaml = ct.Solution(str(out)), ct.Solution(str(sample_out / "thermo.yaml"))
-    assert chemkin.species_names == yaml.species_names and chemkin.n_reactions == yaml.n_reactions == 2
+    assert chemkin.species_names == yaml.species_names and chemkin.n_reactions == yaml.n_reactions >= 2
     for t in (300.0, 650.0, 1000.0):
         chemkin.TP = yaml.TP = t, ct.one_atm
         np.testing.assert_allclose(chemkin.forward_rate_constants, yaml.forward_rate_constants, rtol=1e-3)
@@ -414,3 +414,43 @@ def test_report_states_the_enthalpy_reference(sample_out, samples, isomerisation
     report = html.unescape((tmp_path / "out" / "report.html").read_text())
     assert report.index("ENTHALPY REFERENCE: absolute electronic energies") < report.index('id="audit"')
     assert "ENTHALPY REFERENCE: absolute electronic energies" in (tmp_path / "out" / "thermo.dat").read_text()
+
+
+@pytest.mark.parametrize("state, factor", [("1M", 1.0), ("1atm", 6.02214076e23 / 1000.0)])
+def test_a_given_rate_enters_the_mechanism(samples, state, factor):
+    # a step without a transition state but with a rate constant in the reaction file (the unit of the run's rate
+    # constants: M^-1 s^-1 at 1 M, cm^3 molecule^-1 s^-1 at 1 atm; N_A / 1000 L/mol per cm^3/molecule, CODATA):
+    # Cantera reads it as k = A (n = 0, Ea = 0) in m^3 kmol^-1 s^-1, and its reverse from the thermo data is
+    # k / K with K = exp(-dG/RT) of the run's species at 1 mol/L (the law of mass action)
+    import cantera as ct
+
+    import qcthermo
+    from qcthermo.reactions import load_reaction_file
+    from qcthermo.workflow import default_conditions, in_solvent
+
+    rf = load_reaction_file(samples / "reactions.toml")
+    recombination = next(r for r in rf.reactions if r.name == "methyl_recombination")
+    recombination.rate = 2.0e11 if state == "1M" else 2.0e11 / factor
+    rf.heats_of_formation = None  # absolute energies: the file's K is the run's (heats of formation would
+    # correct the computed H-H and C-H bond energies, and K with them: docs/formation.md, "Reversibility")
+    cond = default_conditions(rf).replace(temperature=np.array([300.0, 600.0, 900.0]), standard_state=state)
+    res = qcthermo.run(samples, reactions=rf, conditions=cond, jobs=1, cache=False)
+    (mech,) = [r for r in res.mechanism if r.name == "methyl_recombination"]
+    assert (mech.A, mech.n, mech.Ea) == pytest.approx((2.0e11, 0.0, 0.0), abs=1e-3)
+    assert not in_solvent(res.species_results["ch3"])
+    import tempfile
+    from pathlib import Path
+
+    from qcthermo.export.nasa7 import write_run_thermo
+
+    with tempfile.TemporaryDirectory() as out:
+        write_run_thermo(res, out)
+        gas = ct.Solution(str(Path(out) / "thermo.yaml"))
+    i = [r.equation for r in gas.reactions()].index("ch3 + h <=> ch4")
+    g = {n: res.species_results[n].values["G"] for n in ("ch3", "h", "ch4")}
+    for j, t in enumerate(cond.temperature):
+        gas.TP = t, ct.one_atm
+        assert gas.forward_rate_constants[i] == pytest.approx(2.0e11, rel=1e-9)
+        if state == "1M":
+            k_eq = np.exp(-(g["ch4"][j] - g["ch3"][j] - g["h"][j]) / (qcthermo.units.K_B_EH * t))  # 1/M
+            assert gas.reverse_rate_constants[i] == pytest.approx(2.0e11 / k_eq, rel=5e-3)
