@@ -776,8 +776,10 @@ def mechanism_reactions(results: RunResults) -> tuple[list, list[str]]:
                 values[n] = species_thermo(results.species_results[n], cond).values
             try:
                 k_forward, k_reverse, unit = _mechanism_rates(r, results, values, t)
-                fit = kinetics.fit_arrhenius(t, k_forward, unit=unit)
-                out.append(arrhenius_reaction(r.name, r.reactants, r.products, fit, t, k_forward, k_reverse))
+                fit = kinetics.fit_arrhenius(t, k_forward, unit=unit) if r.transition_state else \
+                    kinetics.ArrheniusFit(float(k_forward[0]), 0.0, 0.0, float(t.min()), float(t.max()), 0.0, unit)
+                out.append(arrhenius_reaction(r.name, r.reactants, r.products, fit, t, k_forward, k_reverse,
+                                              given=not r.transition_state))
                 continue
             except ValueError as err:
                 why = f"no rate constant: {err}"

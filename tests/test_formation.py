@@ -454,3 +454,30 @@ def test_a_given_rate_enters_the_mechanism(samples, state, factor):
         if state == "1M":
             k_eq = np.exp(-(g["ch4"][j] - g["ch3"][j] - g["h"][j]) / (qcthermo.units.K_B_EH * t))  # 1/M
             assert gas.reverse_rate_constants[i] == pytest.approx(2.0e11 / k_eq, rel=5e-3)
+
+
+def test_reverse_note_names_the_heats_of_formation_shift(sample_results, sample_out):
+    # Hess's law: the file's K_c of CH3 + H -> CH4 holds dH_r from the table's heats of formation, the run's k_reverse
+    # the computed dH_r; the note states the difference (MP2/cc-pVTZ's H-H bond error, as the H2 atomization row
+    # shows), and Cantera's reverse rate constant is off the run's by exactly that factor
+    import re
+
+    import cantera as ct
+
+    table = sample_results.heats_of_formation
+    dfh = table[table["nasa7"]].set_index("species")["dfH_298_kJ_mol"]
+    one = sample_results.species.set_index(["species", "T_K"])["H_Eh"]
+    h = {n: one[n, 300.0] for n in ("ch3", "h", "ch4")}
+    computed = (h["ch4"] - h["ch3"] - h["h"]) * KJ_MOL_PER_EH
+    from_table = dfh["ch4"] - dfh["ch3"] - dfh["h"]
+    text = (sample_out / "thermo.yaml").read_text()
+    stated = float(re.search(r"methyl_recombination: k_forward given in the reaction file; reverse from the thermo "
+                             r"data: its reaction free energy differs from the run's by up to ([0-9.]+) kJ/mol",
+                             text)[1])
+    assert stated == pytest.approx(abs(from_table - computed), abs=0.5)
+    gas = ct.Solution(str(sample_out / "thermo.yaml"))
+    i = [r.equation for r in gas.reactions()].index("ch3 + h <=> ch4")
+    (mech,) = [r for r in sample_results.mechanism if r.name == "methyl_recombination"]
+    gas.TP = mech.temperature[0], ct.one_atm
+    ratio = gas.reverse_rate_constants[i] / mech.k_reverse[0]
+    assert abs(8.314462618e-3 * mech.temperature[0] * np.log(ratio)) == pytest.approx(stated, abs=0.5)
