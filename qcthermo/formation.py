@@ -255,6 +255,8 @@ def heats_of_formation(inputs: Mapping[str, FormationInput],
     gas = {n: s for n, s in inputs.items() if s.gas}
     notes = [(n, "computed with a solvent model: heats of formation are for the gas phase") for n, s in inputs.items()
              if not s.gas and (n in scheme.references or n in scheme.reactions)]
+    notes += [(n, "no heat of formation: not a usable minimum (a transition state, or no usable structure)")
+              for n in dict.fromkeys([*scheme.references, *scheme.reactions]) if n not in inputs]
     atoms: dict[tuple[str, str], FormationInput] = {}
     for n in scheme.atoms:
         if n in gas and len(gas[n].symbols) == 1:

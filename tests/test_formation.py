@@ -135,9 +135,10 @@ def test_an_ion_has_no_atomization_value():
     inputs = _janaf_species()
     w = inputs["water"]
     inputs["water"] = FormationInput("water", w.symbols, "L", w.e0, w.h298, charge=1)
-    rows, notes = heats_of_formation(inputs, FormationScheme(atoms=["h", "o"]))
+    rows, notes = heats_of_formation(inputs, FormationScheme(atoms=["h", "o"], references={"ts": (1.0, "")}))
     assert "water" not in {r["species"] for r in rows}
     assert any(n == "water" and "an ion" in why for n, why in notes)
+    assert any(n == "ts" and "not a usable minimum" in why for n, why in notes)  # a name the run left out
 
 
 def test_corrections_and_missing_atoms():
