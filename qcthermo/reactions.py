@@ -24,6 +24,7 @@ from typing import Any
 
 import numpy as np
 
+from .ensemble import SINGLE_POINT_RMSD
 from .errors import ReactionFileError
 from .formation import FormationScheme, normalise_bond
 from .records import LOW_MODE_MODELS, Conditions, parse_standard_state
@@ -34,7 +35,8 @@ CONDITION_KEYS = (
     "frequency_scale", "zpe_scale", "imaginary_policy", "imaginary_threshold",
 )
 #: keys of [ensemble] and their defaults (angstrom, kcal/mol, angstrom)
-ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1, "single_point_rmsd": 1e-3}
+ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1,
+                                       "single_point_rmsd": SINGLE_POINT_RMSD}
 SPECIES_KEYS = ("logs", "single_point", "gas_single_point", "symmetry_number", "electronic_degeneracy", "enantiomers",
                 "imaginary_policy", "concentration", "transition_state", "label")
 REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling", "rate")
