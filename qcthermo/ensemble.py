@@ -19,7 +19,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from .geometry import kabsch_rmsd
+from .geometry import bond_matrix, kabsch_rmsd
 from .records import Calculation
 from .units import ENERGY_UNITS, K_B_EH
 
@@ -132,25 +132,15 @@ def ensemble_heat_capacity(cp, h, populations, temperature):
     )
 
 
-#: two atoms are bonded when closer than this factor times the sum of their covalent radii (common practice)
-BOND_FACTOR = 1.2
-
-
 def bond_signature(calc: Calculation) -> tuple[tuple[str, str, int], ...]:
     """Counts of bonded element pairs, e.g. (("C", "H", 1), ("C", "N", 1)) for HCN.
 
-    Bonds are distances below :data:`BOND_FACTOR` x (r_i + r_j), covalent radii from ASE's tables
-    (Cordero et al., Dalton Trans. 2008, 2832). Conformers share a signature; most constitutional
-    isomers (HCN and HNC) do not.
+    Bonds as :func:`qcthermo.geometry.bond_matrix` finds them (covalent radii of Cordero et al., Dalton
+    Trans. 2008, 2832). Conformers share a signature; most constitutional isomers (HCN and HNC) do not.
     """
-    from ase.data import atomic_numbers, covalent_radii
-    from scipy.spatial.distance import pdist, squareform
-
-    radii = np.array([covalent_radii[atomic_numbers[s]] for s in calc.symbols])
-    if len(radii) < 2:
+    if calc.natoms < 2:
         return ()
-    d = squareform(pdist(np.asarray(calc.coordinates, dtype=float)))
-    i, j = np.nonzero(np.triu(d < BOND_FACTOR * (radii[:, None] + radii[None, :]), k=1))
+    i, j = np.nonzero(np.triu(bond_matrix(calc.symbols, calc.coordinates), k=1))
     pairs = Counter(tuple(sorted((calc.symbols[a], calc.symbols[b]))) for a, b in zip(i, j, strict=True))
     return tuple(sorted((a, b, n) for (a, b), n in pairs.items()))
 

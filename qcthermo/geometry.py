@@ -48,6 +48,31 @@ def is_linear(coordinates: np.ndarray, masses: np.ndarray, tolerance: float = 1e
     return bool(moments[2] > 0 and moments[0] / moments[2] < tolerance)
 
 
+#: two atoms are bonded when closer than this factor times the sum of their covalent radii (common practice)
+BOND_FACTOR = 1.2
+
+
+def covalent_radii(symbols) -> np.ndarray:
+    """Single-bond covalent radii, angstrom, from ASE's tables (Cordero et al., Dalton Trans. 2008, 2832)."""
+    from ase.data import atomic_numbers
+    from ase.data import covalent_radii as radii
+
+    return np.array([radii[atomic_numbers[s]] for s in symbols])
+
+
+def bond_matrix(symbols, coordinates: np.ndarray) -> np.ndarray:
+    """(N, N) bool, True where two atoms are bonded: closer than :data:`BOND_FACTOR` x (r_i + r_j)."""
+    from scipy.spatial.distance import pdist, squareform
+
+    radii = covalent_radii(symbols)
+    if len(radii) < 2:
+        return np.zeros((len(radii), len(radii)), dtype=bool)
+    d = squareform(pdist(np.asarray(coordinates, dtype=float)))
+    bonded = d < BOND_FACTOR * (radii[:, None] + radii[None, :])
+    np.fill_diagonal(bonded, False)
+    return bonded
+
+
 def kabsch_rmsd(
     a: np.ndarray, b: np.ndarray, masses: np.ndarray | None = None, allow_reflection: bool = False
 ) -> float:

@@ -165,6 +165,23 @@ def atomic_masses(symbols) -> np.ndarray:
     return np.array([atomic_masses_common[z] for z in numbers], dtype=float)
 
 
+@dataclass(frozen=True)
+class TorsionScan:
+    """A relaxed torsion scan of one bond, as the engine uses it.
+
+    Attributes:
+        atoms: (i, j, k, l), 0-based; j-k is the bond turned, the angles are the dihedral i-j-k-l.
+        angles: (P,) dihedral of each scan point, radians (computed from each point's geometry).
+        energies: (P,) electronic energy of each point, Eh.
+        source: the scan log's path.
+    """
+
+    atoms: tuple[int, int, int, int]
+    angles: np.ndarray
+    energies: np.ndarray
+    source: str
+
+
 @dataclass
 class Molecule(_Composition):
     """Input of the thermochemistry engine: one structure with its harmonic frequencies.
@@ -182,6 +199,9 @@ class Molecule(_Composition):
         masses: dalton per atom; None means most abundant isotopes.
         electronic_degeneracy: ground-state degeneracy override (e.g. 2 for a spatially degenerate
             doublet ... or 3 for O2's triplet is already 2S+1).
+        normal_modes: (n_modes, N, 3) displacement vectors of ``frequencies`` (see Calculation), or None;
+            the hindered-rotor treatment needs them to find the torsional modes.
+        torsion_scans: relaxed torsion scans (:class:`TorsionScan`) for the hindered-rotor treatment.
         transition_state: True keeps exactly one imaginary mode out of the partition function.
         imaginary_policy: "error" | "invert" | "drop" | None (None: the default policy, see cleaning.py).
         name: a label for notes and tables.
@@ -198,6 +218,8 @@ class Molecule(_Composition):
     symmetry_number: int | None = None
     masses: np.ndarray | None = None
     electronic_degeneracy: int | None = None
+    normal_modes: np.ndarray | None = None
+    torsion_scans: list[TorsionScan] = field(default_factory=list)
     transition_state: bool = False
     imaginary_policy: str | None = None
     name: str | None = None
@@ -243,6 +265,7 @@ class Molecule(_Composition):
             symbols=calc.symbols,
             coordinates=calc.coordinates,
             frequencies=calc.frequencies if calc.frequencies is not None else np.zeros(0),
+            normal_modes=calc.normal_modes,
             multiplicity=multiplicity,
             charge=calc.charge,
             energy=calc.energy if calc.energy is not None else 0.0,
@@ -262,6 +285,7 @@ class Molecule(_Composition):
 STANDARD_STATES = {"1atm": ("pressure", ATM_PA), "1bar": ("pressure", BAR_PA), "1M": ("concentration", 1.0)}
 
 LOW_MODE_MODELS = ("rrho", "qrrho", "qrrho-enthalpy", "quasi-harmonic")
+INTERNAL_ROTOR_MODELS = ("harmonic", "hindered")
 
 
 #: the lowest temperature Conditions accepts, K
@@ -284,6 +308,8 @@ class Conditions:
         imaginary_policy: default policy for unexpected imaginary modes ("error" | "invert" | "drop"),
             None means: invert small ones (|nu| < ``imaginary_threshold``) with a warning, refuse large.
         imaginary_threshold: cm^-1, the largest |nu| inverted by the default policy.
+        internal_rotors: "harmonic" (every torsion a vibration) or "hindered" (torsions about single bonds
+            as 1-D hindered rotors; docs/rotors.md).
     """
 
     temperature: Any = 298.15
@@ -296,8 +322,12 @@ class Conditions:
     zpe_scale: float | None = None
     imaginary_policy: str | None = None
     imaginary_threshold: float = 50.0
+    internal_rotors: str = "harmonic"
 
     def __post_init__(self):
+        if self.internal_rotors not in INTERNAL_ROTOR_MODELS:
+            raise ValueError(f"unknown internal-rotor treatment {self.internal_rotors!r}; "
+                             f"choose one of {', '.join(INTERNAL_ROTOR_MODELS)}")
         if self.low_mode_model not in LOW_MODE_MODELS:
             raise ValueError(
                 f"unknown low-mode model {self.low_mode_model!r}; choose one of {', '.join(LOW_MODE_MODELS)}"
@@ -365,6 +395,9 @@ class ThermoResult:
         frequencies_used: the real wavenumbers in the partition function, cm^-1 (unscaled).
         imaginary_frequency: the transition-state mode kept for tunnelling, cm^-1 (negative), or None.
         scale_factors: {"thermal": f, "zpe": f} and where "auto" found them ("source").
+        rotors: the torsions treated as hindered rotors (``qcthermo.rotors.HinderedRotor``, with "S", "Cv",
+            "U" and "zpe" of each in ``rotor_terms``), empty under internal_rotors="harmonic".
+        rotor_terms: per rotor, its {"zpe", "U", "S", "Cv"} (Eh, Eh/K, over the temperatures).
         notes: every decision the engine made (cleaning, policy, symmetry, scaling).
     """
 
@@ -386,6 +419,8 @@ class ThermoResult:
     frequencies_used: np.ndarray
     imaginary_frequency: float | None = None
     scale_factors: dict[str, Any] = field(default_factory=dict)
+    rotors: list[Any] = field(default_factory=list)
+    rotor_terms: list[dict[str, Any]] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
 
     @property

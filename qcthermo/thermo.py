@@ -252,6 +252,7 @@ class PreparedMolecules:
         frequencies: (n, m) real wavenumbers, cm^-1, unscaled; :data:`PAD_WAVENUMBER` where ``mask`` is False.
         mask: (n, m) True for real modes.
         thermal_scale, zpe_scale: (n,) frequency scale factors.
+        rotors: per molecule, its hindered rotors (``qcthermo.rotors.HinderedRotor``; empty lists when none).
     """
 
     energy: np.ndarray
@@ -264,6 +265,7 @@ class PreparedMolecules:
     mask: np.ndarray
     thermal_scale: np.ndarray
     zpe_scale: np.ndarray
+    rotors: list = field(default_factory=list)
 
     def __len__(self) -> int:
         return len(self.energy)
@@ -281,6 +283,7 @@ class MoleculeInfo:
     imaginary_frequency: float | None
     scale_factors: dict
     notes: list[str] = field(default_factory=list)
+    rotors: list = field(default_factory=list)
 
 
 def _symmetry(molecule: Molecule, linear: bool, trust_given: bool) -> tuple[str | None, int, bool | None, list[str]]:
@@ -329,15 +332,22 @@ def prepare_molecule(molecule: Molecule, conditions: Conditions, trust_symmetry_
     scale = {"thermal": thermal, "zpe": zpe}
     if source:
         scale["source"] = source
+    frequencies, rotors, rotor_notes = modes.frequencies, [], []
+    if conditions.internal_rotors == "hindered" and molecule.natoms > 3:
+        from .rotors import hindered_rotors
+
+        t_max = float(np.max(conditions.temperature))
+        rotors, frequencies, rotor_notes = hindered_rotors(molecule, modes.frequencies, thermal, t_max)
     return MoleculeInfo(
         point_group=point_group,
         symmetry_number=sigma,
         chiral=chiral,
         linear=modes.linear,
-        frequencies=modes.frequencies,
+        frequencies=frequencies,
         imaginary_frequency=modes.imaginary_frequency,
         scale_factors=scale,
-        notes=modes.notes + sym_notes + scale_notes,
+        notes=modes.notes + sym_notes + scale_notes + rotor_notes,
+        rotors=rotors,
     )
 
 
@@ -381,6 +391,7 @@ def stack_molecules(molecules: list[Molecule], infos: list[MoleculeInfo]) -> Pre
         mask=mask,
         thermal_scale=np.array([i.scale_factors["thermal"] for i in infos], dtype=float),
         zpe_scale=np.array([i.scale_factors["zpe"] for i in infos], dtype=float),
+        rotors=[i.rotors for i in infos],
     )
 
 
@@ -428,13 +439,14 @@ def _vibrational_terms(
         zpe = np.where(prepared.mask, harmonic_zpe(vibrational_temperatures(nu_z)), 0.0)
         return (zpe, *harmonic_mode_functions(vibrational_temperatures(nu_t)[:, None, :], tt))
 
+    rot = _rotor_sums(prepared, t)  # the hindered rotors, in every model alike
     zpe_m, u_m, s_m, cv_m = harmonic(nu, nu_zpe)
-    rrho_zpe = zpe_m.sum(axis=-1)
+    rrho_zpe = zpe_m.sum(axis=-1) + rot["zpe"]
     out = {
         "rrho_zpe": rrho_zpe,
-        "rrho_U": rrho_zpe[:, None] + u_m.sum(axis=-1),
-        "rrho_S": s_m.sum(axis=-1),
-        "rrho_Cv": cv_m.sum(axis=-1),
+        "rrho_U": rrho_zpe[:, None] + u_m.sum(axis=-1) + rot["thermal"],
+        "rrho_S": s_m.sum(axis=-1) + rot["S"],
+        "rrho_Cv": cv_m.sum(axis=-1) + rot["Cv"],
     }
     if model == "rrho":
         out.update(zpe=out["rrho_zpe"], U=out["rrho_U"], S=out["rrho_S"], Cv=out["rrho_Cv"])
@@ -442,16 +454,33 @@ def _vibrational_terms(
     if model == "quasi-harmonic":
         zpe_m, u_m, s_m, cv_m = harmonic(quasi_harmonic_wavenumbers(nu, threshold),
                                          quasi_harmonic_wavenumbers(nu_zpe, threshold))
-        u = zpe_m.sum(axis=-1)[:, None] + u_m.sum(axis=-1)
+        u = zpe_m.sum(axis=-1)[:, None] + u_m.sum(axis=-1) + rot["U"]
     else:
         nu3 = nu[:, None, :]
         s_m = qrrho_entropy(nu3, tt, threshold, b_av[:, None, None])
         u = out["rrho_U"]
         if model == "qrrho-enthalpy":
-            u = head_gordon_energy(zpe_m[:, None, :] + u_m, nu3, tt, threshold).sum(axis=-1)
+            u = head_gordon_energy(zpe_m[:, None, :] + u_m, nu3, tt, threshold).sum(axis=-1) + rot["U"]
             zpe_m = zpe_m * grimme_weight(nu, threshold)  # the T -> 0 limit of the interpolated energy
             cv_m = head_gordon_heat_capacity(cv_m, nu3, threshold)
-    out.update(zpe=zpe_m.sum(axis=-1), U=u, S=s_m.sum(axis=-1), Cv=cv_m.sum(axis=-1))
+    out.update(zpe=zpe_m.sum(axis=-1) + rot["zpe"], U=u, S=s_m.sum(axis=-1) + rot["S"],
+               Cv=cv_m.sum(axis=-1) + rot["Cv"])
+    return out
+
+
+def _rotor_sums(prepared: PreparedMolecules, t: np.ndarray) -> dict[str, np.ndarray]:
+    """The hindered rotors' ZPE (n,), and U (with ZPE), thermal U (without), S, Cv (n, nT), summed per
+    molecule (zeros for molecules without rotors); each rotor's levels are summed over all temperatures at once."""
+    from .rotors import level_functions
+
+    n = len(prepared)
+    out = {"zpe": np.zeros(n), "U": np.zeros((n, len(t))), "S": np.zeros((n, len(t))), "Cv": np.zeros((n, len(t)))}
+    for row, rotors in enumerate(prepared.rotors or ()):
+        for rotor in rotors:
+            terms = level_functions(rotor.levels, rotor.torsion.symmetry_number, t)
+            for key in out:
+                out[key][row] += terms[key]
+    out["thermal"] = out["U"] - out["zpe"][:, None]
     return out
 
 
@@ -588,8 +617,19 @@ def _result(
         frequencies_used=info.frequencies,
         imaginary_frequency=info.imaginary_frequency,
         scale_factors=info.scale_factors,
-        notes=[f"low-mode model {conditions.low_mode_model}", *info.notes],
+        rotors=info.rotors,
+        rotor_terms=[_rotor_result_terms(r, conditions, scalar) for r in info.rotors],
+        notes=[f"low-mode model {conditions.low_mode_model}", f"internal rotors {conditions.internal_rotors}",
+               *info.notes],
     )
+
+
+def _rotor_result_terms(rotor, conditions: Conditions, scalar: bool) -> dict:
+    """One rotor's {"zpe", "U", "S", "Cv"} over the conditions' temperatures (floats for a scalar one)."""
+    from .rotors import level_functions
+
+    terms = level_functions(rotor.levels, rotor.torsion.symmetry_number, conditions.temperature)
+    return {k: (float(np.ravel(v)[0]) if scalar or np.ndim(v) == 0 else v) for k, v in terms.items()}
 
 
 # -- free energy by motion ------------------------------------------------------------------------

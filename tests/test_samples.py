@@ -43,6 +43,7 @@ CLEAN = [
     ("gas/c_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 3, 1, False, None),  # 3P
     ("gas/n_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 4, 1, False, None),  # 4S
     ("gas/o_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 3, 1, False, None),  # 3P
+    ("gas/ethane.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 1, 8, False, 0),
     ("solvent/water.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 3, False, 0),
     ("solvent/formaldehyde.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 4, False, 0),
     ("solvent/methanediol.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 7, False, 0),

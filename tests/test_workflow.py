@@ -246,8 +246,8 @@ def test_temperature_range_gives_long_tables(tmp_path, samples):
 def test_without_reaction_file_one_species_per_frequency_log(samples):
     res = qcthermo.run(samples / "gas", jobs=1, cache=False)
     assert len(res.reactions) == 0
-    assert set(res.species["species"]) == {"c_atom", "ch3", "ch4", "h2", "h_atom", "hcn", "hnc", "n_atom", "o2",
-                                           "o_atom", "ts_abstraction", "ts_hcn", "water"}
+    assert set(res.species["species"]) == {"c_atom", "ch3", "ch4", "ethane", "h2", "h_atom", "hcn", "hnc", "n_atom",
+                                           "o2", "o_atom", "ts_abstraction", "ts_hcn", "water"}
     assert res.species_results["ts_hcn"].options.transition_state  # a saddle-search job
 
 

@@ -4,6 +4,7 @@ See docs/readers.md for what is read from where in each program's output.
 """
 
 from .core import read_log
+from .scan import ScanLog, read_scan
 
 
 def preload() -> None:
@@ -12,4 +13,4 @@ def preload() -> None:
     import cclib.parser  # noqa: F401
 
 
-__all__ = ["preload", "read_log"]
+__all__ = ["ScanLog", "preload", "read_log", "read_scan"]

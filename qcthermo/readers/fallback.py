@@ -205,19 +205,22 @@ def nwchem_level(text: str) -> tuple[str | None, float | None]:
     return None, None
 
 
-_NWCHEM_GEOMETRY = re.compile(
+NWCHEM_GEOMETRY = _NWCHEM_GEOMETRY = re.compile(
     r"Output coordinates in angstroms.*\n\n.*\n\s*-{4}.*\n((?:\s*\d+\s+\S+\s+\S+\s+\S+\s+\S+\s+\S+\n)+)"
 )
 _NWCHEM_BASIS = re.compile(r'Summary of "ao basis".*\n.*\n.*\n.*\n\s*\S+\s+(\S+)')
 
 
 def _nwchem_geometry(text: str) -> tuple[tuple[str, ...], np.ndarray] | None:
+    block = last_block_match(text, "Output coordinates in angstroms", _NWCHEM_GEOMETRY)
+    return None if block is None else nwchem_geometry_rows(block.group(1))
+
+
+def nwchem_geometry_rows(block: str) -> tuple[tuple[str, ...], np.ndarray]:
+    """Symbols and coordinates (angstrom) of the rows of an "Output coordinates in angstroms" table."""
     from ase.data import chemical_symbols
 
-    block = last_block_match(text, "Output coordinates in angstroms", _NWCHEM_GEOMETRY)
-    if block is None:
-        return None
-    rows = [line.split() for line in block.group(1).strip().splitlines()]
+    rows = [line.split() for line in block.strip().splitlines()]
     # the nuclear charge names the element whatever the tag says ("O1", "H_a", ...)
     charges = [round(float(row[2])) for row in rows]  # a ghost atom ("Bq") has 0: "X", refused by the reader
     symbols = tuple(chemical_symbols[z] if 0 < z < len(chemical_symbols) else "X" for z in charges)
