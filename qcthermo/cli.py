@@ -75,6 +75,9 @@ def _add_conditions(p: argparse.ArgumentParser, reaction_file: bool = True) -> N
                    help="scale factor for the ZPE alone (default: the frequency scale factor)")
     g.add_argument("--rotor-inertia", default=None, metavar="KG_M2|molecular",
                    help="B_av of the qRRHO free-rotor limit, kg m^2 (1e-44), or 'molecular'")
+    g.add_argument("--internal-rotors", default=None, choices=["harmonic", "hindered"],
+                   help="torsions about single bonds as harmonic modes or 1-D hindered rotors (default harmonic; "
+                   "docs/rotors.md)")
     g.add_argument("--imaginary-policy", default=None, choices=["error", "invert", "drop"],
                    help="unexpected imaginary modes: refuse, make real, or leave out (default: invert "
                    "small ones with a warning, refuse large ones)")

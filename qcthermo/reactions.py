@@ -27,18 +27,18 @@ import numpy as np
 from .ensemble import SINGLE_POINT_RMSD
 from .errors import ReactionFileError
 from .formation import FormationScheme, normalise_bond
-from .records import LOW_MODE_MODELS, Conditions, parse_standard_state
+from .records import INTERNAL_ROTOR_MODELS, LOW_MODE_MODELS, Conditions, parse_standard_state
 
 #: keys of [conditions]: the fields of qcthermo.Conditions a file may set
 CONDITION_KEYS = (
     "temperature", "pressure", "standard_state", "low_mode_model", "low_mode_threshold", "rotor_inertia",
-    "frequency_scale", "zpe_scale", "imaginary_policy", "imaginary_threshold",
+    "frequency_scale", "zpe_scale", "imaginary_policy", "imaginary_threshold", "internal_rotors",
 )
 #: keys of [ensemble] and their defaults (angstrom, kcal/mol, angstrom)
 ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1,
                                        "single_point_rmsd": SINGLE_POINT_RMSD}
 SPECIES_KEYS = ("logs", "single_point", "gas_single_point", "symmetry_number", "electronic_degeneracy", "enantiomers",
-                "imaginary_policy", "concentration", "transition_state", "label")
+                "imaginary_policy", "concentration", "transition_state", "label", "rotors")
 REACTION_KEYS = ("name", "reactants", "products", "transition_state", "degeneracy", "tunnelling", "rate")
 PROFILE_KEYS = ("name", "states", "cyclic", "labels", "color", "label_states", "style", "order", "overlay")
 #: presentation keys of a profile, passed to the figures as given (after a type check)
@@ -77,6 +77,8 @@ class SpeciesSpec:
         transition_state: True / False as declared, None when not said (inferred from the jobs and
             from being some reaction's transition state).
         label: display name for tables and figures (default: ``name``).
+        rotors: relaxed torsion scans given for the hindered-rotor treatment: (atoms i, j, k, l 0-based, the
+            scan log's absolute path) each; the file numbers atoms from 1, as the logs do.
         line: line of the table header in the file.
     """
 
@@ -92,6 +94,7 @@ class SpeciesSpec:
     concentration: float | None = None
     transition_state: bool | None = None
     label: str | None = None
+    rotors: list[tuple[tuple[int, int, int, int], Path]] = field(default_factory=list)
     line: int | None = None
 
 
@@ -447,8 +450,9 @@ class _Parser:
         """One [conditions] value, type-checked and converted (ranges: Conditions' own checks)."""
         if key == "temperature":
             return self.temperature(value, what, line)
-        if key in ("standard_state", "low_mode_model", "imaginary_policy"):
-            choices = {"low_mode_model": LOW_MODE_MODELS, "imaginary_policy": IMAGINARY_POLICIES}.get(key)
+        if key in ("standard_state", "low_mode_model", "imaginary_policy", "internal_rotors"):
+            choices = {"low_mode_model": LOW_MODE_MODELS, "imaginary_policy": IMAGINARY_POLICIES,
+                       "internal_rotors": INTERNAL_ROTOR_MODELS}.get(key)
             if not isinstance(value, str) or (choices and value not in choices):
                 self.fail(f"{what} {_show(value)}: expected " + (f"one of {', '.join(choices)}" if choices else
                                                                  'a string such as "1atm", "1bar", "1M", "55.3M"'),
@@ -549,7 +553,26 @@ class _Parser:
             spec.transition_state = table["transition_state"]
         if "label" in table:
             spec.label = self.check_text(table["label"], f"{what} label", key_line("label"))
+        if "rotors" in table:
+            spec.rotors = self.rotors(table["rotors"], f"{what} rotors", key_line("rotors"))
         return spec
+
+    def rotors(self, value: Any, what: str, line: int | None) -> list[tuple[tuple[int, int, int, int], Path]]:
+        """``[{atoms = [i, j, k, l], scan = "file"}, ...]``: four distinct atom numbers (from 1) and one scan log."""
+        if not isinstance(value, list) or not all(isinstance(v, dict) for v in value):
+            self.fail(f"{what}: expected a list of tables such as {{atoms = [1, 2, 3, 4], scan = \"scan.out\"}}",
+                      line)
+        out = []
+        for entry in value:
+            if set(entry) != {"atoms", "scan"}:
+                self.fail(f"{what}: each entry needs 'atoms' and 'scan' and nothing else (got "
+                          f"{', '.join(sorted(entry)) or 'nothing'})", line)
+            atoms = entry["atoms"]
+            if not (isinstance(atoms, list) and len(atoms) == 4 and len(set(atoms)) == 4 and all(
+                    isinstance(a, int) and not isinstance(a, bool) and a >= 1 for a in atoms)):
+                self.fail(f"{what} atoms {_show(atoms)}: expected four distinct atom numbers, counted from 1", line)
+            out.append((tuple(a - 1 for a in atoms), self.one_file(entry["scan"], f"{what} scan", line)))
+        return out
 
     def concentration(self, value: Any, what: str, line: int | None) -> float:
         """"55.3M" or 55.3 -> 55.3 mol/L, finite and positive."""

@@ -37,6 +37,8 @@ SINGLE_BOND_FRACTION = 0.93
 MIN_OVERLAP = 0.5
 #: below this overlap the assignment is reported as ambiguous
 CLEAR_OVERLAP = 0.8
+#: the start of every warning note of this module (the run turns them into audit findings)
+ROTOR_WARNING = "warning: internal rotor: "
 #: the basis holds free-rotor levels up to V_max + this many k T_max (the rest weigh below e^-40)
 BASIS_KT = 40.0
 #: largest |m| of the free-rotor basis
@@ -419,8 +421,8 @@ def _torsions(molecule, notes: list[str]) -> tuple[list[Torsion], dict[int, obje
         _, j, k, _ = scan.atoms
         torsion = make_torsion(molecule.symbols, molecule.coordinates, molecule.masses, j, k)
         if torsion is None:
-            notes.append(f"warning: scan {scan.source}: the bond {j + 1}-{k + 1} is in a ring or ends at a terminal "
-                         "atom or a linear group: not a rotor, scan not used")
+            notes.append(f"{ROTOR_WARNING}scan {scan.source}: the bond {j + 1}-{k + 1} is in a ring or ends at a "
+                         "terminal atom or a linear group: not a rotor, scan not used")
             continue
         same = [n for n, t in enumerate(torsions) if set(t.bond) == {j, k}]
         if same:
@@ -448,12 +450,12 @@ def hindered_rotors(molecule, frequencies: np.ndarray, thermal_scale: float,
         return [], frequencies, notes
     labels = [t.label(molecule.symbols) for t in torsions]
     if molecule.normal_modes is None:
-        notes.append(f"warning: no normal-mode vectors in the log: torsions {', '.join(labels)} left harmonic")
+        notes.append(f"{ROTOR_WARNING}no normal-mode vectors in the log: torsions {', '.join(labels)} left harmonic")
         return [], frequencies, notes
     raw = np.asarray(molecule.frequencies, dtype=float)
     candidates = _candidate_modes(raw, frequencies)
     if len(candidates) < len(torsions):
-        notes.append(f"warning: fewer modes than torsions: torsions {', '.join(labels)} left harmonic")
+        notes.append(f"{ROTOR_WARNING}fewer modes than torsions: torsions {', '.join(labels)} left harmonic")
         return [], frequencies, notes
     moves = np.array([torsion_displacement(molecule.coordinates, molecule.masses, t.top, t.bond) for t in torsions])
     overlaps = mode_overlaps(moves, molecule.normal_modes[candidates], molecule.masses)
@@ -464,10 +466,10 @@ def hindered_rotors(molecule, frequencies: np.ndarray, thermal_scale: float,
         where = f"torsion {labels[n]} (sigma_int {torsion.symmetry_number}, I_red {torsion.reduced_moment:.3f} u A^2)"
         assigned = f"mode {nu:.1f} cm^-1, overlap {overlap[n]:.2f} ({subspace[n]:.2f} with all torsional modes)"
         if subspace[n] < MIN_OVERLAP:
-            notes.append(f"warning: {where}: no normal mode is this torsion (best {assigned}): left harmonic")
+            notes.append(f"{ROTOR_WARNING}{where}: no normal mode is this torsion (best {assigned}): left harmonic")
             continue
         if subspace[n] < CLEAR_OVERLAP:
-            notes.append(f"warning: {where}: ambiguous assignment, {assigned}")
+            notes.append(f"{ROTOR_WARNING}{where}: ambiguous assignment, {assigned}")
         rotor = _rotor(molecule, torsion, labels[n], nu * thermal_scale, scans.get(n), t_max, notes)
         if rotor is None:
             continue
@@ -489,14 +491,14 @@ def _rotor(molecule, torsion: Torsion, label: str, nu: float, scan, t_max: float
         periodicity, source = sigma, str(scan.source)
         gap = _scan_gap(scan.angles, sigma)
         if gap > 0.25:
-            notes.append(f"warning: scan {scan.source} leaves {gap * 360 / sigma:.0f} degrees of the "
+            notes.append(f"{ROTOR_WARNING}scan {scan.source} leaves {gap * 360 / sigma:.0f} degrees of the "
                          f"{360 / sigma:.0f}-degree period of {label} without a point")
         offset = float(potential(dihedral_angles(molecule.coordinates, scan.atoms)))
         if offset > 1e-4:
-            notes.append(f"warning: {label}: the structure lies {offset / WAVENUMBER_EH:.0f} cm^-1 above the "
+            notes.append(f"{ROTOR_WARNING}{label}: the structure lies {offset / WAVENUMBER_EH:.0f} cm^-1 above the "
                          f"lowest point of the scan {scan.source}; its levels are counted from the structure")
     elif sigma < 2:
-        notes.append(f"torsion {label}: sigma_int 1 and no scan: its wells are not symmetry-equivalent, "
+        notes.append(f"{ROTOR_WARNING}torsion {label}: sigma_int 1 and no scan: its wells are not symmetry-equivalent, "
                      "left harmonic (give a scan in the reaction file to treat it)")
         return None
     else:

@@ -24,6 +24,7 @@ import numpy as np
 from . import ensemble
 from .errors import QcthermoError
 from .records import Calculation, Conditions, Molecule, ThermoResult
+from .rotors import ROTOR_WARNING
 from .units import K_B_EH
 
 
@@ -47,6 +48,7 @@ class SpeciesOptions:
             computed at this concentration instead of the standard state (G(c) = G(1M) + RT ln(c/1M)).
         transition_state: the species is a first-order saddle point.
         label: display name.
+        torsion_scans: relaxed torsion scans for the hindered-rotor treatment (records.TorsionScan).
     """
 
     symmetry_number: int | None = None
@@ -56,6 +58,7 @@ class SpeciesOptions:
     transition_state: bool = False
     label: str | None = None
     enantiomers: int | None = None
+    torsion_scans: list = field(default_factory=list)
 
 
 @dataclass
@@ -473,8 +476,9 @@ def _refused_text(c: Conformer, single_points: list[Calculation], max_rmsd: floa
     return "".join(refused)
 
 
-def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Conditions) -> Finding | None:
-    """Run the engine on one conformer; an engine refusal excludes it with the reason."""
+def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Conditions) -> list[Finding]:
+    """Run the engine on one conformer; an engine refusal excludes it with the reason, the hindered-rotor
+    treatment's warnings (an ambiguous torsional mode, a torsion left harmonic) become findings."""
     from .thermo import thermochemistry
 
     overrides: dict[str, Any] = {"transition_state": options.transition_state, "name": name}
@@ -482,12 +486,13 @@ def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Condit
         if getattr(options, key) is not None:
             overrides[key] = getattr(options, key)
     try:
-        c.molecule = Molecule.from_calculation(c.calculation, **overrides)
+        c.molecule = Molecule.from_calculation(c.calculation, torsion_scans=options.torsion_scans, **overrides)
         c.thermo = thermochemistry(c.molecule, conditions)
     except (QcthermoError, ValueError) as err:
         c.status, c.reason = "excluded", " ".join(str(err).split())
-        return Finding("error", c.path, f"species {name!r}: thermochemistry refused: {c.reason}")
-    return None
+        return [Finding("error", c.path, f"species {name!r}: thermochemistry refused: {c.reason}")]
+    return [Finding("warning", c.path, f"species {name!r}: {n.removeprefix(ROTOR_WARNING)}")
+            for n in c.thermo.notes if n.startswith(ROTOR_WARNING)]
 
 
 def _chirality_findings(result: SpeciesResult, images: np.ndarray) -> list[Finding]:
@@ -566,7 +571,7 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
         findings.extend(_pair_gas_single_points(name, result.conformers, list(gas_single_points),
                                                 settings["single_point_rmsd"]))
     cond = species_conditions(conditions, options)
-    findings.extend(problem for c in result.used if (problem := _thermo(c, name, options, cond)))
+    findings.extend(problem for c in result.used for problem in _thermo(c, name, options, cond))
     if len(result.levels) > 1:
         findings.append(Finding("error", name, f"species {name!r}: conformers at different levels of theory "
                                                f"({', '.join(result.levels)})"))

@@ -21,7 +21,7 @@ from .errors import ThermoError
 from .geometry import AMU_ANGSTROM2_KG_M2
 from .records import Calculation, Conditions, Molecule, ThermoResult, parse_standard_state
 from .scaling import resolve_scale_factors
-from .units import AMU, C_LIGHT, FREE_ROTOR_INERTIA_KG_M2, H_PLANCK, K_B, K_B_EH, N_A
+from .units import AMU, C_LIGHT, FREE_ROTOR_INERTIA_KG_M2, H_PLANCK, K_B, K_B_EH, N_A, WAVENUMBER_EH
 
 COMPONENTS = ("translational", "rotational", "vibrational", "electronic")
 #: the totals of :func:`thermo_arrays` (also with the "rrho_" prefix)
@@ -619,8 +619,8 @@ def _result(
         scale_factors=info.scale_factors,
         rotors=info.rotors,
         rotor_terms=[_rotor_result_terms(r, conditions, scalar) for r in info.rotors],
-        notes=[f"low-mode model {conditions.low_mode_model}", f"internal rotors {conditions.internal_rotors}",
-               *info.notes],
+        notes=[f"low-mode model {conditions.low_mode_model}",
+               *(["internal rotors hindered"] if conditions.internal_rotors == "hindered" else []), *info.notes],
     )
 
 
@@ -684,3 +684,22 @@ def free_energy_parts(res: ThermoResult) -> dict[str, np.ndarray]:
     parts["G_vib"] = motion_free_energy(u_vib, s_vib, t)
     parts["G_low_mode"] = per_temperature(res.gibbs, n) - per_temperature(res.rrho["gibbs"], n)
     return {name: parts[name] for name in PARTS}
+
+
+# -- hindered rotors ------------------------------------------------------------------------------
+
+#: the per-rotor quantities of :func:`rotor_records`: (key, unit)
+ROTOR_QUANTITIES = (("V0", "cm^-1"), ("n", ""), ("sigma_int", ""), ("I_red", "u*A^2"), ("frequency", "cm^-1"),
+                    ("overlap", ""), ("ZPE", "Eh"), ("S", "Eh/K"), ("Cp", "Eh/K"))
+
+
+def rotor_records(res: ThermoResult) -> list[dict]:
+    """One record per hindered rotor of ``res``: "label", "source" (the barrier's: "frequency" or the scan),
+    and the :data:`ROTOR_QUANTITIES`; S and Cp (= Cv: an internal motion) are arrays over the temperatures,
+    what the rotor contributes (its harmonic mode's share is no longer in the total)."""
+    n = len(temperatures_of(res))
+    return [{"label": r.label, "source": r.source, "V0": r.barrier / WAVENUMBER_EH, "n": r.periodicity,
+             "sigma_int": r.torsion.symmetry_number, "I_red": r.torsion.reduced_moment, "frequency": r.frequency,
+             "overlap": r.overlap, "ZPE": terms["zpe"], "S": per_temperature(terms["S"], n),
+             "Cp": per_temperature(terms["Cv"], n)}
+            for r, terms in zip(res.rotors, res.rotor_terms, strict=True)]  # fmt: skip

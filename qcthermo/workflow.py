@@ -33,10 +33,11 @@ from .reactions import (
     reaction_energetics,
     state_values,
 )
-from .records import Calculation, Conditions, parse_standard_state
+from .records import Calculation, Conditions, TorsionScan, parse_standard_state
 from .solution import check_solution, constants_used, mixed_routes, pka_table, redox_table, solvent_label
 from .species import Finding, SpeciesOptions, SpeciesResult, build_species, mirror_images
-from .units import check_energy_unit, hartree_to, unit_suffix
+from .thermo import rotor_records
+from .units import check_energy_unit, entropy_to_j_mol_k, hartree_to, unit_suffix
 
 #: display names of the low-mode models, for captions
 MODEL_NAMES = {"rrho": "RRHO", "qrrho": "quasi-RRHO (Grimme)", "qrrho-enthalpy": "quasi-RRHO for S and H",
@@ -198,8 +199,10 @@ def _species_from_file(rf: ReactionFile, calcs: _Calculations, conditions: Condi
         pairs = {str(calcs.get(k).path): v for k, p in spec.single_point_pairs.items()
                  if calcs.get(k) is not None and (v := calcs.get(p)) is not None}
         is_ts = spec.transition_state if spec.transition_state is not None else name in ts_names
+        scans, scan_findings = _torsion_scans(name, spec, logs[name])
+        unread += scan_findings
         options = SpeciesOptions(spec.symmetry_number, spec.electronic_degeneracy, spec.imaginary_policy,
-                                 spec.concentration, is_ts, spec.label, spec.enantiomers)
+                                 spec.concentration, is_ts, spec.label, spec.enantiomers, torsion_scans=scans)
         if not logs[name]:
             out[name] = SpeciesResult(name, spec.label or name, options, [], findings=[
                 *unread, Finding("error", name, f"species {name!r}: none of its files could be read")])
@@ -214,6 +217,31 @@ def _sp_solvent(spec, calcs: _Calculations) -> str | None:
     """The solvent of a species' first readable single point ("COSMO(water)"), None in the gas phase."""
     first = next((c for c in (calcs.get(p) for p in spec.single_point) if c is not None), None)
     return solvent_label(first) if first is not None else None
+
+
+def _torsion_scans(name: str, spec, calcs: list[Calculation]) -> tuple[list[TorsionScan], list[Finding]]:
+    """The scans of ``[species.NAME] rotors``, read (readers.read_scan) and measured (the dihedral of each
+    point's geometry); a scan that cannot be used is an error finding, and its torsion stays a cosine."""
+    from .readers import read_scan
+    from .rotors import dihedral_angles
+
+    scans, findings = [], []
+    for atoms, path in spec.rotors:
+        try:
+            scan = read_scan(path)
+        except LogReadError as err:
+            findings.append(Finding("error", str(path), f"species {name!r}: scan not used: {err.reason}"))
+            continue
+        if calcs and scan.symbols != calcs[0].symbols:
+            findings.append(Finding("error", str(path), f"species {name!r}: scan not used: its atoms "
+                                    f"({''.join(scan.symbols)}) are not those of the species' log"))
+            continue
+        if max(atoms) >= len(scan.symbols):
+            findings.append(Finding("error", str(path), f"species {name!r}: scan not used: atom {max(atoms) + 1} "
+                                    f"of the rotor is beyond the molecule's {len(scan.symbols)}"))
+            continue
+        scans.append(TorsionScan(atoms, dihedral_angles(scan.coordinates, atoms), scan.energies, str(path)))
+    return scans, findings
 
 
 def _species_from_survey(survey_result, conditions: Conditions) -> dict[str, SpeciesResult]:
@@ -434,6 +462,7 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions, un
                 "transition_state": s.options.transition_state,
                 **({f"dG_solv_{unit_suffix(unit)}": _solvation(s, i, unit)} if solvation else {}),
                 "populations": s.population_text(),
+                "internal_rotors": _rotor_text(thermo, i),
                 "status": "ok" if s.usable else "excluded",
                 "notes": "; ".join([*_mirror_image_note(s), *(f.message for f in s.findings)]),
             })
@@ -444,6 +473,17 @@ def _species_table(species: dict[str, SpeciesResult], conditions: Conditions, un
 def _solvation(s: SpeciesResult, i: int, unit: str) -> float:
     value = s.solvation_energy() if s.usable else None
     return np.nan if value is None else float(hartree_to(np.atleast_1d(value)[i], unit))
+
+
+def _rotor_text(thermo, i: int) -> str | None:
+    """The hindered rotors of the species table: "C1-C2: V0 1026 cm^-1, n 3, sigma 3, I_red 1.576 u A^2,
+    S 8.32, Cp 6.31 J/(mol K) (frequency)" per rotor, at the i-th temperature; None when there are none."""
+    if thermo is None or not thermo.rotors:
+        return None
+    return "; ".join(f"{r['label']}: V0 {r['V0']:.0f} cm^-1, n {r['n']}, sigma {r['sigma_int']}, I_red "
+                     f"{r['I_red']:.3f} u A^2, S {entropy_to_j_mol_k(r['S'][i]):.2f}, Cp "
+                     f"{entropy_to_j_mol_k(r['Cp'][i]):.2f} J/(mol K) ({_display(r['source'])})"
+                     for r in rotor_records(thermo))
 
 
 def _mirror_image_note(s: SpeciesResult) -> list[str]:
@@ -864,8 +904,9 @@ def caption_context(results: RunResults, names: set[str] | None = None) -> str:
     loose = results.settings.get("ensemble", {}).get("single_point_rmsd", tight)
     loosened = f"; single points paired up to {loose:g} A from their structure (loosened from {tight:g} A)" \
         if loose > tight else ""
+    rotors = "; torsions as 1-D hindered rotors" if c.internal_rotors == "hindered" else ""
     return (f"{_temperature_text(results.temperatures)}; standard state {c.standard_state}; low-mode model {model}; "
-            f"frequency scale factor {scale}; level of theory {', '.join(levels) or 'n/a'}{loosened}")
+            f"frequency scale factor {scale}{rotors}; level of theory {', '.join(levels) or 'n/a'}{loosened}")
 
 
 def solution_caption(results: RunResults, stem: str) -> str:

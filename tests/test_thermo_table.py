@@ -136,13 +136,13 @@ def test_low_mode_column_is_zero_under_rrho_only(samples, tmp_path, cache_dir):
 
 
 def test_command_end_to_end_on_the_samples(samples, tmp_path, cache_dir):
-    # sample_outputs/README.md: gas/ holds 13 logs (nine opt + freq, four atoms' energies); the engine's G
+    # sample_outputs/README.md: gas/ holds 14 logs (ten opt + freq, four atoms' energies); the engine's G
     # is the reference for the total, the parts must add up to it as read back from the CSV
     csv, long, doc = tmp_path / "wide.csv", tmp_path / "long.csv", tmp_path / "thermo.json"
     options = ["--temperature-range", "250:350:50", "--low-mode-model", "qrrho-enthalpy"]
     assert run(samples / "gas", tmp_path, *options, "--csv", str(csv), "--long", str(long), "--json", str(doc)) == 0
     wide = pd.read_csv(csv)
-    assert len(wide) == 39 and set(wide["status"]) == {"ok"}
+    assert len(wide) == 42 and set(wide["status"]) == {"ok"}
     parts = wide[["E_elec_Eh", "G_trans_Eh", "G_rot_Eh", "G_vib_Eh", "G_elec_Eh", "G_low_mode_Eh"]].sum(axis=1)
     assert np.max(np.abs(parts - wide["G_total_Eh"])) < 1e-12
     water = wide[wide["file"] == "water.out"]
@@ -172,7 +172,7 @@ def test_command_end_to_end_on_the_samples(samples, tmp_path, cache_dir):
         raise ValueError(f"non-standard JSON token {token}")
 
     record = {f["file"]: f for f in json.loads(doc.read_text(), parse_constant=refuse)["files"]}
-    assert len(record) == 13
+    assert len(record) == 14
     water_json = record["water.out"]
     assert water_json["rrho"]["gibbs_Eh"] == pytest.approx(list(res.rrho["gibbs"]), abs=1e-12)
     assert water_json["model"]["gibbs_Eh"] == pytest.approx(list(res.gibbs), abs=1e-12)
@@ -262,12 +262,12 @@ def test_thermo_relative_free_energies_stay_within_one_program(tmp_path, third_p
 
 
 def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys, tmp_path, cache_dir):
-    # sample_outputs/README.md table: gas/ holds nine "opt + freq" jobs and four atoms' "energy" jobs;
-    # an atom needs no frequencies, so all 13 get a row; sp/ holds MP2 single points of molecules and atoms
+    # sample_outputs/README.md table: gas/ holds ten "opt + freq" jobs and four atoms' "energy" jobs;
+    # an atom needs no frequencies, so all 14 get a row; sp/ holds MP2 single points of molecules and atoms
     table = tmp_path / "gas.csv"
     assert main(["thermo", str(samples / "gas"), "--no-cache", "--jobs", "1", "--quiet", "--csv", str(table)]) == 0
     summary = capsys.readouterr().out.strip().splitlines()[-1]
-    assert summary.startswith("13 files: 0 refused or unreadable; model")
+    assert summary.startswith("14 files: 0 refused or unreadable; model")
     assert "h_atom.out" in table.read_text()
     assert main(["thermo", str(samples / "sp"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
     summary = capsys.readouterr().out.strip().splitlines()[-1]

@@ -54,7 +54,7 @@ def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any]
     reaction file's [conditions], options."""
     settings = dict(file_settings or {})
     for key in ("temperature", "standard_state", "low_mode_model", "low_mode_threshold", "frequency_scale",
-                "zpe_scale", "rotor_inertia", "imaginary_policy"):
+                "zpe_scale", "rotor_inertia", "imaginary_policy", "internal_rotors"):
         value = getattr(args, key, None)
         if value is not None:
             settings[key] = value

@@ -22,7 +22,17 @@ from .. import __version__
 from ..errors import QcthermoError
 from ..fileio import atomic_write, display, json_text
 from ..records import Conditions, Molecule, ThermoResult
-from ..thermo import COMPONENTS, MOTIONS, PARTS, TOTALS, free_energy_parts, per_temperature, temperatures_of
+from ..thermo import (
+    COMPONENTS,
+    MOTIONS,
+    PARTS,
+    ROTOR_QUANTITIES,
+    TOTALS,
+    free_energy_parts,
+    per_temperature,
+    rotor_records,
+    temperatures_of,
+)
 from ..units import hartree_to, unit_suffix
 from .common import conditions_from_args, reading_options
 
@@ -134,7 +144,8 @@ def thermo_table(entries: list[Entry], unit: str):
 def long_table(entries: list[Entry]):
     """Every number of the usable logs, one row per file, temperature and quantity: file, formula, T_K,
     model ("rrho" or the chosen one), quantity, value, unit. Totals under RRHO and under the model, the
-    components of the model (U_trans, S_trans, Cv_trans, ...) and the free-energy parts."""
+    components of the model (U_trans, S_trans, Cv_trans, ...), the free-energy parts, and each hindered
+    rotor's V0, n, sigma_int, I_red, frequency replaced, overlap, ZPE, S and Cp (rotor_<bond>_<quantity>)."""
     import pandas as pd
 
     rows = []
@@ -150,6 +161,8 @@ def long_table(entries: list[Entry]):
             series += [(model, f"{q}_{MOTIONS[c]}", "Eh" if q == "U" else "Eh/K", v)
                        for q, v in res.components[c].items()]
         series += [(model, name, "Eh", value) for name, value in free_energy_parts(res).items()]
+        series += [(model, f"rotor_{rotor['label']}_{key}", unit, rotor[key])
+                   for rotor in rotor_records(res) for key, unit in ROTOR_QUANTITIES]
         for label, quantity, unit, value in series:
             values = per_temperature(value, len(t))
             rows += [{"file": entry.path, "formula": entry.formula, "T_K": float(ti), "model": label,
@@ -179,6 +192,7 @@ def _json_record(entry: Entry) -> dict[str, Any]:
         "components": {c: {f"{q}_{'Eh' if q == 'U' else 'Eh_K'}": per_temperature(v, n)
                            for q, v in res.components[c].items()} for c in COMPONENTS},
         "free_energy_parts_Eh": free_energy_parts(res),
+        "internal_rotors": res.conditions.internal_rotors, "rotors": rotor_records(res),
     }  # fmt: skip
 
 
@@ -243,6 +257,16 @@ def print_table(frame, model: str, unit: str) -> None:
     console.print(table)
 
 
+def _rotor_summary(entries: list[Entry]) -> str:
+    """"; internal rotors hindered: 3 torsions in 2 files (docs/rotors.md)", or "" under "harmonic"."""
+    results = [e.result for e in entries if e.result is not None]
+    if not results or results[0].conditions.internal_rotors != "hindered":
+        return ""
+    counts = [len(r.rotors) for r in results]
+    return (f"; internal rotors hindered: {sum(counts)} torsion{'s' * (sum(counts) != 1)} in "
+            f"{sum(c > 0 for c in counts)} file{'s' * (sum(c > 0 for c in counts) != 1)} (the others harmonic)")
+
+
 def main(args: argparse.Namespace) -> int:
     from ..survey import survey
     from .survey import check_outputs
@@ -272,5 +296,6 @@ def main(args: argparse.Namespace) -> int:
     n_other = sum(not c.has_vibrations for c in result.calculations.values())
     other = f"; {n_other} without frequencies left out (see `qcthermo survey`)" if n_other else ""
     print(f"{n_files} file{'s' * (n_files != 1)}: {errors} refused or unreadable{other}; "
-          f"model {cond.low_mode_model}, {cond.standard_state if cond.pressure is None else f'{cond.pressure} Pa'}")
+          f"model {cond.low_mode_model}, {cond.standard_state if cond.pressure is None else f'{cond.pressure} Pa'}"
+          + _rotor_summary(entries))
     return 1 if errors else 0
