@@ -263,3 +263,13 @@ def test_real_ethane_log(samples):
 def test_conditions_refuse_an_unknown_treatment():
     with pytest.raises(ValueError, match="internal-rotor"):
         Conditions(internal_rotors="free")
+
+
+def test_the_mode_is_found_by_projection_not_by_frequency():
+    """A non-torsional mode moved below the torsion (150 cm^-1): the rotor still replaces the 289 cm^-1 mode."""
+    plain = molecule("C2H6")
+    frequencies = plain.frequencies.copy()
+    frequencies[5] = 150.0
+    res = thermochemistry(plain.replace(frequencies=frequencies), Conditions(internal_rotors="hindered"))
+    assert [r.frequency for r in res.rotors] == [289.0]
+    assert 150.0 in res.frequencies_used and 289.0 not in res.frequencies_used
