@@ -465,14 +465,16 @@ def hindered_rotors(molecule, frequencies: np.ndarray, thermal_scale: float,
         nu = float(abs(raw[candidates[mode[n]]]))
         where = f"torsion {labels[n]} (sigma_int {torsion.symmetry_number}, I_red {torsion.reduced_moment:.3f} u A^2)"
         assigned = f"mode {nu:.1f} cm^-1, overlap {overlap[n]:.2f} ({subspace[n]:.2f} with all torsional modes)"
+        if n not in scans and torsion.symmetry_number < 2:
+            notes.append(f"{ROTOR_WARNING}torsion {labels[n]}: sigma_int 1 and no scan: its wells are not "
+                         "symmetry-equivalent, left harmonic (give a scan in the reaction file to treat it)")
+            continue
         if subspace[n] < MIN_OVERLAP:
             notes.append(f"{ROTOR_WARNING}{where}: no normal mode is this torsion (best {assigned}): left harmonic")
             continue
         if subspace[n] < CLEAR_OVERLAP:
             notes.append(f"{ROTOR_WARNING}{where}: ambiguous assignment, {assigned}")
         rotor = _rotor(molecule, torsion, labels[n], nu * thermal_scale, scans.get(n), t_max, notes)
-        if rotor is None:
-            continue
         rotor.frequency, rotor.overlap, rotor.subspace_overlap = nu, float(overlap[n]), float(subspace[n])
         rotors.append(rotor)
         remaining.pop(int(np.argmin(np.abs(np.asarray(remaining) - nu))))
@@ -481,9 +483,8 @@ def hindered_rotors(molecule, frequencies: np.ndarray, thermal_scale: float,
     return rotors, np.asarray(remaining, dtype=float), notes
 
 
-def _rotor(molecule, torsion: Torsion, label: str, nu: float, scan, t_max: float,
-           notes: list[str]) -> HinderedRotor | None:
-    """The potential and levels of one torsion: the scan's fit, else the cosine of its frequency."""
+def _rotor(molecule, torsion: Torsion, label: str, nu: float, scan, t_max: float, notes: list[str]) -> HinderedRotor:
+    """The potential and levels of one torsion: the scan's fit, else the cosine of its frequency (n = sigma_int)."""
     sigma = torsion.symmetry_number
     fit_rms, offset = None, 0.0
     if scan is not None:
@@ -497,10 +498,6 @@ def _rotor(molecule, torsion: Torsion, label: str, nu: float, scan, t_max: float
         if offset > 1e-4:
             notes.append(f"{ROTOR_WARNING}{label}: the structure lies {offset / WAVENUMBER_EH:.0f} cm^-1 above the "
                          f"lowest point of the scan {scan.source}; its levels are counted from the structure")
-    elif sigma < 2:
-        notes.append(f"{ROTOR_WARNING}torsion {label}: sigma_int 1 and no scan: its wells are not symmetry-equivalent, "
-                     "left harmonic (give a scan in the reaction file to treat it)")
-        return None
     else:
         periodicity, source = sigma, "frequency"
         potential = cosine_potential(barrier_from_frequency(nu, torsion.reduced_moment, sigma), sigma)

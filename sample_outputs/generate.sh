@@ -6,7 +6,7 @@
 # appended to timings.tsv. The flawed files under flawed/ are made here too (see README.md).
 #
 #   ./generate.sh            everything
-#   ./generate.sh gas sp     only some parts: gas solvent sp atoms conformers flawed solution
+#   ./generate.sh gas sp     only some parts: gas solvent sp atoms conformers flawed solution rotors
 #
 # NWChem runs as one process (plain `nwchem x.nw`); set NWCHEM="mpirun -np 2 nwchem" to use two cores.
 set -euo pipefail
@@ -170,6 +170,12 @@ part_solution() {
     done
 }
 
+part_rotors() {
+    # ethane: opt + freq, and a relaxed scan of its torsion (one constrained optimisation per point)
+    nwchem_job gas/ethane
+    nwchem_job scans/ethane_rot1
+}
+
 part_conformers() {
     for xyz in "$here"/inputs/conformers/*.xyz; do
         xtb_job "conformers/$(basename "$xyz" .xyz)"
@@ -189,7 +195,7 @@ part_flawed() {
 }
 
 parts=("$@")
-[ ${#parts[@]} -eq 0 ] && parts=(gas solvent sp atoms conformers flawed solution)
+[ ${#parts[@]} -eq 0 ] && parts=(gas solvent sp atoms conformers flawed solution rotors)
 for part in "${parts[@]}"; do
     echo "== $part"
     "part_$part"

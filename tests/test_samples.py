@@ -44,6 +44,8 @@ CLEAN = [
     ("gas/n_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 4, 1, False, None),  # 4S
     ("gas/o_atom.out", "nwchem", ENERGY, B3LYP, None, 0, 3, 1, False, None),  # 3P
     ("gas/ethane.out", "nwchem", OPT_FREQ, B3LYP, None, 0, 1, 8, False, 0),
+    # "print low" in the scan's dft block hides the functional's name and the multiplicity: a DFT energy
+    ("scans/ethane_rot1.out", "nwchem", frozenset({"optimization"}), ("DFT", "6-31G*"), None, 0, 1, 8, False, None),
     ("solvent/water.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 3, False, 0),
     ("solvent/formaldehyde.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 4, False, 0),
     ("solvent/methanediol.out", "nwchem", OPT_FREQ, B3LYP, "cosmo", 0, 1, 7, False, 0),
