@@ -328,7 +328,8 @@ def test_bad_formation_table_is_one_line_with_its_line(samples, tmp_path, line, 
     path.write_text(body.replace('"gas/', f'"{samples.as_posix()}/gas/').replace('"sp/', f'"{samples.as_posix()}/sp/')
                     .replace('"solvent/', f'"{samples.as_posix()}/solvent/')
                     .replace('"conformers/', f'"{samples.as_posix()}/conformers/')
-                    .replace('"solution/', f'"{samples.as_posix()}/solution/'))
+                    .replace('"solution/', f'"{samples.as_posix()}/solution/')
+                    .replace('"scans/', f'"{samples.as_posix()}/scans/'))
     with pytest.raises(ReactionFileError) as err:
         load_reaction_file(path)
     assert message in str(err.value) and "\n" not in str(err.value)

@@ -325,7 +325,8 @@ def test_the_sample_hydration_counts_both_mirror_images(tmp_path, samples):
     text = (samples / "reactions.toml").read_text()
     plain = tmp_path / "reactions.toml"
     plain.write_text(text.replace("enantiomers = 2\n", "").replace('logs = "', f'logs = "{samples.as_posix()}/')
-                     .replace('single_point = "', f'single_point = "{samples.as_posix()}/'))
+                     .replace('single_point = "', f'single_point = "{samples.as_posix()}/')
+                     .replace('scan = "', f'scan = "{samples.as_posix()}/'))
     runs = [qcthermo.run(samples, reactions=path, jobs=1, cache=False) for path in (samples / "reactions.toml", plain)]
     (sample, without) = (r.reactions.set_index("reaction").loc["formaldehyde_hydration"] for r in runs)
     assert sample["k_forward"] / without["k_forward"] == pytest.approx(2.0, rel=1e-9)
