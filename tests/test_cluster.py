@@ -22,6 +22,8 @@ from qcthermo.cli import main  # noqa: E402
 from qcthermo.readers import read_log  # noqa: E402
 from qcthermo.survey import survey  # noqa: E402
 
+SAMPLES = Path(__file__).resolve().parent.parent / "sample_outputs"
+
 # the test readers below travel to the workers by value (the worker processes cannot import this file)
 cloudpickle.register_pickle_by_value(sys.modules[__name__])
 
@@ -42,8 +44,13 @@ def client():
         yield c
 
 
-def test_rows_on_the_cluster_are_the_local_surveys(client, samples):
-    local = survey(samples, jobs=1, cache=False)
+@pytest.fixture(scope="module")
+def local():
+    """The local survey of the sample tree, in this process: what every cluster survey must give."""
+    return survey(SAMPLES, jobs=1, cache=False)
+
+
+def test_rows_on_the_cluster_are_the_local_surveys(client, samples, local):
     remote = survey(samples, scheduler=client, cache=False)
     n = len(local.rows)
     assert remote.rows == local.rows and n > 30
@@ -84,11 +91,10 @@ def killing_reader(path: str):
 
 
 @pytest.mark.slow
-def test_a_worker_killed_mid_run_is_replaced_and_its_files_read(client, samples, tmp_path, monkeypatch):
+def test_a_worker_killed_mid_run_is_replaced_and_its_files_read(client, samples, local, tmp_path, monkeypatch):
     marker = tmp_path / "killed"
     monkeypatch.setenv("QCTHERMO_TEST_MARKER", str(marker))
     client.run(set_marker, str(marker))
-    local = survey(samples, jobs=1, cache=False)
     remote = survey(samples, scheduler=client, cache=False, reader=killing_reader)
     assert marker.exists()  # a worker did die
     assert remote.rows == local.rows
@@ -112,9 +118,9 @@ def test_a_file_that_kills_every_worker_is_an_error_row(client, samples, tmp_pat
     assert result.exit_status == 1
 
 
-def test_command_line_on_a_running_scheduler(client, samples, capsys, cache_dir):
-    assert main(["survey", str(samples), "--scheduler", client.scheduler.address, "--quiet"]) == 0
-    assert capsys.readouterr().out.strip().splitlines()[-1] == survey(samples, jobs=1, cache=False).summary()
+def test_command_line_on_a_running_scheduler(client, samples, local, capsys):
+    assert main(["survey", str(samples), "--scheduler", client.scheduler.address, "--no-cache", "--quiet"]) == 0
+    assert capsys.readouterr().out.strip().splitlines()[-1] == local.summary()
 
 
 @pytest.mark.parametrize(("options", "message"), [
@@ -177,3 +183,9 @@ def test_run_reads_on_the_cluster_and_records_where(client, samples, isomerisati
     # the same species and reactions as the local run (test_workflow.py checks those against the logs)
     assert results.species.equals(sample_run.species) and results.reactions.equals(sample_run.reactions)
     assert client.scheduler.address in results.settings["scheduler"]
+
+
+@pytest.mark.slow
+def test_command_line_starts_and_stops_a_local_cluster(samples, local, capsys):
+    assert main(["survey", str(samples), "--cluster", "local:1", "--no-cache", "--quiet"]) == 0
+    assert capsys.readouterr().out.strip().splitlines()[-1] == local.summary()
