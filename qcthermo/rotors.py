@@ -147,7 +147,8 @@ def side_symmetry(symbols, coordinates: np.ndarray, side, j: int, k: int) -> int
     for fold in (2, 3):
         turned = Rotation.from_rotvec(axis * 2 * np.pi / fold).apply(r[atoms] - r[j]) + r[j]
         d = np.linalg.norm(turned[:, None, :] - r[atoms][None, :, :], axis=-1)
-        same = np.array([[symbols[a] == symbols[b] for b in atoms] for a in atoms])
+        element = np.asarray(symbols)[atoms]
+        same = element[:, None] == element[None, :]
         if np.all(np.min(np.where(same, d, np.inf), axis=1) < TOP_SYMMETRY_TOLERANCE):
             order = math.lcm(order, fold)
     return order
