@@ -59,3 +59,23 @@ def test_scan_rotor_in_the_sample_run(samples, tmp_path):
     assert 800 < rotor.barrier / WAVENUMBER_EH < 1200
     row = results.species[results.species["species"] == "ethane"].iloc[0]
     assert "C1-C2: V0" in row["internal_rotors"] and "ethane_rot1.out" in row["internal_rotors"]
+
+
+def test_xtb_scan_trajectory(tmp_path):
+    """xTB writes a relaxed scan as xtbscan.log: xyz frames whose comment line reads
+    " energy: <Eh> gnorm: <Eh/a0> xtb: <version>" (the layout of xTB 6.x, from memory)."""
+    frames = []
+    for energy, phi in ((-7.3360, 0.0), (-7.3385, 60.0), (-7.3361, 120.0)):
+        xyz = np.array([[0, 0, 0.77], [0, 0, -0.77], [1.02, 0, 1.16], [-0.51, 0.88, 1.16], [-0.51, -0.88, 1.16],
+                        [1.02 * np.cos(np.radians(phi)), 1.02 * np.sin(np.radians(phi)), -1.16],
+                        [1.02 * np.cos(np.radians(phi + 120)), 1.02 * np.sin(np.radians(phi + 120)), -1.16],
+                        [1.02 * np.cos(np.radians(phi + 240)), 1.02 * np.sin(np.radians(phi + 240)), -1.16]])
+        rows = "\n".join(f"{s:2s} {x:12.6f} {y:12.6f} {z:12.6f}" for s, (x, y, z) in zip("CCHHHHHH", xyz, strict=True))
+        frames.append(f"     8\n energy: {energy:.12f} gnorm: 0.000412345678 xtb: 6.5.1 (fac3b6b)\n{rows}\n")
+    path = tmp_path / "xtbscan.log"
+    path.write_text("".join(frames))
+    scan = read_scan(path)
+    assert scan.program == "xtb" and scan.symbols == tuple("CCHHHHHH")
+    np.testing.assert_allclose(scan.energies, [-7.3360, -7.3385, -7.3361])  # the comment lines
+    np.testing.assert_allclose(np.degrees(np.abs(R.dihedral_angles(scan.coordinates, (2, 0, 1, 5)))), [0, 60, 120],
+                               atol=1e-3)  # as built

@@ -17,7 +17,7 @@ import numpy as np
 
 from ..errors import LogReadError
 from .fallback import NWCHEM_GEOMETRY, nwchem_geometry_rows
-from .source import load
+from .source import LogSource, load, max_log_bytes
 
 _CONVERGED = re.compile(r"^\s+Optimization converged\s*$", re.M)
 _STEP = re.compile(r"^@\s+\d+\s+(-?\d+\.\d+)", re.M)
@@ -44,7 +44,10 @@ class ScanLog:
 
 def read_scan(path: str | Path) -> ScanLog:
     """The points of a relaxed torsion scan log; raises LogReadError (one line) when there are none."""
-    source = load(path)
+    try:
+        source = load(path)
+    except LogReadError as err:  # no program banner: an xyz trajectory (xTB's xtbscan.log) or nothing
+        source = _trajectory(path, err)
     if source.program == "nwchem":
         points = _nwchem_points(source.text)
     elif source.program is None and _XYZ_ENERGY.search(source.text[:2000]):
@@ -60,6 +63,18 @@ def read_scan(path: str | Path) -> ScanLog:
     program = "xtb" if source.program is None else source.program
     return ScanLog(path=source.path, program=program, symbols=symbols,
                    coordinates=np.array([p[2] for p in points]), energies=np.array([p[0] for p in points]))
+
+
+def _trajectory(path: str | Path, err: LogReadError) -> LogSource:
+    """The text of a file without a program banner when it is an xyz trajectory with energies; else ``err``."""
+    try:
+        with open(path, "rb") as stream:
+            text = stream.read(max_log_bytes()).decode("utf-8", errors="replace")
+    except OSError:
+        raise err from None
+    if not _XYZ_ENERGY.search(text[:2000]):
+        raise err
+    return LogSource(str(path), text, None)
 
 
 def _nwchem_points(text: str) -> list[tuple[float, tuple[str, ...], np.ndarray]]:
