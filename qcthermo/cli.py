@@ -167,17 +167,18 @@ def main(argv: list[str] | None = None) -> int:
     if getattr(args, "jobs", None) is None and hasattr(args, "jobs"):
         args.jobs = os.cpu_count() or 1
     from .errors import QcthermoError
+    from .fileio import display
 
     _printable_streams()
     try:
         command = importlib.import_module(f"qcthermo.commands.{args.command}")
         return int(command.main(args) or 0)
     except QcthermoError as err:
-        print(f"qcthermo {args.command}: error: {err}", file=sys.stderr)
+        print(f"qcthermo {args.command}: error: {display(str(err))}", file=sys.stderr)
         return 2
     except OSError as err:  # a write no atomic file covers (or the terminal itself): one line, not a traceback
         where = f"{err.filename}: " if err.filename else ""
-        print(f"qcthermo {args.command}: error: {where}{err.strerror or err}", file=sys.stderr)
+        print(f"qcthermo {args.command}: error: {display(where + str(err.strerror or err))}", file=sys.stderr)
         return 2
     except KeyboardInterrupt:
         print("qcthermo: interrupted", file=sys.stderr)

@@ -50,14 +50,40 @@ def _display_errors(err: UnicodeError) -> tuple[str, int]:
 codecs.register_error(DISPLAY_ERRORS, _display_errors)
 
 
+#: control characters (C0, DEL, C1): a name holding ESC can recolour or erase a terminal, and a workbook refuses them
+_CONTROL = re.compile("[\x00-\x1f\x7f-\x9f]")
+
+
 def display(text: str) -> str:
-    """``text`` as it can be printed and stored as UTF-8: a file name's undecodable bytes as ``\\xNN``
-    (b"caf\\xe9.out" -> ``caf\\xe9.out``); any other text unchanged."""
+    """``text`` as it can be printed and stored as UTF-8, on one line and without terminal escapes: a file
+    name's undecodable bytes (b"caf\\xe9.out" -> ``caf\\xe9.out``) and control characters (ESC, newline,
+    tab: ``\\x1b``, ``\\x0a``, ``\\x09``) as ``\\xNN``; any other text unchanged. Every name shown on the
+    terminal or stored as text passes through here (docs/tables.md, "Names")."""
     try:
         text.encode("utf-8")
     except UnicodeEncodeError:
-        return text.encode("utf-8", DISPLAY_ERRORS).decode("utf-8")
-    return text
+        text = text.encode("utf-8", DISPLAY_ERRORS).decode("utf-8")
+    return _CONTROL.sub(lambda m: f"\\x{ord(m.group()):02x}", text)
+
+
+#: first characters that make a spreadsheet take a cell for a formula (OWASP, "CSV Injection")
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def formula_safe(value: Any) -> Any:
+    """A text cell for a CSV file: ``value`` prefixed with ``'`` when a spreadsheet would take it for a
+    formula (it starts with = + - @, tab or carriage return), as OWASP's CSV-injection guidance asks;
+    anything else unchanged. The workbooks store such text as typed string cells instead."""
+    return "'" + value if isinstance(value, str) and value.startswith(FORMULA_STARTS) else value
+
+
+def csv_text(df: Any) -> str:
+    """A pandas DataFrame as CSV (no index), every text cell in its :func:`display` form and
+    :func:`formula_safe`; numbers, however negative, stay numbers. Every CSV qcthermo writes comes from here."""
+    out = df.copy()
+    for column in df.select_dtypes(include=["object", "string"]).columns:
+        out[column] = df[column].map(lambda v: formula_safe(display(v)) if isinstance(v, str) else v)
+    return out.to_csv(index=False)
 
 
 def printable_frame(df: Any) -> Any:

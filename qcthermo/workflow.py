@@ -1018,11 +1018,11 @@ def run_json(results: RunResults, written: list[Path]) -> str:
 def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     from .export.conformers import write_conformers
     from .export.xyz import write_xyz_file
-    from .fileio import atomic_write, display, printable_frame
+    from .fileio import atomic_write, csv_text, display, printable_frame
 
     # text files show a non-UTF-8 file name as \xNN by themselves (atomic_open); a workbook is binary, so the
     # tables and their notes are given in that form
-    written = [atomic_write(out_dir / "survey.csv", results.survey.to_csv(index=False))]
+    written = [atomic_write(out_dir / "survey.csv", csv_text(results.survey))]
     written += _write_table(printable_frame(results.species), out_dir, "species", "Species thermochemistry, "
                             f"hartree per molecule; {display(caption_context(results))}.",
                             [display(n) for n in _table_notes(results)])
@@ -1046,7 +1046,7 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):
-            written.append(atomic_write(out_dir / f"{stem}.csv", df.to_csv(index=False)))
+            written.append(atomic_write(out_dir / f"{stem}.csv", csv_text(df)))
     blocks = _xyz_blocks(results)
     if blocks:
         written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))

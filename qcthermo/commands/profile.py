@@ -38,6 +38,7 @@ def main(args: argparse.Namespace) -> int:
         profiles_from_records,
         save_figure,
     )
+    from ..fileio import display
     from ..reactions import load_reaction_file
     from ..workflow import run
 
@@ -55,7 +56,7 @@ def main(args: argparse.Namespace) -> int:
                   **reading_options(args))
     for severity, subject, message in results.findings:
         if severity == "error":
-            print(f"error: {subject}: {message}", file=sys.stderr)
+            print(f"error: {display(subject)}: {display(message)}", file=sys.stderr)
     if not results.profiles:
         raise QcthermoError(f"{reaction_file}: no profile could be computed (see the errors above)")
     t_index = profile_temperature_index(results)
@@ -69,5 +70,6 @@ def main(args: argparse.Namespace) -> int:
     if not args.quiet:
         # a --temperature-range draws one of its temperatures: say which
         t_shown = float(np.atleast_1d(conditions.temperature)[t_index])
-        print(f"{output}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit} at {t_shown:g} K")
+        print(f"{display(str(output))}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit} "
+              f"at {t_shown:g} K")
     return 1 if any(f[0] == "error" for f in results.findings) else 0

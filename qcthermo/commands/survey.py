@@ -8,7 +8,7 @@ import sys
 from collections import Counter
 from pathlib import Path
 
-from ..fileio import atomic_write, check_output_file, display, json_text
+from ..fileio import atomic_write, check_output_file, csv_text, display, json_text
 from ..survey import LOG_SUFFIXES, SurveyResult, survey
 from .common import reading_options
 
@@ -50,7 +50,7 @@ def check_outputs(paths: list[str | None], force: bool) -> list[Path]:
 
 
 def write_csv(result: SurveyResult, path: str | Path) -> Path:
-    return atomic_write(path, result.to_frame().to_csv(index=False))
+    return atomic_write(path, csv_text(result.to_frame()))
 
 
 def write_json(result: SurveyResult, path: str | Path) -> Path:
@@ -153,6 +153,6 @@ def main(args: argparse.Namespace) -> int:
         print_table(result)
     levels = result.levels_of_theory()
     if levels and not args.quiet:
-        print("levels of theory: " + ", ".join(f"{level} ({n})" for level, n in levels.items()))
+        print("levels of theory: " + ", ".join(f"{display(level)} ({n})" for level, n in levels.items()))
     print(result.summary())
     return result.exit_status

@@ -20,7 +20,7 @@ import numpy as np
 
 from .. import __version__
 from ..errors import QcthermoError
-from ..fileio import atomic_write, display, json_text
+from ..fileio import atomic_write, csv_text, display, json_text
 from ..records import Conditions, Molecule, ThermoResult
 from ..thermo import (
     COMPONENTS,
@@ -275,20 +275,20 @@ def main(args: argparse.Namespace) -> int:
     cond = conditions_from_args(args)
     result = survey(args.directory, **reading_options(args))
     for note in result.notes:
-        print(f"qcthermo thermo: warning: {note}", file=sys.stderr)
+        print(f"qcthermo thermo: warning: {display(note)}", file=sys.stderr)
     entries = compute_entries(result.calculations, result.errors, cond)
     frame, errors = thermo_table(entries, args.energy_unit)
     if len(entries) == errors:
         for entry in entries:
             print(f"qcthermo thermo: {display(entry.path)}: {entry.reason}", file=sys.stderr)
-        print(f"qcthermo thermo: no usable frequency log under {args.directory}", file=sys.stderr)
+        print(f"qcthermo thermo: no usable frequency log under {display(args.directory)}", file=sys.stderr)
         return 2
     if not args.quiet:
         print_table(frame, cond.low_mode_model, args.energy_unit)
     if args.csv:
-        atomic_write(args.csv, frame.to_csv(index=False))
+        atomic_write(args.csv, csv_text(frame))
     if args.long:
-        atomic_write(args.long, long_table(entries).to_csv(index=False))
+        atomic_write(args.long, csv_text(long_table(entries)))
     if args.json:
         atomic_write(args.json, json_document(entries, cond))
     n_files = len(entries)

@@ -76,6 +76,9 @@ STYLE: dict[str, Any] = {
     "svg.fonttype": "none",  # text stays text: searchable, editable by the journal
     "pdf.fonttype": 42,  # TrueType, not Type 3: what publishers ask for
     "svg.hashsalt": "qcthermo",  # reproducible element ids
+    # every text is plain: a name or label holding "$x$" is printed as written, not taken for mathtext (which
+    # raises on "$\\alpha$ $"); the figures typeset with Unicode (ΔG, kcal mol⁻¹) and need no mathtext
+    "text.parse_math": False,
 }
 
 #: width of one journal column, inches (8.5 cm), and the widest figure we make (17.8 cm, two columns)

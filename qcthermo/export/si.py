@@ -18,6 +18,7 @@ from typing import Any
 import numpy as np
 
 from ..fileio import atomic_write
+from .tables import md_text, tex_text
 
 
 @dataclass
@@ -158,7 +159,7 @@ def _coordinate_lines(block: SpeciesBlock) -> list[str]:
 
 
 def _md_escape(text: str) -> str:
-    return str(text).replace("|", "\\|").replace("*", "\\*").replace("_", "\\_")
+    return md_text(text).replace("*", "\\*").replace("_", "\\_")  # names are no emphasis
 
 
 def render_markdown(blocks: list[SpeciesBlock], note: str, left_out: list[str]) -> str:
@@ -176,13 +177,8 @@ def render_markdown(blocks: list[SpeciesBlock], note: str, left_out: list[str]) 
 # ---------------------------------------------------------------------------------------------------
 # LaTeX
 
-_TEX_SPECIAL = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$", "#": r"\#", "_": r"\_",
-                "{": r"\{", "}": r"\}", "~": r"\textasciitilde{}", "^": r"\textasciicircum{}"}
-
-
-def tex_escape(text: str) -> str:
-    """Text safe in LaTeX's text mode (the ten special characters escaped)."""
-    return "".join(_TEX_SPECIAL.get(ch, ch) for ch in str(text))
+#: LaTeX text of a name (qcthermo.export.tables.tex_text)
+tex_escape = tex_text
 
 
 def _tex_label(label: str) -> str:

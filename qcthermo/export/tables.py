@@ -20,7 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import QcthermoError
-from ..fileio import atomic_write
+from ..fileio import atomic_write, csv_text, display
 
 FORMATS = ("csv", "md", "tex", "xlsx")
 #: from this many rows on, LaTeX tables are written as a longtable that breaks across pages
@@ -363,7 +363,13 @@ def latex_escape(text: str) -> str:
 
 
 def _escape_chars(text: str) -> str:
-    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in text.replace("->", "→"))
+    return tex_text(text.replace("->", "→"))
+
+
+def tex_text(text: Any) -> str:
+    """Text safe in LaTeX's text mode, the one place every LaTeX file makes a name safe: on one line
+    (:func:`~qcthermo.fileio.display`) and the ten special characters escaped."""
+    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in display(str(text)))
 
 
 _UNICODE_SUPERSCRIPTS = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
@@ -375,8 +381,13 @@ def plain_typeset(text: str) -> str:
     return text.replace("->", "→")
 
 
-def _md_escape(text: str) -> str:
-    return text.replace("\\", "\\\\").replace("|", "\\|")
+def md_text(text: Any) -> str:
+    """Text for Markdown, the one place every Markdown file makes a name safe: on one line
+    (:func:`~qcthermo.fileio.display`), < and > as entities (a name "<img src=x>" is shown, not rendered:
+    Markdown passes raw HTML on; & is left, no tag starts without <), backslash, pipe (a table's cell
+    border) and dollar (math in many renderers) escaped."""
+    text = display(str(text)).replace("<", "&lt;").replace(">", "&gt;")  # no tag; "A&B" stays as typed
+    return text.replace("\\", "\\\\").replace("|", "\\|").replace("$", "\\$")
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -452,8 +463,8 @@ def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
     Numbers are right-aligned with a fixed number of decimals per column; missing values are empty cells.
     """
     columns = _columns(df)
-    lines = [f"Table: {_md_escape(plain_typeset(' '.join(caption.split())))}", ""]
-    lines.append("| " + " | ".join(_md_escape(human_header(c.name, "md")) for c in columns) + " |")
+    lines = [f"Table: {md_text(plain_typeset(' '.join(caption.split())))}", ""]
+    lines.append("| " + " | ".join(md_text(human_header(c.name, "md")) for c in columns) + " |")
     lines.append("|" + "|".join("---:" if c.numeric else ":---" for c in columns) + "|")
     for row in _rows(columns):
         cells = [_md_cell(cell, c) for cell, c in zip(row, columns, strict=True)]
@@ -461,7 +472,7 @@ def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
     notes = [" ".join(str(n).split()) for n in notes]
     if notes:
         lines.append("")
-        lines += [f"- {_md_escape(plain_typeset(n))}" for n in notes]
+        lines += [f"- {md_text(plain_typeset(n))}" for n in notes]
     return "\n".join(lines) + "\n"
 
 
@@ -480,7 +491,7 @@ def _typeset_cell(cell: str | None, column: _Column) -> str:
 
 
 def _md_cell(cell: str | None, column: _Column) -> str:
-    return _md_escape(_typeset_cell(cell, column))
+    return md_text(_typeset_cell(cell, column))
 
 
 def display_cells(df) -> tuple[list[str], list[bool], list[list[str]]]:
@@ -618,21 +629,23 @@ def write_xlsx(df, path: str | Path, caption: str, notes: Iterable[str] = ()) ->
     workbook = Workbook()
     sheet = workbook.active
     sheet.title = "table"
-    sheet.cell(row=1, column=1, value=plain_typeset(" ".join(caption.split()))).font = Font(bold=True)
+    sheet.cell(row=1, column=1, value=display(plain_typeset(" ".join(caption.split())))).font = Font(bold=True)
     for j, column in enumerate(columns, start=1):
         cell = sheet.cell(row=HEADER_ROW, column=j, value=human_header(column.name, "xlsx"))
         cell.font = Font(bold=True)
         cell.alignment = Alignment(horizontal="right" if column.numeric else "left")
         for i, value in enumerate(column.values, start=HEADER_ROW + 1):
             target = sheet.cell(row=i, column=j, value=_xlsx_value(value, column))
-            if column.numeric and target.value is not None:
+            if isinstance(target.value, str):
+                target.data_type = "s"  # text, never a formula, whatever it starts with ("=cmd|...": OWASP)
+            elif column.numeric and target.value is not None:
                 target.number_format = EXCEL_FORMATS.get(column.kind, "General")
         width = max([len(human_header(column.name, "xlsx"))] + [len(c or "") for c in column.cells])
         sheet.column_dimensions[get_column_letter(j)].width = min(60, width + 2)
     sheet.freeze_panes = sheet.cell(row=HEADER_ROW + 1, column=1)
     row = HEADER_ROW + len(df) + 2
     for note in notes:
-        sheet.cell(row=row, column=1, value="Note: " + plain_typeset(" ".join(str(note).split())))
+        sheet.cell(row=row, column=1, value="Note: " + display(plain_typeset(" ".join(str(note).split()))))
         row += 1
     legend = workbook.create_sheet("columns")
     legend.append(["header", "column", "unit"])
@@ -659,7 +672,7 @@ def _xlsx_value(value: Any, column: _Column) -> Any:
         if not math.isfinite(number):
             return str(number)
         return round(number) if column.kind == "int" else number
-    return str(value)
+    return display(str(value))  # a workbook refuses control characters
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -691,7 +704,7 @@ def write_tables(
     for fmt in formats:
         path = out / f"{stem}.{fmt}"
         if fmt == "csv":
-            written.append(atomic_write(path, df.to_csv(index=False)))
+            written.append(atomic_write(path, csv_text(df)))
         elif fmt == "md":
             written.append(atomic_write(path, to_markdown(df, caption, notes)))
         elif fmt == "tex":

@@ -15,7 +15,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..fileio import atomic_write
+from ..fileio import atomic_write, display
 
 
 @dataclass
@@ -34,9 +34,10 @@ class XyzBlock:
     fields: dict[str, str | float | int | None]
 
     def info(self) -> dict[str, str | float | int]:
-        """The frame's key=value pairs: ``name`` first, then ``fields`` (text on one line)."""
+        """The frame's key=value pairs: ``name`` first, then ``fields`` (text on one line, control characters
+        as ``\\xNN``: qcthermo.fileio.display)."""
         values = {"name": self.name, **{k: v for k, v in self.fields.items() if v is not None}}
-        return {k: " ".join(v.split()) if isinstance(v, str) else v for k, v in values.items()}
+        return {k: display(" ".join(v.split())) if isinstance(v, str) else v for k, v in values.items()}
 
 
 def xyz_text(blocks: list[XyzBlock]) -> str:
