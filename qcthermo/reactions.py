@@ -27,13 +27,15 @@ import numpy as np
 from .ensemble import SINGLE_POINT_RMSD
 from .errors import ReactionFileError
 from .formation import FormationScheme, normalise_bond
-from .records import INTERNAL_ROTOR_MODELS, LOW_MODE_MODELS, Conditions, parse_standard_state
-
-#: keys of [conditions]: the fields of qcthermo.Conditions a file may set
-CONDITION_KEYS = (
-    "temperature", "pressure", "standard_state", "low_mode_model", "low_mode_threshold", "rotor_inertia",
-    "frequency_scale", "zpe_scale", "imaginary_policy", "imaginary_threshold", "internal_rotors",
+from .records import (
+    CONDITION_KEYS,
+    INTERNAL_ROTOR_MODELS,
+    LOW_MODE_MODELS,
+    MAX_TEMPERATURES,
+    Conditions,
+    parse_standard_state,
 )
+
 #: keys of [ensemble] and their defaults (angstrom, kcal/mol, angstrom)
 ENSEMBLE_DEFAULTS: dict[str, float] = {"rmsd_threshold": 0.1, "energy_window": 0.1,
                                        "single_point_rmsd": SINGLE_POINT_RMSD}
@@ -246,7 +248,6 @@ def format_terms(terms: list[Term]) -> str:
 #: and stops a slip (or a hostile file) before it costs memory or gives a meaningless number
 MAX_FILE_BYTES = 1_000_000  # a reaction file is a few kB; a 1 MB one is not written by hand
 MAX_TEXT = 200  # characters of a name, label or other string
-MAX_TEMPERATURES = 10_000
 MAX_SYMMETRY_NUMBER = 120  # the icosahedral group has 60, D_n groups 2n (common practice: nothing real is near)
 MAX_ELECTRONIC_DEGENERACY = 100  # (2S+1)(2L+1) of a free atom stays below 50 (common practice)
 

@@ -290,6 +290,21 @@ INTERNAL_ROTOR_MODELS = ("harmonic", "hindered")
 
 #: the lowest temperature Conditions accepts, K
 MIN_TEMPERATURE_K = 1.0
+#: the highest, K: far above it no molecule stays bound (common NASA-7 data stop at 6000 K), and a rigid-rotor
+#: harmonic-oscillator G means nothing; 1e308 K would overflow the partition functions
+MAX_TEMPERATURE_K = 10_000.0
+#: the most temperatures of one run: every table holds a row per species and temperature (10 000 is a 0.1 K grid
+#: over 1000 K, finer than any fit or figure needs; a million would be gigabytes of tables)
+MAX_TEMPERATURES = 10_000
+#: bounds of a concentration standard state, mol/L: no liquid holds more than ~60 mol/L (water 55.3 M); below
+#: 1e-12 M is no standard state anyone quotes (common practice)
+CONCENTRATION_BOUNDS_M = (1e-12, 100.0)
+#: bounds of Conditions.pressure, Pa: the ideal gas is a model of dilute gases (common practice: 1000 bar is far
+#: beyond it); the lower one only keeps ln(p) finite
+PRESSURE_BOUNDS_PA = (1e-12, 1e8)
+#: the largest low-mode threshold and imaginary threshold, cm^-1: Grimme's and Truhlar's are 100 cm^-1; at
+#: 1000 cm^-1 a model would already replace bond stretches (common practice)
+MAX_THRESHOLD_CM1 = 1000.0
 
 
 @dataclass
@@ -335,10 +350,19 @@ class Conditions:
         t = np.asarray(self.temperature, dtype=float)
         # below 1 K no molecule is an ideal gas of classical rotors (docs/thermo.md, "Model"); exp() of the
         # energies over k_B T then overflows too
-        if t.ndim > 1 or not np.all(np.isfinite(t) & (t >= MIN_TEMPERATURE_K)):
-            raise ValueError(f"temperature must be a number >= {MIN_TEMPERATURE_K:g} K, or a 1-D array of them")
-        if not (np.isfinite(self.low_mode_threshold) and self.low_mode_threshold >= 0):
-            raise ValueError(f"low-mode threshold {self.low_mode_threshold}: expected a wavenumber >= 0 cm^-1")
+        if t.ndim > 1 or t.size == 0 or t.size > MAX_TEMPERATURES or \
+                not np.all(np.isfinite(t) & (t >= MIN_TEMPERATURE_K) & (t <= MAX_TEMPERATURE_K)):
+            raise ValueError(f"temperature must be a number from {MIN_TEMPERATURE_K:g} to {MAX_TEMPERATURE_K:g} K, "
+                             f"or a 1-D array of 1 to {MAX_TEMPERATURES} of them")
+        for name, what in (("low_mode_threshold", "low-mode threshold"),
+                           ("imaginary_threshold", "imaginary threshold")):
+            value = getattr(self, name)
+            if not (isinstance(value, (int, float)) and 0 <= value <= MAX_THRESHOLD_CM1):
+                raise ValueError(f"{what} {value}: expected a wavenumber from 0 to "
+                                 f"{MAX_THRESHOLD_CM1:g} cm^-1")
+        low, high = PRESSURE_BOUNDS_PA
+        if self.pressure is not None and not (isinstance(self.pressure, (int, float)) and low <= self.pressure <= high):
+            raise ValueError(f"pressure {self.pressure}: expected {low:g} to {high:g} Pa (an ideal gas)")
         # scale factors of published tables lie within a few per cent of 1; far from it is a slip (common practice)
         scale = self.frequency_scale
         if scale != "auto" and not (isinstance(scale, (int, float)) and 0.5 < scale < 1.5):
@@ -355,6 +379,10 @@ class Conditions:
         return replace(self, **changes)
 
 
+#: what a run's conditions are made of (a reaction file's [conditions], qcthermo.run's keywords, the options)
+CONDITION_KEYS = tuple(f.name for f in fields(Conditions))
+
+
 def parse_standard_state(state: str) -> tuple[str, float]:
     """``"1atm"`` -> ("pressure", 101325.0); ``"55.3M"`` -> ("concentration", 55.3) mol/L.
 
@@ -368,9 +396,11 @@ def parse_standard_state(state: str) -> tuple[str, float]:
             conc = float(s[:-1])
         except ValueError:
             conc = -1.0
-        if conc > 0:
+        low, high = CONCENTRATION_BOUNDS_M
+        if low <= conc <= high:  # False for nan and inf too
             return ("concentration", conc)
-    raise ValueError(f"unknown standard state {state!r}; use 1atm, 1bar, 1M or a concentration like 55.3M")
+    raise ValueError(f"unknown standard state {state!r}; use 1atm, 1bar, 1M or a concentration like 55.3M "
+                     f"({CONCENTRATION_BOUNDS_M[0]:g} to {CONCENTRATION_BOUNDS_M[1]:g} mol/L)")
 
 
 @dataclass

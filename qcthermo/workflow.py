@@ -8,7 +8,6 @@ there too.
 
 from __future__ import annotations
 
-import argparse
 import hashlib
 import platform
 from collections import Counter
@@ -151,9 +150,9 @@ class RunResults:
 
 def default_conditions(reaction_file: ReactionFile | None) -> Conditions:
     """The command line's defaults, overridden by the reaction file's [conditions]."""
-    from .commands.common import conditions_from_args
+    from .settings import merge_conditions
 
-    return conditions_from_args(argparse.Namespace(), file_settings=reaction_file.conditions if reaction_file else None)
+    return merge_conditions(reaction_file.conditions if reaction_file else None, {})[0]
 
 
 class _Calculations:
@@ -497,15 +496,20 @@ def _mirror_image_note(s: SpeciesResult) -> list[str]:
 
 def run(directory: str | Path, reactions: str | Path | ReactionFile | None = None,
         conditions: Conditions | None = None, *, energy_unit: str = "kcal/mol", jobs: int | None = None,
-        cache: bool = True, progress: bool = False, scheduler: Any = None, workers: int | None = None) -> RunResults:
+        cache: bool = True, progress: bool = False, scheduler: Any = None, workers: int | None = None,
+        **condition_values: Any) -> RunResults:
     """The main job: survey ``directory``, build species, reactions and profiles; see :class:`RunResults`.
 
     ``reactions``: a reaction file (TOML path, or a parsed ReactionFile); without it every frequency
-    log is a species and there are no reactions. ``conditions``: None takes the command line's
-    defaults and the file's [conditions]; given, it is used as it is. ``scheduler``, ``workers``: read the logs
-    on a Dask cluster (:func:`qcthermo.survey`). Raises ReactionFileError for a
-    bad reaction file (with its line), QcthermoError for a missing directory; bad logs become findings.
+    log is a species and there are no reactions. The conditions are merged as on the command line
+    (:mod:`qcthermo.settings`): Conditions()'s defaults < the file's [conditions] < explicit values, which
+    are the keywords ``condition_values`` (``temperature=350``, ``standard_state="1M"``: any field of
+    Conditions) and the fields of ``conditions`` that differ from the defaults; each explicit value that
+    differs from the file's is a warning finding. ``scheduler``, ``workers``: read the logs on a Dask cluster
+    (:func:`qcthermo.survey`). Raises ReactionFileError for a bad reaction file (with its line),
+    QcthermoError for a missing directory or a condition out of bounds; bad logs become findings.
     """
+    from .settings import explicit_values, merge_conditions
     from .survey import survey
 
     try:
@@ -513,11 +517,13 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     except ValueError as err:
         raise QcthermoError(str(err)) from None
     rf = reactions if isinstance(reactions, ReactionFile) or reactions is None else load_reaction_file(reactions)
-    conditions = conditions if conditions is not None else default_conditions(rf)
+    conditions, overridden = merge_conditions(rf.conditions if rf else None,
+                                              explicit_values(conditions, **condition_values))
     survey_result = survey(directory, jobs=jobs, cache=cache, progress=progress, scheduler=scheduler, workers=workers)
     calcs = _Calculations(survey_result)
     findings = [Finding("error", str(Path(survey_result.directory) / rel), reason)
                 for rel, reason in survey_result.errors.items()]
+    findings += [Finding("warning", "conditions", line) for line in overridden]
     species = _species_from_file(rf, calcs, conditions) if rf else _species_from_survey(survey_result, conditions)
     findings += calcs.findings
     for s in species.values():

@@ -14,10 +14,8 @@ import argparse
 import sys
 from pathlib import Path
 
-import numpy as np
-
 from ..errors import QcthermoError
-from .common import conditions_from_args, reading_options
+from .common import explicit_conditions, reading_options
 
 
 def _check_output(path: Path, force: bool) -> None:
@@ -51,9 +49,8 @@ def main(args: argparse.Namespace) -> int:
     if not rf.profiles:
         raise QcthermoError(f"{reaction_file}: no [[profile]] table to draw")
     directory = Path(args.directory) if args.directory else rf.path.parent
-    conditions = conditions_from_args(args, file_settings=rf.conditions)
-    results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit,
-                  **reading_options(args))
+    results = run(directory, reactions=rf, energy_unit=args.energy_unit, **reading_options(args),
+                  **explicit_conditions(args))
     for severity, subject, message in results.findings:
         if severity == "error":
             print(f"error: {display(subject)}: {display(message)}", file=sys.stderr)
@@ -69,7 +66,7 @@ def main(args: argparse.Namespace) -> int:
     save_figure(fig, output)  # an OSError is a one-line QcthermoError naming the file (qcthermo.fileio)
     if not args.quiet:
         # a --temperature-range draws one of its temperatures: say which
-        t_shown = float(np.atleast_1d(conditions.temperature)[t_index])
+        t_shown = float(results.temperatures[t_index])
         print(f"{display(str(output))}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit} "
               f"at {t_shown:g} K")
     return 1 if any(f[0] == "error" for f in results.findings) else 0

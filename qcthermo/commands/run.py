@@ -7,7 +7,7 @@ import sys
 from pathlib import Path
 
 from ..errors import QcthermoError
-from .common import conditions_from_args, reading_options
+from .common import explicit_conditions, reading_options
 
 #: how many findings of each severity the terminal shows (all are in run.json and the tables' notes)
 SHOWN_FINDINGS = 12
@@ -101,9 +101,8 @@ def _execute(directory: str | Path, reactions: str | Path | None, args: argparse
     from ..workflow import run
 
     rf = load_reaction_file(reactions) if reactions else None
-    conditions = conditions_from_args(args, file_settings=rf.conditions if rf else None)
-    results = run(directory, reactions=rf, conditions=conditions, energy_unit=args.energy_unit,
-                  **reading_options(args))
+    results = run(directory, reactions=rf, energy_unit=args.energy_unit, **reading_options(args),
+                  **explicit_conditions(args))
     if results.exit_status == 2:
         print_summary(results, None, args.quiet)
         raise QcthermoError(f"nothing usable in {directory}: no species could be computed")
