@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import argparse
 import importlib
-import os
 import sys
 
 from . import __version__
@@ -44,7 +43,8 @@ def _count(lowest: int, highest: int | None = None):
 
 def _add_reading(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("reading")
-    g.add_argument("--jobs", type=_count(1), default=None, metavar="N", help="worker processes (default: all cores)")
+    g.add_argument("--jobs", type=_count(1), default=None, metavar="N",
+                   help="worker processes (default: every core this process may use; more is lowered to that)")
     g.add_argument("--no-cache", action="store_true", help="neither read nor write the parse cache")
     g.add_argument("--quiet", action="store_true", help="no progress bar, no table on the terminal")
     g = p.add_argument_group("reading on a Dask cluster (pip install 'qcthermo[cluster]'; docs/cluster.md)")
@@ -164,8 +164,6 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return 2
-    if getattr(args, "jobs", None) is None and hasattr(args, "jobs"):
-        args.jobs = os.cpu_count() or 1
     from .errors import QcthermoError
     from .fileio import display
 

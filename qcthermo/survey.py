@@ -18,6 +18,7 @@ import inspect
 import multiprocessing
 import os
 import signal
+import stat
 import sys
 import tracemalloc
 import types
@@ -63,10 +64,50 @@ Reader = Callable[[str], Calculation]
 
 @dataclass(frozen=True)
 class Candidate:
-    """A file to read: its path relative to the surveyed directory (POSIX form) and its stat key."""
+    """A file to read: its path relative to the surveyed directory (POSIX form) and its stat key;
+    ``skipped`` says why it is not read (it is no regular file), None for a file to read."""
 
     relpath: str
     key: FileKey
+    skipped: str | None = None
+
+
+#: what a name of a log may stand for besides a regular file, by stat.S_IFMT
+_SPECIAL_KINDS = {stat.S_IFIFO: "a named pipe", stat.S_IFCHR: "a character device", stat.S_IFBLK: "a block device",
+                  stat.S_IFSOCK: "a socket", stat.S_IFDIR: "a directory"}
+#: kernel file systems whose "regular" files are no data on disk: some never end (/proc/self/pagemap)
+_KERNEL_DIRS = ("/proc", "/sys")
+
+
+def _not_regular(path: str) -> str | None:
+    """Why ``path`` (named like a log) is not read, or None for a regular file: only regular files are read,
+    so that a pipe, a device or a kernel file never hangs the survey (docs/survey.md, "Which files")."""
+    try:
+        st = os.stat(path)
+    except FileNotFoundError:
+        return "not read: a symbolic link to nothing (dangling)" if os.path.islink(path) else "not read: gone"
+    except OSError as err:
+        return f"not read: cannot stat ({err.strerror})"
+    if not stat.S_ISREG(st.st_mode):
+        return f"not read: {_SPECIAL_KINDS.get(stat.S_IFMT(st.st_mode), 'a special file')}, not a regular file"
+    real = os.path.realpath(path)
+    if any(real == d or real.startswith(d + "/") for d in _KERNEL_DIRS):
+        return f"not read: a kernel file ({real}), not a log"
+    return None
+
+
+def _own_outputs() -> set[tuple[int, int]]:
+    """(device, inode) of this process's standard output and error when they are regular files: a log of
+    the run itself (`qcthermo run . > run.log`) is never read as a log."""
+    own = set()
+    for fd in (1, 2):
+        try:
+            st = os.fstat(fd)
+        except OSError:
+            continue
+        if stat.S_ISREG(st.st_mode):
+            own.add((st.st_dev, st.st_ino))
+    return own
 
 
 def find_candidates(
@@ -88,13 +129,22 @@ def find_candidates(
         seen.add((st.st_dev, st.st_ino))
     found: list[Candidate] = []
     notes: list[str] = []
+    own = _own_outputs()
     for relpath, entry in _walk(root, "", seen, notes):
+        path = os.path.abspath(entry.path)
+        skipped = _not_regular(path)
+        if skipped is not None:
+            found.append(Candidate(relpath, FileKey(path, 0, 0), skipped))
+            continue
         try:
             st = entry.stat()
         except OSError as err:
             notes.append(f"{relpath}: cannot stat ({err.strerror})")
             continue
-        found.append(Candidate(relpath, FileKey(os.path.abspath(entry.path), st.st_size, st.st_mtime_ns)))
+        if (st.st_dev, st.st_ino) in own:
+            notes.append(f"{relpath}: not read: it is this command's own output (standard output or error)")
+            continue
+        found.append(Candidate(relpath, FileKey(path, st.st_size, st.st_mtime_ns)))
     found.sort(key=lambda c: c.relpath)
     return found, notes
 
@@ -116,13 +166,13 @@ def _walk(root: Path, prefix: str, seen: set[tuple[int, int]], notes: list[str])
             continue
         relpath = f"{prefix}/{entry.name}" if prefix else entry.name
         try:
-            is_dir, is_file = entry.is_dir(), entry.is_file()
+            is_dir = entry.is_dir()
         except OSError:
-            continue
+            is_dir = False
         if is_dir:
             if entry.name not in SKIPPED_DIRS and not os.path.exists(os.path.join(entry.path, "pyvenv.cfg")):
                 yield from _walk(root, relpath, seen, notes)
-        elif is_file and entry.name.lower().endswith(CANDIDATE_SUFFIXES):
+        elif entry.name.lower().endswith(CANDIDATE_SUFFIXES):  # a pipe or device too: its row says why it is not read
             yield relpath, entry
 
 
@@ -485,14 +535,14 @@ def survey(
     if not root.is_dir():
         raise QcthermoError(f"{directory}: {'not a directory' if root.exists() else 'no such directory'}")
     reader = reader or default_reader
-    jobs = max(1, jobs or os.cpu_count() or 1)
+    jobs, jobs_note = _worker_count(jobs)
     if scheduler is not None:
         from .cluster import target
 
         jobs = target(scheduler, workers)  # checked before any work; stands for the workers from here on
     cache_dir = default_cache_dir()
     candidates, notes = find_candidates(root, skip=(cache_dir,))
-    result = SurveyResult(str(directory), notes=notes)
+    result = SurveyResult(str(directory), notes=notes + ([jobs_note] if jobs_note and scheduler is None else []))
     outcomes: list[tuple[str, Any] | None] = [None] * len(candidates)
     store = ParseCache(reader_version(reader), cache_dir) if cache and candidates else None
     stats = dict.fromkeys(("files", "parsed", "cached", "hashed"), 0)
@@ -510,12 +560,35 @@ def survey(
     return result
 
 
+def usable_cores() -> int:
+    """The cores this process may run on (its CPU affinity, e.g. a batch job's share), at least 1."""
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except (AttributeError, OSError):  # not on Linux
+        return max(1, os.cpu_count() or 1)
+
+
+def _worker_count(jobs: int | None) -> tuple[int, str | None]:
+    """Worker processes for ``jobs`` (None: every usable core): at most one per core, since reading a log is
+    CPU work and more processes only share the cores (and their memory); a note when ``jobs`` is lowered."""
+    cores = usable_cores()
+    if jobs is None:
+        return cores, None
+    if jobs > cores:
+        return cores, f"jobs = {jobs} lowered to {cores}, the cores this process may use"
+    return max(1, jobs), None
+
+
 def _from_cache(store: ParseCache | None, candidates: list[Candidate], outcomes: list, bar: ProgressBar,
                 stats: dict[str, int]) -> list[int]:
     """Fill ``outcomes`` for the files whose path, size and mtime match the cache; return the others (a row
     that is not a sound record among them: read again, its row rewritten)."""
     misses = []
     for i, cand in enumerate(candidates):
+        if cand.skipped is not None:
+            outcomes[i] = ("error", cand.skipped)
+            bar.advance()
+            continue
         entry = store.lookup(cand.key) if store is not None else None
         calc = cached_calculation(entry.record) if entry is not None and entry.ok else None
         if entry is None or (entry.ok and calc is None):

@@ -16,6 +16,8 @@ import json
 import os
 import shutil
 import signal
+import subprocess
+import sys
 from pathlib import Path
 
 import numpy as np
@@ -448,3 +450,59 @@ def test_more_rows_than_a_screenful_print_an_overview(xyz_tree, tmp_path, capsys
     monkeypatch.setenv("LINES", "40")  # the same survey fits a taller screen: the table
     assert main(["survey", str(xyz_tree), "--jobs", "1"]) == 1
     assert capsys.readouterr().out.split()[0] == "file"
+
+
+# -- special files and the command's own output ----------------------------------------------------------
+
+SPECIAL_SURVEY = """
+import sys
+from qcthermo.survey import survey
+result = survey(sys.argv[1], jobs=1000, cache=False)
+for row in result.rows:
+    print(row["path"], "|", row["status"], "|", row["reason"])
+for note in result.notes:
+    print("note |", note)
+"""
+
+
+def test_only_regular_files_are_read_and_every_other_candidate_gets_a_row(samples, tmp_path):
+    # a symlink to /proc/self/pagemap never ends (Linux Documentation/admin-guide/mm/pagemap.rst: 8 bytes for every
+    # page of the address space), a FIFO blocks its reader forever, /dev/zero never ends (Linux devices.txt, 1:5)
+    root = tmp_path / "tree"
+    root.mkdir()
+    shutil.copy(samples / "gas" / "hcn.out", root / "hcn.out")
+    os.mkfifo(root / "pipe.out")
+    (root / "gone.out").symlink_to(root / "nothing-here")
+    if Path("/proc/self/pagemap").exists():
+        (root / "pagemap.out").symlink_to("/proc/self/pagemap")
+    (root / "zero.log").symlink_to("/dev/zero")
+    # in a child process with a timeout: a survey that hangs on one of these must fail, not stop the test suite
+    proc = subprocess.run([sys.executable, "-c", SPECIAL_SURVEY, str(root)], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    rows = dict(line.split(" | ", 1) for line in proc.stdout.splitlines() if not line.startswith("note"))
+    assert rows.pop("hcn.out") == "ok | "
+    expected = {"pipe.out": "a named pipe", "gone.out": "dangling", "zero.log": "a character device",
+                "pagemap.out": "a kernel file (/proc/"}
+    assert set(rows) == {name for name in expected if (root / name).is_symlink() or (root / name).exists()}
+    for name, reason in rows.items():
+        assert reason.startswith("error | not read: ") and expected[name] in reason, (name, reason)
+    cores = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count()
+    assert f"note | jobs = 1000 lowered to {cores}, the cores this process may use" in proc.stdout
+
+
+def test_a_run_whose_output_is_redirected_into_the_surveyed_folder_does_not_read_it(samples, tmp_path):
+    # `qcthermo run . > run.log`: the shell creates run.log before qcthermo starts; it is no log, and reading it
+    # would make an error row (and exit status 1) of the run's own output
+    root = tmp_path / "logs"
+    root.mkdir()
+    for name in ("hcn.out", "hnc.out"):
+        shutil.copy(samples / "gas" / name, root / name)
+    with open(root / "run.log", "w") as log:
+        proc = subprocess.run([sys.executable, "-m", "qcthermo", "run", str(root), "--out", str(tmp_path / "out"),
+                               "--jobs", "1", "--no-cache", "--quiet"], stdout=log, stderr=subprocess.PIPE,
+                              text=True, timeout=300)
+    assert proc.returncode == 0, proc.stderr
+    assert "note: run.log: not read: it is this command's own output" in (root / "run.log").read_text()
+    rows = json.loads((tmp_path / "out" / "run.json").read_text())["survey"]["summary"]
+    assert rows.startswith("2 files")

@@ -73,6 +73,8 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
     if not quiet:
         for line in solution_lines(results):
             console.print(Text(line))
+    for note in results.survey_result.notes if results.survey_result is not None else []:
+        console.print(Text(f"note: {display(note)}"), soft_wrap=True)
     for severity, style in (("error", "red"), ("warning", "yellow")):
         found = [f for f in results.findings if f.severity == severity]
         for f in found[:SHOWN_FINDINGS]:
