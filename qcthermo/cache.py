@@ -126,6 +126,7 @@ class ParseCache:
         # isolation_level=None: autocommit, so every write transaction is an explicit BEGIN IMMEDIATE
         # (a deferred read-then-write transaction can fail under WAL without waiting for the lock).
         db = sqlite3.connect(self.path, timeout=BUSY_TIMEOUT_S, isolation_level=None)
+        db.text_factory = _text
         try:
             db.execute(f"PRAGMA busy_timeout = {int(BUSY_TIMEOUT_S * 1000)}")
             db.execute("PRAGMA journal_mode = WAL")
@@ -318,10 +319,21 @@ class DigestIndex:
             db = _READONLY.get((os.getpid(), self.path))
             if db is None:
                 db = sqlite3.connect(f"{Path(self.path).as_uri()}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_S)
+                db.text_factory = _text
                 _READONLY[(os.getpid(), self.path)] = db
             return _find(db, digest, self.reader_version)
         except sqlite3.Error:
             return None  # the parent reports a damaged cache; here the file is simply parsed
+
+
+def _text(data: bytes) -> str | bytes:
+    """A TEXT value as str, or its bytes when they are not UTF-8 (damage): sqlite3's own decoding would
+    raise an OperationalError, taken for a locked file, that disabled the cache on every later run. A
+    row holding bytes is a miss (:func:`_entry`): read again and rewritten."""
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError:
+        return data
 
 
 def _entry(ok: Any, payload: Any) -> Entry | None:

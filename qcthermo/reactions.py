@@ -897,7 +897,8 @@ class _Parser:
 
 
 def _read_text(path: Path) -> str:
-    """The file's text: a regular file, at most :data:`MAX_FILE_BYTES`, UTF-8 (the line of a bad byte)."""
+    """The file's text: a regular file, at most :data:`MAX_FILE_BYTES`, UTF-8 with or without a byte-order
+    mark (the line of a bad byte)."""
     try:
         if not path.is_file():
             raise ReactionFileError(_where(path, None) + ("is a directory, not a reaction file" if path.is_dir()
@@ -912,7 +913,7 @@ def _read_text(path: Path) -> str:
         raise ReactionFileError(_where(path, None) + f"larger than {MAX_FILE_BYTES // 1_000_000} MB: "
                                 "not a reaction file")
     try:
-        return raw.decode("utf-8")
+        return raw.decode("utf-8-sig")  # a byte-order mark (Windows editors write one) is no TOML: dropped
     except UnicodeDecodeError as err:
         line = raw.count(b"\n", 0, err.start) + 1
         raise ReactionFileError(_where(path, line) + f"not UTF-8 text (byte 0x{raw[err.start]:02x})") from None

@@ -720,7 +720,8 @@ def add_kinetics(results: RunResults, energetics: dict[str, dict]) -> None:
 
     df, species, cond = results.reactions, results.species_results, results.conditions
     t = results.temperatures
-    if df.empty:
+    if df.empty:  # no [[reaction]]: a cyclic [[profile]] still has its energy span
+        results.energy_span = _energy_span(results, kinetics)
         return
     for col in ("kappa", "k_forward", "k_reverse"):
         df[col] = np.nan
@@ -928,11 +929,28 @@ def _reaction_subjects(results: RunResults) -> tuple[set[str], set[str]]:
     if rf is None:
         return set(), set()
     names = {n for r in rf.reactions for n in _names(r)} | {n for p in rf.profiles for s in p.states for _, n in s}
-    subjects = names | {r.name for r in rf.reactions} | {f"profile {p.name}" for p in rf.profiles}
+    subjects = {r.name for r in rf.reactions} | {f"profile {p.name}" for p in rf.profiles}
+    return names, subjects | species_subjects(results, names)
+
+
+def profile_subjects(results: RunResults, profiles: list[str] | None = None) -> set[str]:
+    """Every subject of findings about the [[profile]] tables ``profiles`` (default: all): the profiles,
+    their species and the files of those species."""
+    chosen = [p for p in results.reaction_file.profiles if profiles is None or p.name in profiles]
+    names = {n for p in chosen for s in p.states for _, n in s}
+    return {f"profile {p.name}" for p in chosen} | species_subjects(results, names)
+
+
+def species_subjects(results: RunResults, names: set[str]) -> set[str]:
+    """The species ``names`` and every file they read (frequency logs, single points, as given and as read)."""
+    rf = results.reaction_file
+    subjects = set(names)
     for n in names:
         subjects |= {c.path for c in results.species_results[n].conformers}
         subjects |= {c.single_point.path for c in results.species_results[n].conformers if c.single_point}
-    return names, subjects
+        if rf is not None and n in rf.species:
+            subjects |= {str(p) for p in (*rf.species[n].logs, *rf.species[n].single_point)}
+    return subjects
 
 
 def _table_notes(results: RunResults, subjects: set[str] | None = None) -> list[str]:

@@ -316,7 +316,7 @@ def _water_record(cache_dir: Path) -> dict:
 
 @pytest.mark.parametrize("damage", [
     "invalid JSON", "missing key", "unknown key", "wrong type", "string where a number belongs", "bad shape",
-    "not an object", "ok flag out of range",
+    "not an object", "ok flag out of range", "payload not UTF-8",
 ])
 def test_a_bad_cache_row_is_a_miss_and_is_rewritten(tree, cache_dir, damage):
     reader = CountingReader()
@@ -337,7 +337,13 @@ def test_a_bad_cache_row_is_a_miss_and_is_rewritten(tree, cache_dir, damage):
                json.dumps([1, 2]) if damage == "not an object" else json.dumps(broken)}
     if damage == "ok flag out of range":
         columns = {"ok": 7}
-    _rewrite_row(cache_dir, "water.out", **columns)
+    if damage == "payload not UTF-8":  # TEXT holding bytes that are no UTF-8 (RFC 3629: 0xFF never occurs)
+        db = sqlite3.connect(cache_dir / CACHE_FILE)
+        db.execute("UPDATE parsed SET payload = CAST(X'FF7B7D' AS TEXT) WHERE CAST(path AS TEXT) LIKE '%/water.out'")
+        db.commit()
+        db.close()
+    else:
+        _rewrite_row(cache_dir, "water.out", **columns)
     reader.calls.clear()
     second = survey(tree, jobs=1, reader=reader)
     assert [Path(p).name for p in reader.calls] == ["water.out"]  # the bad row only: read again

@@ -82,6 +82,13 @@ def test_good_file_parses(tmp_path):
     assert rf.transition_states() == {"ts"}
 
 
+def test_a_byte_order_mark_is_read_not_refused(tmp_path):
+    # Unicode 15.0, section 23.8: U+FEFF at the start of a file is a signature (Notepad writes it), not text
+    path = _write(tmp_path, GOOD)
+    path.write_bytes(b"\xef\xbb\xbf" + path.read_bytes())
+    assert load_reaction_file(path).conditions == load_reaction_file(_write(tmp_path, GOOD)).conditions
+
+
 @pytest.mark.parametrize(
     ("change", "line", "needle"),
     [

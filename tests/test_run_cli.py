@@ -159,3 +159,30 @@ def test_init_marks_a_transition_state_frequency_job(tmp_path, third_party):
     rf = load_reaction_file(logs / "reactions.toml")
     assert [s.transition_state for s in rf.species.values()] == [True]
     assert "transition state (one imaginary mode)" in (logs / "reactions.toml").read_text()
+
+
+def test_profile_reports_its_own_errors_and_counts_the_folders_others(tmp_path, samples, isomerisation_file, capsys):
+    # the profile's three real NWChem logs, and beside them two files no species uses that are no logs: the figure
+    # is drawn from clean inputs, so exit 0 and one counted note; a broken log of the profile's own is listed, exit 1
+    import shutil
+
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    for name in ("hcn.out", "hnc.out", "ts_hcn.out"):
+        shutil.copy(samples / "gas" / name, logs / name)
+    for name in ("slurm-1.out", "slurm-2.out"):  # a batch system's outputs: no quantum-chemistry log
+        (logs / name).write_text("job started\n")
+    toml = tmp_path / "iso.toml"
+    toml.write_text(isomerisation_file.read_text().replace(str(samples / "gas"), str(logs)))
+    assert main(["profile", str(toml), "-o", str(tmp_path / "a.svg"), "--directory", str(logs), "--jobs", "1",
+                 "--no-cache", "--quiet"]) == 0
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err == [f"note: 2 other error(s) under {logs}, none about these profiles (`qcthermo survey {logs}` "
+                   "lists them)"]
+    (logs / "hnc_extra.out").write_text("not a log\n")  # a second file of the profile's species hnc, unreadable
+    toml.write_text(toml.read_text().replace('logs = ["' + str(logs) + '/hnc.out"]',
+                                             'logs = ["' + str(logs) + '/hnc.out", "' + str(logs) + '/hnc_extra.out"]'))
+    assert main(["profile", str(toml), "-o", str(tmp_path / "b.svg"), "--directory", str(logs), "--jobs", "1",
+                 "--no-cache", "--quiet"]) == 1
+    err = capsys.readouterr().err
+    assert "hnc_extra.out" in err and (tmp_path / "b.svg").exists()

@@ -9,7 +9,7 @@ from log_text import last_printed
 
 import qcthermo
 from qcthermo.errors import QcthermoError
-from qcthermo.units import ENERGY_UNITS, K_B_EH
+from qcthermo.units import ENERGY_UNITS, K_B_EH, hartree_to
 
 KCAL = ENERGY_UNITS["kcal/mol"]
 
@@ -280,9 +280,20 @@ def test_single_point_on_another_geometry_is_refused(third_party):
     assert any(f.severity == "error" and "no single point matches" in f.message for f in species.findings)
 
 
-def test_cyclic_profile_energy_span_of_one_step(tmp_path, samples):
+CYCLE_REACTION = """
+[[reaction]]
+name = "iso"
+reactants = ["hcn"]
+transition_state = "ts"
+products = ["hnc"]
+"""
+
+
+@pytest.mark.parametrize("with_reaction", [True, False], ids=["with a reaction", "profile alone"])
+def test_cyclic_profile_energy_span_of_one_step(tmp_path, samples, with_reaction):
     # Energy span model (Kozuch and Shaik, Acc. Chem. Res. 2011, 44, 101): for a one-step cycle I -> TS -> I',
-    # the TS follows the intermediate, so the span is G(TS) - G(I), the free energy of activation.
+    # the TS follows the intermediate, so the span is G(TS) - G(I), the free energy of activation. A file with
+    # the [[profile]] alone gets its span too.
     path = tmp_path / "cycle.toml"
     path.write_text(f"""
 [species.hcn]
@@ -291,11 +302,8 @@ logs = "{samples.as_posix()}/gas/hcn.out"
 logs = "{samples.as_posix()}/gas/hnc.out"
 [species.ts]
 logs = "{samples.as_posix()}/gas/ts_hcn.out"
-[[reaction]]
-name = "iso"
-reactants = ["hcn"]
-transition_state = "ts"
-products = ["hnc"]
+transition_state = true
+{CYCLE_REACTION if with_reaction else ""}
 [[profile]]
 name = "cycle"
 states = [["hcn"], ["ts"], ["hnc"]]
@@ -304,7 +312,11 @@ cyclic = true
     res = qcthermo.run(samples / "gas", reactions=path, jobs=1, cache=False)
     (row,) = res.energy_span.to_dict(orient="records")
     assert row["TDTS"] == "ts" and row["TDI"] == "hcn"
-    assert row["energy_span_kcal_mol"] == pytest.approx(_reaction(res, "iso", "dG_qrrho_act_kcal_mol"), abs=1e-9)
+    values = res.species_results  # G(TS) - G(I), the same species' G as the reaction's dG‡ uses
+    span = hartree_to(values["ts"].values["G"][0] - values["hcn"].values["G"][0], "kcal/mol")
+    assert row["energy_span_kcal_mol"] == pytest.approx(span, abs=1e-9)
+    if with_reaction:
+        assert row["energy_span_kcal_mol"] == pytest.approx(_reaction(res, "iso", "dG_qrrho_act_kcal_mol"), abs=1e-9)
     assert res.profiles[0]["marks"] == {"tdts": "ts", "tdi": "hcn"}
 
 

@@ -4,8 +4,8 @@ The logs are looked for in ``--directory`` (default: the reaction file's folder)
 (repeatable) draws the named profiles, overlaid in the order given. Without it every ``[[profile]]`` is
 drawn: overlaid when all start from the same species, else one panel per group of profiles that do
 (``qcthermo.export.figures.overview_figure``). An existing figure is kept unless
-``--force``. Exit status: 0 drawn from clean inputs, 1 drawn but some inputs had errors (listed), 2
-nothing drawn (one line saying why).
+``--force``. Exit status: 0 drawn from clean inputs, 1 drawn but some of its inputs had errors (listed; errors
+about other files of the folder are counted in one note), 2 nothing drawn (one line saying why).
 """
 
 from __future__ import annotations
@@ -38,7 +38,7 @@ def main(args: argparse.Namespace) -> int:
     )
     from ..fileio import display
     from ..reactions import load_reaction_file
-    from ..workflow import run
+    from ..workflow import profile_subjects, run
 
     output = Path(args.output)
     _check_output(output, args.force)
@@ -51,9 +51,15 @@ def main(args: argparse.Namespace) -> int:
     directory = Path(args.directory) if args.directory else rf.path.parent
     results = run(directory, reactions=rf, energy_unit=args.energy_unit, **reading_options(args),
                   **explicit_conditions(args))
-    for severity, subject, message in results.findings:
-        if severity == "error":
-            print(f"error: {display(subject)}: {display(message)}", file=sys.stderr)
+    # only the errors about the profiles drawn, their species and files: a folder's other broken logs are counted
+    mine = profile_subjects(results, args.profiles)
+    errors = [f for f in results.findings if f.severity == "error"]
+    for _, subject, message in [f for f in errors if f.subject in mine]:
+        print(f"error: {display(subject)}: {display(message)}", file=sys.stderr)
+    others = sum(f.subject not in mine for f in errors)
+    if others:
+        print(f"note: {others} other error(s) under {display(str(directory))}, none about these profiles "
+              f"(`qcthermo survey {display(str(directory))}` lists them)", file=sys.stderr)
     if not results.profiles:
         raise QcthermoError(f"{reaction_file}: no profile could be computed (see the errors above)")
     t_index = profile_temperature_index(results)
@@ -69,4 +75,4 @@ def main(args: argparse.Namespace) -> int:
         t_shown = float(results.temperatures[t_index])
         print(f"{display(str(output))}: {len(profiles)} profile(s), {args.quantity} in {args.energy_unit} "
               f"at {t_shown:g} K")
-    return 1 if any(f[0] == "error" for f in results.findings) else 0
+    return 1 if any(f.subject in mine for f in errors) else 0
