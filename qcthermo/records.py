@@ -9,6 +9,7 @@ entropies and heat capacities hartree/K per molecule, temperatures K, pressures 
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field, fields, replace
 from typing import Any
 
@@ -376,11 +377,33 @@ class Conditions:
         parse_standard_state(self.standard_state)
 
     def replace(self, **changes) -> Conditions:
-        return replace(self, **changes)
+        new = replace(self, **changes)
+        new._given = self.given | frozenset(changes)
+        return new
+
+    @property
+    def given(self) -> frozenset[str]:
+        """The fields the caller set (in the constructor or :meth:`replace`): only they override a reaction
+        file's [conditions] (qcthermo.settings); the others are defaults."""
+        return getattr(self, "_given", frozenset(CONDITION_KEYS))
 
 
 #: what a run's conditions are made of (a reaction file's [conditions], qcthermo.run's keywords, the options)
 CONDITION_KEYS = tuple(f.name for f in fields(Conditions))
+
+
+def _recording(init):
+    """Conditions' own __init__, also noting which fields were passed (:attr:`Conditions.given`)."""
+
+    @functools.wraps(init)
+    def __init__(self, *args, **kwargs):
+        init(self, *args, **kwargs)
+        self._given = frozenset(CONDITION_KEYS[: len(args)]) | frozenset(kwargs)
+
+    return __init__
+
+
+Conditions.__init__ = _recording(Conditions.__init__)
 
 
 def parse_standard_state(state: str) -> tuple[str, float]:

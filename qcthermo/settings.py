@@ -2,7 +2,7 @@
 
 In rising priority: :class:`~qcthermo.records.Conditions`'s defaults (the command line has no others), a
 reaction file's ``[conditions]``, explicit values (command-line options; keyword arguments of
-``qcthermo.run``; the fields of a ``Conditions`` passed to it that differ from the defaults). Where an
+``qcthermo.run``; the fields set in a ``Conditions`` passed to it, ``Conditions.given``). Where an
 explicit value overrides the file's, the run says so (a warning finding). docs/reactions.md, "Conditions".
 The keys are :data:`qcthermo.records.CONDITION_KEYS` (the fields of Conditions): a new field is a new key
 of the reaction file, of ``qcthermo.run`` and, given an option of that name, of the command line.
@@ -11,7 +11,6 @@ of the reaction file, of ``qcthermo.run`` and, given an option of that name, of 
 from __future__ import annotations
 
 import math
-from dataclasses import fields
 from typing import Any
 
 import numpy as np
@@ -69,17 +68,13 @@ def _shown(value: Any) -> str:
 
 
 def explicit_values(conditions: Conditions | None = None, **given: Any) -> dict[str, Any]:
-    """The values a Python caller chose: the fields of ``conditions`` that differ from ``Conditions()``'s
-    (a field left at its default cannot be told from one not set: pass it as a keyword to insist on it),
+    """The values a Python caller chose: the fields of ``conditions`` that were set (``Conditions.given``:
+    passed to the constructor or to ``replace``; the others are defaults and leave the file's values alone),
     then the keywords ``given`` that are not None. An unknown keyword is a one-line error."""
     unknown = sorted(set(given) - set(CONDITION_KEYS))
     if unknown:
         raise QcthermoError(f"unknown condition {unknown[0]!r}; the conditions are {', '.join(CONDITION_KEYS)}")
-    out: dict[str, Any] = {}
-    if conditions is not None:
-        default = Conditions()
-        out = {f.name: getattr(conditions, f.name) for f in fields(Conditions)
-               if not _same(getattr(conditions, f.name), getattr(default, f.name))}
+    out = {k: getattr(conditions, k) for k in CONDITION_KEYS if k in conditions.given} if conditions else {}
     out.update({k: v for k, v in given.items() if v is not None})
     return out
 

@@ -504,7 +504,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
     log is a species and there are no reactions. The conditions are merged as on the command line
     (:mod:`qcthermo.settings`): Conditions()'s defaults < the file's [conditions] < explicit values, which
     are the keywords ``condition_values`` (``temperature=350``, ``standard_state="1M"``: any field of
-    Conditions) and the fields of ``conditions`` that differ from the defaults; each explicit value that
+    Conditions) and the fields set in ``conditions`` (``Conditions.given``); each explicit value that
     differs from the file's is a warning finding. ``scheduler``, ``workers``: read the logs on a Dask cluster
     (:func:`qcthermo.survey`). Raises ReactionFileError for a bad reaction file (with its line),
     QcthermoError for a missing directory or a condition out of bounds; bad logs become findings.

@@ -89,3 +89,15 @@ def test_explicit_keywords_override_the_file_and_say_so(samples):
     overridden = sorted(f.message for f in results.findings if f.subject == "conditions")
     assert overridden == ["standard_state = 1atm (given) overrides the reaction file's standard_state = 1M",
                           "temperature = 350 (given) overrides the reaction file's temperature = 298.15"]
+
+
+def test_a_field_set_to_its_default_still_overrides_the_file(samples):
+    # Conditions.given: what the caller set counts, even when it equals Conditions()'s default (1 atm)
+    from qcthermo.settings import explicit_values
+
+    assert explicit_values(Conditions(temperature=298.15)) == {"temperature": 298.15}
+    assert set(explicit_values(Conditions(standard_state="1atm"))) == {"standard_state"}
+    assert set(explicit_values(Conditions().replace(standard_state="1atm"))) == {"standard_state"}
+    results = qcthermo.run(samples / "gas", reactions=samples / "reactions.toml",
+                           conditions=Conditions(standard_state="1atm"), jobs=1, cache=False)
+    assert results.conditions.standard_state == "1atm"
