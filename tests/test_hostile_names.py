@@ -11,6 +11,7 @@ section 6.6 (raw HTML passes through Markdown); matplotlib's mathtext, which tak
 from __future__ import annotations
 
 import csv
+import random
 import shutil
 from pathlib import Path
 
@@ -116,3 +117,45 @@ def test_a_reaction_file_of_formula_mathtext_and_html_names_runs_and_draws(sampl
 
     sheet = openpyxl.load_workbook(out / "reactions.xlsx")["table"]
     assert "-iso <script>alert(1)</script> $x$" in [c.value for row in sheet.iter_rows() for c in row]  # text
+
+
+# -- seeded fuzz: many hostile names at once ----------------------------------------------------------------
+
+#: pieces of hostile names: terminal escapes (ECMA-48 CSI, OSC, BEL, backspace, CR, C1 CSI 0x9B), formula
+#: starts, mathtext, HTML, rich markup, LaTeX and Markdown specials, bidirectional override, emoji, an
+#: undecodable byte (PEP 383 surrogate of 0xE9); no "/" and no NUL, which no POSIX file name holds
+_PIECES = ("\x1b[31m", "\x1b]0;title\x07", "\x07", "\x08", "\r", "\t", "\n", "\x7f", "\x9b", "=", "+", "-", "@",
+           "=cmd|' -C calc'!A0", "$", "$\\alpha$", "$x", "<img src=x onerror=alert(1)>", "<script>", "&amp;",
+           "[bold]", "[/]", "|", "\\", "%", "#", "_", "{", "}", "~", "^", " ", "ü", "中", "\U0001f600", "\u202e",
+           "'", '"', "`", "*", "\udce9")
+#: (seed, number of names): each seed is one run over that many copies of a real log
+NAME_FUZZ = [("names-1", 16), ("names-2", 16)]
+
+
+def hostile_name(rng: random.Random, i: int) -> str:
+    pieces = [rng.choice(_PIECES) for _ in range(rng.randint(1, 4))]
+    at = rng.randint(0, len(pieces))
+    return "".join([*pieces[:at], f"m{i}", *pieces[at:]]) + ".out"
+
+
+@pytest.mark.parametrize("seed, count", NAME_FUZZ)
+def test_fuzzed_hostile_names_never_stop_a_run(samples, tmp_path, capsys, seed, count):
+    rng = random.Random(seed)
+    root = tmp_path / "logs"
+    root.mkdir()
+    names = [hostile_name(rng, i) for i in range(count)]
+    source = (samples / "gas" / "hcn.out").read_bytes()
+    for name in names:
+        try:
+            (root / name).write_bytes(source)
+        except OSError:
+            pytest.skip("this file system refuses such names")
+    out = tmp_path / "out"
+    status = main(["run", str(root), "--out", str(out), "--jobs", "1"])
+    captured = capsys.readouterr()
+    where = f"seed {seed}: {names!r}"
+    assert status in (0, 1) and "Traceback" not in captured.err, where
+    printed = captured.out + captured.err
+    assert not [c for c in printed if (ord(c) < 32 and c != "\n") or 0x7F <= ord(c) <= 0x9F], where
+    _check_outputs(out)
+    assert len(list(csv.DictReader((out / "survey.csv").open(encoding="utf-8")))) == count, where
