@@ -21,6 +21,7 @@ COMMANDS = {
     "profile": "draw the reaction energy diagram(s) of a reaction file",
     "init": "write a starter reactions.toml listing the species found in DIR",
     "demo": "run the main job on the bundled sample scenario",
+    "simulate": "the main job, then the microkinetic simulation of the reaction file's [simulation] table",
 }
 DIR_HELP = "folder of logs, searched recursively (docs/survey.md: which files are read)"
 
@@ -39,6 +40,17 @@ def _count(lowest: int, highest: int | None = None):
         return value
 
     return parse
+
+
+def _positive(text: str) -> float:
+    """An argparse type: a finite number > 0."""
+    try:
+        value = float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a number") from None
+    if not (0 < value < float("inf")):
+        raise argparse.ArgumentTypeError(f"{text}: expected a finite number > 0")
+    return value
 
 
 def _add_reading(p: argparse.ArgumentParser) -> None:
@@ -122,6 +134,21 @@ def build_parser() -> argparse.ArgumentParser:
         p.add_argument("--force", action="store_true", help="write into an --out that holds other files")
         _add_conditions(p)
         _add_reading(p)
+
+    p = sub.add_parser("simulate", help=COMMANDS["simulate"], description=COMMANDS["simulate"] +
+                       " (docs/simulate.md); writes every file of run plus the simulation's")
+    p.add_argument("directory", metavar="DIR", help=DIR_HELP)
+    p.add_argument("--reactions", metavar="FILE", required=True, help="reaction file (TOML) with a [simulation] table")
+    p.add_argument("--out", metavar="DIR", default="simulation_results", help="output directory (simulation_results)")
+    p.add_argument("--force", action="store_true", help="write into an --out that holds other files")
+    g = p.add_argument_group("simulation (override the file's [simulation])")
+    g.add_argument("--method", default=None, choices=["LSODA", "BDF", "Radau"], help="stiff solver (LSODA)")
+    g.add_argument("--rtol", type=_positive, default=None, metavar="R", help="relative tolerance (1e-8)")
+    g.add_argument("--atol", type=_positive, default=None, metavar="MOL_L", help="absolute tolerance, mol/L (1e-20)")
+    g.add_argument("--time-axis", default="auto", choices=["auto", "log", "linear"],
+                   help="time axis of the concentration figure (auto: log when the times span > 3 decades)")
+    _add_conditions(p)
+    _add_reading(p)
 
     p = sub.add_parser("profile", help=COMMANDS["profile"], description=COMMANDS["profile"])
     p.add_argument("reactions", metavar="FILE", help="reaction file (TOML) with [[profile]] tables")

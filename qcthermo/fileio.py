@@ -31,7 +31,7 @@ RUN_OUTPUTS = (
     "run.json", "survey.csv", "species.*", "reactions.*", "rates.csv", "arrhenius.csv", "energy_span.csv",
     "coordinates.xyz", "thermo.yaml", "thermo.dat", "profile*.svg", "profile*.png", "profile*.pdf",
     "dG_T.svg", "arrhenius.svg", "si.md", "si.tex", "report.html", "heats_of_formation.*", "pka.*", "redox.*",
-    "concentrations.*", "conformers.*",
+    "concentrations.*", "simulation.*", "rate_control.csv", "tof.csv", "conformers.*",
 )
 #: temporary files of :func:`atomic_open`: ``.<name>.<pid>-<16 hex>.tmp``
 _TMP = re.compile(r"^\..+\.(\d+)-[0-9a-f]{16}\.tmp$")

@@ -24,14 +24,17 @@ from .units import K_B_EH, N_A, R_GAS
 
 #: solvers of scipy.integrate.solve_ivp suited to stiff kinetics
 METHODS = ("BDF", "Radau", "LSODA")
-#: the default solver: Radau (implicit Runge-Kutta, order 5). scipy's BDF is ~3x faster on a large network that
-#: keeps moving, but at an exact steady state (a catalytic cycle with reservoir species) its Newton test
-#: compares two round-off-sized corrections, fails at random and halves the step: thousands of steps per
-#: decade of time (docs/simulate.md, measured on the sample cycle)
-DEFAULT_METHOD = "Radau"
+#: the default solver: LSODA (ODEPACK's stiff/non-stiff switching BDF). scipy's BDF is much faster on a large
+#: network that keeps moving, but at an exact steady state (a catalytic cycle with reservoir species) its Newton
+#: test compares two round-off-sized corrections, fails at random and halves the step: thousands of steps per
+#: decade of time; Radau's interpolant between its steps misses a fast intermediate's rise by a factor 3 at the
+#: output times (docs/simulate.md, both measured on the sample scenario)
+DEFAULT_METHOD = "LSODA"
 #: default relative and absolute (mol/L) tolerances of the solver
 RTOL = 1e-8
 ATOL_M = 1e-20
+#: right-hand-side evaluations at one time after which a solver is taken to be stuck
+STALLED_CALLS = 10_000
 #: relative perturbation of a step's rate constants for its degree of rate control (central difference)
 RATE_CONTROL_STEP = 1e-3
 #: viscosity of liquid water at 298.15 K, Pa s (0.890 mPa s; from memory, as tabulated in the CRC Handbook)
@@ -299,11 +302,17 @@ def integrate(network: Network, initial: dict[str, float], times: Sequence[float
     for n, v in initial.items():
         c0[index[n]] = v
     t_out = np.unique(np.concatenate([[0.0], times]))
-    reached = [0.0]  # the latest time the solver asked for: where a failure left it
+    reached = [0.0, 0]  # the latest time the solver asked for (where a failure left it), calls without progress
 
     def rhs(t, y):
+        reached[1] = reached[1] + 1 if t <= reached[0] else 0
         reached[0] = max(reached[0], t)
-        return system.rhs(t, y, scale)
+        if reached[1] > STALLED_CALLS:  # LSODA can retry one step for ever (rates beyond the doubles' range)
+            raise ArithmeticError(f"no progress after {STALLED_CALLS} evaluations at t = {t:.4g} s")
+        dydt = system.rhs(t, y, scale)
+        if not np.all(np.isfinite(dydt)):  # LSODA would go on with inf and nan for ever
+            raise ArithmeticError(f"the rates are not finite at t = {t:.4g} s (rate constants too large for doubles)")
+        return dydt
 
     def jac(t, y):
         matrix = system.jacobian(t, y, scale)
@@ -655,7 +664,8 @@ class SimulationResult:
 
     Attributes:
         concentrations: DataFrame indexed by time (s, "time_s"), one column per species, mol/L (species
-            held at their own concentration included, constant).
+            held at their own concentration included, constant), at the output times.
+        curves: the same on the default grid of the end time (the solver's dense output), for figures.
         summary: one row per species: initial and final mol/L, conversion, half-life and time to 90 %
             conversion (s), yield and selectivity relative to the reactant (molar, at the end time).
         rate_control: one row per reaction: its degree of rate control for the product's formation rate.
@@ -668,6 +678,7 @@ class SimulationResult:
     """
 
     concentrations: Any
+    curves: Any
     summary: Any
     rate_control: Any
     tof: float | None
@@ -693,11 +704,15 @@ def _amounts_in_molar(settings: SimulationSettings, results, temperature: float)
 
 
 def _output_times(settings: SimulationSettings) -> np.ndarray:
-    if settings.times is not None:
-        return np.asarray(settings.times)
-    end = settings.end_time
-    grid = np.concatenate([np.logspace(np.log10(end) - LOG_DECADES, np.log10(end), LOG_POINTS),
-                           np.linspace(0.0, end, LINEAR_POINTS)[1:]])
+    return np.asarray(settings.times) if settings.times is not None else _default_grid(settings.end_time)
+
+
+def _default_grid(end: float, start: float | None = None) -> np.ndarray:
+    """Logarithmic points from ``start`` (default: nine decades before ``end``; 20 a decade) and 100 linear
+    ones: smooth on either time axis."""
+    first = np.log10(start) if start else np.log10(end) - LOG_DECADES
+    points = max(LOG_POINTS, int(20 * (np.log10(end) - first)) + 1)
+    grid = np.concatenate([np.logspace(first, np.log10(end), points), np.linspace(0.0, end, LINEAR_POINTS)[1:]])
     return np.unique(grid)
 
 
@@ -826,6 +841,16 @@ def _tof_comparison(results, steps: list[_Step], settings: SimulationSettings, t
     return pd.DataFrame(rows) if rows else None
 
 
+def _frame(times: np.ndarray, concentrations: np.ndarray, network: Network, own: dict[str, float]):
+    """Concentrations as a DataFrame indexed by time_s, the species at their own concentration as constants."""
+    import pandas as pd
+
+    frame = pd.DataFrame(concentrations, index=pd.Index(times, name="time_s"), columns=list(network.species))
+    for name, c in own.items():
+        frame[name] = c
+    return frame
+
+
 def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, **settings: Any) -> SimulationResult:
     """Simulate a run's reaction network: concentrations over time, yields, half-lives, rate control, TOF.
 
@@ -833,8 +858,8 @@ def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, *
     initial concentrations (mol/L, or partial pressures at a gas standard state; strings with units such as
     "0.2 atm" or "5 mM" too) and ``time`` is the end time ("1 h", s) or a list of output times. Without both,
     the reaction file's [simulation] table is used. Other keywords: ``temperature`` (K or a program
-    [[t, T], ...]), ``fixed``, ``product``, ``reactant``, ``catalyst``, ``method`` ("BDF" | "Radau" |
-    "LSODA"), ``rtol``, ``atol`` (mol/L), ``viscosity`` (Pa s), ``rate_control`` (docs/simulate.md).
+    [[t, T], ...]), ``fixed``, ``product``, ``reactant``, ``catalyst``, ``method`` ("LSODA" | "BDF" |
+    "Radau"), ``rtol``, ``atol`` (mol/L), ``viscosity`` (Pa s), ``rate_control`` (docs/simulate.md).
     Raises :class:`~qcthermo.errors.SimulationError` (one line) for bad input and for a solver failure
     (with the time reached).
     """
@@ -859,9 +884,11 @@ def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, *
     if not run.success:
         raise SimulationError(f"the solver ({spec.method}) failed at t = {run.time_reached:.4g} s of "
                               f"{spec.end_time:.4g} s: {run.message}")
-    frame = pd.DataFrame(run.concentrations, index=pd.Index(run.times, name="time_s"), columns=list(network.species))
-    for name, c in own.items():
-        frame[name] = c
+    frame = _frame(run.times, run.concentrations, network, own)
+    grid = np.concatenate([[0.0], _default_grid(spec.end_time, min(spec.times) if spec.times else None)])
+    dense = np.tile(run.concentrations[0], (len(grid), 1))
+    dense[:, run.free] = run.dense(grid).T
+    curves = _frame(grid, dense, network, own)
     summary, reactant = _summary(run, network, spec, amounts)
     if reactant:
         notes.append(f"conversion, yields and selectivities are molar, relative to {reactant}")
@@ -869,7 +896,7 @@ def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, *
     table = pd.DataFrame([{"reaction": s.name, "equation": s.equation, "k_source": s.source,
                            "k_forward": float(k[0]), "k_reverse": float(k[1])}
                           for s, k in zip(steps, zip(*network.rate_constants(t0), strict=True), strict=True)])
-    return SimulationResult(frame, summary, _rate_control(network, amounts, spec, temperature, notes), tof,
+    return SimulationResult(frame, curves, summary, _rate_control(network, amounts, spec, temperature, notes), tof,
                             _tof_comparison(results, steps, spec, tof, amounts, temperature), table, spec, notes,
                             run.statistics)
 

@@ -67,6 +67,8 @@ class RunResults:
             "E_zpe", "E"}, is_ts, species}], cyclic, color, label_states, style, order, marks}, every
             state relative to the first, hartree (arrays over T).
         rates: long table of k(T) per reaction (with several temperatures), or None.
+        simulation: the microkinetic simulation of the reaction file's [simulation] table
+            (:class:`qcthermo.simulate.SimulationResult`), or None.
         arrhenius: one row per reaction with a modified Arrhenius fit (several temperatures), or None.
         energy_span: one row per cyclic profile and temperature, or None.
         pka, redox: one row per [[pka]] / [[redox]] entry (and temperature), or None without any
@@ -91,6 +93,7 @@ class RunResults:
     profiles: list[dict[str, Any]] = field(default_factory=list)
     rates: Any = None
     arrhenius: Any = None
+    simulation: Any = None
     energy_span: Any = None
     reaction_file: ReactionFile | None = None
     survey_result: Any = None
@@ -539,6 +542,7 @@ def run(directory: str | Path, reactions: str | Path | ReactionFile | None = Non
         survey_result=survey_result,
     )
     add_kinetics(results, energetics)
+    _add_simulation(results)
     results.heats_of_formation = _heats_of_formation(rf, species, conditions, results.findings)
     if rf and rf.pka:
         results.pka, found = pka_table(rf, species, conditions, energy_unit)
@@ -599,6 +603,20 @@ def formation_caption(results: RunResults) -> str:
             "atomization (Curtiss et al., J. Chem. Phys. 1997, 106, 1063; atomic data NIST-JANAF), reference values "
             "and reference reactions as given; H(298.15) - H(0) from the ideal-gas model with low-mode model "
             f"{MODEL_NAMES[model]}; the NASA-7 column marks the value thermo.yaml and thermo.dat use.")
+
+
+def _add_simulation(results: RunResults) -> None:
+    """The [simulation] of the reaction file, when it has one (qcthermo.simulate); what stops it is an error
+    finding, so the rest of the run is still written."""
+    rf = results.reaction_file
+    if rf is None or rf.simulation is None:
+        return
+    from .simulate import simulate
+
+    try:
+        results.simulation = simulate(results)
+    except QcthermoError as err:
+        results.findings.append(Finding("error", "simulation", str(err)))
 
 
 def _standard_state_warnings(species: dict[str, SpeciesResult], conditions: Conditions) -> list[Finding]:
@@ -1034,9 +1052,19 @@ def run_json(results: RunResults, written: list[Path]) -> str:
         if results.heats_of_formation is not None else None,
         **{k: df.to_dict(orient="records") for k, df in (("pka", results.pka), ("redox", results.redox))
            if df is not None},
+        "simulation": _simulation_record(results.simulation),
         "files": sorted(p.name for p in written),
     }
     return json_text(doc, indent=2)  # strict JSON: NaN and inf as null, file names in their display form
+
+
+def _simulation_record(sim) -> dict[str, Any] | None:
+    """What run.json keeps of a simulation: its settings, notes, TOF and the solver's counts."""
+    if sim is None:
+        return None
+    from dataclasses import asdict
+
+    return {"settings": asdict(sim.settings), "notes": sim.notes, "tof_s-1": sim.tof, "solver": sim.statistics}
 
 
 def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
@@ -1075,6 +1103,10 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     if blocks:
         written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))
     written += write_conformers(results, out_dir, display(caption_context(results)), _write_table)
+    if results.simulation is not None:
+        from .export.simulation import write_simulation
+
+        written += write_simulation(results, out_dir, results.settings.get("time_axis", "auto"))
     written += _model_files_figures_and_documents(results, out_dir)
     return written
 

@@ -82,6 +82,11 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
                           markup=True, soft_wrap=True)
         if len(found) > SHOWN_FINDINGS:
             console.print(f"... and {len(found) - SHOWN_FINDINGS} more {severity}s (all in run.json)")
+    sim = getattr(results, "simulation", None)
+    if sim is not None:
+        tof = f"; TOF {sim.tof:.3g} s^-1" if sim.tof is not None else ""
+        console.print(Text(f"simulation: {len(sim.reactions)} reactions to t = {sim.settings.end_time:g} s{tof}; "
+                           + "; ".join(sim.notes[:3])))
     if out is not None:
         console.print(Text(f"results written to {display(str(out))}/ (run.json lists every file and finding)"))
 
@@ -90,24 +95,30 @@ def _num(value) -> str:
     return "" if value is None or value != value else f"{value:.2f}"
 
 
-def execute(directory: str | Path, reactions: str | Path | None, args: argparse.Namespace) -> int:
-    """Shared by ``run`` and ``demo``: load, compute, write, summarise; the exit status."""
+def execute(directory: str | Path, reactions, args: argparse.Namespace, simulation_required: bool = False) -> int:
+    """Shared by ``run``, ``demo`` and ``simulate``: load, compute, write, summarise; the exit status.
+    ``reactions`` is a path or a loaded ReactionFile; ``simulation_required``: a simulation that could not be
+    run is bad input (exit 2, its one-line reason), not a finding among others."""
     from ..fileio import checked_output_dir
 
     with checked_output_dir(args.out, args.force, create=False):  # an existing --out: checked, locked for the run
-        return _execute(directory, reactions, args)
+        return _execute(directory, reactions, args, simulation_required)
 
 
-def _execute(directory: str | Path, reactions: str | Path | None, args: argparse.Namespace) -> int:
-    from ..reactions import load_reaction_file
+def _execute(directory: str | Path, reactions, args: argparse.Namespace, simulation_required: bool) -> int:
+    from ..reactions import ReactionFile, load_reaction_file
     from ..workflow import run
 
-    rf = load_reaction_file(reactions) if reactions else None
+    rf = reactions if isinstance(reactions, ReactionFile) or not reactions else load_reaction_file(reactions)
     results = run(directory, reactions=rf, energy_unit=args.energy_unit, **reading_options(args),
                   **explicit_conditions(args))
     if results.exit_status == 2:
         print_summary(results, None, args.quiet)
         raise QcthermoError(f"nothing usable in {directory}: no species could be computed")
+    if simulation_required and results.simulation is None:
+        reason = next((f.message for f in results.findings if f.subject == "simulation"), "no simulation")
+        raise QcthermoError(f"simulation: {reason}")
+    results.settings["time_axis"] = getattr(args, "time_axis", "auto")
     results.write(args.out, force=args.force)
     print_summary(results, Path(args.out), args.quiet)
     return results.exit_status

@@ -163,6 +163,27 @@ def _enthalpy_reference(settings: dict[str, Any] | None) -> list[str]:
         if reference else []
 
 
+def _simulation_section(results) -> list[str]:
+    """The microkinetic simulation: its notes, the per-species summary, rate control, TOF and the figure."""
+    sim = getattr(results, "simulation", None)
+    if sim is None:
+        return []
+    from .figures import figure_svg
+    from .simulation import concentration_figure
+
+    notes = "".join(f"<li>{html.escape(n)}</li>" for n in sim.notes)
+    out = ['<h2 id="simulation">Simulation</h2>', f"<ul>{notes}</ul>" if notes else "",
+           _frame_table(sim.summary, "species simulated")]
+    if sim.rate_control is not None and len(sim.rate_control):
+        out.append("<h3>Degree of rate control</h3>" + _frame_table(sim.rate_control, "degrees of rate control"))
+    if sim.tof_comparison is not None and len(sim.tof_comparison):
+        out.append("<h3>Turnover frequency</h3>" + _frame_table(sim.tof_comparison, "turnover frequencies"))
+    fig = concentration_figure(sim, (getattr(results, "settings", None) or {}).get("time_axis", "auto"))
+    out.append(f'<figure id="figure-concentrations">{figure_svg(fig)}<figcaption>Concentrations against time '
+               "(fixed species and species at their own concentration dashed).</figcaption></figure>")
+    return out
+
+
 def render_report(results) -> str:
     """The whole page as a string (see the module docstring for its order)."""
     findings = sorted_findings(getattr(results, "findings", None))
@@ -178,6 +199,7 @@ def render_report(results) -> str:
         + _frame_table(getattr(results, "reactions", None), "reactions", "reactions"),
         *_optional_tables(results),
         *_solution_section(results),
+        *_simulation_section(results),
         _figures_section(results),
     ]
     return (

@@ -60,6 +60,8 @@ UNITS = (
     Unit("s-1", "s⁻¹", r"s$^{-1}$", "sci3"),
     Unit("V", "V", "V", "fixed3"),
     Unit("K", "K", "K", "fixed2"),
+    Unit("M", "mol L⁻¹", r"mol\,L$^{-1}$", "sci3"),
+    Unit("s", "s", "s", "sci3"),
 )
 
 #: quantity symbols: machine token -> (Unicode, LaTeX math)
