@@ -145,6 +145,8 @@ def build_parser() -> argparse.ArgumentParser:
     g.add_argument("--method", default=None, choices=["LSODA", "BDF", "Radau"], help="stiff solver (LSODA)")
     g.add_argument("--rtol", type=_positive, default=None, metavar="R", help="relative tolerance (1e-8)")
     g.add_argument("--atol", type=_positive, default=None, metavar="MOL_L", help="absolute tolerance, mol/L (1e-20)")
+    g.add_argument("--engine", default=None, choices=["scipy", "cantera"],
+                   help="integrator: qcthermo's own (scipy) or a Cantera ideal-gas reactor on the run's thermo.yaml")
     g.add_argument("--time-axis", default="auto", choices=["auto", "log", "linear"],
                    help="time axis of the concentration figure (auto: log when the times span > 3 decades)")
     _add_conditions(p)

@@ -13,8 +13,10 @@ from __future__ import annotations
 import sys
 import types
 import warnings
+from collections import Counter
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -377,7 +379,9 @@ def degree_of_rate_control(network: Network, initial: dict[str, float], time: fl
 
 #: keys of the [simulation] table (and keyword arguments of :func:`simulate`)
 SIMULATION_KEYS = ("initial", "time", "temperature", "fixed", "product", "reactant", "catalyst", "method", "rtol",
-                   "atol", "viscosity", "rate_control")
+                   "atol", "viscosity", "rate_control", "engine")
+#: integrators of a simulation: qcthermo's own (scipy) or a Cantera reactor on the run's mechanism
+ENGINES = ("scipy", "cantera")
 #: largest number of output times (a finer grid than any table needs)
 MAX_TIMES = 10_000
 
@@ -399,6 +403,7 @@ class SimulationSettings:
         method, rtol, atol: the solver and its tolerances (atol in mol/L).
         viscosity: Pa s, for diffusion-limited steps (None: water's at 298.15 K).
         rate_control: compute the degree of rate control.
+        engine: "scipy" (qcthermo's integrator) or "cantera" (an ideal-gas reactor on the run's thermo.yaml).
     """
 
     initial: dict[str, tuple[str, float]]
@@ -414,6 +419,7 @@ class SimulationSettings:
     atol: float = ATOL_M
     viscosity: float | None = None
     rate_control: bool = True
+    engine: str = "scipy"
 
 
 def _names(value: Any, key: str) -> tuple[str, ...]:
@@ -470,10 +476,14 @@ def _temperature(value: Any) -> Any:
     return _positive(value, "temperature", "K")
 
 
-def _method(value: Any) -> str:
-    if value not in METHODS:
-        raise ValueError(f"method {value!r}: expected one of {', '.join(METHODS)}")
+def _choice(value: Any, key: str, choices: tuple[str, ...]) -> str:
+    if value not in choices:
+        raise ValueError(f"{key} {value!r}: expected one of {', '.join(choices)}")
     return value
+
+
+def _method(value: Any) -> str:
+    return _choice(value, "method", METHODS)
 
 
 def _flag(value: Any) -> bool:
@@ -498,6 +508,7 @@ SETTING_PARSERS: dict[str, Callable[[Any], Any]] = {
     "product": lambda v: _name(v, "product"), "reactant": lambda v: _name(v, "reactant"),
     "method": _method, "rtol": _tolerance("rtol"), "atol": _tolerance("atol"),
     "viscosity": lambda v: _positive(v, "viscosity", "Pa s"), "rate_control": _flag,
+    "engine": lambda v: _choice(v, "engine", ENGINES),
 }
 
 
@@ -863,7 +874,6 @@ def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, *
     Raises :class:`~qcthermo.errors.SimulationError` (one line) for bad input and for a solver failure
     (with the time reached).
     """
-    import pandas as pd
 
     if initial is None and time is None and not settings and getattr(results.reaction_file, "simulation", None):
         spec = results.reaction_file.simulation
@@ -879,6 +889,8 @@ def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, *
     amounts = _amounts_in_molar(spec, results, t0)
     if spec.product is None:
         notes.append("no product named: no degree of rate control and no TOF")
+    if spec.engine == "cantera":
+        return _cantera_result(results, network, steps, own, spec, temperature, amounts, notes)
     run = integrate(network, amounts, _output_times(spec), fixed=spec.fixed, temperature=temperature,
                     method=spec.method, rtol=spec.rtol, atol=spec.atol, dense=True)
     if not run.success:
@@ -893,12 +905,96 @@ def simulate(results, initial: dict[str, Any] | None = None, time: Any = None, *
     if reactant:
         notes.append(f"conversion, yields and selectivities are molar, relative to {reactant}")
     tof = _tof(run, network, spec, notes)
-    table = pd.DataFrame([{"reaction": s.name, "equation": s.equation, "k_source": s.source,
-                           "k_forward": float(k[0]), "k_reverse": float(k[1])}
-                          for s, k in zip(steps, zip(*network.rate_constants(t0), strict=True), strict=True)])
     return SimulationResult(frame, curves, summary, _rate_control(network, amounts, spec, temperature, notes), tof,
-                            _tof_comparison(results, steps, spec, tof, amounts, temperature), table, spec, notes,
-                            run.statistics)
+                            _tof_comparison(results, steps, spec, tof, amounts, temperature),
+                            _reaction_table(network, steps, t0), spec, notes, run.statistics)
+
+
+def _reaction_table(network: Network, steps: list[_Step], temperature: float):
+    import pandas as pd
+
+    return pd.DataFrame([{"reaction": s.name, "equation": s.equation, "k_source": s.source,
+                          "k_forward": float(k[0]), "k_reverse": float(k[1])}
+                         for s, k in zip(steps, zip(*network.rate_constants(temperature), strict=True), strict=True)])
+
+
+# -- the same simulation in Cantera ---------------------------------------------------------------------------
+
+
+def _cantera_solution(results):
+    """cantera.Solution of the run's mechanism: thermo.yaml as the run writes it (NASA-7 species, its gas-phase
+    reactions as modified Arrhenius fits, reverse rates from the NASA-7 equilibrium constants)."""
+    import tempfile
+
+    import cantera as ct
+
+    from .export.nasa7 import write_run_thermo
+
+    findings = list(results.findings)
+    with tempfile.TemporaryDirectory() as folder:
+        written = write_run_thermo(results, folder)
+        results.findings[:] = findings  # the file's own warnings belong to the run's thermo.yaml, not here
+        if not any(Path(p).name == "thermo.yaml" for p in written):
+            raise SimulationError("no Cantera mechanism: the run wrote no thermo.yaml")
+        return ct.Solution(str(Path(folder) / "thermo.yaml"))
+
+
+def _check_mechanism(gas, network: Network) -> None:
+    """Every species and reaction of the network must be in the mechanism (the same molecules each side)."""
+    missing = [n for n in network.species if n not in gas.species_names]
+    if missing:
+        raise SimulationError(f"the Cantera mechanism has no species {missing[0]!r} (only gas-phase minima with "
+                              "NASA-7 fits are in thermo.yaml)")
+    have = [(sorted(r.reactants.items()), sorted(r.products.items())) for r in gas.reactions()]
+    for name, left, right in zip(network.reactions, network.reactants, network.products, strict=True):
+        sides = [sorted(Counter(network.species[i] for i in side).items()) for side in (left, right)]
+        if (sides[0], sides[1]) not in [(a, b) for a, b in have] and (sides[1], sides[0]) not in have:
+            raise SimulationError(f"reaction {name!r} is not in the Cantera mechanism (thermo.yaml holds the gas-phase "
+                                  "reactions with a transition state)")
+
+
+def cantera_concentrations(gas, network: Network, initial: dict[str, float], times: np.ndarray, temperature: float,
+                           rtol: float, atol: float) -> np.ndarray:
+    """Concentrations (mol/L; Cantera's kmol/m^3 is the same number) of the network's species at ``times`` in a
+    Cantera ideal-gas reactor at constant volume and temperature (IdealGasReactor, energy equation off), started
+    from ``initial`` (mol/L) at p = c_total R T."""
+    import cantera as ct
+
+    total = sum(initial.values())
+    if not total > 0:
+        raise SimulationError("the Cantera engine needs some gas in the reactor (every initial concentration is 0)")
+    gas.TPX = temperature, total * 1000.0 * R_GAS * temperature, {n: c for n, c in initial.items() if c > 0}
+    reactor = ct.IdealGasReactor(gas, energy="off", clone=True)
+    net = ct.ReactorNet([reactor])
+    net.rtol, net.atol = rtol, atol
+    index = [gas.species_index(n) for n in network.species]
+    out = []
+    for t in times:
+        if t > 0:
+            net.advance(float(t))
+        out.append(reactor.phase.concentrations[index])
+    return np.array(out)
+
+
+def _cantera_result(results, network: Network, steps: list[_Step], own: dict[str, float],
+                    spec: SimulationSettings, temperature, amounts: dict[str, float], notes: list[str]):
+    """simulate() with engine = "cantera": the concentrations from Cantera; conversion and yields from them;
+    no half-lives, rate control or TOF (those need the scipy engine's dense solution and perturbations)."""
+    if spec.fixed or np.ndim(temperature) != 0 or own:
+        raise SimulationError("the Cantera engine is an ideal-gas reactor: no fixed species, no species at their own "
+                              "concentration, one temperature")
+    gas = _cantera_solution(results)
+    _check_mechanism(gas, network)
+    times = np.unique(np.concatenate([[0.0], _output_times(spec)]))
+    concentrations = cantera_concentrations(gas, network, amounts, times, float(temperature), spec.rtol, spec.atol)
+    frame = _frame(times, concentrations, network, own)
+    run = Trajectory(times, concentrations, True, "", float(times[-1]), np.zeros((len(times), len(network.reactions))),
+                     free=np.arange(len(network.species)))
+    summary, _ = _summary(run, network, spec, amounts)
+    notes.append("engine Cantera (IdealGasReactor at constant volume and temperature, thermo.yaml's mechanism: "
+                 "modified Arrhenius fits, reverse rates from its NASA-7 data); no half-lives, rate control or TOF")
+    table = _reaction_table(network, steps, float(temperature))
+    return SimulationResult(frame, frame, summary, None, None, None, table, spec, notes, {})
 
 
 class _CallableModule(types.ModuleType):

@@ -172,3 +172,24 @@ def test_a_solver_failure_is_returned_with_the_time_reached():
     net = Network(("A", "B"), ("r",), ((0, 0),), ((1,),), np.array([[1e300]]), np.array([[0.0]]), np.array([298.15]))
     run = integrate(net, {"A": 1.0}, [1.0])
     assert not run.success and run.time_reached < 1.0 and run.message
+
+
+def test_the_analytic_jacobian_is_the_derivative_of_the_rates():
+    """d(dc/dt)/dc of a network with uni-, bi- and termolecular steps and a fixed species against central finite
+    differences (the definition of the derivative; step 1e-6 relative, agreement to 1e-6)."""
+    from qcthermo.simulate import _MassAction, temperature_program
+
+    net = Network(("A", "B", "C", "D", "E"), ("r1", "r2", "r3", "r4"), ((0, 1), (2,), (0, 0, 3), (4,)),
+                  ((2,), (3, 4), (1, 4), (0, 0)), np.array([[2.0], [0.3], [5.0], [0.7]]),
+                  np.array([[0.1], [4.0], [0.2], [1.5]]), np.array([298.15]))
+    system = _MassAction(net, {1: 0.4}, temperature_program(298.15))  # B held fixed
+    y = np.array([0.3, 0.2, 0.05, 0.6])
+    analytic = system.jacobian(0.0, y).toarray()
+    numeric = np.empty_like(analytic)
+    for i in range(len(y)):
+        h = 1e-6 * y[i]
+        up, down = y.copy(), y.copy()
+        up[i] += h
+        down[i] -= h
+        numeric[:, i] = (system.rhs(0.0, up) - system.rhs(0.0, down)) / (2 * h)
+    np.testing.assert_allclose(analytic, numeric, rtol=1e-6, atol=1e-9)

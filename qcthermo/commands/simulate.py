@@ -15,7 +15,7 @@ def main(args: argparse.Namespace) -> int:
     rf = load_reaction_file(args.reactions)
     if rf.simulation is None:
         raise QcthermoError(f"{args.reactions}: no [simulation] table (docs/simulate.md)")
-    for key in ("method", "rtol", "atol"):
+    for key in ("method", "rtol", "atol", "engine"):
         if getattr(args, key, None) is not None:
             setattr(rf.simulation, key, getattr(args, key))
     if args.temperature is not None:
