@@ -572,6 +572,9 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
                                                 settings["single_point_rmsd"]))
     cond = species_conditions(conditions, options)
     findings.extend(problem for c in result.used for problem in _thermo(c, name, options, cond))
+    findings.extend(Finding("warning", c.path, f"species {name!r}: {note.removeprefix('warning: ')}")
+                    for c in result.used if c.thermo is not None
+                    for note in c.thermo.notes if note.startswith("warning: near-symmetric"))
     if len(result.levels) > 1:
         findings.append(Finding("error", name, f"species {name!r}: conformers at different levels of theory "
                                                f"({', '.join(result.levels)})"))

@@ -310,7 +310,22 @@ def _symmetry(molecule: Molecule, linear: bool, trust_given: bool) -> tuple[str 
     else:
         sigma = int(info.symmetry_number)
         notes.append(f"point group {info.point_group}, symmetry number {sigma}" + (", chiral" if info.chiral else ""))
+    if info.strict_point_group is not None and molecule.symmetry_number is None:
+        notes.append(near_symmetry_note(info))
     return info.point_group, sigma, bool(info.chiral), notes
+
+
+def near_symmetry_note(info) -> str:
+    """The warning for a near-symmetric structure (:class:`~qcthermo.symmetry.SymmetryInfo` with a
+    ``strict_point_group``): the group used, the distortion, and the symmetry number of the strict group."""
+    from .symmetry import NEAR_SYMMETRY_TOLERANCE, symmetry_number
+
+    strict = info.strict_point_group
+    return (f"warning: near-symmetric: {info.point_group} (symmetry number {info.symmetry_number}) only with atoms "
+            f"up to {info.distortion:.2f} A from their images, {strict} (symmetry number "
+            f"{symmetry_number(strict)}) within {NEAR_SYMMETRY_TOLERANCE} A, beyond optimiser noise (~0.005 A): "
+            f"a distorted (Jahn-Teller?) structure? set symmetry_number = {symmetry_number(strict)} if the "
+            "distortion is real")
 
 
 def prepare_molecule(molecule: Molecule, conditions: Conditions, trust_symmetry_number: bool = False) -> MoleculeInfo:

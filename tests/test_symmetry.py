@@ -526,6 +526,60 @@ def test_random_molecules_of_each_group(group):
         clean = analyse_symmetry(symbols, xyz)
         noisy = analyse_symmetry(symbols, _random_pose(xyz, rng) + rng.normal(scale=0.005, size=xyz.shape))
         assert clean.symmetry_number % symmetry_number(group) == 0
-        assert noisy == clean
+        # the near-symmetry report may appear with noise: 24 atoms up to 3 A out reach 0.044 A (a warning)
+        assert [(i.point_group, i.symmetry_number, i.chiral, i.linear) for i in (noisy, clean)] == \
+            [(clean.point_group, clean.symmetry_number, clean.chiral, clean.linear)] * 2
         found.append(clean.point_group)
     assert found.count(group) >= 2, found
+
+
+# --------------------------------------------------------------------------- near-symmetric structures
+
+
+def test_every_g2_molecule_keeps_its_symmetry_number_under_optimiser_noise():
+    # ASE's g2 collection (162 molecules, geometries of the G2 test set as ASE ships them); 0.005 A of noise
+    # per coordinate (DESIGN section 6: what an optimiser leaves) changes no symmetry number and raises no
+    # near-symmetry warning that the clean geometry does not give
+    import ase.collections
+
+    rng = np.random.default_rng(20261204)
+    g2 = ase.collections.g2
+    changed, near = [], set()
+    for name in g2.names:
+        atoms = g2[name]
+        symbols, xyz = atoms.get_chemical_symbols(), atoms.get_positions()
+        clean = analyse_symmetry(symbols, xyz)
+        noisy = analyse_symmetry(symbols, xyz + rng.normal(0.0, 0.005, xyz.shape))
+        if noisy.symmetry_number != clean.symmetry_number:
+            changed.append((name, clean, noisy))
+        if clean.strict_point_group or noisy.strict_point_group:
+            near.add(name)
+    assert not changed
+    # the two Jahn-Teller radicals of the set (2E states in C3v) are near-symmetric; nothing else is
+    assert near == {"CH3O", "CH3S"}
+    # facts of the trade: sigma(H2O) = 2, sigma(NH3) = 3, sigma(CH4) = 12, sigma(C6H6) = 12
+    assert [analyse_symmetry(g2[n].get_chemical_symbols(), g2[n].get_positions()).symmetry_number
+            for n in ("H2O", "NH3", "CH4", "C6H6")] == [2, 3, 12, 12]
+
+
+def test_a_jahn_teller_distorted_methoxy_is_reported_as_near_symmetric():
+    # g2's CH3O: O-C-H angles 104.9, 112.4, 112.4 degrees (measured on ASE's geometry below; the Jahn-Teller
+    # distortion of the 2E state): within 0.1 A it passes for C3v (sigma 3, RT ln 3 = 0.65 kcal/mol at
+    # 298 K), but its atoms lie 0.07 A from C3v positions, beyond optimiser noise: the finding says so
+    import ase.collections
+
+    atoms = ase.collections.g2["CH3O"]
+    x = atoms.get_positions()
+    u, v = x[1] - x[0], x[2:] - x[0]
+    angles = np.degrees(np.arccos(v @ u / np.linalg.norm(v, axis=1) / np.linalg.norm(u)))
+    assert sorted(np.round(angles, 1)) == [104.9, 112.4, 112.4]
+    info = analyse_symmetry(atoms.get_chemical_symbols(), x)
+    assert (info.point_group, info.symmetry_number, info.strict_point_group) == ("C3v", 3, "Cs")
+    assert 0.05 <= info.distortion <= 0.1
+    mol = qcthermo.Molecule(atoms.get_chemical_symbols(), x, [1000.0] * 9, multiplicity=2)
+    notes = qcthermo.thermochemistry(mol, qcthermo.Conditions()).notes
+    assert any(n.startswith("warning: near-symmetric: C3v (symmetry number 3) only with atoms up to 0.07 A")
+               and "Cs (symmetry number 1) within 0.04 A" in n for n in notes), notes
+    # an explicit symmetry number is the user's decision: no warning
+    given = qcthermo.Molecule(atoms.get_chemical_symbols(), x, [1000.0] * 9, multiplicity=2, symmetry_number=1)
+    assert not any("near-symmetric" in n for n in qcthermo.thermochemistry(given, qcthermo.Conditions()).notes)
