@@ -95,6 +95,26 @@ _BLOCKS: dict[str, tuple[_Count, ...]] = {
 }
 
 
+#: numbers a program prints more than once in a run and that depend on the molecule alone (xTB's setup box,
+#: at every SCF: "# electrons 32", "# atomic orbitals 32", "# shells 22"): two values are two molecules' logs
+#: spliced together (the head of one, the tail of the other, with no second banner)
+_INVARIANTS: dict[str, tuple[_Count, ...]] = {
+    "xtb": (_count("# electrons", r"# electrons\s+(\d+)"), _count("# atomic orbitals", r"# atomic orbitals\s+(\d+)"),
+            _count("# shells", r"# shells\s+(\d+)")),
+}
+
+
+def invariant_problem(program: str, text: str) -> str | None:
+    """Why a number the program states for the molecule alone takes two values in one run, or None."""
+    for spec in _INVARIANTS.get(program, ()):
+        starts = {spec.literal: _starts(text, spec.literal)}
+        values = sorted({int(m.group(1)) for _, m in _matches(text, (spec,), starts)})
+        if len(values) > 1:
+            return (f"the log states \"{spec.literal}\" as {' and '.join(map(str, values))}: logs of two molecules "
+                    "spliced together? split the file")
+    return None
+
+
 def _starts(text: str, literal: str) -> list[int]:
     """Every index where ``literal`` starts in ``text`` (one ``str.find`` pass over the text)."""
     starts, at = [], text.find(literal)

@@ -88,6 +88,7 @@ def _read(source: LogSource) -> Calculation:
 
 
 def _read_run(source: LogSource) -> Calculation:
+    _refuse(source, checks.invariant_problem(source.program, source.text))
     failure = cclib_data.known_failure(source)
     data, failure = (None, failure) if failure else cclib_data.parse(source)
     found = cclib_data.fields(data, source.program) if data is not None else {}
