@@ -187,20 +187,34 @@ def _row_charge(token: str) -> int:
     return -1
 
 
+@functools.cache
+def _column(index: int) -> re.Pattern:
+    """The ``index``-th whitespace-separated field of every line (one C-level pass over a block)."""
+    return re.compile(rf"^[ \t]*(?:\S+[ \t]+){{{index}}}(\S+)", re.MULTILINE)
+
+
 def _element_problem(text: str, symbols, blocks: list[tuple[_Count, re.Match]]) -> str | None:
-    """Why a geometry block names other elements than the final geometry, atom by atom, or None."""
-    final = _nuclear_charges(symbols)
+    """Why a geometry block names other elements than the final geometry, atom by atom, or None.
+
+    The element column of each block is read as text; a column already found to agree (every step of an
+    optimisation names the same elements the same way: 150 blocks in a Psi4 finite-difference log) is not
+    parsed again."""
+    final, agreed = _nuclear_charges(symbols), set()
     for spec, found in blocks:
         if spec.element is None:
             continue
-        rows = found.group(1).splitlines()
-        charges = np.array([_row_charge(row.split()[spec.element]) for row in rows])
-        if charges.size == final.size and np.any(charges != final):
-            i = int(np.flatnonzero(charges != final)[0])
-            names = _periodic_table()[1]
-            named = names[charges[i]] if 0 < charges[i] < len(names) else rows[i].split()[spec.element]
-            return (f"atom {i + 1} is {symbols[i]} in the final geometry but {named} in another geometry block of "
-                    f"the log (line {text.count(chr(10), 0, found.start()) + 1}): damaged geometry block?")
+        names = tuple(_column(spec.element).findall(found.group(1)))
+        if names in agreed or len(names) != final.size:
+            continue
+        charges = np.array([_row_charge(name) for name in names])
+        if np.all(charges == final):
+            agreed.add(names)
+            continue
+        i = int(np.flatnonzero(charges != final)[0])
+        table = _periodic_table()[1]
+        named = table[charges[i]] if 0 < charges[i] < len(table) else names[i]
+        return (f"atom {i + 1} is {symbols[i]} in the final geometry but {named} in another geometry block of "
+                f"the log (line {text.count(chr(10), 0, found.start()) + 1}): damaged geometry block?")
     return None
 
 
@@ -328,7 +342,7 @@ class _Restated:
     (group 1: the value), whether only the last one counts (else any may match: Psi4 prints its
     finite-difference SCFs after the reference's) and whether it is an SCF-level energy (not compared when
     the final energy is a correlated one, which it does not restate); ``requires``: a phrase without which
-    the statement is not about the final geometry."""
+    the statement is not about the final geometry (the statement is then read after its last occurrence)."""
 
     literal: str
     regex: re.Pattern
@@ -404,9 +418,11 @@ def restated_energy_problem(program: str, text: str, energy: float, method: str 
                     f"{', '.join(f'{v:.7f}' for v in archive)} Eh: a stray or damaged energy line?")
         return None
     for statement in _RESTATEMENTS.get(program, ()):
-        if (statement.scf_level and _correlated(method)) or (statement.requires and statement.requires not in text):
+        # a statement that needs a phrase is looked for after its last occurrence only (found from the end)
+        start = text.rfind(statement.requires) if statement.requires else 0
+        if (statement.scf_level and _correlated(method)) or start < 0:
             continue
-        values = [float(v) for v in statement.regex.findall(lines_with(text, statement.literal.strip("\n")))]
+        values = [float(v) for v in statement.regex.findall(lines_with(text[start:], statement.literal.strip("\n")))]
         values = values[-1:] if statement.last else values
         if values and min(abs(v - energy) for v in values) > RESTATED_TOLERANCE_EH:
             return (f"the final energy reads {energy!r} Eh, but the log restates it as {values[-1]!r} Eh "
