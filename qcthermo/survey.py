@@ -283,7 +283,7 @@ def read_one(reader: Reader, path: str, index: Any = None) -> Outcome:
     """Steps 2 and 3 of the cache lookup for one file: hash it and ask ``index`` (anything with
     ``find(digest) -> Entry | None``; None: no cache), else parse it. Never raises."""
     digest = None
-    if index is not None:
+    if index is not None and not _beyond_size_cap(path):
         try:
             digest = parse_cache.file_digest(path)
         except OSError as err:
@@ -294,6 +294,17 @@ def read_one(reader: Reader, path: str, index: Any = None) -> Outcome:
                 Outcome("error", entry.reason, digest, "digest")
     kind, payload = parse_one(reader, path)
     return Outcome(kind, payload, digest)
+
+
+def _beyond_size_cap(path: str) -> bool:
+    """True for a file larger than the readers' size cap (docs/readers.md): it is not hashed, since the
+    reader refuses it from its size alone (a multi-GB file would otherwise be read once to no end)."""
+    from .readers.source import max_log_bytes
+
+    try:
+        return os.path.getsize(path) > max_log_bytes()
+    except OSError:
+        return False
 
 
 def read_chunk(reader: Reader, paths: list[str], index: Any = None) -> list[Outcome]:

@@ -100,6 +100,18 @@ def test_compressed_logs_are_surveyed_as_the_plain_one(tmp_path, samples, cache_
         assert calc.energy == plain.energy and np.array_equal(calc.frequencies, plain.frequencies)
 
 
+def test_a_log_beyond_the_size_cap_is_refused_unhashed(tmp_path, samples, cache_dir, monkeypatch):
+    # the readers' cap (QCTHERMO_MAX_LOG_MB) holds in the survey too: an error row, and the file is not hashed
+    root = tmp_path / "big"
+    root.mkdir()
+    (root / "ts.out").write_bytes((samples / "solvent" / "ts_hydration.out").read_bytes())  # 1.5 MB
+    (root / "h2.out").write_bytes((samples / "gas" / "h2.out").read_bytes())  # 84 kB
+    monkeypatch.setenv("QCTHERMO_MAX_LOG_MB", "1")
+    result = survey(root, jobs=1)
+    assert "file beyond 1 MB, the most a log is read to" in result.errors["ts.out"]
+    assert sorted(result.calculations) == ["h2.out"] and result.stats["hashed"] == 1
+
+
 def test_symlink_loops_end_and_linked_directories_are_entered_once(tmp_path):
     root = tmp_path / "tree"
     (root / "a").mkdir(parents=True)
