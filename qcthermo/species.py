@@ -25,6 +25,7 @@ from . import ensemble
 from .errors import QcthermoError
 from .records import Calculation, Conditions, Molecule, ThermoResult
 from .rotors import ROTOR_WARNING
+from .symmetry import NEAR_SYMMETRY_WARNING
 from .units import K_B_EH
 
 
@@ -478,7 +479,8 @@ def _refused_text(c: Conformer, single_points: list[Calculation], max_rmsd: floa
 
 def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Conditions) -> list[Finding]:
     """Run the engine on one conformer; an engine refusal excludes it with the reason, the hindered-rotor
-    treatment's warnings (an ambiguous torsional mode, a torsion left harmonic) become findings."""
+    treatment's warnings (an ambiguous torsional mode, a torsion left harmonic) and a near-symmetric
+    structure (docs/symmetry.md) become findings."""
     from .thermo import thermochemistry
 
     overrides: dict[str, Any] = {"transition_state": options.transition_state, "name": name}
@@ -491,8 +493,8 @@ def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Condit
     except (QcthermoError, ValueError) as err:
         c.status, c.reason = "excluded", " ".join(str(err).split())
         return [Finding("error", c.path, f"species {name!r}: thermochemistry refused: {c.reason}")]
-    return [Finding("warning", c.path, f"species {name!r}: {n.removeprefix(ROTOR_WARNING)}")
-            for n in c.thermo.notes if n.startswith(ROTOR_WARNING)]
+    return [Finding("warning", c.path, f"species {name!r}: {n.removeprefix(ROTOR_WARNING).removeprefix('warning: ')}")
+            for n in c.thermo.notes if n.startswith((ROTOR_WARNING, NEAR_SYMMETRY_WARNING))]
 
 
 def _chirality_findings(result: SpeciesResult, images: np.ndarray) -> list[Finding]:
@@ -572,9 +574,6 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
                                                 settings["single_point_rmsd"]))
     cond = species_conditions(conditions, options)
     findings.extend(problem for c in result.used for problem in _thermo(c, name, options, cond))
-    findings.extend(Finding("warning", c.path, f"species {name!r}: {note.removeprefix('warning: ')}")
-                    for c in result.used if c.thermo is not None
-                    for note in c.thermo.notes if note.startswith("warning: near-symmetric"))
     if len(result.levels) > 1:
         findings.append(Finding("error", name, f"species {name!r}: conformers at different levels of theory "
                                                f"({', '.join(result.levels)})"))

@@ -46,6 +46,8 @@ DEFAULT_TOLERANCE = 0.1
 #: noise seeds each). A group found at the default tolerance but not at this one is a near-symmetry (a
 #: Jahn-Teller-distorted CH3O: C3v within 0.1 A, Cs within 0.04 A), reported with the size of the distortion
 NEAR_SYMMETRY_TOLERANCE = 0.04
+#: how the thermochemistry's note on a near-symmetric structure starts (species.py makes it a warning finding)
+NEAR_SYMMETRY_WARNING = "warning: near-symmetric: "
 #: angstrom: the precision to which the size of such a distortion is found (by bisection)
 DISTORTION_RESOLUTION = 0.005
 #: moments of inertia closer than this (relative) are treated as possibly degenerate; a loose value

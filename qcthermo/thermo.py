@@ -318,10 +318,10 @@ def _symmetry(molecule: Molecule, linear: bool, trust_given: bool) -> tuple[str 
 def near_symmetry_note(info) -> str:
     """The warning for a near-symmetric structure (:class:`~qcthermo.symmetry.SymmetryInfo` with a
     ``strict_point_group``): the group used, the distortion, and the symmetry number of the strict group."""
-    from .symmetry import NEAR_SYMMETRY_TOLERANCE, symmetry_number
+    from .symmetry import NEAR_SYMMETRY_TOLERANCE, NEAR_SYMMETRY_WARNING, symmetry_number
 
     strict = info.strict_point_group
-    return (f"warning: near-symmetric: {info.point_group} (symmetry number {info.symmetry_number}) only with atoms "
+    return (f"{NEAR_SYMMETRY_WARNING}{info.point_group} (symmetry number {info.symmetry_number}) only with atoms "
             f"up to {info.distortion:.2f} A from their images, {strict} (symmetry number "
             f"{symmetry_number(strict)}) within {NEAR_SYMMETRY_TOLERANCE} A, beyond optimiser noise (~0.005 A): "
             f"a distorted (Jahn-Teller?) structure? set symmetry_number = {symmetry_number(strict)} if the "
