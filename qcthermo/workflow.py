@@ -986,13 +986,17 @@ def _display(subject: str) -> str:
     return Path(subject).name if ("/" in subject or "\\" in subject) else subject
 
 
-def _write_table(df, out_dir: Path, stem: str, caption: str, notes: list[str]) -> list[Path]:
-    """The full table as csv and xlsx, the paper's columns (:func:`paper_columns`) as Markdown and LaTeX."""
-    from .export.tables import paper_columns, write_tables
+def _write_table(df, out_dir: Path, stem: str, caption: str, notes: list[str], energy_unit: str = "kcal/mol",
+                 paper_caption: str | None = None) -> list[Path]:
+    """The full table as csv and xlsx, what a paper prints (:func:`~qcthermo.export.tables.paper_table`) as
+    Markdown and LaTeX, under ``paper_caption`` when it differs."""
+    from .export.tables import paper_table, write_tables
 
-    common = dict(caption=caption, notes=notes, label=f"tab:{stem}")
-    return [*write_tables(df, out_dir, stem, formats=("csv", "xlsx"), **common),
-            *write_tables(df[paper_columns(df, stem)], out_dir, stem, formats=("md", "tex"), **common)]
+    paper = paper_table(df, stem, energy_unit)
+    common = dict(notes=notes, label=f"tab:{stem}")
+    return [*write_tables(df, out_dir, stem, formats=("csv", "xlsx"), caption=caption, **common),
+            *write_tables(paper.frame, out_dir, stem, formats=("md", "tex"), caption=paper_caption or caption,
+                          row_notes=paper.row_notes, sections=paper.sections, **common)]
 
 
 def _xyz_blocks(results: RunResults) -> list:
@@ -1069,21 +1073,25 @@ def _simulation_record(sim) -> dict[str, Any] | None:
 
 def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
     from .export.conformers import write_conformers
+    from .export.tables import SPECIES_RELATIVE
     from .export.xyz import write_xyz_file
     from .fileio import atomic_write, csv_text, display, printable_frame
 
     # text files show a non-UTF-8 file name as \xNN by themselves (atomic_open); a workbook is binary, so the
     # tables and their notes are given in that form
     written = [atomic_write(out_dir / "survey.csv", csv_text(results.survey))]
-    written += _write_table(printable_frame(results.species), out_dir, "species", "Species thermochemistry, "
-                            f"hartree per molecule; {display(caption_context(results))}.",
-                            [display(n) for n in _table_notes(results)])
+    context = display(caption_context(results))
+    written += _write_table(printable_frame(results.species), out_dir, "species",
+                            f"Species thermochemistry, hartree per molecule; {context}.",
+                            [display(n) for n in _table_notes(results)], results.energy_unit,
+                            f"Species thermochemistry, {SPECIES_RELATIVE.format(unit=results.energy_unit)}; "
+                            f"{context}.")
     if len(results.reactions):
         names, subjects = _reaction_subjects(results)
         written += _write_table(printable_frame(results.reactions), out_dir, "reactions", "Reaction energies and "
                                 f"free energies of activation, {results.energy_unit}; "
                                 f"{display(caption_context(results, names))}.",
-                                [display(n) for n in _table_notes(results, subjects)])
+                                [display(n) for n in _table_notes(results, subjects)], results.energy_unit)
     if results.heats_of_formation is not None and len(results.heats_of_formation):
         written += _write_table(results.heats_of_formation, out_dir, "heats_of_formation",
                                 formation_caption(results), [display(n) for n in _table_notes(
@@ -1094,7 +1102,7 @@ def _write_all(results: RunResults, out_dir: Path) -> list[Path]:
             written += _write_table(printable_frame(df), out_dir, stem, f"{what} (solutes at 1 mol/L; "
                                     f"{display(solution_caption(results, stem))}); "
                                     f"{display(caption_context(results, names))}.",
-                                    [display(n) for n in _table_notes(results, set(df["name"]))])
+                                    [display(n) for n in _table_notes(results, set(df["name"]))], results.energy_unit)
     for stem, df in (("rates", results.rates), ("arrhenius", results.arrhenius),
                      ("energy_span", results.energy_span)):
         if df is not None and len(df):

@@ -2,6 +2,9 @@
 
 import hashlib
 import json
+import re
+import shutil
+import subprocess
 
 import numpy as np
 import pytest
@@ -421,21 +424,69 @@ single_point = "{s}/sp/*_mp2.out"
 def test_paper_tables_keep_the_papers_columns_and_csv_keeps_all(scenario, tmp_path):
     import pandas as pd
 
-    from qcthermo.export.tables import paper_columns
+    from qcthermo.export.tables import paper_table
 
     out = tmp_path / "tables"
     scenario.write(out)
+    tables = {}
     for stem, df in (("reactions", scenario.reactions), ("species", scenario.species)):
         assert list(pd.read_csv(out / f"{stem}.csv").columns) == list(df.columns)
-        columns = paper_columns(df, stem)
+        tables[stem] = list(paper_table(df, stem).frame.columns)
         header = next(line for line in (out / f"{stem}.md").read_text().splitlines() if line.startswith("| "))
-        assert header.count(" | ") + 1 == len(columns) < len(df.columns)
-    reactions = paper_columns(scenario.reactions, "reactions")
-    # RRHO and the chosen model side by side (docs/tables.md); one reverse barrier, the model's
+        assert header.count(" | ") + 1 == len(tables[stem]) < len(df.columns)
+    # the chosen model only (docs/tables.md), named in the caption: dE, dH, dG, dG‡ and k with its unit
+    assert tables["reactions"] == ["reaction", "dE_kcal_mol", "dH_kcal_mol", "dG_kcal_mol", "dG_act_kcal_mol",
+                                   "k_forward", "k_unit"]
     model = scenario.conditions.low_mode_model.replace("-", "_")
-    assert {"dG_kcal_mol", f"dG_{model}_kcal_mol", f"dG_{model}_act_kcal_mol"} <= set(reactions)
-    assert [c for c in reactions if "_rev_" in c] == [f"dG_{model}_act_rev_kcal_mol"]
-    assert "T_K" not in reactions and "k_reverse" not in reactions
+    reactions = scenario.reactions.set_index("reaction")
+    md = (out / "reactions.md").read_text()
+    for name, row in reactions.iterrows():
+        if row["status"] == "ok" and row[f"dG_{model}_act_kcal_mol"] == row[f"dG_{model}_act_kcal_mol"]:
+            assert f" {row[f'dG_{model}_act_kcal_mol']:.2f} |" in md  # the model's barrier, not RRHO's
+    # species: energies relative within formula, charge and level, in the run's unit, no hartree
+    assert "Eₕ" not in (out / "species.md").read_text().split("\n\n")[1]
+    assert {"dE_elec_kcal_mol", "dH_kcal_mol", "dG_kcal_mol"} <= set(tables["species"])
+
+
+PAPER_TABLES = ("species", "reactions", "pka", "redox", "heats_of_formation", "conformers")
+
+
+@pytest.mark.skipif(shutil.which("pdflatex") is None, reason="pdflatex is not installed")
+def test_paper_tables_of_the_sample_run_fit_the_page(scenario, tmp_path):
+    # pdflatex itself measures the width: each .tex of the sample run, in a minimal article with booktabs and
+    # the packages the file's first line names, compiles without an "Overfull \hbox" (a table wider than the
+    # 345 pt text width of article's default page). Before the paper layout: species.tex 761 pt and
+    # reactions.tex 948 pt too wide.
+    out = tmp_path / "out"
+    scenario.write(out)
+    assert all((out / f"{stem}.tex").is_file() for stem in PAPER_TABLES)
+    for stem in PAPER_TABLES:
+        tex = (out / f"{stem}.tex").read_text(encoding="utf-8")
+        packages = re.fullmatch(r"% requires \\usepackage\{([\w,]+)\}", tex.splitlines()[0]).group(1)
+        folder = tmp_path / stem
+        folder.mkdir()
+        (folder / "doc.tex").write_text("\n".join([r"\documentclass{article}", r"\usepackage{booktabs}",
+                                                   rf"\usepackage{{{packages}}}", r"\begin{document}", tex,
+                                                   r"\end{document}"]), encoding="utf-8")
+        proc = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "doc.tex"], cwd=folder,
+                              capture_output=True, text=True, timeout=120)
+        log = (folder / "doc.log").read_text(encoding="utf-8", errors="replace")
+        assert proc.returncode == 0, f"{stem}.tex: {proc.stdout[-1500:]}"
+        assert "Overfull \\hbox" not in log, f"{stem}.tex: " + "; ".join(re.findall(r"Overfull \\hbox \([^)]*\)", log))
+
+
+def test_species_paper_table_is_relative_within_formula_and_level(scenario, tmp_path):
+    # HNC above HCN (same formula CHN, same level B3LYP/6-31G*) by the reaction's own dG: the species table's
+    # relative G is G(HNC) - G(HCN), the hcn_isomerisation row of reactions.csv (the same two logs, printed
+    # energies in sample_outputs/gas/hcn.out and hnc.out); the lowest of a group reads 0.00
+    from qcthermo.export.tables import paper_table
+
+    paper = paper_table(scenario.species, "species", "kcal/mol")
+    frame = paper.frame.set_index("species")
+    dg = scenario.reactions.set_index("reaction").loc["hcn_isomerisation", "dG_qrrho_kcal_mol"]
+    assert frame.loc["hnc", "dG_kcal_mol"] == pytest.approx(dg, abs=1e-9)
+    assert frame.loc["hcn", "dG_kcal_mol"] == 0.0
+    assert paper.sections[list(frame.index).index("hnc")] == "B3LYP/6-31G*"
 
 
 def test_run_results_repr_is_a_short_summary(results):

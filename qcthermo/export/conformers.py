@@ -98,8 +98,8 @@ def plot_conformers(table, unit: str, temperature: float):
 
 
 def write_conformers(results, out_dir: str | Path, caption_context: str, write_table) -> list[Path]:
-    """conformers.csv/.xlsx/.md/.tex (``write_table(df, out_dir, stem, caption, notes)``) and conformers.svg
-    into ``out_dir``; nothing when no species has several conformer files. Returns the paths written."""
+    """conformers.csv/.xlsx/.md/.tex (``write_table(df, out_dir, stem, caption, notes, energy_unit)``) and
+    conformers.svg into ``out_dir``; nothing when no species has several conformer files. Returns the paths written."""
     from .figures import profile_temperature_index, save_figure
 
     table = conformer_table(results)
@@ -108,7 +108,7 @@ def write_conformers(results, out_dir: str | Path, caption_context: str, write_t
     unit = results.energy_unit
     caption = (f"Conformers: free energy relative to each species' lowest conformer, {unit}, and Boltzmann "
                f"population (mirror images counted); {caption_context}.")
-    written = write_table(table, Path(out_dir), "conformers", caption, [])
+    written = write_table(table, Path(out_dir), "conformers", caption, [], unit)
     temperature = float(np.atleast_1d(np.asarray(results.conditions.temperature, dtype=float))[
         profile_temperature_index(results)])
     written.append(save_figure(plot_conformers(table, unit, temperature), Path(out_dir) / "conformers.svg"))

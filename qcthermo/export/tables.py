@@ -31,6 +31,8 @@ LATEX_LONG_PACKAGES = ("booktabs", "longtable")
 #: text columns with a cell longer than this are set as wrapping paragraphs of WRAP_WIDTH
 WRAP_CHARACTERS = 40
 WRAP_WIDTH = "5cm"
+#: the type size of the LaTeX tables (8 pt in a 10 pt document, as journals set their tables)
+TABLE_SIZE = "footnotesize"
 
 
 # ---------------------------------------------------------------------------------------------------
@@ -110,6 +112,7 @@ WORDS = {
     "charge": "Charge",
     "multiplicity": "Multiplicity",
     "conformers": "Conformers",
+    "conformer": "Conformer",
     "duplicates": "Duplicates",
     "point_group": "Point group",
     "standard_state": "Standard state",
@@ -141,8 +144,10 @@ WORDS = {
     "electron": "Electron",
     "reference": "Reference",
     "E_abs_reference_V": "E_abs(reference) / V",
+    "imaginary_frequency_cm1": "ν̃ (imag) / cm⁻¹",
 }
 WORDS_TEX = {"symmetry_number": r"$\sigma$",
+             "imaginary_frequency_cm1": r"$\tilde{\nu}_{\mathrm{imag}}$ / cm$^{-1}$",
              "dfH_0K_kJ_mol": r"$\Delta_{\mathrm{f}}H^{\circ}(0\,\mathrm{K})$ / kJ\,mol$^{-1}$",
              "dfH_298_kJ_mol": r"$\Delta_{\mathrm{f}}H^{\circ}(298.15\,\mathrm{K})$ / kJ\,mol$^{-1}$",
              "H298_minus_H0_kJ_mol": r"$H(298.15\,\mathrm{K}) - H(0)$ / kJ\,mol$^{-1}$",
@@ -347,6 +352,7 @@ _LATEX_SPECIAL = {
     "Å": r"\AA{}",
     "⁻": r"\textsuperscript{-}",
     "¹": r"\textsuperscript{1}",
+    "⁺": r"\textsuperscript{+}",
 }
 #: "^-1", "^2", "^(-1)" in plain text (units in captions and notes)
 _SUPERSCRIPT = re.compile(r"\^(?:\((-?\d+)\)|(-?\d+))")
@@ -424,58 +430,183 @@ def _rows(columns: list[_Column]) -> Iterable[list[str | None]]:
     return ([c.cells[i] for c in columns] for i in range(n))
 
 
-#: columns the csv and xlsx keep but the tables for people (md, tex, the report) leave out, by the start of their name:
-#: what a reader of the paper does not need, or what the caption and notes already say
-_NOT_IN_PAPER_TABLES = {
-    "species": ("charge", "multiplicity", "duplicates", "S_", "H_", "standard_state", "transition_state",
-                "populations"),
-    "reactions": ("dE_zpe_act", "dH_act", "k_reverse"),
+#: model tags of the chosen low-mode model in column names (longest first); RRHO columns have none
+MODEL_TAGS = ("qrrho_enthalpy", "quasi_harmonic", "qrrho")
+
+#: what a paper prints of each table, in order; "{m}" is the chosen model's tag (its columns replace the RRHO
+#: ones), "{u}" the energy unit's suffix. Columns of the csv not named here stay in the csv, xlsx and SI.
+PAPER_COLUMNS = {
+    "species": ("species", "T_K", "formula", "dE_elec_{u}", "dH_{m}_{u}", "dG_{m}_{u}", "point_group",
+                "symmetry_number", "imaginary_frequency_cm1", "dG_solv_{u}"),
+    "reactions": ("reaction", "T_K", "dE_{u}", "dH_{m}_{u}", "dG_{m}_{u}", "dG_{m}_act_{u}", "k_forward", "k_unit"),
+    "pka": ("name", "T_K", "dG_deprotonation_{u}", "reference_acid", "reference_pKa", "pKa"),
+    "redox": ("name", "T_K", "electrons", "protons", "pH", "dG_{u}", "reference", "E_V"),
+    "heats_of_formation": ("species", "formula", "route", "dfH_0K_kJ_mol", "dfH_298_kJ_mol"),
+    "conformers": ("species", "conformer", "T_K", "dG_{u}", "population"),
 }
+#: footnotes anchored in a row of the paper tables, from the row's columns, as (status, template): a template
+#: is used when the row has that status (None: any) and a value in every column it names. They hold what is
+#: too long for a column: the equation, the acid and base, ...
+ROW_NOTES = {
+    "reactions": ((None, "{equation}"),),
+    "pka": ((None, "{acid} -> {base} + H+"),),
+    "redox": ((None, "{oxidised} + n e- + m H+ -> {reduced}; electron: {electron}"),),
+    "heats_of_formation": ((None, "source: {source}"),),
+    "conformers": (("duplicate", "a duplicate of {same_as}, not counted"), ("used", "the mirror image of {same_as}"),
+                   ("used", "stands for {mirror_images} mirror images")),
+}
+#: the paper tables group their rows under a heading per level of theory (energies of different levels are
+#: not comparable), except the conformer table (one level per species)
+SECTION_COLUMN = "level"
+#: the caption's note on the species table's relative energies (docs/tables.md)
+SPECIES_RELATIVE = ("energies relative to the structure of lowest G of the same formula, charge and level of "
+                    "theory at each temperature, in {unit}; absolute energies in hartree in species.csv and "
+                    "species.xlsx")
 
 
-def paper_columns(df, stem: str) -> list[str]:
-    """The columns of the Markdown and LaTeX tables: those of ``df`` less :data:`_NOT_IN_PAPER_TABLES`
-    (H_Eh stays), of the reverse barriers only the chosen model's ΔG‡ (the last one), no T_K at one
-    temperature (the caption gives it), no status or notes when every row is "ok" and has none."""
-    reverse = [c for c in df.columns if c.startswith("dG") and "_act_rev_" in c]
+@dataclass(frozen=True)
+class PaperTable:
+    """A table as a paper prints it: ``frame`` (the chosen model's columns), per row the notes anchored in
+    it (``row_notes``), and per row the heading it falls under (``sections``, the level of theory; None
+    when the table has no headings). Rows are grouped by heading, in the order the headings first appear."""
 
-    def wanted(column: str) -> bool:
-        if column.startswith(_NOT_IN_PAPER_TABLES.get(stem, ())):
-            return column == "H_Eh"
-        if "_act_rev_" in column:
-            return column == reverse[-1]
-        if column == "T_K":
-            return df[column].nunique() > 1
-        if column == "status":
-            return not (df[column] == "ok").all()
-        if column == "notes":
-            return bool(df[column].fillna("").astype(str).str.strip().any())
-        return True
+    frame: Any
+    row_notes: list[list[str]]
+    sections: list[str] | None
 
-    return [c for c in df.columns if wanted(c)]
+
+def model_tag_of(df) -> str:
+    """The chosen low-mode model's tag among ``df``'s columns ("qrrho", ...), "" for RRHO."""
+    names = " ".join(f" {c}" for c in df.columns)
+    return next((m for m in MODEL_TAGS if f"_{m}_" in names), "")
+
+
+def _resolve(pattern: str, df, model: str, unit: str) -> str | None:
+    """The column of ``df`` a :data:`PAPER_COLUMNS` pattern names: the chosen model's, else the plain one."""
+    for tag in (f"_{model}" if model else "", ""):
+        name = pattern.replace("_{m}", tag).replace("{u}", unit)
+        if name in df.columns:
+            return name
+    return None
+
+
+def paper_columns(df, stem: str, energy_unit: str = "kcal/mol") -> list[str]:
+    """The columns of ``df`` a paper prints (:data:`PAPER_COLUMNS`, the chosen model's only); T_K only
+    over a temperature range (the caption gives a single one). A table without a layout keeps them all."""
+    from ..units import unit_suffix
+
+    if stem not in PAPER_COLUMNS:
+        return list(df.columns)
+    model, unit = model_tag_of(df), unit_suffix(energy_unit)
+    columns = [_resolve(p, df, model, unit) for p in PAPER_COLUMNS[stem]]
+    return [c for c in dict.fromkeys(columns) if c and (c != "T_K" or df[c].nunique() > 1)]
+
+
+def relative_species(df, energy_unit: str = "kcal/mol"):
+    """species.csv with dE_elec, dH and dG (chosen model) in ``energy_unit`` relative to the structure of
+    lowest G of the same formula, charge and level of theory at the same temperature (:data:`SPECIES_RELATIVE`)."""
+    import pandas as pd
+
+    from ..units import hartree_to, unit_suffix
+
+    model, unit = model_tag_of(df), unit_suffix(energy_unit)
+    tag = f"_{model}" if model else ""
+    g = f"G{tag}_Eh"
+    h = f"H{tag}_Eh" if f"H{tag}_Eh" in df.columns else "H_Eh"
+    keys = [k for k in ("formula", "charge", "level", "T_K") if k in df.columns]
+    reference = pd.Series(index=df.index, dtype=object)
+    for _, group in df.groupby(keys, dropna=False, sort=False):
+        g_values = group[g].astype(float)
+        reference[group.index] = g_values.idxmin() if g_values.notna().any() else None
+    out = df.copy()
+    ref = [r if r is not None and r == r else None for r in reference]
+    for name, column in (("dE_elec", "E_elec_Eh"), (f"dH{tag}", h), (f"dG{tag}", g)):
+        base = [df.at[r, column] if r is not None else float("nan") for r in ref]
+        out[f"{name}_{unit}"] = hartree_to(df[column].astype(float) - pd.Series(base, index=df.index, dtype=float),
+                                           energy_unit)
+    return out
+
+
+def paper_table(df, stem: str, energy_unit: str = "kcal/mol") -> PaperTable:
+    """What the Markdown and LaTeX tables of ``stem`` print (:class:`PaperTable`): the chosen model's
+    columns (:func:`paper_columns`; species energies relative, :func:`relative_species`), the row's notes,
+    its equation or other long text as footnotes anchored in the row, rows under a heading per level."""
+    df = df.reset_index(drop=True)
+    if stem == "species":
+        df = relative_species(df, energy_unit)
+    sections = None
+    if SECTION_COLUMN in df.columns and stem != "conformers":
+        levels = [str(v) if isinstance(v, str) and v.strip() else "level of theory not known" for v in df["level"]]
+        order = {level: i for i, level in enumerate(dict.fromkeys(levels))}
+        df = df.iloc[sorted(range(len(df)), key=lambda i: order[levels[i]])].reset_index(drop=True)
+        sections = sorted(levels, key=order.__getitem__)
+    notes = [_row_notes(row, stem) for _, row in df.iterrows()]
+    frame = df[paper_columns(df, stem, energy_unit)]
+    model = model_tag_of(frame)
+    # one model in the table: the caption names it, the headers need no subscript
+    return PaperTable(frame.rename(columns=lambda c: c.replace(f"_{model}_", "_")) if model else frame, notes,
+                      sections)
+
+
+def _row_notes(row, stem: str) -> list[str]:
+    """The footnotes of one row: :data:`ROW_NOTES`, else a status other than "ok" or "used", and the row's
+    notes."""
+    values = {k: v for k, v in row.items() if not _missing(v) and str(v).strip()}
+    status = values.get("status", "ok")
+    if values.get("mirror_images") == 1:
+        del values["mirror_images"]  # a structure that stands for itself alone
+    notes = [t.format_map(values) for when, t in ROW_NOTES.get(stem, ())
+             if when in (None, status) and all(f in values for f in re.findall(r"{(\w+)}", t))]
+    if status not in ("ok", "used") and not any(when == status for when, _ in ROW_NOTES.get(stem, ())):
+        notes.append(str(status))
+    if "notes" in values:
+        notes.append(" ".join(str(values["notes"]).split()))
+    return notes
+
+
+def _anchored(row_notes: Sequence[Sequence[str]] | None, n_rows: int) -> tuple[list[list[str]], list[str]]:
+    """Per row the marks (a, b, ...) of its notes, and the notes in the order of their marks (a note shared
+    by several rows has one mark)."""
+    texts: dict[str, str] = {}
+    marks = []
+    for notes in row_notes or [[]] * n_rows:
+        marks.append([texts.setdefault(n, _note_mark(len(texts))) for n in dict.fromkeys(notes)])
+    return marks, list(texts)
 
 
 # ---------------------------------------------------------------------------------------------------
 # Markdown
 
 
-def to_markdown(df, caption: str, notes: Iterable[str] = ()) -> str:
+def to_markdown(df, caption: str, notes: Iterable[str] = (), row_notes: Sequence[Sequence[str]] | None = None,
+                sections: Sequence[str] | None = None) -> str:
     """A pipe table with a caption line above and the notes as a list below.
 
     Numbers are right-aligned with a fixed number of decimals per column; missing values are empty cells.
+    ``row_notes`` (per row): footnotes marked ᵃ, ᵇ, ... in the row's first cell and listed first;
+    ``sections`` (per row): a heading row in bold wherever it changes.
     """
     columns = _columns(df)
+    marks, anchored = _anchored(row_notes, len(df))
     lines = [f"Table: {md_text(plain_typeset(' '.join(caption.split())))}", ""]
     lines.append("| " + " | ".join(md_text(human_header(c.name, "md")) for c in columns) + " |")
     lines.append("|" + "|".join("---:" if c.numeric else ":---" for c in columns) + "|")
-    for row in _rows(columns):
+    for i, row in enumerate(_rows(columns)):
+        if sections is not None and (i == 0 or sections[i] != sections[i - 1]):
+            lines.append("| " + " | ".join([f"**{md_text(sections[i])}**"] + [""] * (len(columns) - 1)) + " |")
         cells = [_md_cell(cell, c) for cell, c in zip(row, columns, strict=True)]
+        cells[0] += "".join(m.translate(_UNICODE_LETTERS) for m in marks[i])
         lines.append("| " + " | ".join(cells) + " |")
-    notes = [" ".join(str(n).split()) for n in notes]
+    notes = [f"{_note_mark(i).translate(_UNICODE_LETTERS)} {n}" for i, n in enumerate(anchored)] + \
+        [" ".join(str(n).split()) for n in notes]
     if notes:
         lines.append("")
         lines += [f"- {md_text(plain_typeset(n))}" for n in notes]
     return "\n".join(lines) + "\n"
+
+
+#: superscript letters for the footnote marks of Markdown (Unicode has no superscript q)
+_UNICODE_LETTERS = str.maketrans("abcdefghijklmnoprstuvwxyz", "ᵃᵇᶜᵈᵉᶠᵍʰⁱʲᵏˡᵐⁿᵒᵖʳˢᵗᵘᵛʷˣʸᶻ")
 
 
 _UNICODE_SUBSCRIPTS = str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉")
@@ -509,33 +640,45 @@ def display_cells(df) -> tuple[list[str], list[bool], list[list[str]]]:
 # LaTeX
 
 
-def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = None) -> str:
-    """A booktabs table: caption, header with typeset symbols and units, right-aligned numbers with a
-    fixed number of decimals per column (so the decimal points line up), "--" for missing values, and
-    the notes as a footnote block below the tabular. Long tables (LONGTABLE_ROWS rows or more) become a
-    longtable that repeats its header on every page. The packages needed are named in the first line.
+def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = None,
+             row_notes: Sequence[Sequence[str]] | None = None, sections: Sequence[str] | None = None) -> str:
+    """A booktabs table: caption, header with typeset symbols and their units on a second header line
+    (a unit shared by neighbouring columns spans them), right-aligned numbers with a fixed number of
+    decimals per column (so the decimal points line up), "--" for missing values, and the notes as a
+    small-print block below the tabular. ``row_notes`` (per row) become footnotes whose marks (a, b, ...)
+    sit in the row's first cell; ``sections`` (per row) a heading row wherever it changes. Long tables
+    (LONGTABLE_ROWS rows or more) become a longtable that repeats its header on every page. The packages
+    needed are named in the first line.
     """
     columns = _columns(df)
+    marks, anchored = _anchored(row_notes, len(df))
     spec = "".join(_tex_column_spec(c) for c in columns)
-    header = " & ".join(human_header(c.name, "tex") for c in columns) + r" \\"
-    body = [
-        " & ".join("--" if cell is None else _tex_cell(cell, c) for cell, c in zip(row, columns, strict=True)) + r" \\"
-        for row in _rows(columns)
-    ]
+    header = _tex_header(columns)
+    body = []
+    for i, row in enumerate(_rows(columns)):
+        if sections is not None and (i == 0 or sections[i] != sections[i - 1]):
+            body += ([r"\addlinespace"] if i else []) + \
+                [rf"\multicolumn{{{len(columns)}}}{{l}}{{\emph{{{latex_escape(sections[i])}}}}} \\"]
+        cells = ["--" if cell is None else _tex_cell(cell, c) for cell, c in zip(row, columns, strict=True)]
+        if marks[i]:
+            cells[0] += rf"\textsuperscript{{{','.join(marks[i])}}}"
+        body.append(" & ".join(cells) + r" \\")
     caption_tex = r"\caption{" + latex_escape(" ".join(caption.split())) + "}"
-    label_tex = r"\label{" + latex_escape(label) + "}" if label else ""
-    footnotes = _tex_notes(notes)
-    if len(body) >= LONGTABLE_ROWS:
+    label_tex = r"\label{" + re.sub(r"[^A-Za-z0-9:_.-]", "-", label) + "}" if label else ""
+    footnotes = _tex_notes(anchored, notes)
+    if len(df) >= LONGTABLE_ROWS:
         lines = [
             f"% requires \\usepackage{{{','.join(LATEX_LONG_PACKAGES)}}}",
+            rf"\begin{{{TABLE_SIZE}}}",
+            r"\setlength{\tabcolsep}{4pt}",
             rf"\begin{{longtable}}{{{spec}}}",
             caption_tex + label_tex + r" \\",
             r"\toprule",
-            header,
+            *header,
             r"\midrule",
             r"\endfirsthead",
             r"\toprule",
-            header,
+            *header,
             r"\midrule",
             r"\endhead",
             r"\bottomrule",
@@ -543,19 +686,20 @@ def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = No
             *body,
             r"\end{longtable}",
             *footnotes,
+            rf"\end{{{TABLE_SIZE}}}",
         ]
     else:
         lines = [
             f"% requires \\usepackage{{{','.join(LATEX_PACKAGES)}}}",
             r"\begin{table}[htbp]",
             r"\centering",
-            r"\small",
+            rf"\{TABLE_SIZE}",
             r"\setlength{\tabcolsep}{4pt}",
             caption_tex,
             *([label_tex] if label_tex else []),
             rf"\begin{{tabular}}{{{spec}}}",
             r"\toprule",
-            header,
+            *header,
             r"\midrule",
             *body,
             r"\bottomrule",
@@ -564,6 +708,26 @@ def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = No
             r"\end{table}",
         ]
     return "\n".join(lines) + "\n"
+
+
+def _tex_header(columns: list[_Column]) -> list[str]:
+    """The header lines: the typeset names, then (when some column has one) the units, a unit shared by
+    neighbouring columns written once across them."""
+    parts = [human_header(c.name, "tex").rpartition(" / ") for c in columns]
+    names = [name if sep else unit for name, sep, unit in parts]
+    units = [unit if sep else "" for _, sep, unit in parts]
+    lines = [" & ".join(names) + r" \\"]
+    if any(units):
+        cells, i = [], 0
+        while i < len(units):
+            j = i
+            while units[i] and j + 1 < len(units) and units[j + 1] == units[i]:
+                j += 1
+            width = j - i + 1
+            cells.append(units[i] if width == 1 else rf"\multicolumn{{{width}}}{{c}}{{{units[i]}}}")
+            i = j + 1
+        lines.append(" & ".join(cells) + r" \\")
+    return lines
 
 
 def _tex_column_spec(column: _Column) -> str:
@@ -596,16 +760,15 @@ def _tex_point_group(name: str) -> str:
     return f"${letter}_{{{sub}}}$" if sub else f"${letter}$"
 
 
-def _tex_notes(notes: Iterable[str]) -> list[str]:
-    """Notes as a small-print block, each marked with a letter (a, b, ...)."""
-    notes = [" ".join(str(n).split()) for n in notes]
-    if not notes:
+def _tex_notes(anchored: Sequence[str], notes: Iterable[str]) -> list[str]:
+    """The notes as a small-print block: first those anchored in rows, each after its mark (a, b, ...),
+    then the table's general notes."""
+    lines = [rf"\textsuperscript{{{_note_mark(i)}}}~{latex_escape(' '.join(n.split()))}\par"
+             for i, n in enumerate(anchored)]
+    lines += [latex_escape(" ".join(str(n).split())) + r"\par" for n in notes]
+    if not lines:
         return []
-    marks = [_note_mark(i) for i in range(len(notes))]
-    block = [r"\par\smallskip", r"\begin{minipage}{\linewidth}\footnotesize"]
-    block += [rf"\textsuperscript{{{m}}}~{latex_escape(n)}\par" for m, n in zip(marks, notes, strict=True)]
-    block.append(r"\end{minipage}")
-    return block
+    return [r"\par\smallskip", r"\begin{minipage}{\linewidth}\footnotesize", *lines, r"\end{minipage}"]
 
 
 def _note_mark(i: int) -> str:
@@ -690,11 +853,14 @@ def write_tables(
     notes: Iterable[str] = (),
     formats: Iterable[str] = FORMATS,
     label: str | None = None,
+    row_notes: Sequence[Sequence[str]] | None = None,
+    sections: Sequence[str] | None = None,
 ) -> list[Path]:
     """Write ``df`` as ``out_dir/stem.{csv,md,tex,xlsx}`` (atomically) and return the paths written.
 
-    The csv keeps the machine column names and full precision; the others are the human tables. The
-    caller decides whether ``out_dir`` may be written to (qcthermo.fileio.prepare_output_dir).
+    The csv keeps the machine column names and full precision; the others are the human tables
+    (``row_notes`` and ``sections``: see :func:`to_latex`, for Markdown and LaTeX). The caller decides
+    whether ``out_dir`` may be written to (qcthermo.fileio.prepare_output_dir).
     """
     formats = list(formats)
     unknown = [f for f in formats if f not in FORMATS]
@@ -708,9 +874,9 @@ def write_tables(
         if fmt == "csv":
             written.append(atomic_write(path, csv_text(df)))
         elif fmt == "md":
-            written.append(atomic_write(path, to_markdown(df, caption, notes)))
+            written.append(atomic_write(path, to_markdown(df, caption, notes, row_notes, sections)))
         elif fmt == "tex":
-            written.append(atomic_write(path, to_latex(df, caption, notes, label=label)))
+            written.append(atomic_write(path, to_latex(df, caption, notes, label, row_notes, sections)))
         else:
             written.append(write_xlsx(df, path, caption, notes))
     return written
