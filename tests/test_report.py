@@ -109,7 +109,9 @@ def test_report_renders_in_a_headless_browser(tmp_path):
     url = path.resolve().as_uri()
     dom = subprocess.run([CHROMIUM, *flags, "--dump-dom", url], capture_output=True, text=True, timeout=120,
                          check=True).stdout
-    assert dom.count("<table") == 4  # audit, settings, species, reactions
+    main = re.sub(r"<details>.*?</details>", "", dom, flags=re.S)
+    assert main.count("<table") == 4  # audit, settings, species, reactions
+    assert dom.count("<details>") == 4  # every column of each species (3) and reaction (1), collapsed
     assert dom.count("<svg") == 2  # profile and dG(T)
     assert "dvb_ir.out" in dom and "g_to_o" in dom
     # the browser's DOM keeps the figures as SVG with their text
@@ -159,3 +161,34 @@ def test_report_tables_are_the_tables_for_people(sample_run):
     # a hartree energy to the microhartree, as in species.md
     e = sample_run.species["E_elec_Eh"].iloc[0]
     assert f">{e:.6f}</td>" in text
+
+
+#: run in a copy of the report: opens every collapsible block, then lists each table wider than its box
+_MEASURE = """<script>
+document.querySelectorAll("details").forEach(d => d.open = true);
+const wide = [...document.querySelectorAll(".scroll")].filter(e => e.scrollWidth > e.clientWidth + 1)
+  .map(e => e.previousElementSibling ? e.previousElementSibling.textContent.slice(0, 40) : "?");
+if (document.documentElement.scrollWidth > window.innerWidth) wide.push("page");
+document.body.setAttribute("data-wide", JSON.stringify(wide));
+</script>"""
+
+
+@pytest.mark.skipif(CHROMIUM is None, reason="chromium is not installed (apt-get install -y chromium)")
+def test_report_tables_of_the_sample_run_need_no_sideways_scrolling(tmp_path):
+    # Chromium's own layout at a 1280 px wide window: no table of the sample run's report (every collapsible
+    # block opened) is wider than its box, so nothing is reachable only by scrolling sideways
+    from conftest import SAMPLES
+
+    import qcthermo
+
+    results = qcthermo.run(SAMPLES, reactions=SAMPLES / "reactions.toml", jobs=1, cache=False)
+    page = tmp_path / "measure.html"
+    page.write_text(render_report(results).replace("</body>", _MEASURE + "</body>"), encoding="utf-8")
+    flags = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+             "--disable-background-networking", "--disable-component-update", "--disable-sync",
+             f"--user-data-dir={tmp_path / 'profile'}", "--window-size=1280,2000"]
+    dom = subprocess.run([CHROMIUM, *flags, "--dump-dom", page.resolve().as_uri()], capture_output=True, text=True,
+                         timeout=120, check=True).stdout
+    wide = re.search(r'data-wide="([^"]*)"', dom)
+    assert wide is not None, "the measuring script did not run"
+    assert wide.group(1) == "[]", wide.group(1)

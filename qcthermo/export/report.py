@@ -16,7 +16,7 @@ from typing import Any
 
 from .. import __version__
 from ..fileio import atomic_write, json_ready
-from .tables import display_cells, paper_columns
+from .tables import anchored_notes, display_cells, note_mark, paper_table
 
 #: order of the audit findings by severity; anything else comes last
 SEVERITY_ORDER = {"error": 0, "warning": 1, "info": 2, "note": 2}
@@ -34,7 +34,7 @@ FIGURE_CAPTIONS = {
 }
 
 #: text columns whose cells may wrap (long prose); every other cell stays on one line
-WRAPPED_COLUMNS = {"finding", "value", "notes", "populations", "message"}
+WRAPPED_COLUMNS = {"finding", "value", "notes", "populations", "message", "degree_of_control"}
 
 CSS = """
 body { font: 14px/1.45 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", sans-serif; color: #222;
@@ -47,6 +47,9 @@ table { border-collapse: collapse; font-size: 12px; margin: 0.5em 0; }
 th, td { padding: 2px 8px; border-bottom: 1px solid #e5e5e5; text-align: right; white-space: nowrap; }
 th { border-bottom: 1px solid #999; background: #f7f7f7; }
 td.text, th.text { text-align: left; } td.wrap { white-space: normal; min-width: 20em; }
+tr.section td { font-style: italic; background: #fafafa; }
+.details td.wrap { min-width: 0; overflow-wrap: anywhere; } details { margin: 0.2em 0; }
+ul.notes { font-size: 12px; color: #444; margin: 0.2em 0 1em; padding-left: 1.2em; }
 tr.error td { background: #fdecea; } tr.warning td { background: #fff8e1; }
 .count { font-weight: 600; } .ok { color: #1b5e20; }
 figure { margin: 1em 0; } figure svg { width: 100%; max-width: 680px; height: auto; }
@@ -55,8 +58,10 @@ figcaption { color: #555; font-size: 12px; }
 
 
 def _table(headers: list[str], rows: Iterable[Iterable[Any]], numeric: list[bool] | None = None,
-           wrapped: list[bool] | None = None, row_classes: Iterable[str] | None = None) -> str:
-    """An HTML table of text cells (escaped here): numeric columns right-aligned, prose columns may wrap."""
+           wrapped: list[bool] | None = None, row_classes: Iterable[str] | None = None,
+           sections: list[str] | None = None) -> str:
+    """An HTML table of text cells (escaped here): numeric columns right-aligned, prose columns may wrap;
+    ``sections`` (per row) a heading row across the table wherever it changes."""
     rows = [list(r) for r in rows]
     numeric = numeric or [False] * len(headers)
     wrapped = wrapped or [h in WRAPPED_COLUMNS for h in headers]
@@ -64,22 +69,59 @@ def _table(headers: list[str], rows: Iterable[Iterable[Any]], numeric: list[bool
     head = "".join(f'<th class="{k}">{html.escape(h)}</th>' for h, k in zip(headers, kinds, strict=True))
     classes = list(row_classes) if row_classes is not None else [""] * len(rows)
     body = []
-    for row, cls in zip(rows, classes, strict=True):
+    for i, (row, cls) in enumerate(zip(rows, classes, strict=True)):
+        if sections is not None and (i == 0 or sections[i] != sections[i - 1]):
+            body.append(f'<tr class="section"><td class="text" colspan="{len(headers)}">'
+                        f"{html.escape(sections[i])}</td></tr>")
         cells = "".join(f'<td class="{k}">{html.escape(str(v))}</td>' for v, k in zip(row, kinds, strict=True))
         body.append(f'<tr class="{html.escape(cls)}">{cells}</tr>')
     return f'<div class="scroll"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
 
 
-def _frame_table(frame, what: str, stem: str | None = None) -> str:
+def _frame_table(frame, what: str, stem: str | None = None, unit: str = "kcal/mol") -> str:
     """A DataFrame as the tables for people show it (typeset headers with units, the same number formats
-    as species.md; for ``stem`` "species"/"reactions" only the paper's columns, the csv has them all), or a
-    line saying there is none."""
+    as species.md), or a line saying there is none. With ``stem``, what a paper prints
+    (:func:`~qcthermo.export.tables.paper_table`: the chosen model's columns, rows under their level of
+    theory, footnotes anchored in their rows), then every column per subject in collapsible blocks."""
     if frame is None or len(frame) == 0:
         return f"<p>No {what}.</p>"
-    if stem is not None:
-        frame = frame[paper_columns(frame, stem)]
-    headers, numeric, rows = display_cells(frame)
-    return _table(headers, rows, numeric, [str(c) in WRAPPED_COLUMNS for c in frame.columns])
+    if stem is None:
+        headers, numeric, rows = display_cells(frame)
+        return _table(headers, rows, numeric, [str(c) in WRAPPED_COLUMNS for c in frame.columns])
+    paper = paper_table(frame, stem, unit)
+    headers, numeric, rows = display_cells(paper.frame)
+    marks, anchored = anchored_notes(paper.row_notes, len(rows))
+    for row, row_marks in zip(rows, marks, strict=True):
+        row[0] += f" {','.join(row_marks)}" if row_marks else ""
+    notes = "".join(f"<li><sup>{note_mark(i)}</sup> {html.escape(n)}</li>" for i, n in enumerate(anchored))
+    table = _table(headers, rows, numeric, sections=paper.sections)
+    key = str(frame.columns[0])
+    return table + (f'<ul class="notes">{notes}</ul>' if notes else "") + _details(frame, key, what)
+
+
+#: temperatures side by side in a detail block (more go to a further table below)
+DETAIL_TEMPERATURES = 6
+
+
+def _details(frame, key: str, what: str) -> str:
+    """Every column of ``frame`` (all models, absolute energies) per subject (``key``: species, reaction,
+    name), each in a collapsible block: one row per quantity, one column per temperature."""
+    headers, _, rows = display_cells(frame)
+    keys = [str(k) for k in frame[key]]
+    temperatures = list(frame["T_K"]) if "T_K" in frame else None
+    skip = {0} | ({list(frame.columns).index("T_K")} if temperatures else set())
+    blocks = []
+    for name in dict.fromkeys(keys):
+        indices = [i for i, k in enumerate(keys) if k == name]
+        tables = []
+        for start in range(0, len(indices), DETAIL_TEMPERATURES):
+            chunk = indices[start : start + DETAIL_TEMPERATURES]
+            columns = [f"T = {temperatures[i]:g} K" if temperatures else f"#{i + 1}" for i in chunk]
+            body = [[h, *(rows[i][j] for i in chunk)] for j, h in enumerate(headers) if j not in skip]
+            tables.append(_table(["quantity", *columns], body, wrapped=[False] + [True] * len(chunk)))
+        blocks.append(f"<details><summary>{html.escape(name)}</summary>{''.join(tables)}</details>")
+    return f'<div class="details"><p class="meta">Every column of the csv ({html.escape(what)}: all models, ' \
+        f"absolute energies), per entry:</p>{''.join(blocks)}</div>"
 
 
 def sorted_findings(findings: Iterable[Any]) -> list[tuple[str, str, str]]:
@@ -131,6 +173,8 @@ def _figures_section(results) -> str:
 #: further tables of a run, shown only when the run has them: attribute -> (anchor, heading)
 OPTIONAL_TABLES = {"arrhenius": ("arrhenius-fits", "Arrhenius fits"), "energy_span": ("energy-span", "Energy span"),
                    "heats_of_formation": ("heats-of-formation", "Heats of formation")}
+#: optional tables shown as a paper prints them, with every column in collapsible blocks
+PAPER_LAYOUT = {"heats_of_formation"}
 
 
 def _optional_tables(results) -> list[str]:
@@ -138,7 +182,8 @@ def _optional_tables(results) -> list[str]:
     for attr, (anchor, heading) in OPTIONAL_TABLES.items():
         frame = getattr(results, attr, None)
         if frame is not None and len(frame):
-            out.append(f'<h2 id="{anchor}">{heading}</h2>' + _frame_table(frame, heading.lower()))
+            stem = attr if attr in PAPER_LAYOUT else None
+            out.append(f'<h2 id="{anchor}">{heading}</h2>' + _frame_table(frame, heading.lower(), stem))
     return out
 
 
@@ -152,7 +197,8 @@ def _solution_section(results) -> list[str]:
            _table(["constant", "value"], [[k, v] for k, v in constants.items()], wrapped=[False, True])]
     for frame, stem, what in ((pka, "pka", "pKa values"), (redox, "redox", "Reduction potentials")):
         if frame is not None:
-            out.append(f"<h3>{what}</h3>" + _frame_table(frame, what, stem))
+            unit = getattr(results, "energy_unit", "kcal/mol")
+            out.append(f"<h3>{what}</h3>" + _frame_table(frame, what, stem, unit))
     return out
 
 
@@ -187,6 +233,7 @@ def _simulation_section(results) -> list[str]:
 def render_report(results) -> str:
     """The whole page as a string (see the module docstring for its order)."""
     findings = sorted_findings(getattr(results, "findings", None))
+    unit = str(getattr(results, "energy_unit", "kcal/mol"))
     body = [
         "<h1>qcthermo report</h1>",
         f'<p class="meta">qcthermo {html.escape(__version__)}; energies in '
@@ -194,9 +241,9 @@ def render_report(results) -> str:
         *_enthalpy_reference(getattr(results, "settings", None)),
         _findings_section(findings),
         _settings_section(getattr(results, "settings", None)),
-        '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species", "species"),
+        '<h2 id="species">Species</h2>' + _frame_table(getattr(results, "species", None), "species", "species", unit),
         '<h2 id="reactions">Reactions</h2>'
-        + _frame_table(getattr(results, "reactions", None), "reactions", "reactions"),
+        + _frame_table(getattr(results, "reactions", None), "reactions", "reactions", unit),
         *_optional_tables(results),
         *_solution_section(results),
         *_simulation_section(results),

@@ -513,14 +513,18 @@ def relative_species(df, energy_unit: str = "kcal/mol"):
     tag = f"_{model}" if model else ""
     g = f"G{tag}_Eh"
     h = f"H{tag}_Eh" if f"H{tag}_Eh" in df.columns else "H_Eh"
+    if g not in df.columns:
+        return df
     keys = [k for k in ("formula", "charge", "level", "T_K") if k in df.columns]
     reference = pd.Series(index=df.index, dtype=object)
-    for _, group in df.groupby(keys, dropna=False, sort=False):
+    for _, group in df.groupby(keys, dropna=False, sort=False) if keys else [(None, df)]:
         g_values = group[g].astype(float)
         reference[group.index] = g_values.idxmin() if g_values.notna().any() else None
     out = df.copy()
     ref = [r if r is not None and r == r else None for r in reference]
     for name, column in (("dE_elec", "E_elec_Eh"), (f"dH{tag}", h), (f"dG{tag}", g)):
+        if column not in df.columns:
+            continue
         base = [df.at[r, column] if r is not None else float("nan") for r in ref]
         out[f"{name}_{unit}"] = hartree_to(df[column].astype(float) - pd.Series(base, index=df.index, dtype=float),
                                            energy_unit)
@@ -564,13 +568,13 @@ def _row_notes(row, stem: str) -> list[str]:
     return notes
 
 
-def _anchored(row_notes: Sequence[Sequence[str]] | None, n_rows: int) -> tuple[list[list[str]], list[str]]:
+def anchored_notes(row_notes: Sequence[Sequence[str]] | None, n_rows: int) -> tuple[list[list[str]], list[str]]:
     """Per row the marks (a, b, ...) of its notes, and the notes in the order of their marks (a note shared
     by several rows has one mark)."""
     texts: dict[str, str] = {}
     marks = []
     for notes in row_notes or [[]] * n_rows:
-        marks.append([texts.setdefault(n, _note_mark(len(texts))) for n in dict.fromkeys(notes)])
+        marks.append([texts.setdefault(n, note_mark(len(texts))) for n in dict.fromkeys(notes)])
     return marks, list(texts)
 
 
@@ -587,7 +591,7 @@ def to_markdown(df, caption: str, notes: Iterable[str] = (), row_notes: Sequence
     ``sections`` (per row): a heading row in bold wherever it changes.
     """
     columns = _columns(df)
-    marks, anchored = _anchored(row_notes, len(df))
+    marks, anchored = anchored_notes(row_notes, len(df))
     lines = [f"Table: {md_text(plain_typeset(' '.join(caption.split())))}", ""]
     lines.append("| " + " | ".join(md_text(human_header(c.name, "md")) for c in columns) + " |")
     lines.append("|" + "|".join("---:" if c.numeric else ":---" for c in columns) + "|")
@@ -597,7 +601,7 @@ def to_markdown(df, caption: str, notes: Iterable[str] = (), row_notes: Sequence
         cells = [_md_cell(cell, c) for cell, c in zip(row, columns, strict=True)]
         cells[0] += "".join(m.translate(_UNICODE_LETTERS) for m in marks[i])
         lines.append("| " + " | ".join(cells) + " |")
-    notes = [f"{_note_mark(i).translate(_UNICODE_LETTERS)} {n}" for i, n in enumerate(anchored)] + \
+    notes = [f"{note_mark(i).translate(_UNICODE_LETTERS)} {n}" for i, n in enumerate(anchored)] + \
         [" ".join(str(n).split()) for n in notes]
     if notes:
         lines.append("")
@@ -651,7 +655,7 @@ def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = No
     needed are named in the first line.
     """
     columns = _columns(df)
-    marks, anchored = _anchored(row_notes, len(df))
+    marks, anchored = anchored_notes(row_notes, len(df))
     spec = "".join(_tex_column_spec(c) for c in columns)
     header = _tex_header(columns)
     body = []
@@ -763,7 +767,7 @@ def _tex_point_group(name: str) -> str:
 def _tex_notes(anchored: Sequence[str], notes: Iterable[str]) -> list[str]:
     """The notes as a small-print block: first those anchored in rows, each after its mark (a, b, ...),
     then the table's general notes."""
-    lines = [rf"\textsuperscript{{{_note_mark(i)}}}~{latex_escape(' '.join(n.split()))}\par"
+    lines = [rf"\textsuperscript{{{note_mark(i)}}}~{latex_escape(' '.join(n.split()))}\par"
              for i, n in enumerate(anchored)]
     lines += [latex_escape(" ".join(str(n).split())) + r"\par" for n in notes]
     if not lines:
@@ -771,10 +775,10 @@ def _tex_notes(anchored: Sequence[str], notes: Iterable[str]) -> list[str]:
     return [r"\par\smallskip", r"\begin{minipage}{\linewidth}\footnotesize", *lines, r"\end{minipage}"]
 
 
-def _note_mark(i: int) -> str:
+def note_mark(i: int) -> str:
     """a, b, ..., z, aa, ab, ... for note i (0-based)."""
     letters = "abcdefghijklmnopqrstuvwxyz"
-    return letters[i] if i < 26 else _note_mark(i // 26 - 1) + letters[i % 26]
+    return letters[i] if i < 26 else note_mark(i // 26 - 1) + letters[i % 26]
 
 
 # ---------------------------------------------------------------------------------------------------
