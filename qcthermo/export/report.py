@@ -15,7 +15,7 @@ from pathlib import Path
 from typing import Any
 
 from .. import __version__
-from ..fileio import atomic_write, json_ready
+from ..fileio import atomic_write, json_ready, printable_frame
 from .tables import anchored_notes, display_cells, note_mark, paper_table
 
 #: order of the audit findings by severity; anything else comes last
@@ -85,6 +85,7 @@ def _frame_table(frame, what: str, stem: str | None = None, unit: str = "kcal/mo
     theory, footnotes anchored in their rows), then every column per subject in collapsible blocks."""
     if frame is None or len(frame) == 0:
         return f"<p>No {what}.</p>"
+    frame = printable_frame(frame)  # names from files: control characters as \xNN
     if stem is None:
         headers, numeric, rows = display_cells(frame)
         return _table(headers, rows, numeric, [str(c) in WRAPPED_COLUMNS for c in frame.columns])

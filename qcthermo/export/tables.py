@@ -597,7 +597,8 @@ def to_markdown(df, caption: str, notes: Iterable[str] = (), row_notes: Sequence
     lines.append("|" + "|".join("---:" if c.numeric else ":---" for c in columns) + "|")
     for i, row in enumerate(_rows(columns)):
         if sections is not None and (i == 0 or sections[i] != sections[i - 1]):
-            lines.append("| " + " | ".join([f"**{md_text(sections[i])}**"] + [""] * (len(columns) - 1)) + " |")
+            heading = md_text(sections[i]).replace("*", r"\*")  # B3LYP/6-31G* inside the bold marks
+            lines.append("| " + " | ".join([f"**{heading}**"] + [""] * (len(columns) - 1)) + " |")
         cells = [_md_cell(cell, c) for cell, c in zip(row, columns, strict=True)]
         cells[0] += "".join(m.translate(_UNICODE_LETTERS) for m in marks[i])
         lines.append("| " + " | ".join(cells) + " |")
