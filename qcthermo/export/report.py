@@ -34,7 +34,7 @@ FIGURE_CAPTIONS = {
 }
 
 #: text columns whose cells may wrap (long prose); every other cell stays on one line
-WRAPPED_COLUMNS = {"finding", "value", "notes", "populations", "message", "degree_of_control"}
+WRAPPED_COLUMNS = {"finding", "value", "notes", "populations", "message", "degree_of_control", "why_they_differ"}
 
 CSS = """
 body { font: 14px/1.45 system-ui, -apple-system, "Segoe UI", "DejaVu Sans", sans-serif; color: #222;
