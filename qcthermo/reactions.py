@@ -110,9 +110,9 @@ class ReactionSpec:
         transition_state: species name of the transition state, or None.
         degeneracy: reaction-path degeneracy override (None: from the symmetry numbers).
         tunnelling: "eckart" | "wigner" | "none".
-        rate: for a step without a transition state, its forward rate constant in the unit the run gives
-            rate constants of its molecularity (M^-1 s^-1 at a solution standard state, cm^3 molecule^-1 s^-1
-            at a gas one), or "diffusion" (docs/simulate.md); None when not given.
+        rate: for a step without a transition state, its forward rate constant in mol/L and s units
+            (s^-1, M^-1 s^-1, M^-2 s^-1 by its molecularity, whatever the standard state), or "diffusion"
+            (docs/simulate.md); None when not given.
         line: line of the ``[[reaction]]`` header.
     """
 

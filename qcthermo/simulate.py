@@ -329,12 +329,14 @@ def integrate(network: Network, initial: dict[str, float], times: Sequence[float
         message = " ".join(str(err).split()) or err.__class__.__name__
         return Trajectory(np.array([0.0]), c0[None, :], False, message, reached[0],
                           np.zeros((1, len(network.reactions))), free=system.free)
-    full = np.tile(c0, (sol.y.shape[1], 1))
-    full[:, system.free] = sol.y.T
-    rates = np.array([np.subtract(*system.rates(t, y, scale)) for t, y in zip(sol.t, sol.y.T, strict=True)]) \
-        if sol.y.size else np.zeros((0, len(network.reactions)))
-    return Trajectory(sol.t, full, sol.status == 0, str(sol.message),
-                      float(sol.t[-1]) if sol.t.size else 0.0, rates.reshape(len(sol.t), -1),
+    t_done = np.asarray(sol.t, dtype=float).ravel()  # scipy leaves lists when a failure came before any output
+    y_done = np.asarray(sol.y, dtype=float).reshape(len(system.free), len(t_done))
+    full = np.tile(c0, (len(t_done), 1))
+    full[:, system.free] = y_done.T
+    rates = np.array([np.subtract(*system.rates(t, y, scale)) for t, y in zip(t_done, y_done.T, strict=True)])
+    rates = rates.reshape(len(t_done), len(network.reactions))
+    return Trajectory(t_done, full, sol.status == 0, str(sol.message),
+                      float(t_done[-1]) if t_done.size else reached[0], rates,
                       sol.sol if dense else None, system.free,
                       {"nfev": int(sol.nfev), "njev": int(sol.njev), "nlu": int(sol.nlu)})
 
@@ -539,11 +541,11 @@ def cross_check(settings: SimulationSettings) -> None:
 
 
 def rate_setting(value: Any) -> float | str:
-    """The ``rate`` of a [[reaction]] without a transition state: a forward rate constant > 0 in the unit the
-    run gives rate constants of its molecularity, or "diffusion"."""
+    """The ``rate`` of a [[reaction]] without a transition state: a forward rate constant > 0 in mol/L and s
+    units (s^-1, M^-1 s^-1, ... by its molecularity), or "diffusion"."""
     if value == "diffusion":
         return "diffusion"
-    return _positive(value, "rate", 'the unit of the run\'s rate constants, or "diffusion"')
+    return _positive(value, "rate", 'M^(1-m) s^-1 for m molecules, or "diffusion"')
 
 
 # -- the network of a run -------------------------------------------------------------------------------------
@@ -624,6 +626,7 @@ def _step(results, spec, own: set[str], viscosity: float | None, notes: list[str
         gas = False  # already in M^-1 s^-1
     elif spec.rate is not None:
         k_run, source = np.full(len(t), float(spec.rate)), "given"
+        gas = False  # a given rate is in mol/L units whatever the standard state
     else:
         notes.append(f"{spec.name}: left out (no transition state and no rate)")
         return None
