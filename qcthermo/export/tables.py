@@ -675,7 +675,7 @@ def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = No
         lines = [
             f"% requires \\usepackage{{{','.join(LATEX_LONG_PACKAGES)}}}",
             rf"\begin{{{TABLE_SIZE}}}",
-            r"\setlength{\tabcolsep}{4pt}",
+            r"\setlength{\tabcolsep}{3pt}",
             rf"\begin{{longtable}}{{{spec}}}",
             caption_tex + label_tex + r" \\",
             r"\toprule",
@@ -699,7 +699,7 @@ def to_latex(df, caption: str, notes: Iterable[str] = (), label: str | None = No
             r"\begin{table}[htbp]",
             r"\centering",
             rf"\{TABLE_SIZE}",
-            r"\setlength{\tabcolsep}{4pt}",
+            r"\setlength{\tabcolsep}{3pt}",
             caption_tex,
             *([label_tex] if label_tex else []),
             rf"\begin{{tabular}}{{{spec}}}",
