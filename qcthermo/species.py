@@ -497,6 +497,18 @@ def _thermo(c: Conformer, name: str, options: SpeciesOptions, conditions: Condit
             for n in c.thermo.notes if n.startswith((ROTOR_WARNING, NEAR_SYMMETRY_WARNING))]
 
 
+def _merge_repeated(found: list[Finding], name: str) -> list[Finding]:
+    """One finding, subject the species, for a warning that several of its conformer files share word for word
+    (the eight conformers of an xTB ensemble without normal-mode vectors say the same thing eight times); the
+    files are named in the message. Anything said once keeps its file as subject."""
+    by_message: dict[tuple[str, str], list[str]] = {}
+    for f in found:
+        by_message.setdefault((f.severity, f.message), []).append(f.subject)
+    return [Finding(severity, subjects[0], message) if len(subjects) == 1 else
+            Finding(severity, name, f"{message} (in {len(subjects)} files: {', '.join(_short(s) for s in subjects)})")
+            for (severity, message), subjects in by_message.items()]
+
+
 def _chirality_findings(result: SpeciesResult, images: np.ndarray) -> list[Finding]:
     """A chiral structure without its mirror image is one enantiomer: a warning unless ``enantiomers`` says
     which is meant; ``enantiomers = 2`` with nothing to double is a warning too (docs/reactions.md)."""
@@ -573,7 +585,8 @@ def build_species(name: str, calcs: list[Calculation], conditions: Conditions, o
         findings.extend(_pair_gas_single_points(name, result.conformers, list(gas_single_points),
                                                 settings["single_point_rmsd"]))
     cond = species_conditions(conditions, options)
-    findings.extend(problem for c in result.used for problem in _thermo(c, name, options, cond))
+    findings.extend(_merge_repeated([problem for c in result.used for problem in _thermo(c, name, options, cond)],
+                                    name))
     if len(result.levels) > 1:
         findings.append(Finding("error", name, f"species {name!r}: conformers at different levels of theory "
                                                f"({', '.join(result.levels)})"))

@@ -15,6 +15,8 @@ Sources of the check values, named beside each check:
 
 from __future__ import annotations
 
+from pathlib import Path
+
 import numpy as np
 import pytest
 from rotor_molecules import BARRIERS_CM, ETHANE, METHANOL, MOLECULES, PROPANE, molecule, zmatrix
@@ -273,3 +275,16 @@ def test_the_mode_is_found_by_projection_not_by_frequency():
     res = thermochemistry(plain.replace(frequencies=frequencies), Conditions(internal_rotors="hindered"))
     assert [r.frequency for r in res.rotors] == [289.0]
     assert 150.0 in res.frequencies_used and 289.0 not in res.frequencies_used
+
+
+def test_an_ensemble_without_mode_vectors_says_so_once(samples):
+    # xTB's standard output prints no normal-mode vectors (sample_outputs/README.md): each of the eight pentane
+    # conformers leaves its four C-C torsions harmonic, and the species says it once, naming the files
+    from qcthermo.species import build_species
+
+    calcs = [qcthermo.read_log(p) for p in sorted((samples / "conformers").glob("pentane_*.out"))]
+    species = build_species("pentane", calcs, Conditions(internal_rotors="hindered"))
+    said = [f for f in species.findings if "no normal-mode vectors" in f.message]
+    assert len(said) == 1 and said[0].subject == "pentane"
+    assert f"(in {len(species.used)} files: " in said[0].message
+    assert all(Path(c.path).name in said[0].message for c in species.used)
