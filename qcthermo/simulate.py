@@ -10,8 +10,6 @@ decisions are written in docs/simulate.md.
 
 from __future__ import annotations
 
-import sys
-import types
 import warnings
 from collections import Counter
 from collections.abc import Callable, Sequence
@@ -21,6 +19,7 @@ from typing import Any
 
 import numpy as np
 
+from .callable_module import make_callable
 from .errors import SimulationError
 from .units import K_B_EH, N_A, R_GAS
 
@@ -1000,12 +999,4 @@ def _cantera_result(results, network: Network, steps: list[_Step], own: dict[str
     return SimulationResult(frame, frame, summary, None, None, None, table, spec, notes, {})
 
 
-class _CallableModule(types.ModuleType):
-    """``qcthermo.simulate`` is both this module and the function :func:`simulate` (the public name of the
-    design): importing the module sets the package's attribute to the module, so the module is made callable."""
-
-    def __call__(self, *args: Any, **kwargs: Any) -> SimulationResult:
-        return simulate(*args, **kwargs)
-
-
-sys.modules[__name__].__class__ = _CallableModule
+make_callable(__name__, simulate)

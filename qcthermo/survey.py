@@ -21,7 +21,6 @@ import signal
 import stat
 import sys
 import tracemalloc
-import types
 from collections import Counter
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor, as_completed
@@ -34,6 +33,7 @@ import numpy as np
 from . import __version__
 from . import cache as parse_cache
 from .cache import DigestIndex, Entry, FileKey, ParseCache, default_cache_dir
+from .callable_module import make_callable
 from .errors import LogReadError, QcthermoError
 from .progress import ProgressBar
 from .records import JOB_TYPES, Calculation
@@ -663,12 +663,4 @@ def _collect(result: SurveyResult, root: Path, candidates: list[Candidate], outc
             result.rows.append(error_row(cand.relpath, payload))
 
 
-class _CallableModule(types.ModuleType):
-    """Importing this module makes ``qcthermo.survey`` name it rather than the function; calling the
-    module calls :func:`survey`, so ``qcthermo.survey(directory)`` works either way."""
-
-    def __call__(self, *args, **kwargs) -> SurveyResult:
-        return survey(*args, **kwargs)
-
-
-sys.modules[__name__].__class__ = _CallableModule
+make_callable(__name__, survey)
