@@ -186,3 +186,19 @@ def test_profile_reports_its_own_errors_and_counts_the_folders_others(tmp_path, 
                  "--no-cache", "--quiet"]) == 1
     err = capsys.readouterr().err
     assert "hnc_extra.out" in err and (tmp_path / "b.svg").exists()
+
+
+def test_terminal_reactions_table_gives_k_its_unit_and_t_once(tmp_path, samples, capsys):
+    # HCN -> HNC is unimolecular: k in s^-1 (qcthermo.kinetics.rate_constant_unit; Eyring, (c0)^(1-m) with m = 1)
+    path = _file(tmp_path, samples, GOOD)
+    main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "one"), "--no-cache",
+          "--jobs", "1"])
+    out = capsys.readouterr().out
+    assert "kcal/mol (qrrho) at 298.15 K" in out and "T / K" not in out  # one temperature: in the title only
+    header, row = (next(line for line in out.splitlines() if line.startswith(word))
+                   for word in ("reaction ", "isomerisation "))
+    assert "k unit" in header and row.split()[-2:] == ["s⁻¹", "ok"]
+    main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "range"), "--no-cache",
+          "--jobs", "1", "--temperature-range", "300:400:100"])
+    out = capsys.readouterr().out
+    assert "T / K" in out and sum(line.startswith("isomerisation ") for line in out.splitlines()) == 2

@@ -42,6 +42,7 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
     from rich.table import Table
     from rich.text import Text
 
+    from ..export.tables import plain_typeset
     from ..fileio import display
     from ..units import unit_suffix
 
@@ -59,16 +60,21 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
         m = results.conditions.low_mode_model.replace("-", "_")
         g = f"dG_{m}_{u}" if f"dG_{m}_{u}" in df else f"dG_{u}"
         g_act = f"dG_act_{m}_{u}" if f"dG_act_{m}_{u}" in df else f"dG_act_{u}"
+        temperatures = df["T_K"].nunique() > 1  # one temperature: in the title, not on every row
+        at = "" if temperatures else f" at {df['T_K'].iloc[0]:g} K"
         table = Table(box=None, pad_edge=False, header_style="bold",
-                      title=f"reactions, {results.energy_unit} ({results.conditions.low_mode_model})")
-        for heading in ("reaction", "T / K", "ΔE", "ΔH", "ΔG", "ΔG‡", "k_forward", "status"):
-            table.add_column(heading, justify="left" if heading in ("reaction", "status") else "right")
+                      title=f"reactions, {results.energy_unit} ({results.conditions.low_mode_model}){at}")
+        headings = ["reaction", *(["T / K"] if temperatures else []), "ΔE", "ΔH", "ΔG", "ΔG‡", "k_forward",
+                    "k unit", "status"]
+        for heading in headings:
+            table.add_column(heading, justify="left" if heading in ("reaction", "k unit", "status") else "right")
         for _, row in df.iterrows():
-            k = row.get("k_forward")
-            table.add_row(Text(display(str(row["reaction"]))), f"{row['T_K']:g}", _num(row[f"dE_{u}"]),
-                          _num(row[f"dH_{u}"]), _num(row[g]), _num(row[g_act]),
-                          "" if k is None or k != k else f"{k:.3g}", str(row["status"]),
-                          style="red" if row["status"] != "ok" else None)
+            k, unit = row.get("k_forward"), row.get("k_unit")
+            has_k = not (k is None or k != k)
+            table.add_row(Text(display(str(row["reaction"]))), *([f"{row['T_K']:g}"] if temperatures else []),
+                          _num(row[f"dE_{u}"]), _num(row[f"dH_{u}"]), _num(row[g]), _num(row[g_act]),
+                          f"{k:.3g}" if has_k else "", plain_typeset(str(unit)) if has_k and unit else "",
+                          str(row["status"]), style="red" if row["status"] != "ok" else None)
         console.print(table)
     if not quiet:
         for line in solution_lines(results):
