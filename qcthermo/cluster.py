@@ -15,7 +15,9 @@ is asked for, so ``qcthermo --help`` and a plain survey never load it.
 
 Failures: a worker that dies (crash, out-of-memory killer, node lost) has its tasks run again elsewhere by
 the scheduler, up to its ``distributed.scheduler.allowed-failures`` (3 by default); a batch that still
-fails is split into one task per file, so only the file that kills its workers ends as an error row.
+fails is split into one task per file, and a file whose own task fails too is read once more with nothing
+else in flight (a dying worker takes the tasks queued on it down with it), so only the file that kills its
+workers ends as an error row.
 """
 
 from __future__ import annotations
@@ -207,27 +209,47 @@ def _read_batches(client: Any, reader: Reader, paths: list[str], report: Callabl
         return client.submit(read_chunk, reader, [p for _, p in batch], index, pure=False)
 
     pending = {submit(b): b for b in batches(list(enumerate(paths)), workers)}
+    suspects: list[tuple[int, str]] = []
     done = as_completed(list(pending))
     for future in done:
         batch = pending.pop(future)
         try:
             outcomes = future.result()
         except Exception as err:  # KilledWorker: the scheduler gave up on it after its own retries
-            if client.status not in ("running", "connecting"):
-                raise QcthermoError(f"lost the Dask scheduler: {_reason(err)}") from None
+            _check_scheduler(client, err)
             if len(batch) > 1:  # one task per file: only the file that kills its workers fails
                 for item in batch:
                     retry = submit([item])
                     pending[retry] = [item]
                     done.add(retry)
             else:
-                reason = f"the reading process died ({type(err).__name__}) every time; the file may be damaged"
-                report(batch[0][0], Outcome("failure", reason))
+                suspects.append(batch[0])
             continue
         finally:
             future.release()
         for (k, _), outcome in zip(batch, outcomes, strict=True):
             report(k, outcome)
+    for item in suspects:
+        _read_alone(client, submit, item, report)
+
+
+def _read_alone(client: Any, submit: Callable, item: tuple[int, str], report: Callable[[int, Outcome], None]) -> None:
+    """Read one file that failed as a task of its own, with nothing else in flight: a worker killed by
+    another file counts the tasks queued on it as suspects too, so only a file that fails alone is given up."""
+    future = submit([item])
+    try:
+        report(item[0], future.result()[0])
+    except Exception as err:
+        _check_scheduler(client, err)
+        reason = f"the reading process died ({type(err).__name__}) every time; the file may be damaged"
+        report(item[0], Outcome("failure", reason))
+    finally:
+        future.release()
+
+
+def _check_scheduler(client: Any, err: BaseException) -> None:
+    if client.status not in ("running", "connecting"):
+        raise QcthermoError(f"lost the Dask scheduler: {_reason(err)}") from None
 
 
 def _reason(err: BaseException) -> str:
