@@ -163,6 +163,18 @@ def test_report_tables_are_the_tables_for_people(sample_run):
     assert f">{e:.6f}</td>" in text
 
 
+def test_report_footnote_marks_are_superscripts_with_their_notes(sample_run):
+    # the convention of journals' table footnotes: a superscript letter in the row, the same letter before the
+    # note below the table (the run's reactions table has notes: each reaction's equation)
+    from qcthermo.export.report import render_report
+
+    text = render_report(sample_run)
+    cell_marks = re.findall(r"<td class=\"text\">[^<]+<sup>([a-z,]+)</sup></td>", text)
+    note_marks = re.findall(r"<li><sup>([a-z]+)</sup> ", text)
+    assert cell_marks and {m for ms in cell_marks for m in ms.split(",")} <= set(note_marks)
+    assert not re.search(r"<td class=\"text\">[^<]* [a-z](,[a-z])*</td>", text.split("<details")[0])
+
+
 #: run in a copy of the report: opens every collapsible block, then lists each table wider than its box
 _MEASURE = """<script>
 document.querySelectorAll("details").forEach(d => d.open = true);

@@ -59,9 +59,10 @@ figcaption { color: #555; font-size: 12px; }
 
 def _table(headers: list[str], rows: Iterable[Iterable[Any]], numeric: list[bool] | None = None,
            wrapped: list[bool] | None = None, row_classes: Iterable[str] | None = None,
-           sections: list[str] | None = None) -> str:
+           sections: list[str] | None = None, marks: list[list[str]] | None = None) -> str:
     """An HTML table of text cells (escaped here): numeric columns right-aligned, prose columns may wrap;
-    ``sections`` (per row) a heading row across the table wherever it changes."""
+    ``sections`` (per row) a heading row across the table wherever it changes; ``marks`` (per row) footnote
+    marks set as superscripts after the first cell."""
     rows = [list(r) for r in rows]
     numeric = numeric or [False] * len(headers)
     wrapped = wrapped or [h in WRAPPED_COLUMNS for h in headers]
@@ -73,7 +74,10 @@ def _table(headers: list[str], rows: Iterable[Iterable[Any]], numeric: list[bool
         if sections is not None and (i == 0 or sections[i] != sections[i - 1]):
             body.append(f'<tr class="section"><td class="text" colspan="{len(headers)}">'
                         f"{html.escape(sections[i])}</td></tr>")
-        cells = "".join(f'<td class="{k}">{html.escape(str(v))}</td>' for v, k in zip(row, kinds, strict=True))
+        cells = [html.escape(str(v)) for v in row]
+        if marks and marks[i]:
+            cells[0] += f"<sup>{html.escape(','.join(marks[i]))}</sup>"
+        cells = "".join(f'<td class="{k}">{c}</td>' for c, k in zip(cells, kinds, strict=True))
         body.append(f'<tr class="{html.escape(cls)}">{cells}</tr>')
     return f'<div class="scroll"><table><thead><tr>{head}</tr></thead><tbody>{"".join(body)}</tbody></table></div>'
 
@@ -92,10 +96,8 @@ def _frame_table(frame, what: str, stem: str | None = None, unit: str = "kcal/mo
     paper = paper_table(frame, stem, unit)
     headers, numeric, rows = display_cells(paper.frame)
     marks, anchored = anchored_notes(paper.row_notes, len(rows))
-    for row, row_marks in zip(rows, marks, strict=True):
-        row[0] += f" {','.join(row_marks)}" if row_marks else ""
     notes = "".join(f"<li><sup>{note_mark(i)}</sup> {html.escape(n)}</li>" for i, n in enumerate(anchored))
-    table = _table(headers, rows, numeric, sections=paper.sections)
+    table = _table(headers, rows, numeric, sections=paper.sections, marks=marks)
     key = str(frame.columns[0])
     return table + (f'<ul class="notes">{notes}</ul>' if notes else "") + _details(frame, key, what)
 
