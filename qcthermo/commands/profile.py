@@ -3,7 +3,7 @@
 The logs are looked for in ``--directory`` (default: the reaction file's folder). ``--profile NAME``
 (repeatable) draws the named profiles, overlaid in the order given. Without it every ``[[profile]]`` is
 drawn: overlaid when all start from the same species, else one panel per group of profiles that do
-(``qcthermo.export.figures.overview_figure``). An existing figure is kept unless
+(``qcthermo.export.profile_figures.overview_figure``). An existing figure is kept unless
 ``--force``. Exit status: 0 drawn from clean inputs, 1 drawn but some of its inputs had errors (listed; errors
 about other files of the folder are counted in one note), 2 nothing drawn (one line saying why).
 """
@@ -20,7 +20,7 @@ from .common import explicit_conditions, reading_options
 
 def _check_output(path: Path, force: bool) -> None:
     """Refuse, before any work, a bad extension or a file that would be overwritten without --force."""
-    from ..export.figures import FORMATS
+    from ..export.figure_common import FORMATS
     from ..fileio import check_output_file
 
     if path.suffix.lower() not in FORMATS:
@@ -29,13 +29,9 @@ def _check_output(path: Path, force: bool) -> None:
 
 
 def main(args: argparse.Namespace) -> int:
-    from ..export.figures import (
-        overview_figure,
-        plot_profiles,
-        profile_temperature_index,
-        profiles_from_records,
-        save_figure,
-    )
+    from ..export.figure_common import save_figure
+    from ..export.profile_data import profile_temperature_index, profiles_from_records
+    from ..export.profile_figures import overview_figure, plot_profiles
     from ..fileio import display
     from ..reactions import load_reaction_file
     from ..workflow import profile_subjects, run

@@ -71,13 +71,13 @@ def plot_conformers(table, unit: str, temperature: float):
     with its dG; ``table`` from :func:`conformer_table`."""
     import matplotlib
 
-    from .figures import COLUMN_WIDTH_IN, PALETTE, STYLE, UNIT_LABELS, _new_figure, _style_axes
+    from .figure_common import COLUMN_WIDTH_IN, PALETTE, STYLE, UNIT_LABELS, new_figure, style_axes
 
     rows = table[(table["status"] == "used") & np.isclose(table["T_K"], temperature)]
     species = list(dict.fromkeys(rows["species"]))
     dg = f"dG_{unit_suffix(unit)}"
     with matplotlib.rc_context(STYLE):
-        fig = _new_figure(COLUMN_WIDTH_IN)
+        fig = new_figure(COLUMN_WIDTH_IN)
         heights = [max(len(rows[rows["species"] == s]), 1) for s in species]
         fig.set_size_inches(COLUMN_WIDTH_IN, 0.6 + 0.22 * sum(heights) + 0.45 * len(species))
         axes = fig.subplots(len(species), 1, squeeze=False, gridspec_kw={"height_ratios": heights})[:, 0]
@@ -91,7 +91,7 @@ def plot_conformers(table, unit: str, temperature: float):
             ax.set_xlim(0, 118)  # room for the last label beyond 100 %
             ax.set_xticks(range(0, 101, 20))
             ax.set_title(name, loc="left", fontsize="medium")
-            _style_axes(ax)
+            style_axes(ax)
         axes[-1].set_xlabel(f"population / % at {temperature:g} K (bar labels: ΔG / {UNIT_LABELS[unit]})")
         fig.tight_layout()
     return fig
@@ -100,7 +100,8 @@ def plot_conformers(table, unit: str, temperature: float):
 def write_conformers(results, out_dir: str | Path, caption_context: str, write_table) -> list[Path]:
     """conformers.csv/.xlsx/.md/.tex (``write_table(df, out_dir, stem, caption, notes, energy_unit)``) and
     conformers.svg into ``out_dir``; nothing when no species has several conformer files. Returns the paths written."""
-    from .figures import profile_temperature_index, save_figure
+    from .figure_common import save_figure
+    from .profile_data import profile_temperature_index
 
     table = conformer_table(results)
     if not len(table):

@@ -24,7 +24,7 @@ SEVERITY_ORDER = {"error": 0, "warning": 1, "info": 2, "note": 2}
 #: what every energy profile shows
 PROFILE_CAPTION = "free energies under the chosen low-mode model, relative to the first state"
 
-#: captions of the run's figures (stems as in :func:`qcthermo.export.figures.run_figures`)
+#: captions of the run's figures (stems as in :func:`qcthermo.export.run_figures.run_figures`)
 FIGURE_CAPTIONS = {
     "profile": "All energy profiles, those that belong together overlaid (one panel per group): {names}; "
                + PROFILE_CAPTION + ".",
@@ -163,7 +163,9 @@ def _caption(stem: str, fig) -> str:
 def _figures_section(results) -> str:
     """Every profile alone, the overlay when some profiles share a diagram (otherwise it would only
     repeat them), and the temperature plots."""
-    from .figures import figure_svg, overlay_groups, run_figures, run_profiles
+    from .figure_common import figure_svg
+    from .profile_data import overlay_groups, run_profiles
+    from .run_figures import run_figures
 
     overlaid = any(len(group) > 1 for group in overlay_groups(run_profiles(results)))
     parts = []
@@ -217,7 +219,7 @@ def _simulation_section(results) -> list[str]:
     sim = getattr(results, "simulation", None)
     if sim is None:
         return []
-    from .figures import figure_svg
+    from .figure_common import figure_svg
     from .simulation import concentration_figure
 
     notes = "".join(f"<li>{html.escape(n)}</li>" for n in sim.notes)

@@ -59,8 +59,7 @@ def concentration_figure(sim, time_axis: str = "auto"):
     output times span more than three decades)."""
     import matplotlib
 
-    from .figures import PALETTE, STYLE, _new_figure, _style_axes
-    from .temperature_figures import _legend_below
+    from .figure_common import PALETTE, STYLE, legend_below, new_figure, style_axes
 
     frame = sim.curves
     t = frame.index.to_numpy()
@@ -69,9 +68,9 @@ def concentration_figure(sim, time_axis: str = "auto"):
     constant = set(sim.settings.fixed) | {c for c in frame.columns if c not in set(sim.summary["species"])}
     top = float(np.nanmax(frame.to_numpy())) if frame.size else 1.0
     with matplotlib.rc_context(STYLE):
-        fig = _new_figure(2 * 8.5 / 2.54 * 0.75)
+        fig = new_figure(2 * 8.5 / 2.54 * 0.75)
         ax = fig.subplots()
-        _style_axes(ax)
+        style_axes(ax)
         for k, name in enumerate(frame.columns):
             c = frame[name].to_numpy(dtype=float)
             keep = (c > top * _FLOOR) & ((t > 0) if log_time else True)
@@ -83,7 +82,7 @@ def concentration_figure(sim, time_axis: str = "auto"):
             ax.set_xscale("log")
         ax.set_xlabel("t / s")
         ax.set_ylabel("c / mol L⁻¹")
-        _legend_below(fig, [ax])
+        legend_below(fig, [ax])
     fig.set_label("concentrations")
     return fig
 
@@ -91,7 +90,7 @@ def concentration_figure(sim, time_axis: str = "auto"):
 def write_simulation(results, out_dir: str | Path, time_axis: str = "auto") -> list[Path]:
     """Write the files listed in the module docstring into ``out_dir``; the paths written."""
     from ..fileio import atomic_write
-    from .figures import save_figure
+    from .figure_common import save_figure
     from .tables import write_tables
 
     sim = results.simulation

@@ -14,7 +14,16 @@ import numpy as np
 from matplotlib.figure import Figure
 
 from ..units import unit_suffix
-from .figures import COLUMN_WIDTH_IN, FIGURE_HEIGHT_IN, PALETTE, STYLE, UNIT_LABELS, _new_figure, _style_axes
+from .figure_common import (
+    COLUMN_WIDTH_IN,
+    FIGURE_HEIGHT_IN,
+    PALETTE,
+    STYLE,
+    UNIT_LABELS,
+    legend_below,
+    new_figure,
+    style_axes,
+)
 from .tables import plain_typeset
 
 #: height of one panel, inches, when a figure stacks several over one x axis
@@ -42,24 +51,12 @@ def energy_column(reactions, stem: str, unit: str, model: str | None) -> str:
 
 def _stacked_axes(n_panels: int) -> tuple[Figure, list]:
     """A one-column figure of ``n_panels`` axes stacked over a shared x axis."""
-    fig = _new_figure(COLUMN_WIDTH_IN)
+    fig = new_figure(COLUMN_WIDTH_IN)
     fig.set_size_inches(COLUMN_WIDTH_IN, 0.5 + PANEL_HEIGHT_IN * n_panels)
     axes = list(fig.subplots(n_panels, 1, sharex=True, squeeze=False)[:, 0])
     for ax in axes:
-        _style_axes(ax)
+        style_axes(ax)
     return fig, axes
-
-
-def _legend_below(fig, axes) -> None:
-    """One legend for every panel, under the figure, out of the data's way (the saved file's box grows)."""
-    handles, labels = {}, {}
-    for ax in axes:
-        for h, label in zip(*ax.get_legend_handles_labels(), strict=True):
-            handles.setdefault(label, h)
-            labels[label] = label
-    fig.tight_layout()
-    fig.legend(list(handles.values()), list(labels), loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=2,
-               handlelength=2.0, columnspacing=1.2)
 
 
 def plot_dG_T(reactions, unit: str = "kcal/mol", model: str | None = None) -> Figure:
@@ -80,7 +77,7 @@ def plot_dG_T(reactions, unit: str = "kcal/mol", model: str | None = None) -> Fi
                 ax.plot(t, y, color=color, marker="o", ms=2.5, label=name, gid=f"{column}:{name}")
             ax.set_ylabel(label)
         axes[-1].set_xlabel("T / K")
-        _legend_below(fig, axes)
+        legend_below(fig, axes)
     return fig
 
 
@@ -113,5 +110,5 @@ def plot_arrhenius(reactions, rate_column: str = "k_forward") -> Figure:
                 k += 1
             ax.set_ylabel(f"ln(k / {unit})" if unit else "ln k")
         axes[-1].set_xlabel("1000 K / T")
-        _legend_below(fig, axes)
+        legend_below(fig, axes)
     return fig
