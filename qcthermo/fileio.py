@@ -26,7 +26,7 @@ from .errors import QcthermoError
 
 #: the codec error handler that writes an undecodable file-name byte as ``\xNN`` (see :func:`display`)
 DISPLAY_ERRORS = "qcthermo-display"
-#: what a run writes into --out (workflow.py): such a file not listed in the folder's run.json is a user's
+#: what a run writes into --out (export/run_outputs.py): such a file not listed in the folder's run.json is a user's
 RUN_OUTPUTS = (
     "run.json", "survey.csv", "species.*", "reactions.*", "rates.csv", "arrhenius.csv", "energy_span.csv",
     "coordinates.xyz", "thermo.yaml", "thermo.dat", "profile*.svg", "profile*.png", "profile*.pdf",

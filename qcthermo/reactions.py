@@ -3,7 +3,8 @@
 :func:`load_reaction_file` reads and validates a reaction file into a :class:`ReactionFile`; every
 problem is a :class:`~qcthermo.errors.ReactionFileError` naming the file, the line and the item.
 :func:`reaction_energetics` turns species values (hartree per molecule, arrays over temperature)
-into reaction and activation energies; :func:`check_balance` checks atoms and charge.
+into reaction and activation energies; :func:`check_balance` checks atoms and charge; :func:`simulation_settings`
+checks the [simulation] table (and the keywords of qcthermo.simulate.simulate), which qcthermo.simulate runs.
 The schema as implemented, key by key, is in docs/reactions.md.
 """
 
@@ -16,7 +17,7 @@ import re
 import reprlib
 import tomllib
 from collections import Counter
-from collections.abc import Iterator
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from functools import partial
 from pathlib import Path
@@ -212,7 +213,7 @@ class ReactionFile:
         ensemble: [ensemble] settings merged with :data:`ENSEMBLE_DEFAULTS`.
         species, reactions, profiles: the tables in file order.
         heats_of_formation: the [heats_of_formation] table, reactions resolved (None when absent).
-        simulation: the [simulation] table checked (qcthermo.simulate.SimulationSettings), or None.
+        simulation: the [simulation] table checked (:class:`SimulationSettings`), or None.
         text: the file's text (to find lines for later errors, e.g. balance).
     """
 
@@ -680,8 +681,6 @@ class _Parser:
         return out
 
     def rate(self, value: Any, spec: ReactionSpec, line: int | None) -> float | str:
-        from .simulate import rate_setting
-
         if spec.transition_state:
             self.fail(f"reaction {spec.name!r} rate: a reaction with a transition state takes its rate constant "
                       "from it", line)
@@ -691,10 +690,8 @@ class _Parser:
             self.fail(f"reaction {spec.name!r} {err}", line)
 
     def simulation(self, table: Any, species: dict, reactions: list[ReactionSpec]):
-        """The [simulation] table: each key checked by qcthermo.simulate, every species named one that some
+        """The [simulation] table: each key checked (:func:`simulation_settings`), every species named one that some
         reaction uses (and not one held at its own concentration)."""
-        from .simulate import SETTING_PARSERS, SIMULATION_KEYS, simulation_settings
-
         line = (self.where.header("simulation") or [self.where.key(0, "simulation")])[0]
         self.check_keys(self.table(table, "[simulation]", line), SIMULATION_KEYS, "[simulation]", line)
         for key in ("initial", "time"):
@@ -1028,3 +1025,187 @@ def state_values(states: list[list[Term]], values: dict[str, dict[str, np.ndarra
     """Every profile state relative to the first, per quantity (hartree, arrays over T)."""
     absolute = [{q: _sum(s, values, q) for q in QUANTITIES} for s in states]
     return [{q: a[q] - absolute[0][q] for q in QUANTITIES} for a in absolute]
+
+
+# -- the [simulation] table: what a simulation is asked to do (qcthermo.simulate does it) -----------------
+
+#: solvers of scipy.integrate.solve_ivp suited to stiff kinetics
+METHODS = ("BDF", "Radau", "LSODA")
+#: the default solver: LSODA (ODEPACK's stiff/non-stiff switching BDF). scipy's BDF is much faster on a large
+#: network that keeps moving, but at an exact steady state (a catalytic cycle with reservoir species) its Newton
+#: test compares two round-off-sized corrections, fails at random and halves the step: thousands of steps per
+#: decade of time; Radau's interpolant between its steps misses a fast intermediate's rise by a factor 3 at the
+#: output times (docs/simulate.md, both measured on the sample scenario)
+DEFAULT_METHOD = "LSODA"
+#: default relative and absolute (mol/L) tolerances of the solver
+RTOL = 1e-8
+ATOL_M = 1e-20
+
+
+#: keys of the [simulation] table (and keyword arguments of :func:`qcthermo.simulate.simulate`)
+SIMULATION_KEYS = ("initial", "time", "temperature", "fixed", "product", "reactant", "catalyst", "method", "rtol",
+                   "atol", "viscosity", "rate_control", "engine")
+#: integrators of a simulation: qcthermo's own (scipy) or a Cantera reactor on the run's mechanism
+ENGINES = ("scipy", "cantera")
+#: largest number of output times (a finer grid than any table needs)
+MAX_TIMES = 10_000
+
+
+@dataclass
+class SimulationSettings:
+    """What a simulation is asked to do (validated; see docs/simulate.md).
+
+    Attributes:
+        initial: species -> (kind, value): ("number", x) mol/L in a solution standard state or a partial
+            pressure in the standard state's unit (atm, bar, Pa) in a gas one; ("M", c) mol/L; ("Pa", p).
+        times: s, the output times asked for (a list), or None for the default grid up to ``end_time``.
+        end_time: s.
+        temperature: None (the run's temperature), K, or a program [(t in s, T in K), ...].
+        fixed: species held at their initial concentration.
+        product: species whose net formation rate the degree of rate control and the TOF follow.
+        reactant: species that conversion, yields and selectivities refer to.
+        catalyst: species whose concentrations sum to the catalyst's (TOF = formation rate / their sum).
+        method, rtol, atol: the solver and its tolerances (atol in mol/L).
+        viscosity: Pa s, for diffusion-limited steps (None: water's at 298.15 K).
+        rate_control: compute the degree of rate control.
+        engine: "scipy" (qcthermo's integrator) or "cantera" (an ideal-gas reactor on the run's thermo.yaml).
+    """
+
+    initial: dict[str, tuple[str, float]]
+    end_time: float
+    times: tuple[float, ...] | None = None
+    temperature: Any = None
+    fixed: tuple[str, ...] = ()
+    product: str | None = None
+    reactant: str | None = None
+    catalyst: tuple[str, ...] = ()
+    method: str = DEFAULT_METHOD
+    rtol: float = RTOL
+    atol: float = ATOL_M
+    viscosity: float | None = None
+    rate_control: bool = True
+    engine: str = "scipy"
+
+
+def _names(value: Any, key: str) -> tuple[str, ...]:
+    items = [value] if isinstance(value, str) else value
+    if not isinstance(items, (list, tuple)) or not all(isinstance(i, str) and i for i in items):
+        raise ValueError(f"{key} {value!r}: expected a species name or a list of them")
+    return tuple(items)
+
+
+def _name(value: Any, key: str) -> str:
+    if not isinstance(value, str) or not value:
+        raise ValueError(f"{key} {value!r}: expected one species name")
+    return value
+
+
+def _positive(value: Any, key: str, unit: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not np.isfinite(value) or value <= 0:
+        raise ValueError(f"{key} {value!r}: expected a finite number > 0 ({unit})")
+    return float(value)
+
+
+def _initial(value: Any) -> dict[str, tuple[str, float]]:
+    from .units import parse_amount
+
+    if not isinstance(value, dict) or not value:
+        raise ValueError(f"initial {value!r}: expected a table of species = concentration, e.g. {{a = 0.1}}")
+    return {str(name): parse_amount(amount, f"initial concentration of {name!r}") for name, amount in value.items()}
+
+
+def _times(value: Any) -> tuple[float, tuple[float, ...] | None]:
+    from .units import parse_duration
+
+    if isinstance(value, list):
+        if not 1 <= len(value) <= MAX_TIMES:
+            raise ValueError(f"time: expected 1 to {MAX_TIMES} output times")
+        times = tuple(sorted(parse_duration(v, "time") for v in value))
+        return times[-1], times
+    return parse_duration(value, "time"), None
+
+
+def _temperature(value: Any) -> Any:
+    from .units import parse_duration
+
+    if isinstance(value, list):
+        points = []
+        for point in value:
+            if not isinstance(point, (list, tuple)) or len(point) != 2:
+                raise ValueError(f"temperature {value!r}: a program is a list of [time, kelvin] pairs")
+            t = 0.0 if point[0] == 0 and not isinstance(point[0], bool) else parse_duration(point[0], "program time")
+            points.append((t, _positive(point[1], "temperature", "K")))
+        if len(points) < 2:
+            raise ValueError("temperature: a program needs at least two [time, kelvin] points")
+        return sorted(points)
+    return _positive(value, "temperature", "K")
+
+
+def _choice(value: Any, key: str, choices: tuple[str, ...]) -> str:
+    if value not in choices:
+        raise ValueError(f"{key} {value!r}: expected one of {', '.join(choices)}")
+    return value
+
+
+def _method(value: Any) -> str:
+    return _choice(value, "method", METHODS)
+
+
+def _flag(value: Any) -> bool:
+    if not isinstance(value, bool):
+        raise ValueError(f"rate_control {value!r}: expected true or false")
+    return value
+
+
+def _tolerance(key: str) -> Callable[[Any], float]:
+    def check(value: Any) -> float:
+        value = _positive(value, key, "relative" if key == "rtol" else "mol/L")
+        if key == "rtol" and value >= 1:
+            raise ValueError(f"rtol {value!r}: expected a number between 0 and 1")
+        return value
+    return check
+
+
+#: each key's check and conversion; raises ValueError with a one-line reason naming the key
+SETTING_PARSERS: dict[str, Callable[[Any], Any]] = {
+    "initial": _initial, "time": _times, "temperature": _temperature,
+    "fixed": lambda v: _names(v, "fixed"), "catalyst": lambda v: _names(v, "catalyst"),
+    "product": lambda v: _name(v, "product"), "reactant": lambda v: _name(v, "reactant"),
+    "method": _method, "rtol": _tolerance("rtol"), "atol": _tolerance("atol"),
+    "viscosity": lambda v: _positive(v, "viscosity", "Pa s"), "rate_control": _flag,
+    "engine": lambda v: _choice(v, "engine", ENGINES),
+}
+
+
+def simulation_settings(table: dict[str, Any]) -> SimulationSettings:
+    """Check and convert a [simulation] table (or simulate()'s keywords); ValueError names the first bad key."""
+    unknown = [k for k in table if k not in SIMULATION_KEYS]
+    if unknown:
+        raise ValueError(f"unknown key {unknown[0]!r} (allowed: {', '.join(SIMULATION_KEYS)})")
+    for key in ("initial", "time"):
+        if table.get(key) is None:
+            raise ValueError(f"a simulation needs {key!r}")
+    parsed = {k: SETTING_PARSERS[k](v) for k, v in table.items() if v is not None}
+    end_time, times = parsed.pop("time")
+    settings = SimulationSettings(end_time=end_time, times=times, **parsed)
+    cross_check(settings)
+    return settings
+
+
+def cross_check(settings: SimulationSettings) -> None:
+    """The keys against each other: fixed species and the reactant need an initial concentration."""
+    for name in settings.fixed:
+        if name not in settings.initial:
+            raise ValueError(f"fixed species {name!r} needs an initial concentration")
+    if settings.reactant is not None and settings.reactant not in settings.initial:
+        raise ValueError(f"reactant {settings.reactant!r} needs an initial concentration")
+    if settings.reactant is not None and settings.reactant in settings.fixed:
+        raise ValueError(f"reactant {settings.reactant!r} is fixed: its conversion is 0 by construction")
+
+
+def rate_setting(value: Any) -> float | str:
+    """The ``rate`` of a [[reaction]] without a transition state: a forward rate constant > 0 in mol/L and s
+    units (s^-1, M^-1 s^-1, ... by its molecularity), or "diffusion"."""
+    if value == "diffusion":
+        return "diffusion"
+    return _positive(value, "rate", 'M^(1-m) s^-1 for m molecules, or "diffusion"')

@@ -249,8 +249,8 @@ def _molar_g(s: SpeciesResult, conditions: Conditions, t: np.ndarray) -> np.ndar
 def _problems(names: list[str], species: dict[str, SpeciesResult], subject: str, t: np.ndarray) -> list[Finding]:
     """Errors that exclude a pKa or potential (as for reactions), a warning for gas-phase species and one for
     temperatures away from those of the literature constants."""
+    from .reaction_audit import audit_reaction
     from .species import Finding
-    from .workflow import audit_reaction
 
     found = audit_reaction(names, species, subject)
     if not any(f.severity == "error" for f in found):

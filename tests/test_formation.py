@@ -388,7 +388,7 @@ def test_one_temperature_run_fits_the_mechanism_over_its_own_range(samples, isom
     # 300-2000 K (docs/formation.md), checked against the Eyring equation at 1000 K from the run's own numbers
     import qcthermo
     from qcthermo.kinetics import eyring_rate
-    from qcthermo.workflow import MECHANISM_TEMPERATURES
+    from qcthermo.run_kinetics import MECHANISM_TEMPERATURES
 
     res = qcthermo.run(samples / "gas", reactions=isomerisation_file, jobs=1, cache=False)
     (reaction,) = res.mechanism
@@ -428,7 +428,8 @@ def test_a_given_rate_enters_the_mechanism(samples, state, factor):
 
     import qcthermo
     from qcthermo.reactions import load_reaction_file
-    from qcthermo.workflow import default_conditions, in_solvent
+    from qcthermo.run_kinetics import in_solvent
+    from qcthermo.workflow import default_conditions
 
     rf = load_reaction_file(samples / "reactions.toml")
     recombination = next(r for r in rf.reactions if r.name == "methyl_recombination")

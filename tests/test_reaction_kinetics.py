@@ -277,10 +277,10 @@ def test_transition_state_of_other_atoms_is_refused_by_the_reaction_file(tmp_pat
 
 def test_transition_state_of_other_atoms_is_an_error_finding_of_the_reaction_audit(samples):
     # species built without a reaction file (the Python API) get the same rule in the reaction audit
+    from qcthermo.reaction_audit import audit_reaction, reaction_sides
     from qcthermo.reactions import ReactionSpec
     from qcthermo.readers import read_log
     from qcthermo.species import SpeciesOptions, build_species
-    from qcthermo.workflow import audit_reaction, reaction_sides
 
     def species(name, file, ts=False, sp=None):
         extra = [read_log(samples / "sp" / sp)] if sp else []

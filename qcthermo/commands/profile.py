@@ -32,9 +32,10 @@ def main(args: argparse.Namespace) -> int:
     from ..export.figure_common import save_figure
     from ..export.profile_data import profile_temperature_index, profiles_from_records
     from ..export.profile_figures import overview_figure, plot_profiles
+    from ..export.run_tables import profile_subjects
     from ..fileio import display
     from ..reactions import load_reaction_file
-    from ..workflow import profile_subjects, run
+    from ..workflow import run
 
     output = Path(args.output)
     _check_output(output, args.force)
