@@ -272,3 +272,77 @@ def test_thermo_summary_counts_the_logs_it_left_out(samples, capsys, tmp_path, c
     assert main(["thermo", str(samples / "sp"), "--no-cache", "--jobs", "1", "--quiet"]) == 0
     summary = capsys.readouterr().out.strip().splitlines()[-1]
     assert summary.startswith("4 files: 0 refused or unreadable; 6 without frequencies left out")
+
+
+# -- the terminal: a table a person reads -----------------------------------------------------------------
+
+
+def _row(out: str, name: str) -> list[str]:
+    return next(line.split() for line in out.splitlines() if line.startswith(f"{name} "))
+
+
+def test_terminal_table_names_its_reference_and_units_and_the_temperature_once(samples, tmp_path, cache_dir,
+                                                                              capsys, monkeypatch):
+    # the numbers on the terminal are the CSV's: the lowest pentane conformer (pentane_tt.out, sample_outputs/
+    # README.md) at 0.00, the others at their G minus its G, in kcal/mol (CODATA hartree, 4.184 J per calorie)
+    monkeypatch.setenv("LINES", "60")
+    csv = tmp_path / "conformers.csv"
+    assert main(["thermo", str(samples / "conformers"), "--jobs", "1", "--csv", str(csv)]) == 0
+    out = capsys.readouterr().out
+    lines = out.splitlines()
+    assert lines[0].startswith("G by motion at 298.15 K (qrrho, 1atm)")
+    units, heading = lines[1].split(), lines[2].split()
+    assert units == ["E_elec", "trans", "rot", "vib", "elec", "low-mode", "G", "G", "−", "G_min"]
+    assert heading == ["file", "formula", "group", "σ", "Eh", *["kcal/mol"] * 5, "Eh", "kcal/mol"]
+    assert "G_min: the lowest G of the same formula, program, level of theory and solvent model" in out
+    assert "298.15" not in "".join(lines[1:])  # the temperature is in the title, not on every row
+    table = pd.read_csv(csv).set_index("file")
+    kcal_per_eh = HARTREE_J * N_A / 4184.0
+    lowest = table["G_total_Eh"].min()
+    assert table["G_total_Eh"].idxmin() == "pentane_tt.out" and _row(out, "pentane_tt.out")[-1] == "0.00"
+    for name, g in table["G_total_Eh"].items():
+        row = _row(out, name)
+        assert float(row[-2]) == pytest.approx(g, abs=5e-7)
+        assert float(row[-1]) == pytest.approx((g - lowest) * kcal_per_eh, abs=0.005)
+    assert len(row) == 12  # every row "ok": no status column
+
+
+def test_terminal_range_prints_a_table_per_temperature_and_a_refused_file_once(samples, tmp_path, cache_dir,
+                                                                             capsys, monkeypatch):
+    monkeypatch.setenv("LINES", "60")
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    for name in ("pentane_tt.out", "pentane_gpgm.out"):
+        shutil.copy(samples / "conformers" / name, logs / name)
+    (logs / "broken.out").write_text("not a quantum-chemistry log\n")
+    assert main(["thermo", str(logs), "--jobs", "1", "--temperature-range", "250:350:50"]) == 1
+    out = capsys.readouterr().out
+    titles = [line.split(" (")[0] for line in out.splitlines() if line.startswith("G by motion at")]
+    assert titles == ["G by motion at 250 K", "G by motion at 300 K", "G by motion at 350 K"]
+    assert out.count("pentane_tt.out ") == 3 and "T/K" not in out and "excluded" not in out
+    assert out.count("broken.out") == 1
+    assert "  error: broken.out: not a quantum-chemistry log" in out
+    # the lowest conformer is 0.00 in each table (sample_outputs/README.md: tt is the lowest pentane conformer)
+    assert [line.split()[-1] for line in out.splitlines() if line.startswith("pentane_tt.out")] == ["0.00"] * 3
+
+
+def test_more_than_a_screenful_prints_an_overview(samples, tmp_path, cache_dir, capsys, monkeypatch):
+    # sample_outputs/README.md: gas/ holds 14 logs that all get a row, three of formula CHN (HCN, HNC and the TS)
+    logs = tmp_path / "logs"
+    shutil.copytree(samples / "gas", logs)
+    (logs / "broken.out").write_text("not a quantum-chemistry log\n")
+    monkeypatch.setenv("LINES", "15")
+    csv = tmp_path / "all.csv"
+    assert main(["thermo", str(logs), "--jobs", "1", "--csv", str(csv)]) == 1
+    out = capsys.readouterr().out.splitlines()
+    assert out[0] == f"15 files, more than a screenful: the full table is in {csv}"
+    assert out[1] == "status: ok (14), error (1)"
+    assert out[2].startswith("formulas: CHN (3), ")
+    assert out[3] == "levels of theory: nwchem B3LYP/6-31G* (14), unreadable (1)"
+    assert out[4].startswith("  error: broken.out: not a quantum-chemistry log")
+    assert out[-1].startswith("15 files: 1 refused or unreadable")
+    assert not any(line.startswith("hnc.out") for line in out)
+    assert len(csv.read_text().splitlines()) == 1 + 15  # every row is in the file
+    monkeypatch.setenv("LINES", "40")  # a taller screen: the table
+    assert main(["thermo", str(logs), "--jobs", "1"]) == 1
+    assert _row(capsys.readouterr().out, "hnc.out")[:2] == ["hnc.out", "CHN"]

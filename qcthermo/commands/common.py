@@ -1,10 +1,14 @@
-"""What several sub-commands share: the explicit conditions of the options (merged by qcthermo.settings)."""
+"""What several sub-commands share: the explicit conditions of the options (merged by qcthermo.settings), and
+the size of a screen with the overview printed in place of a longer table."""
 
 from __future__ import annotations
 
 import argparse
+import os
+import sys
 from typing import Any
 
+from ..fileio import display
 from ..records import CONDITION_KEYS, Conditions
 from ..settings import merge_conditions, parse_temperature_range
 
@@ -28,3 +32,41 @@ def conditions_from_args(args: argparse.Namespace, file_settings: dict[str, Any]
     """Conditions from, in rising priority: Conditions()'s defaults (the command line has no others), a
     reaction file's [conditions], options (qcthermo.settings.merge_conditions)."""
     return merge_conditions(file_settings, explicit_conditions(args))[0]
+
+
+#: failing files named under --quiet (the table, which names them all, is not shown)
+SHOWN_ERRORS = 10
+#: lines of a "screen" when stdout is not a terminal (a pipe, a batch job's log) and $LINES is not set
+PIPE_LINES = 100
+#: lines around the table: its heading, the levels of theory, the summary, the shell's prompt
+AROUND_TABLE = 5
+
+
+def screenful() -> int:
+    """How many rows the terminal table may have: $LINES, else the terminal's height, else :data:`PIPE_LINES`,
+    less :data:`AROUND_TABLE`."""
+    lines = os.environ.get("LINES", "")
+    if lines.isdigit():
+        height = int(lines)
+    elif sys.stdout.isatty():
+        height = os.get_terminal_size(sys.stdout.fileno()).lines
+    else:
+        height = PIPE_LINES
+    return max(height - AROUND_TABLE, SHOWN_ERRORS)
+
+
+def print_overview_heading(what: str, written: list[str], options: str) -> None:
+    """The first line of an overview printed in place of a table longer than a screenful: ``what`` (e.g.
+    "240 files") and where the full table went, the files written or else the ``options`` that write it."""
+    where = " and ".join(display(p) for p in written) or options
+    print(f"{what}, more than a screenful: the full table is in {where}")
+
+
+def print_flagged(flagged: list[tuple[str, str, str]], rows: int) -> None:
+    """(status, file, reason) of the files with an error or a warning, one line each, errors first, at most
+    ``rows`` of them and how many more."""
+    ordered = [f for f in flagged if f[0] == "error"] + [f for f in flagged if f[0] != "error"]
+    for status, path, reason in ordered[:rows]:
+        print(f"  {status}: {display(path)}: {display(reason)}")
+    if len(ordered) > rows:
+        print(f"  ... and {len(ordered) - rows} more with a warning or an error")

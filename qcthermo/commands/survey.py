@@ -3,14 +3,13 @@
 from __future__ import annotations
 
 import argparse
-import os
 import sys
 from collections import Counter
 from pathlib import Path
 
 from ..fileio import atomic_write, check_output_file, csv_text, display, json_text
 from ..survey import LOG_SUFFIXES, SurveyResult, survey
-from .common import reading_options
+from .common import SHOWN_ERRORS, print_flagged, print_overview_heading, reading_options, screenful
 
 #: the columns of the terminal table: (heading, how to show a row)
 _TABLE = (
@@ -31,12 +30,6 @@ _TABLE = (
 _PRIORITY = (0, 10, 1, 6, 7, 9, 8, 5, 3, 2, 4)
 _REASON_MIN = 24
 _STATUS_STYLE = {"warning": "yellow", "error": "red"}
-#: failing files named under --quiet (the table, which names them all, is not shown)
-SHOWN_ERRORS = 10
-#: lines of a "screen" when stdout is not a terminal (a pipe, a batch job's log) and $LINES is not set
-PIPE_LINES = 100
-#: lines around the table: its heading, the levels of theory, the summary, the shell's prompt
-AROUND_TABLE = 5
 
 
 def _blank(value) -> str:
@@ -96,31 +89,13 @@ def print_table(result: SurveyResult) -> None:
     console.print(table)
 
 
-def screenful() -> int:
-    """How many rows the terminal table may have: $LINES, else the terminal's height, else :data:`PIPE_LINES`,
-    less :data:`AROUND_TABLE`."""
-    lines = os.environ.get("LINES", "")
-    if lines.isdigit():
-        height = int(lines)
-    elif sys.stdout.isatty():
-        height = os.get_terminal_size(sys.stdout.fileno()).lines
-    else:
-        height = PIPE_LINES
-    return max(height - AROUND_TABLE, SHOWN_ERRORS)
-
-
 def print_overview(result: SurveyResult, written: list[str], rows: int) -> None:
     """In place of a table longer than ``rows``: the programs, then the files with a warning or an error (errors
     first, at most ``rows`` of them); the levels of theory and the status counts follow, as after a table."""
-    where = " and ".join(display(p) for p in written) or "--csv FILE or --json FILE"
-    print(f"{len(result.rows)} files, more than a screenful: the full table is in {where}")
+    print_overview_heading(f"{len(result.rows)} files", written, "--csv FILE or --json FILE")
     programs = Counter(row["program"] or "unreadable" for row in result.rows)
     print("programs: " + ", ".join(f"{name} ({n})" for name, n in programs.most_common()))
-    flagged = [r for r in result.rows if r["status"] == "error"] + [r for r in result.rows if r["status"] == "warning"]
-    for row in flagged[:rows]:
-        print(f"  {row['status']}: {display(row['path'])}: {display(row['reason'])}")
-    if len(flagged) > rows:
-        print(f"  ... and {len(flagged) - rows} more with a warning or an error")
+    print_flagged([(r["status"], r["path"], r["reason"]) for r in result.rows if r["status"] != "ok"], rows)
 
 
 def print_errors(command: str, errors: dict[str, str], limit: int = SHOWN_ERRORS) -> None:

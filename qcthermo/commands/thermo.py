@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+from collections import Counter
 from dataclasses import asdict, dataclass, field
 from typing import Any
 
@@ -34,11 +35,23 @@ from ..thermo import (
     temperatures_of,
 )
 from ..units import hartree_to, unit_suffix
-from .common import conditions_from_args, reading_options
+from .common import (
+    SHOWN_ERRORS,
+    conditions_from_args,
+    print_flagged,
+    print_overview_heading,
+    reading_options,
+    screenful,
+)
 
 #: ThermoResult totals -> (long-form quantity, unit)
 TOTAL_NAMES = {"zpe": ("ZPE", "Eh"), "thermal_energy": ("U", "Eh"), "enthalpy": ("H", "Eh"),
                "entropy": ("S", "Eh/K"), "gibbs": ("G", "Eh"), "cv": ("Cv", "Eh/K"), "cp": ("Cp", "Eh/K")}  # fmt: skip
+
+
+#: under the terminal's tables: what the columns are (the CSV's are in docs/thermo.md)
+LEGEND = ("G = E_elec + trans + rot + vib + elec + low-mode; vib harmonic, low-mode = G({model}) − G(RRHO)\n"
+          "G_min: the lowest G of the same formula, program, level of theory and solvent model at that temperature")
 
 
 @dataclass
@@ -211,50 +224,111 @@ def point_group_text(symbol: str | None) -> str:
 
 
 def _terminal_notes(record: dict[str, Any]) -> str:
-    """The notes, less the one that repeats the point-group and σ columns."""
+    """The notes, less what repeats the point-group and σ columns ("point group C1, symmetry number 1, chiral"
+    is "chiral") and the "warning: " the status column says."""
     same = f"point group {record.get('point_group')}, symmetry number {record.get('symmetry_number')}"
-    return "; ".join(n for n in str(record.get("reason") or "").split("; ") if n != same)
+    notes = (n.removeprefix(same).removeprefix(", ").removeprefix("warning: ")
+             for n in str(record.get("reason") or "").split("; "))
+    return "; ".join(n for n in notes if n)
 
 
-def print_table(frame, model: str, unit: str) -> None:
-    """The wide table on stdout with rich: parts of G in ``unit``, E and G in Eh. Every cell is a rich Text,
-    so a file name such as ``a[/red].out`` is printed verbatim, not read as markup."""
+def _shown_columns(frame, unit: str) -> list[tuple[str, str, bool, str]]:
+    """The terminal's columns present in ``frame`` (status only when some row is not "ok"): (frame column,
+    two-line heading "name\\nunit", whether the value is converted from Eh to ``unit``, format)."""
+    parts = [(f"{name}_Eh", f"{name.removeprefix('G_').replace('_', '-')}\n{unit}", True, "{:.2f}")
+             for name in PARTS[1:]]
+    shown = [("file", "file", False, "{}"), ("formula", "formula", False, "{}"), ("point_group", "group", False, "{}"),
+             ("symmetry_number", "σ", False, "{:.0f}"), ("E_elec_Eh", "E_elec\nEh", False, "{:.6f}"), *parts,
+             ("G_total_Eh", "G\nEh", False, "{:.6f}"), (f"dG_total_{unit_suffix(unit)}", f"G − G_min\n{unit}", False,
+             "{:.2f}"), ("status", "status", False, "{}")]  # fmt: skip
+    # a status column that says "ok" on every row says nothing (warnings and errors are listed under the table)
+    return [s for s in shown if s[0] in frame and (s[0] != "status" or (frame["status"] != "ok").any())]
+
+
+def _cell(value, scale: float | None, fmt: str) -> str:
     import pandas as pd
-    from rich.console import Console
+
+    if pd.isna(value):
+        return ""
+    if scale:  # round first, so that -0.001 kcal/mol shows as 0.00, not -0.00
+        value = round(value * scale, 2) + 0.0
+    return display(fmt.format(value))
+
+
+def print_table(frame, title: str, unit: str, console) -> None:
+    """One temperature's rows of the wide table on ``console`` (rich): parts of G and G − G_min in ``unit``,
+    E_elec and G in Eh, each unit on the second line of its heading. Every cell is a rich Text, so a file
+    name such as ``a[/red].out`` is printed verbatim, not read as markup."""
     from rich.table import Table
     from rich.text import Text
 
     factor = hartree_to(1.0, unit)
-    parts = [(f"{name}_Eh", name.removeprefix("G_").replace("_", "-"), factor, "{:.2f}") for name in PARTS[1:]]
-    shown = [("file", "file", None, "{}"), ("formula", "formula", None, "{}"), ("point_group", "group", None, "{}"),
-             ("symmetry_number", "σ", None, "{:.0f}"), ("T_K", "T/K", None, "{:.2f}"),
-             ("E_elec_Eh", "E_elec/Eh", None, "{:.6f}"), *parts, ("G_total_Eh", "G/Eh", None, "{:.6f}"),
-             (f"dG_total_{unit_suffix(unit)}", "ΔG", None, "{:.2f}"), ("status", "status", None, "{}"),
-             ("reason", "notes", None, "{}")]  # fmt: skip
-    shown = [s for s in shown if s[0] in frame]
-    caption = (f"G = E_elec + trans + rot + vib + elec + low-mode; parts and ΔG in {unit}; vib harmonic, "
-               f"low-mode = G({model}) − G(RRHO)")
-    table = Table(box=None, pad_edge=False, header_style="bold", caption=caption, caption_justify="left")
-    for _, heading, _, _ in shown:
-        table.add_column(heading, overflow="fold", no_wrap=heading not in ("file", "notes"))
+    shown = _shown_columns(frame, unit)
+    table = Table(box=None, pad_edge=False, header_style="bold", title=title, title_justify="left")
+    for key, heading, _, _ in shown:
+        table.add_column(heading, overflow="fold", no_wrap=key != "file",
+                         justify="right" if key.endswith(("_Eh", "_mol", "_eV")) else "left")
     styles = {"warning": "yellow", "error": "red"}
     for record in frame.to_dict("records"):
-        record["reason"] = _terminal_notes(record)
         record["point_group"] = point_group_text(record.get("point_group"))
-        cells = []
-        for key, _, scale, fmt in shown:
-            value = record.get(key)
-            if pd.isna(value):
-                cells.append(Text(""))
-                continue
-            if scale:  # round first, so that -0.001 kcal/mol shows as 0.00, not -0.00
-                value = round(value * scale, 2) + 0.0
-            cells.append(Text(display(fmt.format(value))))
+        cells = [Text(_cell(record.get(key), factor if scaled else None, fmt)) for key, _, scaled, fmt in shown]
         table.add_row(*cells, style=styles.get(record.get("status")))
+    console.print(table)
+
+
+def _flagged(frame) -> list[tuple[str, str, str]]:
+    """(status, file, notes) once per file: every file refused (its one-line reason), and every file with
+    notes other than the repeat of its point group and σ ("note" for a file whose status is ok)."""
+    once = frame.drop_duplicates("file")
+    return [(r["status"] if r["status"] != "ok" else "note", r["file"], notes)
+            for r in once.to_dict("records") if (notes := _terminal_notes(r))]
+
+
+def _table_lines(frame) -> int:
+    """The lines of :func:`print_tables`' output: per temperature a title, a two-line heading and a row per
+    usable file; the legend (2 lines); a line per note and per refused file."""
+    usable = frame[frame["status"] != "error"]
+    temperatures = usable["T_K"].nunique() if "T_K" in usable else 0
+    return temperatures * 3 + len(usable) + 2 + len(_flagged(frame))
+
+
+def print_tables(frame, cond: Conditions, unit: str) -> None:
+    """The wide table on stdout: one table per temperature (its temperature in the title, not on every row),
+    then the legend, then each file's notes and each refused file's reason, once."""
+    from rich.console import Console
+    from rich.text import Text
+
     console = Console()
     if not console.is_terminal:
         console = Console(width=200)
-    console.print(table)
+    usable = frame[frame["status"] != "error"]
+    model = cond.low_mode_model
+    for t, rows in usable.groupby("T_K", sort=True) if "T_K" in usable else ():
+        print_table(rows, f"G by motion at {t:g} K ({model}, {_state(cond)})", unit, console)
+    console.print(Text(LEGEND.format(model=model), style="dim"), soft_wrap=True)
+    styles = {"warning": "yellow", "error": "red"}
+    for status, path, notes in _flagged(frame):
+        console.print(Text(f"  {status}: {display(path)}: {display(notes)}", style=styles.get(status)), soft_wrap=True)
+
+
+def print_overview(frame, entries: list[Entry], written: list[str], rows: int) -> None:
+    """In place of tables longer than ``rows``: where the full table is, the files by status, by formula and by
+    level of theory, then the refused files and those with a warning (at most ``rows``)."""
+    temperatures = frame["T_K"].dropna().unique() if "T_K" in frame else []
+    at = f" at {len(temperatures)} temperatures" if len(temperatures) > 1 else ""
+    print_overview_heading(f"{len(entries)} files{at}", written, "--csv FILE, --long FILE or --json FILE")
+    print("status: " + ", ".join(f"{s} ({n})" for s, n in Counter(e.status for e in entries).most_common()))
+    for what, key in (("formulas", lambda e: e.formula or "unreadable"),
+                      ("levels of theory", lambda e: " ".join(x for x in (e.calc.program, e.calc.level_of_theory)
+                                                              if x) if e.calc is not None else "unreadable")):
+        counts = Counter(key(e) for e in entries).most_common()
+        more = f", ... and {len(counts) - SHOWN_ERRORS} more" if len(counts) > SHOWN_ERRORS else ""
+        print(f"{what}: " + ", ".join(f"{display(name)} ({n})" for name, n in counts[:SHOWN_ERRORS]) + more)
+    print_flagged([f for f in _flagged(frame) if f[0] != "note"], rows)
+
+
+def _state(cond: Conditions) -> str:
+    return cond.standard_state if cond.pressure is None else f"{cond.pressure} Pa"
 
 
 def _rotor_summary(entries: list[Entry]) -> str:
@@ -283,19 +357,23 @@ def main(args: argparse.Namespace) -> int:
             print(f"qcthermo thermo: {display(entry.path)}: {entry.reason}", file=sys.stderr)
         print(f"qcthermo thermo: no usable frequency log under {display(args.directory)}", file=sys.stderr)
         return 2
-    if not args.quiet:
-        print_table(frame, cond.low_mode_model, args.energy_unit)
     if args.csv:
         atomic_write(args.csv, csv_text(frame))
     if args.long:
         atomic_write(args.long, csv_text(long_table(entries)))
     if args.json:
         atomic_write(args.json, json_document(entries, cond))
+    if args.quiet:
+        pass
+    elif _table_lines(frame) > screenful():
+        print_overview(frame, entries, [p for p in (args.csv, args.long, args.json) if p], screenful())
+    else:
+        print_tables(frame, cond, args.energy_unit)
     n_files = len(entries)
     # say what became of the other logs, so a count below the directory's is not a puzzle
     n_other = sum(not c.has_vibrations for c in result.calculations.values())
     other = f"; {n_other} without frequencies left out (see `qcthermo survey`)" if n_other else ""
     print(f"{n_files} file{'s' * (n_files != 1)}: {errors} refused or unreadable{other}; "
-          f"model {cond.low_mode_model}, {cond.standard_state if cond.pressure is None else f'{cond.pressure} Pa'}"
+          f"model {cond.low_mode_model}, {_state(cond)}"
           + _rotor_summary(entries))
     return 1 if errors else 0
