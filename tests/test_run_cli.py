@@ -194,11 +194,38 @@ def test_terminal_reactions_table_gives_k_its_unit_and_t_once(tmp_path, samples,
     main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "one"), "--no-cache",
           "--jobs", "1"])
     out = capsys.readouterr().out
-    assert "kcal/mol (qrrho) at 298.15 K" in out and "T / K" not in out  # one temperature: in the title only
-    header, row = (next(line for line in out.splitlines() if line.startswith(word))
-                   for word in ("reaction ", "isomerisation "))
+    assert "reactions (qrrho) at 298.15 K" in out and "T\n" not in out  # one temperature: in the title only
+    units, header, row = (next(line for line in out.splitlines() if line.lstrip().startswith(word))
+                          for word in ("ΔE ", "reaction ", "isomerisation "))
+    assert units.split() == ["ΔE", "ΔH", "ΔG", "ΔG‡"] and header.split()[1:5] == ["kcal/mol"] * 4
     assert "k unit" in header and row.split()[-2:] == ["s⁻¹", "ok"]
     main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "range"), "--no-cache",
           "--jobs", "1", "--temperature-range", "300:400:100"])
     out = capsys.readouterr().out
-    assert "T / K" in out and sum(line.startswith("isomerisation ") for line in out.splitlines()) == 2
+    header = next(line for line in out.splitlines() if line.startswith("reaction "))
+    assert header.split()[:2] == ["reaction", "K"]
+    assert sum(line.startswith("isomerisation ") for line in out.splitlines()) == 2
+
+
+def test_terminal_reactions_table_shows_an_excluded_reaction_once_and_the_ends_of_a_long_range(tmp_path, samples,
+                                                                                            capsys, monkeypatch):
+    # a reaction whose species has no readable file is excluded at every temperature: one row, no T
+    logs = tmp_path / "logs"
+    logs.mkdir()
+    (logs / "broken.out").write_text("not a quantum-chemistry log\n")
+    path = _file(tmp_path, samples, GOOD + f'[species.bad]\nlogs = "{logs.as_posix()}/broken.out"\n'
+                 '[[reaction]]\nname = "broken"\nreactants = ["bad"]\nproducts = ["hcn"]\n')
+    monkeypatch.setenv("LINES", "60")
+    main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "a"), "--no-cache",
+          "--jobs", "1", "--temperature-range", "300:500:100"])
+    rows = [line.split() for line in capsys.readouterr().out.splitlines() if line.startswith(("broken ", "isom"))]
+    assert [r[:2] for r in rows] == [["isomerisation", "300"], ["isomerisation", "400"], ["isomerisation", "500"],
+                                     ["broken", "excluded"]]
+    # 16 temperatures on a 12-line screen: the lowest and the highest, and a line saying so; the CSV has all
+    monkeypatch.setenv("LINES", "12")
+    main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "b"), "--no-cache",
+          "--jobs", "1", "--temperature-range", "250:1000:50"])
+    out = capsys.readouterr().out
+    assert [line.split()[1] for line in out.splitlines() if line.startswith("isom")] == ["250", "1000"]
+    assert "16 temperatures from 250 to 1000 K, more than a screenful: the table shows 250 and 1000 K" in out
+    assert (tmp_path / "b" / "reactions.csv").read_text().count("\nisomerisation,") == 16

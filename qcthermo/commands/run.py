@@ -5,9 +5,10 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
+from typing import Any
 
 from ..errors import QcthermoError
-from .common import explicit_conditions, reading_options
+from .common import explicit_conditions, reading_options, screenful
 
 #: how many findings of each severity the terminal shows (all are in run.json and the tables' notes)
 SHOWN_FINDINGS = 12
@@ -39,12 +40,9 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
     """
     from rich.console import Console
     from rich.markup import escape
-    from rich.table import Table
     from rich.text import Text
 
-    from ..export.tables import plain_typeset
     from ..fileio import display
-    from ..units import unit_suffix
 
     console = Console(stderr=False, highlight=False)
     if not console.is_terminal:
@@ -56,26 +54,10 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
     console.print(f"{len(results.species_results)} species ({usable} usable), {n_reactions} reactions"
                   + (f" ({excluded} excluded)" if excluded else "") + f"; {results.survey_result.summary()}")
     if not quiet and len(df):
-        u = unit_suffix(results.energy_unit)
-        m = results.conditions.low_mode_model.replace("-", "_")
-        g = f"dG_{m}_{u}" if f"dG_{m}_{u}" in df else f"dG_{u}"
-        g_act = f"dG_act_{m}_{u}" if f"dG_act_{m}_{u}" in df else f"dG_act_{u}"
-        temperatures = df["T_K"].nunique() > 1  # one temperature: in the title, not on every row
-        at = "" if temperatures else f" at {df['T_K'].iloc[0]:g} K"
-        table = Table(box=None, pad_edge=False, header_style="bold",
-                      title=f"reactions, {results.energy_unit} ({results.conditions.low_mode_model}){at}")
-        headings = ["reaction", *(["T / K"] if temperatures else []), "ΔE", "ΔH", "ΔG", "ΔG‡", "k_forward",
-                    "k unit", "status"]
-        for heading in headings:
-            table.add_column(heading, justify="left" if heading in ("reaction", "k unit", "status") else "right")
-        for _, row in df.iterrows():
-            k, unit = row.get("k_forward"), row.get("k_unit")
-            has_k = not (k is None or k != k)
-            table.add_row(Text(display(str(row["reaction"]))), *([f"{row['T_K']:g}"] if temperatures else []),
-                          _num(row[f"dE_{u}"]), _num(row[f"dH_{u}"]), _num(row[g]), _num(row[g_act]),
-                          f"{k:.3g}" if has_k else "", plain_typeset(str(unit)) if has_k and unit else "",
-                          str(row["status"]), style="red" if row["status"] != "ok" else None)
+        table, left_out = reactions_table(df, results.energy_unit, results.conditions.low_mode_model)
         console.print(table)
+        if left_out:
+            console.print(Text(left_out))
     if not quiet:
         for line in solution_lines(results):
             console.print(Text(line))
@@ -95,6 +77,55 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
                            + "; ".join(sim.notes[:3])))
     if out is not None:
         console.print(Text(f"results written to {display(str(out))}/ (run.json lists every file and finding)"))
+
+
+def terminal_rows(df):
+    """The rows of the reactions table the terminal shows: a reaction excluded at every temperature once (its
+    reason is among the findings), and above a screenful only the lowest and highest temperature."""
+    excluded = df.groupby("reaction", sort=False)["status"].transform(lambda s: (s != "ok").all())
+    rows = df[~excluded | ~df["reaction"].duplicated()]
+    if len(rows) > screenful():
+        rows = rows[excluded.loc[rows.index] | rows["T_K"].isin([df["T_K"].min(), df["T_K"].max()])]
+    return rows, excluded
+
+
+def reactions_table(df, energy_unit: str, model: str) -> tuple[Any, str]:
+    """The reactions in ``energy_unit`` under the low-mode ``model`` as a rich Table, each unit on the second
+    line of its heading (k's on each row: s⁻¹, M⁻¹ s⁻¹, ... differ per reaction); one temperature is in the
+    title, several in a T column (:func:`terminal_rows`). With the line saying which temperatures the table
+    leaves out, or ""."""
+    from rich.table import Table
+    from rich.text import Text
+
+    from ..export.tables import plain_typeset
+    from ..fileio import display
+    from ..units import unit_suffix
+
+    u = unit_suffix(energy_unit)
+    m = model.replace("-", "_")
+    g = f"dG_{m}_{u}" if f"dG_{m}_{u}" in df else f"dG_{u}"
+    g_act = f"dG_act_{m}_{u}" if f"dG_act_{m}_{u}" in df else f"dG_act_{u}"
+    rows, excluded = terminal_rows(df)
+    temperatures = df["T_K"].nunique() > 1  # one temperature: in the title, not on every row
+    at = "" if temperatures else f" at {df['T_K'].iloc[0]:g} K"
+    table = Table(box=None, pad_edge=False, header_style="bold", title=f"reactions ({model}){at}")
+    headings = ["reaction", *(["T\nK"] if temperatures else []),
+                *(f"{q}\n{energy_unit}" for q in ("ΔE", "ΔH", "ΔG", "ΔG‡")), "k_forward", "k unit", "status"]
+    for heading in headings:
+        table.add_column(heading, justify="left" if heading in ("reaction", "k unit", "status") else "right")
+    for i, row in rows.iterrows():
+        k, unit = row.get("k_forward"), row.get("k_unit")
+        has_k = not (k is None or k != k)
+        t = "" if excluded[i] else f"{row['T_K']:g}"  # excluded at every temperature: one row, no T
+        table.add_row(Text(display(str(row["reaction"]))), *([t] if temperatures else []),
+                      _num(row[f"dE_{u}"]), _num(row[f"dH_{u}"]), _num(row[g]), _num(row[g_act]),
+                      f"{k:.3g}" if has_k else "", plain_typeset(str(unit)) if has_k and unit else "",
+                      str(row["status"]), style="red" if row["status"] != "ok" else None)
+    n, (low, high) = df["T_K"].nunique(), (df["T_K"].min(), df["T_K"].max())
+    left_out = "" if rows["T_K"].nunique() == n else (
+        f"{n} temperatures from {low:g} to {high:g} K, more than a screenful: the table shows {low:g} and {high:g} K, "
+        "reactions.csv every temperature")
+    return table, left_out
 
 
 def _num(value) -> str:
