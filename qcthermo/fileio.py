@@ -18,7 +18,7 @@ import os
 import re
 import secrets
 import stat
-from collections.abc import Iterator
+from collections.abc import Iterator, Sequence
 from pathlib import Path
 from typing import IO, Any
 
@@ -31,8 +31,11 @@ RUN_OUTPUTS = (
     "run.json", "survey.csv", "species.*", "reactions.*", "rates.csv", "arrhenius.csv", "energy_span.csv",
     "coordinates.xyz", "thermo.yaml", "thermo.dat", "profile*.svg", "profile*.png", "profile*.pdf",
     "dG_T.svg", "arrhenius.svg", "si.md", "si.tex", "report.html", "heats_of_formation.*", "pka.*", "redox.*",
-    "concentrations.*", "simulation.*", "rate_control.csv", "tof.csv", "conformers.*",
+    "concentrations.*", "simulation.*", "rate_control.csv", "tof.csv", "conformers.*", "structures/*.xyz",
 )
+#: the folders of --out that a run owns (one level deep): it writes, lists in run.json and removes files in them
+#: as in --out itself; such a name that is a file or a link is never written into
+RUN_FOLDERS = ("structures",)
 #: temporary files of :func:`atomic_open`: ``.<name>.<pid>-<16 hex>.tmp``
 _TMP = re.compile(r"^\..+\.(\d+)-[0-9a-f]{16}\.tmp$")
 
@@ -64,6 +67,21 @@ def display(text: str) -> str:
     except UnicodeEncodeError:
         text = text.encode("utf-8", DISPLAY_ERRORS).decode("utf-8")
     return _CONTROL.sub(lambda m: f"\\x{ord(m.group()):02x}", text)
+
+
+def safe_stems(names: Sequence[str], prefix: str = "") -> list[str]:
+    """File stems ``prefix + name`` of ``names``: anything but letters, digits, '.', '-' and '_' replaced by
+    '_' (safe on every file system), numbered ``-2``, ``-3`` when two collide, ignoring case as some file
+    systems do."""
+    stems: list[str] = []
+    for name in names:
+        base = prefix + (re.sub(r"[^A-Za-z0-9._-]+", "_", name).strip("._") or "unnamed")
+        stem, n = base, 1
+        while stem.lower() in {x.lower() for x in stems}:
+            n += 1
+            stem = f"{base}-{n}"
+        stems.append(stem)
+    return stems
 
 
 #: first characters that make a spreadsheet take a cell for a formula (OWASP, "CSV Injection")
@@ -202,7 +220,7 @@ def atomic_open(path: str | os.PathLike, mode: str = "w", encoding: str | None =
     path = Path(path)
     if path.parent.exists() and not path.parent.is_dir():
         raise QcthermoError(f"cannot write {display(str(path))}: {display(str(path.parent))} is not a directory")
-    staging = _STAGING.get(os.path.realpath(path.parent))
+    staging = _staging_of(path)
     if staging is None and output_kind(path) == "stream":  # a run's folder gets files (Staging.check refuses others)
         with _stream(path, mode, encoding) as handle:
             yield handle
@@ -279,8 +297,15 @@ def _plain_name(name: str) -> bool:
     return "/" not in name and "\\" not in name and not name.startswith(".")
 
 
+def _listable(name: str) -> bool:
+    """A name run.json may list: a plain file name in the folder, or in one of :data:`RUN_FOLDERS`
+    (``structures/ch4.xyz``); nothing deeper, nothing hidden."""
+    folder, _, file = name.rpartition("/")
+    return (not folder or folder in RUN_FOLDERS) and _plain_name(file)
+
+
 def _run_named(name: str) -> bool:
-    return _plain_name(name) and any(fnmatch.fnmatchcase(name, p) for p in RUN_OUTPUTS)
+    return _listable(name) and any(fnmatch.fnmatchcase(name, p) for p in RUN_OUTPUTS)
 
 
 def owned_outputs(out: str | os.PathLike) -> set[str] | None:
@@ -292,7 +317,7 @@ def owned_outputs(out: str | os.PathLike) -> set[str] | None:
         return None
     listed = doc.get("files")
     names = {n for n in listed if isinstance(n, str)} if isinstance(listed, list) else set()
-    return {n for n in names | {"run.json"} if _plain_name(n)}
+    return {n for n in names | {"run.json"} if _listable(n)}
 
 
 def _bookkeeping(name: str) -> bool:
@@ -303,13 +328,35 @@ def _bookkeeping(name: str) -> bool:
 def _foreign(out: Path, owned: set[str] | None) -> str | None:
     """The first entry of ``out`` a run may not replace without --force, or None. Without a run.json of
     qcthermo's every entry is foreign; with one, every file named as a run writes them that it does not
-    list (a hand-edited si.tex, a profile_draft.png). Other files beside a run's are left alone."""
+    list (a hand-edited si.tex, a profile_draft.png, a structures/ts.xyz of one's own), in ``out`` and in
+    the run's folders. Other files beside a run's (notes.txt, structures/notes.txt) are left alone."""
     for entry in sorted(os.listdir(out)):
         if _bookkeeping(entry):
             continue
-        if owned is None or (_run_named(entry) and entry not in owned):
+        if owned is None:
             return entry
+        names = [f"{entry}/{name}" for name in sorted(os.listdir(out / entry)) if not _bookkeeping(name)] \
+            if entry in RUN_FOLDERS and _run_folder(out / entry) else [entry]
+        foreign = next((n for n in names if _run_named(n) and n not in owned), None)
+        if foreign is not None:
+            return foreign
     return None
+
+
+def _run_folder(path: Path) -> bool:
+    """Whether ``path`` (``OUT/structures``) is a folder a run may write into: a directory, not a link."""
+    return path.is_dir() and not path.is_symlink()
+
+
+def _check_run_folders(out: Path) -> None:
+    """Refuse, whatever --force says, a run's folder name (:data:`RUN_FOLDERS`) taken by a file or a link:
+    writing through a link would put files elsewhere, and a user's file is not to become a folder."""
+    for name in RUN_FOLDERS:
+        path = out / name
+        if os.path.lexists(path) and not _run_folder(path):
+            raise QcthermoError(f"cannot write into {display(str(path))}: it is "
+                                f"{'a link' if path.is_symlink() else 'not a folder'}; a run writes its "
+                                f"{name}/ folder itself (move it away)")
 
 
 def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:
@@ -322,6 +369,8 @@ def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:
     out = Path(out)
     if out.exists() and not out.is_dir():
         raise QcthermoError(f"{display(str(out))} exists and is not a directory")
+    if out.is_dir():
+        _check_run_folders(out)
     if out.is_dir() and not force:
         owned = owned_outputs(out)
         foreign = _foreign(out, owned)
@@ -333,7 +382,8 @@ def prepare_output_dir(out: str | os.PathLike, force: bool = False) -> Path:
         out.mkdir(parents=True, exist_ok=True)
     except OSError as err:
         raise QcthermoError(f"cannot create {display(str(out))}: {err.strerror}") from None
-    remove_stale_temporaries(out)
+    for folder in (out, *(out / name for name in RUN_FOLDERS if _run_folder(out / name))):
+        remove_stale_temporaries(folder)
     return out
 
 
@@ -418,7 +468,8 @@ class Staging:
 
     @property
     def names(self) -> list[str]:
-        return [target.name for _, target in self.moves]
+        """The files as run.json lists them: ``species.csv``, ``structures/ch4.xyz``."""
+        return [listed_name(self.out, target) for _, target in self.moves]
 
     def discard(self) -> None:
         for tmp, _ in self.moves:
@@ -436,7 +487,7 @@ class Staging:
             if kind != stat.S_IFREG or os.path.islink(target):
                 what = _STREAMS.get(kind) or _REFUSED.get(kind) or ("a link" if kind == stat.S_IFREG else "special")
                 raise QcthermoError(f"cannot write {display(str(target))}: it is {what}, not a file a run wrote")
-            if not force and target.name not in owned:
+            if not force and listed_name(self.out, target) not in owned:
                 raise QcthermoError(f"{display(str(target))} was not written by qcthermo (run.json does not "
                                     "list it); use --force to replace it")
 
@@ -450,6 +501,22 @@ class Staging:
 
 
 _STAGING: dict[str, Staging] = {}
+
+
+def listed_name(out: str | os.PathLike, path: str | os.PathLike) -> str:
+    """How run.json lists the file ``path`` of the folder ``out``: ``species.csv``, ``structures/ch4.xyz``
+    (a file in one of its :data:`RUN_FOLDERS`)."""
+    path = Path(path)
+    return path.name if os.path.realpath(path.parent) == os.path.realpath(out) else f"{path.parent.name}/{path.name}"
+
+
+def _staging_of(path: Path) -> Staging | None:
+    """The staging of the folder ``path`` is written into: its own, or that of the run owning its folder
+    (``OUT/structures/ch4.xyz`` is staged with ``OUT``)."""
+    staging = _STAGING.get(os.path.realpath(path.parent))
+    if staging is None and path.parent.name in RUN_FOLDERS:
+        staging = _STAGING.get(os.path.realpath(path.parent.parent))
+    return staging
 
 
 @contextlib.contextmanager
@@ -473,9 +540,10 @@ def write_run_folder(out: str | os.PathLike, force: bool, write_all, final_json)
     Under the folder's lock (:func:`output_lock`): ``write_all(out)`` writes every file as a temporary
     (:func:`staged_outputs`) and returns their paths; then run.json is written as "incomplete", listing
     the new files and those of the earlier run; then the files are renamed into place, the earlier run's
-    files not written again are removed, and ``final_json(written)`` (the complete run.json) is written
-    last. A run stopped at any point leaves either the earlier run's folder as it was, or an incomplete
-    run.json that lists every file qcthermo may have put there (the next run replaces them without --force).
+    files not written again are removed, and ``final_json(names)`` (the complete run.json, given the names it
+    lists: :func:`listed_name`) is written last. A run stopped at any point leaves either the earlier run's
+    folder as it was, or an incomplete run.json that lists every file qcthermo may have put there (the next
+    run replaces them without --force). Files go into ``out`` and its :data:`RUN_FOLDERS` alike.
     """
     out = Path(out)
     with checked_output_dir(out, force):
@@ -491,13 +559,14 @@ def write_run_folder(out: str | os.PathLike, force: bool, write_all, final_json)
         finally:
             staging.discard()  # what was not renamed (a refusal, a failed rename)
         remove_outputs(out, earlier - names - {"run.json"})
-        atomic_write(out / "run.json", final_json(written))
+        atomic_write(out / "run.json", final_json([listed_name(out, p) for p in written]))
     return [*written, out / "run.json"]
 
 
 def remove_outputs(out: str | os.PathLike, names: set[str]) -> None:
     """Delete the files ``names`` of ``out`` (an earlier run's that this run did not write again: a rates.csv
-    of a temperature range, a figure of a profile since renamed), so no file contradicts the new run.json."""
+    of a temperature range, a figure of a profile since renamed, the structure of a species since removed),
+    so no file contradicts the new run.json; a run's folder left empty by it goes too."""
     for path in (Path(out) / name for name in sorted(names)):
         try:
             path.unlink()
@@ -506,3 +575,6 @@ def remove_outputs(out: str | os.PathLike, names: set[str]) -> None:
         except OSError as err:
             raise QcthermoError(f"cannot remove {display(str(path))} of an earlier run: "
                                 f"{err.strerror or type(err).__name__}") from None
+    for folder in {name.partition("/")[0] for name in names if "/" in name}:
+        with contextlib.suppress(OSError):  # not empty (a user's notes, another run's temporary): it stays
+            os.rmdir(Path(out) / folder)

@@ -133,7 +133,7 @@ class RunResults:
         from .fileio import write_run_folder
 
         return write_run_folder(out, force, lambda out_dir: write_run_outputs(self, out_dir),
-                                lambda written: run_json(self, written))
+                                lambda files: run_json(self, files))
 
 
 # -- building the run --------------------------------------------------------------------------------

@@ -37,7 +37,12 @@ def _one_error_line(err: str) -> str:
 
 
 def _temporaries(out: Path) -> list[str]:
-    return [p.name for p in out.iterdir() if p.name.endswith(".tmp")] if out.exists() else []
+    return [p.name for p in out.rglob("*.tmp")] if out.exists() else []
+
+
+def _files(out: Path) -> set[str]:
+    """Every file of a folder as run.json names them (``structures/ch4.xyz``), hidden ones included."""
+    return {p.relative_to(out).as_posix() for p in out.rglob("*") if p.is_file()}
 
 
 @pytest.fixture
@@ -212,7 +217,7 @@ def test_a_rerun_removes_the_files_of_an_earlier_run_it_does_not_write(samples, 
     (out / "notes.txt").write_text("mine")  # a user's file beside a run's is never removed
     assert _run(samples, out, *reactions, "--force") == 0
     listed = set(json.loads((out / "run.json").read_text())["files"])
-    assert {p.name for p in out.iterdir()} == listed | {"run.json", "notes.txt", ".qcthermo.lock"}
+    assert _files(out) == listed | {"run.json", "notes.txt", ".qcthermo.lock"}
     assert not listed & {"rates.csv", "arrhenius.csv", "dG_T.svg", "arrhenius.svg"}
 
 
@@ -247,22 +252,22 @@ def test_a_run_killed_during_a_rerun_leaves_no_complete_run_json_beside_new_tabl
         _run(samples, out, *reactions)
     monkeypatch.undo()
     doc = json.loads((out / "run.json").read_text())
-    present = {p.name for p in out.iterdir() if not p.name.startswith(".")}
+    present = {n for n in _files(out) if not n.startswith(".")}
     assert doc["status"] == "incomplete" and present <= set(doc["files"])
     assert "dG_T.svg" in doc["files"]  # the earlier run's files are still listed: the retry may remove them
     assert _run(samples, out, *reactions) == 0  # the retry needs no --force
     doc = json.loads((out / "run.json").read_text())
     assert doc["status"] == "complete" and not (out / "dG_T.svg").exists()
-    assert {p.name for p in out.iterdir() if not p.name.startswith(".")} == set(doc["files"]) | {"run.json"}
+    assert {n for n in _files(out) if not n.startswith(".")} == set(doc["files"]) | {"run.json"}
 
 
 def test_a_run_that_fails_while_writing_leaves_the_earlier_run_as_it_was(samples, tmp_path, full_disk_after):
     out = tmp_path / "out"
     assert _run(samples, out) == 0
-    before = {p.name: p.read_bytes() for p in out.iterdir()}
+    before = {n: (out / n).read_bytes() for n in _files(out)}
     full_disk_after(2)
     assert _run(samples, out, "--temperature", "350") == 2
-    assert {p.name: p.read_bytes() for p in out.iterdir()} == before
+    assert {n: (out / n).read_bytes() for n in _files(out)} == before
 
 
 LOCK_HOLDER = """

@@ -4,7 +4,6 @@ which profiles share a diagram, the files' stems and the temperature a run's pro
 
 from __future__ import annotations
 
-import re
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -13,6 +12,7 @@ import matplotlib.colors
 import numpy as np
 
 from ..errors import QcthermoError
+from ..fileio import safe_stems
 from ..units import hartree_to
 
 #: quantities a profile can show, with the symbol of the y axis label
@@ -180,15 +180,7 @@ def overlay_groups(profiles: Sequence[ProfileData]) -> list[list[ProfileData]]:
 def profile_stems(profiles: Sequence[ProfileData]) -> list[str]:
     """File stems ``profile_<name>`` of single-profile figures: the name with anything but letters,
     digits, '.', '-' and '_' replaced by '_' (safe on every file system), numbered when two collide."""
-    stems: list[str] = []
-    for profile in profiles:
-        base = "profile_" + (re.sub(r"[^A-Za-z0-9._-]+", "_", profile.name).strip("._") or "unnamed")
-        stem, n = base, 1
-        while stem.lower() in {x.lower() for x in stems}:  # some file systems ignore case
-            n += 1
-            stem = f"{base}-{n}"
-        stems.append(stem)
-    return stems
+    return safe_stems([profile.name for profile in profiles], "profile_")
 
 
 

@@ -17,7 +17,7 @@ from ..fileio import atomic_write, csv_text, display, json_text, printable_frame
 from .conformers import write_conformers
 from .run_tables import caption_context, formation_caption, model_tag, reaction_subjects, solution_caption, table_notes
 from .tables import SPECIES_RELATIVE, paper_table, write_tables
-from .xyz import XyzBlock, write_xyz_file
+from .xyz import STRUCTURES, XyzBlock, write_structure_files, write_xyz_file
 
 if TYPE_CHECKING:
     from ..workflow import RunResults
@@ -59,8 +59,9 @@ def _sha256(path: Path) -> str:
     return digest.hexdigest()
 
 
-def run_json(results: RunResults, written: list[Path]) -> str:
-    """run.json: tool version, every setting, sha256 of every input file, all findings, what was written."""
+def run_json(results: RunResults, files: list[str]) -> str:
+    """run.json: tool version, every setting, sha256 of every input file, all findings, the ``files`` written
+    (as qcthermo.fileio.listed_name gives them: ``species.csv``, ``structures/ch4.xyz``)."""
     inputs = [{"path": str(p), "sha256": _sha256(p), "bytes": p.stat().st_size} for p in results.input_files()
               if p.is_file()]
     doc = {
@@ -88,7 +89,7 @@ def run_json(results: RunResults, written: list[Path]) -> str:
         **{k: df.to_dict(orient="records") for k, df in (("pka", results.pka), ("redox", results.redox))
            if df is not None},
         "simulation": _simulation_record(results.simulation),
-        "files": sorted(p.name for p in written),
+        "files": sorted(files),
     }
     return json_text(doc, indent=2)  # strict JSON: NaN and inf as null, file names in their display form
 
@@ -137,6 +138,7 @@ def write_run_outputs(results: RunResults, out_dir: Path) -> list[Path]:
     blocks = _xyz_blocks(results)
     if blocks:
         written.append(write_xyz_file(out_dir / "coordinates.xyz", blocks))
+        written += write_structure_files(out_dir / STRUCTURES, blocks)
     written += write_conformers(results, out_dir, display(caption_context(results)), _write_table)
     if results.simulation is not None:
         from .simulation import write_simulation

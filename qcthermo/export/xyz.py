@@ -1,4 +1,5 @@
-"""coordinates.xyz: every structure of a run, one frame each, in the extended XYZ convention.
+"""coordinates.xyz: every structure of a run, one frame each, in the extended XYZ convention; and
+structures/NAME.xyz: the same frames one per file, for the supporting information.
 
 Each frame is an atom count, a comment line of ``key=value`` pairs (the species name, level of theory,
 charge, multiplicity, energies in hartree, temperature, population, source file; text with spaces or
@@ -15,7 +16,10 @@ from pathlib import Path
 
 import numpy as np
 
-from ..fileio import atomic_write, display
+from ..fileio import atomic_write, display, safe_stems
+
+#: the folder of a run's output folder that holds one extended-XYZ file per structure
+STRUCTURES = "structures"
 
 
 @dataclass
@@ -58,3 +62,10 @@ def xyz_text(blocks: list[XyzBlock]) -> str:
 def write_xyz_file(path: str | Path, blocks: list[XyzBlock]) -> Path:
     """Write ``blocks`` to ``path`` atomically; return the path."""
     return atomic_write(path, xyz_text(blocks))
+
+
+def write_structure_files(folder: str | Path, blocks: list[XyzBlock]) -> list[Path]:
+    """One extended-XYZ file per block in ``folder``, each named by its block's name made safe for any file
+    system (qcthermo.fileio.safe_stems: ``pentane/pentane_tt`` -> ``pentane_pentane_tt.xyz``); the paths."""
+    stems = safe_stems([block.name for block in blocks])
+    return [write_xyz_file(Path(folder) / f"{stem}.xyz", [block]) for stem, block in zip(stems, blocks, strict=True)]
