@@ -173,7 +173,9 @@ def _profile_record(p: ProfileSpec, species: dict[str, SpeciesResult]) -> dict[s
         {"label": label, "value_Eh": {"G": v["G"], "G_rrho": v["G_rrho"], "H": v["H"], "E_zpe": v["E_zpe"],
                                       "E": v["E"]},
          "is_ts": any(species[n].options.transition_state for _, n in terms),
-         "species": [n for _, n in terms]}
+         "species": [n for _, n in terms],
+         "terms": [{"coefficient": c, "label": species[n].label, "is_ts": bool(species[n].options.transition_state)}
+                   for c, n in terms]}
         for label, terms, v in zip(p.labels, p.states, relative, strict=True)
     ]
     return {"name": p.name, "states": states, "cyclic": p.cyclic, **p.presentation}

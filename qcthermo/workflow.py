@@ -51,8 +51,8 @@ class RunResults:
         species_results: name -> :class:`qcthermo.species.SpeciesResult` (conformers with their
             Calculation, Molecule, ThermoResult, population and single-point pairing).
         profiles: one dict per [[profile]]: {name, states: [{label, value_Eh: {"G", "G_rrho", "H",
-            "E_zpe", "E"}, is_ts, species}], cyclic, color, label_states, style, order, marks}, every
-            state relative to the first, hartree (arrays over T).
+            "E_zpe", "E"}, is_ts, species, terms: [{coefficient, label, is_ts}]}], cyclic, color, label_states,
+            style, order, marks}, every state relative to the first, hartree (arrays over T).
         rates: long table of k(T) per reaction (with several temperatures), or None.
         simulation: the microkinetic simulation of the reaction file's [simulation] table
             (:class:`qcthermo.simulate.SimulationResult`), or None.

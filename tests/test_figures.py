@@ -19,6 +19,8 @@ from matplotlib.path import Path as MplPath
 from qcthermo.errors import QcthermoError
 from qcthermo.export import figures, temperature_figures
 from qcthermo.export.figures import ProfileData, ProfileState, plot_profiles, profiles_from_records, save_figure
+from qcthermo.export.profile_data import Term
+from qcthermo.reactions import format_terms
 
 # Final SCF energies of p-divinylbenzene printed by two programs, hartree (third-party-logs/README.md:
 # gaussian16/dvb_ir.out and orca5.0/dvb_ir.out).
@@ -465,6 +467,130 @@ def test_profile_file_stems_are_safe_and_unique():
     profiles = [_profile(name, [0.0, 1.0]) for name in ("a b/c", "a_b_c", "A B C", "..", "ok-1.2")]
     assert figures.profile_stems(profiles) == ["profile_a_b_c", "profile_a_b_c-2", "profile_A_B_C-3",
                                                "profile_unnamed", "profile_ok-1.2"]
+
+
+# --- typeset state names ------------------------------------------------------------------------------
+
+
+def _sum_state(terms, height):
+    """A state of terms (coefficient, display name, is_ts) labelled as the reaction file labels it by default."""
+    terms = tuple(Term(*t) for t in terms)
+    label = format_terms([(t.coefficient, t.name) for t in terms])
+    return ProfileState(label, float(height), any(t.is_ts for t in terms), tuple(t.name for t in terms), terms)
+
+
+def _column(text):
+    """The state column of a single profile's label, from its gid ("value:<profile>:<i>", "name:<i>:<text>")."""
+    kind, rest = text.get_gid().split(":", 1)
+    return int(rest.rsplit(":", 1)[1] if kind == "value" else rest.split(":", 1)[0])
+
+
+def _catalytic(name="cycle", shift=0.0, long=False):
+    pre = "pre-reactive-complex-of-the-catalyst" if long else "cat"
+    terms = [[(1, pre), (1, "CH4"), (2, "H")], [(1, "TS-abstraction", True), (1, "H")],
+             [(1, "CH3"), (1, "H2"), (1, "H")], [(1, "Ca(OH)2"), (1, "SO4^2-")],
+             [(1, "dissociated-product-complex"), (1, "CH3OH"), (1, "NO2-")]]
+    heights = np.array([0.0, 21.7, 2.7, -15.0, -30.0]) + shift
+    return ProfileData(name, [_sum_state(s, h) for s, h in zip(terms, heights, strict=True)])
+
+
+def test_typeset_labels_keep_the_layout_rules():
+    # the no-overlap and nearest-own-level rules hold for typeset, wrapped names, alone and overlaid
+    single = [_catalytic(long=True)]
+    overlaid = [_catalytic("a"), _catalytic("b", 0.4), _catalytic("c", -0.3)]
+    for profiles in (single, overlaid):
+        fig = plot_profiles(profiles)
+        assert any(t.get_parse_math() for t in fig.axes[0].texts)  # the formulas are mathtext
+        _assert_no_overlaps(fig)
+        _assert_labels_attached(fig, profiles)
+
+
+def test_the_dagger_is_on_the_transition_state_term():
+    fig = plot_profiles([ProfileData("p", [_sum_state([(1, "CH4"), (1, "H")], 0.0),
+                                           _sum_state([(1, "TS1", True), (1, "CH4")], 10.0)])])
+    (name,) = [t.get_text() for t in fig.axes[0].texts if t.get_gid().startswith("name:1:")]
+    assert name.replace("\n", " ") == r"TS1‡ + $\mathregular{CH_{4}}$"  # not "... CH4‡"
+
+
+def test_long_states_wrap_at_plus_and_stay_inside_the_figure():
+    profile = _catalytic(long=True)
+    fig = plot_profiles([profile])
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    names = {t.get_gid(): t.get_text() for t in fig.axes[0].texts if t.get_gid().startswith("name:")}
+    for i, state in enumerate(profile.states):
+        (text,) = [v for k, v in names.items() if k.startswith(f"name:{i}:")]
+        whole = [figures.state_name(ProfileState(t.name, 0.0, t.is_ts, (), (t,))) for t in state.terms]
+        pieces = [p for line in text.split("\n") for p in line.removeprefix("+ ").split(" + ")]
+        assert [p.removeprefix(f"{c:g} ") for p, c in zip(pieces, [t.coefficient for t in state.terms],
+                                                          strict=True)] == whole  # whole names, in order
+    assert any("\n" in text for text in names.values())
+    # every label and the axis label inside the figure, clear of its edge
+    texts = [*fig.axes[0].texts, fig.axes[0].yaxis.label]
+    for text in texts:
+        box = text.get_window_extent(renderer)
+        assert fig.bbox.x0 < box.x0 and box.x1 < fig.bbox.x1 and fig.bbox.y0 < box.y0 and box.y1 < fig.bbox.y1, (
+            f"{text.get_text()!r} touches the figure's edge")
+    # and the names clear of the y axis' ticks, each over its own level (moved sideways, not beside it)
+    axes_box = fig.axes[0].get_window_extent()
+    for text in fig.axes[0].texts:
+        box = text.get_window_extent(renderer)
+        x0, x1, _, _ = _ink(_artists(fig, f"level:cycle:{_column(text)}")[0], fig)
+        assert axes_box.x0 <= box.x0 and box.x0 < x1 and box.x1 > x0, f"{text.get_text()!r} is not over its level"
+
+
+def test_a_tall_name_over_the_highest_level_stays_by_it():
+    # the issue's figure: a transition state's name sat far below its level rather than above it
+    profile = ProfileData("p", [_sum_state([(1, "cat"), (1, "CH4")], 0.0),
+                                _sum_state([(1, "TS-oxidative-addition", True), (1, "C6H5Br"), (1, "NO2-")], 22.0),
+                                _sum_state([(1, "int1"), (1, "SO4^2-")], -5.0),
+                                _sum_state([(1, "product-complex"), (2, "CH3OH")], -12.0)])
+    fig = plot_profiles([profile])
+    fig.canvas.draw()
+    renderer = fig.canvas.get_renderer()
+    for text in fig.axes[0].texts:
+        level = _artists(fig, f"level:p:{_column(text)}")[0]
+        gap = _box_distance(text.get_window_extent(renderer), _ink(level, fig)) * 72 / fig.dpi
+        assert gap <= 12.0, f"{text.get_text()!r} is {gap:.0f} pt from its level"  # the layout's 12 pt
+
+
+def test_species_labels_of_the_reaction_file_are_typeset(samples, tmp_path):
+    # end to end: label = "CH4" in the reaction file, drawn with the count as a subscript (IUPAC Red Book IR-3:
+    # counts are right subscripts): in the SVG a smaller "4" below the line of "C" and "H"
+    gas = samples / "gas"
+    path = tmp_path / "reactions.toml"
+    path.write_text(f"""
+[species.ch4]
+logs = "{gas}/ch4.out"
+label = "CH4"
+[species.h]
+logs = "{gas}/h_atom.out"
+[species.ts]
+logs = "{gas}/ts_abstraction.out"
+label = "TS1"
+transition_state = true
+[species.ch3]
+logs = "{gas}/ch3.out"
+label = "CH3"
+[species.h2]
+logs = "{gas}/h2.out"
+label = "H2"
+
+[[profile]]
+name = "abstraction"
+states = [["ch4", "h"], ["ts"], ["ch3", "h2"]]
+""")
+    out = tmp_path / "fig.svg"
+    assert _run_profile(path, "-o", out, "--directory", gas) == 0
+    root = ET.parse(out).getroot()
+    ns = "{http://www.w3.org/2000/svg}"
+    (group,) = [g for g in root.iter(f"{ns}g") if g.get("id", "").startswith("name:0:")]
+    spans = [(s.text, float(re.search(r"font-size: ([\d.]+)px", s.get("style")).group(1)), float(s.get("y")))
+             for s in group.iter(f"{ns}tspan")]
+    letters = {text: (size, y) for text, size, y in spans if text in ("C", "H")}
+    (four,) = [(size, y) for text, size, y in spans if text == "4"]
+    assert four[0] < letters["C"][0] and four[1] > letters["C"][1]  # smaller, and lower (SVG's y grows down)
+    assert "TS1‡" in out.read_text()
 
 
 # --- the profile command, on the bundled NWChem sample outputs ------------------------------------

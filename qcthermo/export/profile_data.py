@@ -22,21 +22,34 @@ QUANTITY_SYMBOLS = {"G": "ΔG", "G_rrho": "ΔG(RRHO)", "H": "ΔH", "E_zpe": "Δ(
 CONNECTOR_STYLES = ("dashed", "dotted", "solid", "dashdot")
 
 
+@dataclass(frozen=True)
+class Term:
+    """One term of a state: ``coefficient`` times a species, shown by ``name`` (its label, else its key);
+    ``is_ts`` for a transition state (its term carries the double dagger)."""
+
+    coefficient: float
+    name: str
+    is_ts: bool = False
+
+
 @dataclass
 class ProfileState:
     """One state of an energy profile.
 
     Attributes:
-        label: the state's name as shown (e.g. "int1", "cat + sub").
+        label: the state's name (e.g. "int1", "cat + sub"): how label_states and marks refer to it, and what
+            is drawn when it is not the sum of ``terms`` (a label the reaction file gives).
         value: its energy in the profile's display unit, relative to the first state of the profile.
         is_ts: True for a transition state (drawn with a double dagger).
         species: the species that make up the state.
+        terms: the state's terms, typeset one by one (see :mod:`.state_labels`); empty: ``label`` as written.
     """
 
     label: str
     value: float
     is_ts: bool = False
     species: tuple[str, ...] = ()
+    terms: tuple[Term, ...] = ()
 
 
 @dataclass
@@ -96,7 +109,9 @@ def _profile_from_record(record: dict[str, Any], quantity: str, unit: str, index
         absolute.append(value)
     relative = hartree_to(np.asarray(absolute) - absolute[0], unit)
     states = [
-        ProfileState(str(s.get("label")), float(v), bool(s.get("is_ts", False)), tuple(s.get("species", ())))
+        ProfileState(str(s.get("label")), float(v), bool(s.get("is_ts", False)), tuple(s.get("species", ())),
+                     tuple(Term(float(t["coefficient"]), str(t["label"]), bool(t.get("is_ts", False)))
+                           for t in s.get("terms", ())))
         for s, v in zip(raw_states, relative, strict=True)
     ]
     labels = [s.label for s in states]
@@ -135,10 +150,10 @@ def profiles_from_records(
     """Turn the main job's profile records into :class:`ProfileData` in ``unit``, relative to state one.
 
     ``records`` are dicts ``{name, states: [{label, value_Eh: {quantity: Eh or array over T}, is_ts,
-    species}], cyclic, color, label_states, style, order, marks}`` (see docs/figures.md). Profiles are
-    sorted by their ``order`` key (stable; without one they keep the file's order); ``names`` keeps
-    only those profiles, in that order. Raises ``QcthermoError`` for an unknown quantity, profile or
-    state name, or a state without the quantity.
+    species, terms: [{coefficient, label, is_ts}]}], cyclic, color, label_states, style, order, marks}``
+    (see docs/figures.md). Profiles are sorted by their ``order`` key (stable; without one they keep the
+    file's order); ``names`` keeps only those profiles, in that order. Raises ``QcthermoError`` for an unknown
+    quantity, profile or state name, or a state without the quantity.
     """
     if quantity not in QUANTITY_SYMBOLS:
         raise QcthermoError(f"unknown quantity {quantity!r}; choose one of {', '.join(QUANTITY_SYMBOLS)}")

@@ -8,7 +8,6 @@ profiles share axes (see :func:`.profile_data.overlay_groups`); a run draws each
 
 from __future__ import annotations
 
-import textwrap
 from collections.abc import Sequence
 from dataclasses import dataclass
 
@@ -30,6 +29,7 @@ from .figure_common import (
 )
 from .profile_data import QUANTITY_SYMBOLS, ProfileData, ProfileState, overlay_groups
 from .profile_labels import LABEL_GAP_PT, MAX_NUDGE_STEPS, NUDGE_STEP_PT, Label, Levels, arrange_labels
+from .state_labels import state_text
 
 #: what the marks of the energy-span analysis are called on the figure
 MARK_TAGS = {"tdts": "TDTS", "tdi": "TDI"}
@@ -59,10 +59,8 @@ def format_value(value: float, precision: int) -> str:
 
 
 def state_name(state: ProfileState, wrap: int | None = None) -> str:
-    """The name shown above a level, wrapped at ``wrap`` characters (whole words and hyphenated parts
-    kept together); transition states get a double dagger."""
-    name = textwrap.fill(state.label, wrap, break_long_words=False) if wrap else state.label
-    return f"{name}‡" if state.is_ts and not name.endswith("‡") else name
+    """The name shown above a level (see :func:`.state_labels.state_text`)."""
+    return state_text(state, wrap)[0]
 
 
 def _profile_width(n_states: int) -> float:
@@ -113,6 +111,7 @@ class _Text:
     color: str
     owner: int  # index of the profile
     gid: str
+    math: bool = False  # mathtext built by .state_labels (every other text is plain)
 
 
 def _state_texts(profile: ProfileData, owner: int, color: str, dx: float, precision: int,
@@ -128,16 +127,17 @@ def _state_texts(profile: ProfileData, owner: int, color: str, dx: float, precis
         if state.label in marked:
             value = f"{value}\n{marked[state.label]}"
         values.append(_Text(i, value, state.value, i + dx, color, owner, f"value:{profile.name}:{i}"))
-        name = state_name(state, wrap)
-        names.append(_Text(i, name, state.value, i + dx, color, owner, f"name:{i}:{name}"))
+        name, math = state_text(state, wrap)
+        names.append(_Text(i, name, state.value, i + dx, color, owner, f"name:{i}:{name}", math))
     return values, names
 
 
-def _annotate(ax, text: str, xy: tuple[float, float], direction: int, color: str, gid: str):
-    """A label anchored at a level's centre, offset in points above (+1) or below (-1) it."""
+def _annotate(ax, text: str, xy: tuple[float, float], direction: int, color: str, gid: str, math: bool = False):
+    """A label anchored at a level's centre, offset in points above (+1) or below (-1) it; ``math`` only for
+    a name typeset by :mod:`.state_labels`."""
     return ax.annotate(text, xy=xy, xytext=(0, direction * LABEL_GAP_PT), textcoords="offset points",
                        ha="center", va="bottom" if direction > 0 else "top", color=color,
-                       fontsize=STYLE["font.size"], zorder=4, annotation_clip=False, gid=gid)
+                       fontsize=STYLE["font.size"], zorder=4, annotation_clip=False, gid=gid, parse_math=math)
 
 
 def _draw_texts(ax, texts: list[_Text], direction: int, cross_after_pt: float) -> list[Label]:
@@ -152,12 +152,12 @@ def _draw_texts(ax, texts: list[_Text], direction: int, cross_after_pt: float) -
         height = (max if direction > 0 else min)(t.height for t in members)
         if len(members) == 1:
             (only,) = members
-            artist = _annotate(ax, text, (only.x, height), direction, only.color, only.gid)
+            artist = _annotate(ax, text, (only.x, height), direction, only.color, only.gid, only.math)
         else:
             colors = {t.color for t in members}
             color = colors.pop() if len(colors) == 1 else SHARED_NAME_COLOR
             gid = members[0].gid if direction > 0 else f"value:*:{i}:{text}"
-            artist = _annotate(ax, text, (i, height), direction, color, gid)
+            artist = _annotate(ax, text, (i, height), direction, color, gid, members[0].math)
         labels.append(Label(artist, direction, height, cross_after_pt, i, frozenset(t.owner for t in members)))
     return labels
 

@@ -19,6 +19,7 @@ LABEL_GAP_PT = 1.5  # clearance kept between a label and anything else
 NUDGE_STEP_PT = 1.0
 MAX_NUDGE_STEPS = 200
 MAX_WIDENINGS = 12  # of the y range, by 20 % each, while labels do not fit
+NEAR_WIDENINGS = 3  # ... and at most this many more while some label fits only far from its level
 ATTACH_MARGIN_PT = 0.5  # a label counts as nearest its own level only when nearer by this much
 LEADER_LINEWIDTH = 0.5  # points
 LEADER_AFTER_PT = 12.0  # a label farther than this from its level gets a leader
@@ -158,7 +159,16 @@ def _clashes(x0: float, x1: float, bottoms: np.ndarray, height: float, occupied:
     return clash
 
 
-def _place_labels(fig, labels: list[Label], levels: Levels, bounds: Bbox | None = None) -> tuple[list[Bbox], bool]:
+def _inward_shift(x0: float, x1: float, bounds: Bbox | None) -> float:
+    """How far (display units) a label's box x0..x1 moves sideways to stay inside ``bounds``: a long name
+    over the first or last level stays clear of the axis and of the figure's edge."""
+    if bounds is None or x1 - x0 > bounds.width:
+        return 0.0
+    return max(bounds.x0 - x0, 0.0) + min(bounds.x1 - x1, 0.0)
+
+
+def _place_labels(fig, labels: list[Label], levels: Levels,
+                  bounds: Bbox | None = None) -> tuple[list[Bbox], bool, bool]:
     """Greedy placement: each label takes the first offset at which it clashes with nothing placed and
     is close to its own level, and nearer to it than to any other profile's level of its column; a
     label alone in its column takes the first free offset when no close one is free.
@@ -168,8 +178,9 @@ def _place_labels(fig, labels: list[Label], levels: Levels, bounds: Bbox | None 
     order. A label's box moves rigidly with its offset, so it is measured once and every candidate
     offset is tested at once against the occupied y ranges. With ``bounds`` (display units) a label
     must also stay inside them. When no offset attaches a label (overlaid, near-degenerate levels),
-    it gets a leader: see :func:`_place_with_leader`. Returns the final boxes and whether every label
-    found a free spot.
+    it gets a leader: see :func:`_place_with_leader`. With ``bounds`` a label also moves sideways to stay
+    inside them. Returns the final boxes, whether every label found a free spot, and whether every label
+    sits by its own level (within :data:`LEADER_AFTER_PT`, or with a leader).
     """
     renderer = fig.canvas.get_renderer()
     px_per_pt = fig.dpi / 72.0
@@ -179,39 +190,40 @@ def _place_labels(fig, labels: list[Label], levels: Levels, bounds: Bbox | None 
     segments = _segments_px(levels.connectors)  # leaders are appended
     order = sorted(labels, key=lambda lab: (lab.direction > 0, -lab.direction * lab.anchor_y))
     placed: list[Bbox] = []
-    all_free = True
+    all_free = all_near = True
     for label in order:
         start = label.direction * LABEL_GAP_PT
         label.artist.xyann = (0.0, start)
         box = label.artist.get_window_extent(renderer)
-        x0, x1, height = box.x0 - pad, box.x1 + pad, box.height + 2 * pad
+        inward = _inward_shift(box.x0 - pad, box.x1 + pad, bounds)
+        x0, x1, height = box.x0 - pad + inward, box.x1 + pad + inward, box.height + 2 * pad
         offsets = _candidate_offsets(label, box.height / px_per_pt)
         bottoms = box.y0 - pad + (offsets - start) * px_per_pt
         free = ~_clashes(x0, x1, bottoms, height, occupied, segments, bounds)
-        attached, nearer, nearest, rivals = _attachment(label, (box.x0, box.x1), bottoms + pad, box.height, ink,
-                                                        levels, px_per_pt)
+        attached, nearer, nearest, rivals = _attachment(label, (box.x0 + inward, box.x1 + inward), bottoms + pad,
+                                                        box.height, ink, levels, px_per_pt)
         good, unambiguous = np.flatnonzero(free & attached), np.flatnonzero(free & nearer)
         label.leader, shift, ok = None, 0.0, True
         if good.size:
             choice = good[0]
         elif not rivals and unambiguous.size:  # alone in its column: a far spot is still unambiguous
-            choice = unambiguous[0]
+            choice, all_near = unambiguous[0], False
         else:  # a short leader; else the nearest spot that is unambiguous; else a long leader
             level = int(nearest[np.flatnonzero(free)[0]] if free.any() else nearest[0])
             args = ((x0, x1), bottoms, height, offsets, pad, level, ink, occupied, segments, bounds, len(levels.lines))
             choice, shift, label.leader, ok = _place_with_leader(*args, reach_pt=LEADER_REACH_PT)
             if not ok and unambiguous.size:
-                choice, label.leader, ok = unambiguous[0], None, True
+                choice, label.leader, ok, all_near = unambiguous[0], None, True, False
             elif not ok:
                 choice, shift, label.leader, ok = _place_with_leader(*args, reach_pt=np.inf)
         if label.leader is not None:
             segments = np.vstack([segments, label.leader[None, :]])
         all_free &= ok
-        label.artist.xyann = (shift / px_per_pt, float(offsets[choice]))
+        label.artist.xyann = ((inward + shift) / px_per_pt, float(offsets[choice]))
         bottom = float(bottoms[choice])
         occupied = np.vstack([occupied, [x0 + shift, x1 + shift, bottom, bottom + height]])
         placed.append(Bbox.from_extents(x0 + shift, bottom, x1 + shift, bottom + height))
-    return placed, all_free
+    return placed, all_free, all_near
 
 
 def _place_with_leader(x_range: tuple[float, float], bottoms: np.ndarray, height: float, offsets: np.ndarray,
@@ -268,16 +280,27 @@ def arrange_labels(ax, labels: list[Label], levels: Levels) -> None:
 
     A first free placement shows how much room the labels need; the y range is widened to hold it.
     Widening moves the levels closer together on the page, so the labels are placed again, now kept
-    inside the axes; while some label finds no free spot the range is widened by a further 20 %.
+    inside the axes; while some label finds no free spot, or (at most :data:`NEAR_WIDENINGS` times) some
+    label finds one only far from its level (a tall name over the highest level), the range is widened
+    by a further 20 %.
     """
     fig = ax.figure
     _fit_ylim(ax, _place_labels(fig, labels, levels)[0])
+    first_free, widened_since = None, 0  # the first y range at which every label is free, and widenings since
     for _ in range(MAX_WIDENINGS):
-        if _place_labels(fig, labels, levels, ax.get_window_extent())[1]:
+        _, free, near = _place_labels(fig, labels, levels, ax.get_window_extent())
+        if free and near:
+            break
+        first_free = first_free or (ax.get_ylim() if free else None)
+        widened_since += first_free is not None
+        if widened_since > NEAR_WIDENINGS:
             break
         lo, hi = ax.get_ylim()
         ax.set_ylim(lo - 0.1 * (hi - lo), hi + 0.1 * (hi - lo))
-    else:  # a last resort for absurd crowding: room for everything, labels placed for the final range
+    if not (free and near) and first_free is not None:  # never by every level: the first range all were free
+        ax.set_ylim(*first_free)
+        _place_labels(fig, labels, levels, ax.get_window_extent())
+    elif not free:  # a last resort for absurd crowding: room for everything, labels placed for the final range
         _fit_ylim(ax, _place_labels(fig, labels, levels)[0])
         _place_labels(fig, labels, levels)
     _draw_leaders(ax, labels)
