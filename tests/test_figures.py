@@ -367,6 +367,11 @@ def _reactions_table():
     return pd.DataFrame(rows)
 
 
+def test_log_axis_labels_are_superscript_powers_of_ten():
+    # the figures' text is plain (text.parse_math off): a log axis writes 10⁻⁴ in Unicode superscripts
+    assert [figures.power_of_ten(v) for v in (1e-4, 1.0, 1e12, 3e-4, 0.0)] == ["10⁻⁴", "10⁰", "10¹²", "", ""]
+
+
 def test_temperature_plots_draw_the_table():
     table = _reactions_table()
     fig = temperature_figures.plot_dG_T(table)

@@ -62,6 +62,10 @@ def test_simulate_writes_the_simulation_files(tmp_path, samples, cycle_file, cac
     assert record["simulation"]["settings"]["product"] == "h2"
     assert "simulation.csv" in record["files"]
     assert 'id="simulation"' in (out / "report.html").read_text()
+    # the log axes' tick labels are powers of ten in superscripts, not mathtext source printed as written
+    # (the figures' text is plain): "10⁻³", never "$\\mathdefault{10^{-3}}$"
+    svg = (out / "concentrations.svg").read_text()
+    assert "mathdefault" not in svg and ">10⁻" in svg
     # a second simulation into its own folder needs no --force
     assert main(["simulate", str(samples / "gas"), "--reactions", str(path), "--out", str(out), "--quiet",
                  "--jobs", "1"]) in (0, 1)

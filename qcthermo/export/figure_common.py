@@ -16,8 +16,10 @@ from pathlib import Path
 from typing import Any
 
 import matplotlib
+import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg  # figures are files: no window, no pyplot
 from matplotlib.figure import Figure
+from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
 
 from ..errors import QcthermoError
 from ..fileio import atomic_open
@@ -87,6 +89,26 @@ def legend_below(fig, axes) -> None:
     fig.tight_layout()
     fig.legend(list(handles.values()), list(labels), loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=2,
                handlelength=2.0, columnspacing=1.2)
+
+
+_SUPERSCRIPTS = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def power_of_ten(value: float, _position=None) -> str:
+    """A log axis' tick label "10⁻⁴" in Unicode superscripts (the figures' text is plain, not mathtext, so
+    matplotlib's own "$10^{-4}$" would be printed as written); "" between the powers of ten."""
+    exponent = float(np.log10(value)) if value > 0 else np.nan
+    if not np.isfinite(exponent) or abs(exponent - round(exponent)) > 1e-9:
+        return ""
+    return "10" + str(round(exponent)).translate(_SUPERSCRIPTS)
+
+
+def log_axis(axis, max_ticks: int = 8) -> None:
+    """Labels of a logarithmic ``axis`` (ax.xaxis or ax.yaxis, after set_xscale/set_yscale("log")): at most
+    ``max_ticks`` powers of ten, in superscripts, the minor ticks unlabelled."""
+    axis.set_major_locator(LogLocator(base=10.0, numticks=max_ticks))
+    axis.set_major_formatter(FuncFormatter(power_of_ten))
+    axis.set_minor_formatter(NullFormatter())
 
 
 def save_figure(fig: Figure, path: str | Path) -> Path:

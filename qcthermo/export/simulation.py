@@ -59,7 +59,7 @@ def concentration_figure(sim, time_axis: str = "auto"):
     output times span more than three decades)."""
     import matplotlib
 
-    from .figure_common import PALETTE, STYLE, legend_below, new_figure, style_axes
+    from .figure_common import PALETTE, STYLE, legend_below, log_axis, new_figure, style_axes
 
     frame = sim.curves
     t = frame.index.to_numpy()
@@ -78,8 +78,10 @@ def concentration_figure(sim, time_axis: str = "auto"):
                 ax.plot(t[keep], c[keep], color=PALETTE[k % len(PALETTE)], ls="--" if name in constant else "-",
                         label=name, gid=f"concentration:{name}")
         ax.set_yscale("log")
+        log_axis(ax.yaxis)
         if log_time:
             ax.set_xscale("log")
+            log_axis(ax.xaxis)
         ax.set_xlabel("t / s")
         ax.set_ylabel("c / mol L⁻¹")
         legend_below(fig, [ax])
