@@ -37,7 +37,7 @@ from .programs import (
     terminated_normally,
 )
 from .source import LogSource, load
-from .text import lines_with
+from .text import last_line_match, lines_with
 
 #: job types that are not a single point
 _NOT_SINGLE_POINT = {"optimization", "frequencies", "saddle-search", "irc", "scan"}
@@ -150,6 +150,14 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
             found["method"] = "HF"
 
 
+#: xTB's own thermochemistry lines (hartree): key -> (a literal of the line, its regex)
+_XTB_THERMO = {
+    "zpe": ("zero point energy", re.compile(r"::\s+zero point energy\s+(-?\d+\.\d+) Eh")),
+    "enthalpy": ("TOTAL ENTHALPY", re.compile(r"\|\s+TOTAL ENTHALPY\s+(-?\d+\.\d+) Eh")),
+    "gibbs": ("TOTAL FREE ENERGY", re.compile(r"\|\s+TOTAL FREE ENERGY\s+(-?\d+\.\d+) Eh")),
+}
+
+
 def _amend_xtb(text: str, found: dict, notes: list[str]) -> None:
     call = re.search(r"program call\s*:\s*(.*)$", text, re.M)
     flags = call.group(1) if call else ""
@@ -157,13 +165,10 @@ def _amend_xtb(text: str, found: dict, notes: list[str]) -> None:
     if solvation:
         model = solvation.group(1) or "gbsa"
         found["solvent_model"], found["solvent"] = solvent_model_name(model), solvation.group(2) or solvation.group(3)
-    # xTB's own thermochemistry as printed (hartree), more precise than cclib's eV copy
-    printed = {
-        "zpe": r"::\s+zero point energy\s+(-?\d+\.\d+) Eh",
-        "enthalpy": r"\|\s+TOTAL ENTHALPY\s+(-?\d+\.\d+) Eh",
-        "gibbs": r"\|\s+TOTAL FREE ENERGY\s+(-?\d+\.\d+) Eh",
-    }
-    thermo = {k: float(m[-1]) for k, rx in printed.items() if (m := re.findall(rx, text))}
+    # xTB's own thermochemistry as printed (hartree), more precise than cclib's eV copy; the last of each, searched
+    # from the end (a regex pass over a long optimisation log costs ~50 times more)
+    thermo = {key: float(hit.group(1)) for key, (literal, rx) in _XTB_THERMO.items()
+              if (hit := last_line_match(text, literal, rx))}
     if thermo:
         temperature = found.get("thermo_printed", {}).get("temperature")
         found["thermo_printed"] = thermo if temperature is None else {**thermo, "temperature": temperature}
