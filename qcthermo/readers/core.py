@@ -146,10 +146,11 @@ def _amend(source: LogSource, found: dict, notes: list[str]) -> None:
         )
         if functional:
             found["method"] = method_name(functional.group(1))
-        elif re.search(r"@(DF-)?(RHF|UHF|ROHF|CUHF) Final Energy", lines_with(text, " Final Energy")):
+        elif last_line_match(text, " Final Energy", _PSI4_HF_ENERGY):  # one per SCF: searched from the end
             found["method"] = "HF"
 
 
+_PSI4_HF_ENERGY = re.compile(r"@(DF-)?(RHF|UHF|ROHF|CUHF) Final Energy")
 #: xTB's own thermochemistry lines (hartree): key -> (a literal of the line, its regex)
 _XTB_THERMO = {
     "zpe": ("zero point energy", re.compile(r"::\s+zero point energy\s+(-?\d+\.\d+) Eh")),

@@ -147,7 +147,9 @@ RULES: dict[str, ProgramRules] = {
     ),
     "psi4": ProgramRules(
         keywords=r"^\s*(\w+)\(\s*['\"]",
-        keyword_literals=("(",),
+        # a call's "(" then a quote or white space: every line with "(" (a thousand in a small log, tens of
+        # thousands in a long one) made the search a Python loop over most of the text
+        keyword_literals=("('", '("', "( ", "(\t"),
         jobs=(
             ("optimization", r"^(optimize|opt)$"),
             ("frequencies", r"^(frequency|frequencies|freq|hessian)$"),
