@@ -2,15 +2,19 @@
 
 One table, one row per absolute path. The key is (path, size, mtime_ns, content digest, reader version);
 the value is the normalised record as JSON (``Calculation.to_dict()``) or, for a file the reader
-refused, its one-line reason, so a bad file is not parsed again either. No pickle: the file holds
-nothing but text and numbers. The path is stored as its bytes (``os.fsencode``), so a file name that
-is not UTF-8 is a key like any other. A row that cannot be read back (invalid JSON, a value of the
-wrong kind) is a miss: the file is read again and the row rewritten.
+refused, its one-line reason, so a bad file is not parsed again either; beside it, the file's survey
+row as real columns (:data:`ROW_COLUMNS`), so that a warm survey reads those columns of every file in one
+query and decodes no record (a record is read back only for a file a later stage needs:
+:meth:`ParseCache.record`). No pickle: the file holds nothing but text and numbers. The path is stored as
+its bytes (``os.fsencode``), so a file name that is not UTF-8 is a key like any other. A row that cannot
+be read back (a column of the wrong kind, invalid JSON, a record of the wrong shape) is a miss: the file
+is read again and the row rewritten.
 
-Lookup (:meth:`ParseCache.lookup`):
+Lookup:
 
 1. path, size and mtime_ns match a row of the same reader version: the row is trusted without opening
-   the file (a warm survey only stats the files): :meth:`ParseCache.lookup`, in the parent;
+   the file (a warm survey only stats the files): :meth:`ParseCache.rows_under` for a whole directory
+   (:meth:`ParseCache.lookup` for one file), in the parent;
 2. otherwise the file is hashed (BLAKE2b, streamed) and any row with that digest and reader version is
    reused, whatever its path (a touched, copied or moved file is not parsed again): done by the worker
    that would parse the file (:class:`DigestIndex`, read-only), so hashing runs in parallel too;
@@ -33,25 +37,47 @@ import sqlite3
 import time
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, NamedTuple
 
 from .fileio import display
 
 #: bumped when the layout of the table or of the stored JSON changes; kept in SQLite's user_version
-#: (2: path as bytes, user_version set)
-SCHEMA_VERSION = 2
+#: (2: path as bytes, user_version set; 3: the survey row as columns)
+SCHEMA_VERSION = 3
 CACHE_FILE = "parse-cache.sqlite"
 #: seconds a writer waits for another process's transaction before giving up
 BUSY_TIMEOUT_S = 30.0
 
+#: the survey's columns of a file (all but its path; qcthermo.survey.COLUMNS), with what each may hold: a
+#: row whose values are not of these kinds is a miss (checked in the query itself, in SQLite)
+ROW_COLUMNS = (
+    ("program", ("text",)), ("program_version", ("text", "null")), ("job_types", ("text",)),
+    ("method", ("text", "null")), ("basis", ("text", "null")), ("solvent_model", ("text", "null")),
+    ("charge", ("integer",)), ("multiplicity", ("integer", "null")), ("formula", ("text",)),
+    ("natoms", ("integer",)), ("E_elec_Eh", ("real", "null")), ("lowest_frequency_cm1", ("real", "null")),
+    ("n_imaginary", ("integer", "null")), ("normal_termination", ("integer", "null")),
+    ("status", ("text",)), ("reason", ("text",)),
+)
+_ROW_NAMES = tuple(name for name, _ in ROW_COLUMNS)
+#: a sound row: a read file with its survey columns of the right kinds, or a refused file with its reason
+_SOUND = (
+    "((ok = 1 AND status IN ('ok', 'warning') AND "
+    + " AND ".join(f"typeof({name}) IN ({', '.join(repr(k) for k in kinds)})" for name, kinds in ROW_COLUMNS)
+    + " AND (normal_termination IS NULL OR normal_termination IN (0, 1))"
+    + ") OR (ok = 0 AND status = 'error' AND typeof(reason) = 'text'))"
+)
+
+# the record last: a large one (normal modes) spills into overflow pages, which reading the columns before it
+# never touches
 _SCHEMA = (
-    """CREATE TABLE IF NOT EXISTS parsed (
+    f"""CREATE TABLE IF NOT EXISTS parsed (
     path BLOB PRIMARY KEY,
     size INTEGER NOT NULL,
     mtime_ns INTEGER NOT NULL,
     digest TEXT NOT NULL,
     reader_version TEXT NOT NULL,
     ok INTEGER NOT NULL,
+    {", ".join(_ROW_NAMES)},
     payload TEXT NOT NULL
 )""",
     "CREATE INDEX IF NOT EXISTS parsed_by_digest ON parsed (digest, reader_version)",
@@ -79,9 +105,9 @@ def file_digest(path: str | os.PathLike) -> str:
         return hashlib.file_digest(handle, "blake2b").hexdigest()
 
 
-@dataclass(frozen=True)
-class FileKey:
-    """Where a file is and what it looked like when it was parsed: absolute path, bytes, mtime in ns."""
+class FileKey(NamedTuple):
+    """Where a file is and what it looked like when it was parsed: absolute path, bytes, mtime in ns.
+    (A named tuple: a survey makes one per file, 100,000 of them in a campaign.)"""
 
     path: str
     size: int
@@ -95,11 +121,23 @@ class FileKey:
 
 @dataclass(frozen=True)
 class Entry:
-    """A cached outcome: ``ok`` with ``record`` (the Calculation dict), or not ok with ``reason``."""
+    """A cached outcome: ``ok`` with ``record`` (the Calculation dict) and, to store it, ``row`` (the values of
+    :data:`ROW_COLUMNS`, in order), or not ok with ``reason``."""
 
     ok: bool
     record: dict[str, Any] | None = None
     reason: str = ""
+    row: tuple | None = None
+
+
+class CachedRow(NamedTuple):
+    """What :meth:`ParseCache.rows_under` gives for a file: its key, ``ok``, and :data:`ROW_COLUMNS` (in order;
+    ``normal_termination`` as 0, 1 or None)."""
+
+    size: int
+    mtime_ns: int
+    ok: bool
+    columns: tuple
 
 
 class ParseCache:
@@ -217,14 +255,36 @@ class ParseCache:
         if self._db is None:
             return None
         try:
-            row = self._db.execute(
-                "SELECT ok, payload FROM parsed WHERE path = ? AND size = ? AND mtime_ns = ? AND reader_version = ?",
-                (os.fsencode(key.path), key.size, key.mtime_ns, self.reader_version),
-            ).fetchone()
+            return _lookup(self._db, key, self.reader_version)
         except sqlite3.DatabaseError as err:
             self._disable(err)
             return None
-        return None if row is None else _entry(*row)
+
+    def rows_under(self, directory: str) -> dict[bytes, CachedRow]:
+        """The rows of this reader version for every file under the absolute ``directory``, by path (as bytes),
+        in one query (a range of the primary key); sound rows only, so a damaged one is a miss."""
+        if self._db is None:
+            return {}
+        prefix = os.fsencode(directory.rstrip("/") + "/")
+        end = prefix[:-1] + b"0"  # the first byte string after every one that starts with prefix ("0" follows "/")
+        query = (f"SELECT path, size, mtime_ns, ok, {', '.join(_ROW_NAMES)} FROM parsed "
+                 f"WHERE path >= ? AND path < ? AND reader_version = ? AND {_SOUND}")
+        try:
+            try:  # sqlite3's own decoding first (a Python text factory costs a call per value), and...
+                self._db.text_factory = str
+                rows = self._db.execute(query, (prefix, end, self.reader_version)).fetchall()
+            except sqlite3.OperationalError as err:  # ...only for text that is not UTF-8 (damage) the careful one
+                if "decode" not in str(err):
+                    raise
+                self._db.text_factory = _text
+                rows = [row for row in self._db.execute(query, (prefix, end, self.reader_version))
+                        if not any(isinstance(value, bytes) for value in row[4:])]
+            finally:
+                self._db.text_factory = _text
+            return {row[0]: CachedRow(row[1], row[2], row[3] == 1, row[4:]) for row in rows}
+        except sqlite3.DatabaseError as err:
+            self._disable(err)
+            return {}
 
     def find(self, digest: str) -> Entry | None:
         """The cached outcome for any file with these bytes (step 2 of the lookup)."""
@@ -247,9 +307,17 @@ class ParseCache:
 
     def _queue(self, key: FileKey, digest: str, entry: Entry) -> None:
         # ASCII JSON, and a reason naming an undecodable file name in its printable form: SQLite text is UTF-8
-        payload = json.dumps(entry.record) if entry.ok else display(entry.reason)
+        if entry.ok:
+            if entry.row is None or len(entry.row) != len(ROW_COLUMNS):
+                raise ValueError("a read file is stored with its survey row")
+            payload, row = json.dumps(entry.record), entry.row
+            if not all(_utf8(value) for value in row):  # a name read with undecodable bytes: not kept, read again
+                return
+        else:
+            payload = display(entry.reason)
+            row = (None,) * (len(ROW_COLUMNS) - 2) + ("error", payload)
         self._pending.append((os.fsencode(key.path), key.size, key.mtime_ns, digest, self.reader_version,
-                              int(entry.ok), payload))
+                              int(entry.ok), *row, payload))
         if len(self._pending) >= self.batch_size:
             self.flush()
 
@@ -260,7 +328,7 @@ class ParseCache:
         try:
             with _transaction(self._db):
                 self._db.execute("BEGIN IMMEDIATE")
-                self._db.executemany("INSERT OR REPLACE INTO parsed VALUES (?, ?, ?, ?, ?, ?, ?)", self._pending)
+                self._db.executemany(_INSERT, self._pending)
                 self._db.execute("COMMIT")
         except sqlite3.DatabaseError as err:
             self._disable(err)
@@ -280,6 +348,9 @@ class ParseCache:
         self.close()
 
 
+_INSERT = f"INSERT OR REPLACE INTO parsed VALUES ({', '.join('?' * (7 + len(ROW_COLUMNS)))})"
+
+
 @contextlib.contextmanager
 def _transaction(db: sqlite3.Connection):
     """Roll back an explicit transaction that failed half-way, then re-raise."""
@@ -296,6 +367,14 @@ def versioned(reader_version: str) -> str:
     return f"schema{SCHEMA_VERSION}:{reader_version}"
 
 
+def _lookup(db: sqlite3.Connection, key: FileKey, reader_version: str) -> Entry | None:
+    row = db.execute(
+        "SELECT ok, payload FROM parsed WHERE path = ? AND size = ? AND mtime_ns = ? AND reader_version = ?",
+        (os.fsencode(key.path), key.size, key.mtime_ns, reader_version),
+    ).fetchone()
+    return None if row is None else _entry(*row)
+
+
 def _find(db: sqlite3.Connection, digest: str, reader_version: str) -> Entry | None:
     row = db.execute(
         "SELECT ok, payload FROM parsed WHERE digest = ? AND reader_version = ? LIMIT 1", (digest, reader_version)
@@ -309,21 +388,32 @@ _READONLY: dict[tuple[int, str], sqlite3.Connection] = {}
 
 @dataclass(frozen=True)
 class DigestIndex:
-    """Lookup step 2 from a worker process: read-only, its own connection (workers never write)."""
+    """Read-only lookups on a connection of this process's own: step 2 from a worker process (workers never
+    write), and a file's record read back when a later stage needs it (:meth:`lookup`)."""
 
     path: str
     reader_version: str
 
+    def _db(self) -> sqlite3.Connection:
+        db = _READONLY.get((os.getpid(), self.path))
+        if db is None:
+            db = sqlite3.connect(f"{Path(self.path).as_uri()}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_S)
+            db.text_factory = _text
+            _READONLY[(os.getpid(), self.path)] = db
+        return db
+
     def find(self, digest: str) -> Entry | None:
         try:
-            db = _READONLY.get((os.getpid(), self.path))
-            if db is None:
-                db = sqlite3.connect(f"{Path(self.path).as_uri()}?mode=ro", uri=True, timeout=BUSY_TIMEOUT_S)
-                db.text_factory = _text
-                _READONLY[(os.getpid(), self.path)] = db
-            return _find(db, digest, self.reader_version)
+            return _find(self._db(), digest, self.reader_version)
         except sqlite3.Error:
             return None  # the parent reports a damaged cache; here the file is simply parsed
+
+    def lookup(self, key: FileKey) -> Entry | None:
+        """As :meth:`ParseCache.lookup`; None also when the cache cannot be read (the file is read again)."""
+        try:
+            return _lookup(self._db(), key, self.reader_version)
+        except sqlite3.Error:
+            return None
 
 
 def _text(data: bytes) -> str | bytes:
@@ -334,6 +424,16 @@ def _text(data: bytes) -> str | bytes:
         return data.decode("utf-8")
     except UnicodeDecodeError:
         return data
+
+
+def _utf8(value: Any) -> bool:
+    """Whether SQLite can hold ``value`` (text must be UTF-8; a str with lone surrogates is not)."""
+    if isinstance(value, str):
+        try:
+            value.encode("utf-8")
+        except UnicodeEncodeError:
+            return False
+    return True
 
 
 def _entry(ok: Any, payload: Any) -> Entry | None:

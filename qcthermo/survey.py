@@ -9,20 +9,23 @@ docs/survey.md.
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
+import functools
 import hashlib
 import importlib
 import importlib.metadata
 import importlib.util
 import inspect
 import multiprocessing
+import operator
 import os
 import signal
 import stat
 import sys
 import tracemalloc
 from collections import Counter
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterator, Mapping
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -32,9 +35,10 @@ import numpy as np
 
 from . import __version__
 from . import cache as parse_cache
-from .cache import DigestIndex, Entry, FileKey, ParseCache, default_cache_dir
+from .cache import ROW_COLUMNS, DigestIndex, Entry, FileKey, ParseCache, default_cache_dir
 from .callable_module import make_callable
 from .errors import LogReadError, QcthermoError
+from .fileio import display
 from .progress import ProgressBar
 from .records import JOB_TYPES, Calculation
 
@@ -47,12 +51,12 @@ LOG_SUFFIXES = (".out", ".log", ".output", ".nwo")
 CANDIDATE_SUFFIXES = LOG_SUFFIXES + tuple(s + c for s in LOG_SUFFIXES for c in (".gz", ".bz2", ".xz"))
 #: directory names never entered (besides hidden ones and virtual environments)
 SKIPPED_DIRS = frozenset({"__pycache__", "node_modules", "site-packages"})
-#: columns of the survey table (docs/survey.md, "Columns")
-COLUMNS = (
-    "path", "program", "program_version", "job_types", "method", "basis", "solvent_model", "charge",
-    "multiplicity", "formula", "natoms", "E_elec_Eh", "lowest_frequency_cm1", "n_imaginary",
-    "normal_termination", "status", "reason",
-)
+#: columns of the survey table (docs/survey.md, "Columns"): the path, then what the parse cache keeps of each
+#: file (qcthermo.cache.ROW_COLUMNS: program, program_version, job_types, method, basis, solvent_model, charge,
+#: multiplicity, formula, natoms, E_elec_Eh, lowest_frequency_cm1, n_imaginary, normal_termination, status, reason)
+COLUMNS = ("path", *(name for name, _ in ROW_COLUMNS))
+_STATUS, _REASON, _TERMINATION = COLUMNS.index("status"), COLUMNS.index("reason"), COLUMNS.index("normal_termination")
+_METHOD, _BASIS = COLUMNS.index("method"), COLUMNS.index("basis")
 #: most files sent to a worker at once (small enough to keep both cores busy to the end)
 MAX_CHUNK = 8
 
@@ -62,8 +66,7 @@ Reader = Callable[[str], Calculation]
 # -- finding the logs ------------------------------------------------------------------------------
 
 
-@dataclass(frozen=True)
-class Candidate:
+class Candidate(NamedTuple):
     """A file to read: its path relative to the surveyed directory (POSIX form) and its stat key;
     ``skipped`` says why it is not read (it is no regular file), None for a file to read."""
 
@@ -88,12 +91,19 @@ def _not_regular(path: str) -> str | None:
         return "not read: a symbolic link to nothing (dangling)" if os.path.islink(path) else "not read: gone"
     except OSError as err:
         return f"not read: cannot stat ({err.strerror})"
+    return _not_a_log(st, os.path.realpath(path))
+
+
+def _not_a_log(st: os.stat_result, real: str) -> str | None:
+    """Why a file of this stat, whose real path is ``real``, is not read; None for a regular file elsewhere than
+    the kernel's file systems."""
     if not stat.S_ISREG(st.st_mode):
         return f"not read: {_SPECIAL_KINDS.get(stat.S_IFMT(st.st_mode), 'a special file')}, not a regular file"
-    real = os.path.realpath(path)
-    if any(real == d or real.startswith(d + "/") for d in _KERNEL_DIRS):
-        return f"not read: a kernel file ({real}), not a log"
-    return None
+    return f"not read: a kernel file ({real}), not a log" if _in_kernel_dir(real) else None
+
+
+def _in_kernel_dir(real: str) -> bool:
+    return any(real == d or real.startswith(d + "/") for d in _KERNEL_DIRS)
 
 
 def _own_outputs() -> set[tuple[int, int]]:
@@ -129,27 +139,19 @@ def find_candidates(
         seen.add((st.st_dev, st.st_ino))
     found: list[Candidate] = []
     notes: list[str] = []
-    own = _own_outputs()
-    for relpath, entry in _walk(root, "", seen, notes):
-        path = os.path.abspath(entry.path)
-        skipped = _not_regular(path)
-        if skipped is not None:
-            found.append(Candidate(relpath, FileKey(path, 0, 0), skipped))
-            continue
-        try:
-            st = entry.stat()
-        except OSError as err:
-            notes.append(f"{relpath}: cannot stat ({err.strerror})")
-            continue
-        if (st.st_dev, st.st_ino) in own:
-            notes.append(f"{relpath}: not read: it is this command's own output (standard output or error)")
-            continue
-        found.append(Candidate(relpath, FileKey(path, st.st_size, st.st_mtime_ns)))
-    found.sort(key=lambda c: c.relpath)
+    _walk(root, "", seen, _own_outputs(), found, notes)
+    found.sort(key=operator.itemgetter(0))
     return found, notes
 
 
-def _walk(root: Path, prefix: str, seen: set[tuple[int, int]], notes: list[str]) -> Iterator[tuple[str, os.DirEntry]]:
+def _walk(root: Path, prefix: str, seen: set[tuple[int, int]], own: set[tuple[int, int]], found: list[Candidate],
+          notes: list[str]) -> None:
+    """Add the candidates of folder ``root / prefix`` and of its subfolders to ``found``.
+
+    Per file of a campaign (100,000 of them) this is the costliest step of a warm survey, so a plain file (no
+    symbolic link) costs one stat, scandir's, and string work; its folder's real path, known once, says
+    whether it lies in a kernel file system. A link is followed and resolved (:func:`_not_regular`).
+    """
     directory = root / prefix if prefix else root
     try:
         st = directory.stat()
@@ -161,19 +163,40 @@ def _walk(root: Path, prefix: str, seen: set[tuple[int, int]], notes: list[str])
     except OSError as err:
         notes.append(f"{prefix or '.'}: cannot list directory ({err.strerror})")
         return
+    absolute, real = os.path.abspath(directory), os.path.realpath(directory)
+    absolute, in_kernel = absolute.rstrip("/") + "/", _in_kernel_dir(real)
     for entry in entries:
-        if entry.name.startswith("."):
+        name = entry.name
+        if name.startswith("."):
             continue
-        relpath = f"{prefix}/{entry.name}" if prefix else entry.name
+        relpath = f"{prefix}/{name}" if prefix else name
         try:
             is_dir = entry.is_dir()
         except OSError:
             is_dir = False
         if is_dir:
-            if entry.name not in SKIPPED_DIRS and not os.path.exists(os.path.join(entry.path, "pyvenv.cfg")):
-                yield from _walk(root, relpath, seen, notes)
-        elif entry.name.lower().endswith(CANDIDATE_SUFFIXES):  # a pipe or device too: its row says why it is not read
-            yield relpath, entry
+            if name not in SKIPPED_DIRS and not os.path.exists(os.path.join(entry.path, "pyvenv.cfg")):
+                _walk(root, relpath, seen, own, found, notes)
+            continue
+        if not name.lower().endswith(CANDIDATE_SUFFIXES):
+            continue
+        path = absolute + name
+        try:
+            link = entry.is_symlink()
+            st = entry.stat()  # a pipe or device too: its row says why it is not read
+        except OSError as err:  # gone since it was listed, no permission to stat it, a dangling link
+            st, skipped = None, _not_regular(path)
+            if skipped is None:  # back since: still, nothing sure to read
+                skipped = f"not read: cannot stat ({err.strerror})"
+        else:
+            skipped = _not_regular(path) if link else \
+                _not_a_log(st, os.path.join(real, name)) if in_kernel or not stat.S_ISREG(st.st_mode) else None
+        if skipped is not None:
+            found.append(Candidate(relpath, FileKey(path, 0, 0), skipped))
+        elif own and (st.st_dev, st.st_ino) in own:
+            notes.append(f"{relpath}: not read: it is this command's own output (standard output or error)")
+        else:
+            found.append(Candidate(relpath, FileKey(path, st.st_size, st.st_mtime_ns)))
 
 
 # -- reading, in this process or in workers ------------------------------------------------------
@@ -191,7 +214,8 @@ def reader_version(reader: Reader | None = None) -> str:
 
     qcthermo's version, cclib's installed version, and a digest of the reader's source: every file of
     the ``qcthermo.readers`` package for the default reader (so any edit to a reader or a version
-    constant in it counts), the defining file and name of any other reader.
+    constant in it counts), the defining file and name of any other reader; and a digest of what makes
+    the survey row the cache keeps of each file (this module's audit, records.py's formula and counts).
     """
     digest = hashlib.blake2b(digest_size=8)
     if reader is None or reader is default_reader:
@@ -205,7 +229,7 @@ def reader_version(reader: Reader | None = None) -> str:
         except TypeError:
             sources = []
         name = f"{getattr(reader, '__module__', '')}.{getattr(reader, '__qualname__', repr(reader))}"
-    for source in sources:
+    for source in [*sources, Path(__file__), Path(__file__).with_name("records.py")]:
         if source.is_file():
             digest.update(source.read_bytes())
     try:
@@ -456,36 +480,106 @@ def error_row(relpath: str, reason: str) -> dict[str, Any]:
 # -- the survey ----------------------------------------------------------------------------------
 
 
+class Calculations(Mapping[str, Calculation]):
+    """Relative path -> Calculation of a survey's readable files, each made when it is first asked for.
+
+    A file read in this survey holds its Calculation already; a file served by the parse cache holds only its
+    key until then, so a warm survey of 100,000 files decodes no record and builds no Calculation. Its record
+    is read back from the cache on first use (checked: a damaged or replaced one means the file is read again
+    and its cache row rewritten), and kept. ``Calculation.path`` is ``directory / relative path``.
+    """
+
+    def __init__(self, root: Path, reader: Reader | None = None, index: DigestIndex | None = None,
+                 reopen: Callable[[], ParseCache] | None = None):
+        """``index``: the cache to read records back from; ``reopen``: opens it to rewrite a damaged row."""
+        self._root, self._reader, self._index, self._reopen = root, reader or default_reader, index, reopen
+        self._items: dict[str, Calculation | FileKey] = {}
+
+    def __getitem__(self, relpath: str) -> Calculation:
+        item = self._items[relpath]
+        if isinstance(item, FileKey):
+            item = self._items[relpath] = self._load(relpath, item)
+        return item
+
+    def __iter__(self) -> Iterator[str]:
+        return iter(self._items)
+
+    def __len__(self) -> int:
+        return len(self._items)
+
+    def __repr__(self) -> str:
+        return f"<{len(self)} calculations of {display(str(self._root))}>"
+
+    def _load(self, relpath: str, key: FileKey) -> Calculation:
+        entry = self._index.lookup(key) if self._index is not None else None
+        calc = cached_calculation(entry.record) if entry is not None and entry.ok else None
+        if calc is not None:
+            return dataclasses.replace(calc, path=str(self._root / relpath))
+        outcome = read_one(self._reader, key.path)
+        if outcome.kind != "ok":
+            raise QcthermoError(f"{display(relpath)}: its cached record is damaged and the file can no longer be "
+                                f"read: {display(outcome.payload)}")
+        calc = Calculation.from_dict(dict(outcome.payload, path=str(self._root / relpath)))
+        if self._reopen is not None:
+            with self._reopen() as store, contextlib.suppress(OSError):
+                store.store(FileKey.of(key.path), parse_cache.file_digest(key.path),
+                            cache_entry(outcome.payload, calculation_row(relpath, calc)))
+        return calc
+
+
+def cache_entry(record: dict[str, Any], row: dict[str, Any]) -> Entry:
+    """What the parse cache keeps of a file that was read: its record, and its survey row but for the path."""
+    return Entry(True, record=record, row=tuple(row.values())[1:])
+
+
+def _row(values: tuple) -> dict[str, Any]:
+    """A row of :attr:`SurveyResult.table` as a dict of :data:`COLUMNS` (normal_termination as a bool: the
+    cache holds 0 or 1)."""
+    row = dict(zip(COLUMNS, values, strict=True))
+    if values[_TERMINATION] is not None:
+        row["normal_termination"] = bool(values[_TERMINATION])
+    return row
+
+
 @dataclass
 class SurveyResult:
     """What a survey found.
 
     Attributes:
         directory: the surveyed directory, as given.
-        rows: one dict per candidate file (keys :data:`COLUMNS`), sorted by path.
-        calculations: relative path -> Calculation, for the files that were read (status ok or warning);
-            each Calculation's ``path`` is ``directory / relative path``.
+        table: one tuple per candidate file, the values of :data:`COLUMNS` in order, sorted by path (what
+            :attr:`rows` and :meth:`to_frame` are made of; ``normal_termination`` may be 0 or 1 here).
+        calculations: relative path -> Calculation, for the files that were read (status ok or warning); a
+            mapping (:class:`Calculations`) that makes each Calculation when it is first asked for; each
+            Calculation's ``path`` is ``directory / relative path``.
         errors: relative path -> one-line reason, for the files that could not be read.
         notes: one-line warnings about the survey itself (directories not listed, the cache).
         stats: counts: "files", "parsed" (by the reader), "cached" (served by the cache), "hashed".
     """
 
     directory: str
-    rows: list[dict[str, Any]] = field(default_factory=list)
-    calculations: dict[str, Calculation] = field(default_factory=dict)
+    table: list[tuple] = field(default_factory=list, repr=False)
+    calculations: Mapping[str, Calculation] = field(default_factory=dict)
     errors: dict[str, str] = field(default_factory=dict)
     notes: list[str] = field(default_factory=list)
     stats: dict[str, int] = field(default_factory=dict)
+    _rows: list[dict[str, Any]] | None = field(default=None, init=False, repr=False, compare=False)
 
     def __repr__(self) -> str:
         """One line for a notebook (the generated one printed every Calculation's arrays)."""
         return f"<SurveyResult of {self.directory}: {self.summary()}; .to_frame() for the table>"
 
+    @property
+    def rows(self) -> list[dict[str, Any]]:
+        """One dict per candidate file (keys :data:`COLUMNS`), sorted by path; made on first use."""
+        if self._rows is None:
+            self._rows = [_row(values) for values in self.table]
+        return self._rows
+
     def counts(self) -> dict[str, int]:
         """{"ok": n, "warning": n, "error": n}."""
         out = {"ok": 0, "warning": 0, "error": 0}
-        for row in self.rows:
-            out[row["status"]] += 1
+        out.update(Counter(values[_STATUS] for values in self.table))
         return out
 
     @property
@@ -497,7 +591,7 @@ class SurveyResult:
 
     def summary(self) -> str:
         c = self.counts()
-        n = len(self.rows)
+        n = len(self.table)
         return f"{n} file{'s' * (n != 1)}: {c['ok']} ok, {c['warning']} warning, {c['error']} error"
 
     def levels_of_theory(self) -> dict[str, int]:
@@ -505,14 +599,15 @@ class SurveyResult:
 
         A lone file at a level nobody else uses (a structure left at a test level) shows up here.
         """
-        counts = Counter(calc.level_of_theory or "unknown level" for calc in self.calculations.values())
+        counts = Counter("/".join(p for p in (v[_METHOD], v[_BASIS]) if p) or "unknown level"
+                         for v in self.table if v[_STATUS] != "error")
         return dict(counts.most_common())
 
     def to_frame(self):
         """The rows as a pandas DataFrame with :data:`COLUMNS` (nullable integer and boolean columns)."""
         import pandas as pd
 
-        frame = pd.DataFrame(self.rows, columns=list(COLUMNS))
+        frame = pd.DataFrame.from_records(self.table, columns=list(COLUMNS), nrows=len(self.table))
         dtypes = {c: "Int64" for c in ("charge", "multiplicity", "natoms", "n_imaginary")}
         dtypes.update({"E_elec_Eh": "Float64", "lowest_frequency_cm1": "Float64", "normal_termination": "boolean"})
         return frame.astype(dtypes)
@@ -554,20 +649,28 @@ def survey(
     cache_dir = default_cache_dir()
     candidates, notes = find_candidates(root, skip=(cache_dir,))
     result = SurveyResult(str(directory), notes=notes + ([jobs_note] if jobs_note and scheduler is None else []))
-    outcomes: list[tuple[str, Any] | None] = [None] * len(candidates)
-    store = ParseCache(reader_version(reader), cache_dir) if cache and candidates else None
-    stats = dict.fromkeys(("files", "parsed", "cached", "hashed"), 0)
+    found = _Found(root, candidates)
+    version = reader_version(reader) if cache and candidates else ""
+    store = ParseCache(version, cache_dir) if version else None
     try:
         with ProgressBar(len(candidates), "reading logs", enabled=progress) as bar:
-            misses = _from_cache(store, candidates, outcomes, bar, stats)
-            _read_misses(reader, candidates, misses, outcomes, jobs, store, bar, stats)
+            misses = _from_cache(store, found, bar)
+            _read_misses(reader, found, misses, jobs, store, bar)
     finally:
+        index = store.index() if store is not None else None  # None when the cache was (or became) disabled
         if store is not None:
             store.close()
             result.notes.extend(store.warnings)
-    _collect(result, root, candidates, outcomes)
-    stats["files"] = len(candidates)
-    result.stats = stats
+    result.table, result.errors = found.table, {}
+    result.calculations = Calculations(root, reader, index, functools.partial(ParseCache, version, cache_dir)
+                                              if index else None)
+    for cand, (kind, item) in zip(candidates, found.items, strict=True):  # in path order
+        if kind == "error":
+            result.errors[cand.relpath] = item
+        else:
+            result.calculations._items[cand.relpath] = item
+    found.stats["files"] = len(candidates)
+    result.stats = found.stats
     return result
 
 
@@ -590,47 +693,74 @@ def _worker_count(jobs: int | None) -> tuple[int, str | None]:
     return max(1, jobs), None
 
 
-def _from_cache(store: ParseCache | None, candidates: list[Candidate], outcomes: list, bar: ProgressBar,
-                stats: dict[str, int]) -> list[int]:
-    """Fill ``outcomes`` for the files whose path, size and mtime match the cache; return the others (a row
-    that is not a sound record among them: read again, its row rewritten)."""
+class _Found:
+    """What a survey has found so far, by candidate: its values of :data:`COLUMNS`, and ("calculation",
+    Calculation or FileKey of a cached record) or ("error", reason)."""
+
+    def __init__(self, root: Path, candidates: list[Candidate]):
+        self.root, self.candidates = root, candidates
+        self.table: list[tuple] = [()] * len(candidates)
+        self.items: list[tuple[str, Any]] = [("", None)] * len(candidates)
+        self.stats = dict.fromkeys(("files", "parsed", "cached", "hashed"), 0)
+
+    def calculation(self, i: int, calc: Calculation) -> dict[str, Any]:
+        """File ``i`` was read now; its row."""
+        row = calculation_row(self.candidates[i].relpath, calc)
+        self.table[i], self.items[i] = tuple(row.values()), ("calculation", calc)
+        return row
+
+    def error(self, i: int, reason: str) -> None:
+        self.table[i] = tuple(error_row(self.candidates[i].relpath, reason).values())
+        self.items[i] = ("error", reason)
+
+
+def _from_cache(store: ParseCache | None, found: _Found, bar: ProgressBar) -> list[int]:
+    """Fill in the files whose path, size and mtime match a sound row of the cache, all in one query (no record
+    decoded: the row's columns are the survey's); return the others (a damaged row among them: read again,
+    its row rewritten)."""
+    cached = store.rows_under(os.path.abspath(found.root)) if store is not None else {}
     misses = []
-    for i, cand in enumerate(candidates):
+    for i, cand in enumerate(found.candidates):
         if cand.skipped is not None:
-            outcomes[i] = ("error", cand.skipped)
-            bar.advance()
+            found.error(i, cand.skipped)
             continue
-        entry = store.lookup(cand.key) if store is not None else None
-        calc = cached_calculation(entry.record) if entry is not None and entry.ok else None
-        if entry is None or (entry.ok and calc is None):
+        hit = cached.get(os.fsencode(cand.key.path))
+        if hit is None or hit.size != cand.key.size or hit.mtime_ns != cand.key.mtime_ns:
             misses.append(i)
-        else:
-            outcomes[i] = ("calculation", calc) if entry.ok else ("error", entry.reason)
-            stats["cached"] += 1
-            bar.advance()
+            continue
+        found.table[i] = (cand.relpath, *hit.columns)
+        found.items[i] = ("calculation", cand.key) if hit.ok else ("error", hit.columns[-1])
+    found.stats["cached"] = len(found.candidates) - len(misses) - sum(c.skipped is not None for c in found.candidates)
+    bar.advance(len(found.candidates) - len(misses))
     return misses
 
 
-def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int], outcomes: list, jobs: int | Target,
-                 store: ParseCache | None, bar: ProgressBar, stats: dict[str, int]) -> None:
+def _read_misses(reader: Reader, found: _Found, misses: list[int], jobs: int | Target, store: ParseCache | None,
+                 bar: ProgressBar) -> None:
     """Hash, look up by digest, or parse the files step 1 did not find; store and count the outcomes.
     ``jobs``: local worker processes, or the Dask cluster to read on."""
     if not misses:
         return
+    candidates, stats = found.candidates, found.stats
     # largest files first, so that no big file is left for one worker at the end while the others idle
     misses = sorted(misses, key=lambda i: -candidates[i].key.size)
     paths = [candidates[i].key.path for i in misses]
 
     def report(k: int, outcome: Outcome) -> None:
         i = misses[k]
-        outcomes[i] = (outcome.kind, outcome.payload)
         stats["hashed"] += outcome.digest is not None
         stats["parsed"] += outcome.source == "parsed"
         stats["cached"] += outcome.source == "digest"
+        if outcome.kind == "ok":
+            # the record becomes a Calculation here once, and its row is computed from it: checked when
+            # written, so that a warm survey can trust the row's columns without decoding the record
+            calc = Calculation.from_dict(dict(outcome.payload, path=str(found.root / candidates[i].relpath)))
+            entry = cache_entry(outcome.payload, found.calculation(i, calc))
+        else:
+            found.error(i, outcome.payload)
+            entry = Entry(False, reason=outcome.payload)
         if store is not None and outcome.digest is not None and outcome.kind != "failure":
-            ok = outcome.kind == "ok"
-            store.store(candidates[i].key, outcome.digest,
-                        Entry(ok, record=outcome.payload if ok else None, reason="" if ok else outcome.payload))
+            store.store(candidates[i].key, outcome.digest, entry)
         bar.advance()
 
     index = store if store is not None and store.enabled else None
@@ -648,19 +778,6 @@ def _read_misses(reader: Reader, candidates: list[Candidate], misses: list[int],
 
         preload()  # the readers and cclib imported once here, shared by the forked workers
     read_parallel(reader, paths, jobs, report, index.index() if index is not None else None)
-
-
-def _collect(result: SurveyResult, root: Path, candidates: list[Candidate], outcomes: list) -> None:
-    for cand, (kind, payload) in zip(candidates, outcomes, strict=True):
-        if kind in ("ok", "calculation"):
-            path = str(root / cand.relpath)
-            calc = Calculation.from_dict(dict(payload, path=path)) if kind == "ok" else \
-                dataclasses.replace(payload, path=path)
-            result.calculations[cand.relpath] = calc
-            result.rows.append(calculation_row(cand.relpath, calc))
-        else:
-            result.errors[cand.relpath] = payload
-            result.rows.append(error_row(cand.relpath, payload))
 
 
 make_callable(__name__, survey)

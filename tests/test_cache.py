@@ -314,11 +314,8 @@ def _water_record(cache_dir: Path) -> dict:
     return json.loads(payload)
 
 
-@pytest.mark.parametrize("damage", [
-    "invalid JSON", "missing key", "unknown key", "wrong type", "string where a number belongs", "bad shape",
-    "not an object", "ok flag out of range", "payload not UTF-8",
-])
-def test_a_bad_cache_row_is_a_miss_and_is_rewritten(tree, cache_dir, damage):
+def _survey_and_break_water(tree: Path, cache_dir: Path, damage: str) -> tuple[CountingReader, object, dict]:
+    """A first survey, then the cached record of water.out damaged as ``damage`` says; (reader, result, record)."""
     reader = CountingReader()
     first = survey(tree, jobs=1, reader=reader)
     record = _water_record(cache_dir)
@@ -333,24 +330,55 @@ def test_a_bad_cache_row_is_a_miss_and_is_rewritten(tree, cache_dir, damage):
         broken["charge"] = "zero"
     elif damage == "bad shape":
         broken["coordinates"] = [[0.0, 0.0]]  # 2 numbers for 3 atoms: Calculation.from_dict cannot reshape it
-    columns = {"payload": "{not json" if damage == "invalid JSON" else
-               json.dumps([1, 2]) if damage == "not an object" else json.dumps(broken)}
-    if damage == "ok flag out of range":
-        columns = {"ok": 7}
     if damage == "payload not UTF-8":  # TEXT holding bytes that are no UTF-8 (RFC 3629: 0xFF never occurs)
         db = sqlite3.connect(cache_dir / CACHE_FILE)
         db.execute("UPDATE parsed SET payload = CAST(X'FF7B7D' AS TEXT) WHERE CAST(path AS TEXT) LIKE '%/water.out'")
         db.commit()
         db.close()
     else:
-        _rewrite_row(cache_dir, "water.out", **columns)
+        _rewrite_row(cache_dir, "water.out", payload="{not json" if damage == "invalid JSON" else
+                     json.dumps([1, 2]) if damage == "not an object" else json.dumps(broken))
     reader.calls.clear()
+    return reader, first, record
+
+
+@pytest.mark.parametrize("damage", [
+    "invalid JSON", "missing key", "unknown key", "wrong type", "string where a number belongs", "bad shape",
+    "not an object", "payload not UTF-8",
+])
+def test_a_bad_cached_record_is_read_again_when_its_calculation_is_needed(tree, cache_dir, damage):
+    reader, first, record = _survey_and_break_water(tree, cache_dir, damage)
     second = survey(tree, jobs=1, reader=reader)
-    assert [Path(p).name for p in reader.calls] == ["water.out"]  # the bad row only: read again
-    assert second.rows == first.rows and second.notes == []
+    assert reader.calls == [] and second.rows == first.rows  # the survey needs the row's columns alone
+    water = second.calculations["water.out"]  # the record is decoded now: damaged, so the file is read again
+    assert [Path(p).name for p in reader.calls] == ["water.out"] and second.notes == []
+    assert water.to_dict() == first.calculations["water.out"].to_dict()
     assert _water_record(cache_dir) == record  # the row rewritten
     reader.calls.clear()
-    assert survey(tree, jobs=1, reader=reader).rows == first.rows and reader.calls == []
+    third = survey(tree, jobs=1, reader=reader)
+    assert third.rows == first.rows and third.calculations["water.out"].symbols == ("O", "H", "H")
+    assert reader.calls == []
+
+
+@pytest.mark.parametrize("column, value", [
+    ("ok", 7), ("charge", "zero"), ("natoms", 2.5), ("status", "fine"), ("normal_termination", 5),
+    ("formula", None), ("E_elec_Eh", "-76.0"),
+])
+def test_a_bad_cached_survey_column_is_a_miss_and_is_rewritten(tree, cache_dir, column, value):
+    first = survey(tree, jobs=1, reader=CountingReader())
+    water = "SELECT * FROM parsed WHERE CAST(path AS TEXT) LIKE '%/water.out'"
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    row = db.execute(water).fetchone()
+    _rewrite_row(cache_dir, "water.out", **{column: value})
+    second = survey(tree, jobs=1, reader=CountingReader())
+    # the bad row only missed: the file was hashed, then its record found by the digest (or parsed, when the
+    # damage makes the whole row unsound), and the row rewritten
+    assert second.stats["hashed"] == 1 and second.stats["parsed"] == (column == "ok")
+    assert second.rows == first.rows and second.notes == []
+    assert db.execute(water).fetchone() == row
+    db.close()
+    third = survey(tree, jobs=1, reader=CountingReader())
+    assert third.rows == first.rows and third.stats["hashed"] == 0
 
 
 def test_a_bad_cache_row_found_by_digest_in_a_worker_is_a_miss(tree, cache_dir):
