@@ -174,8 +174,9 @@ def report(label: str, r: dict, floor: float) -> None:
     n, n_cold = r["files"], r["cold_files"]
     per_cold = r["cold_s"] / n_cold
     print(f"{label}:")
-    print(f"  cold survey of {n_cold} files: {r['cold_s']:.2f} s (CPU {r['cold_cpu']:.2f} s); warm {r['warm_cold_s']:.3f} s "
-          f"(CPU {r['warm_cold_cpu']:.3f} s): warm/cold {r['cold_s'] / r['warm_cold_s']:.1f}x wall, "
+    print(f"  cold survey of {n_cold} files: {r['cold_s']:.2f} s (CPU {r['cold_cpu']:.2f} s); "
+          f"warm {r['warm_cold_s']:.3f} s (CPU {r['warm_cold_cpu']:.3f} s): "
+          f"warm/cold {r['cold_s'] / r['warm_cold_s']:.1f}x wall, "
           f"{r['cold_cpu'] / r['warm_cold_cpu']:.1f}x CPU (aim >= 30)")
     print(f"  warm survey of {n} files: {r['warm_s']:.3f} s (CPU {r['warm_cpu']:.3f} s; aim <= 2 s); "
           f"per file {1e6 * r['warm_s'] / n:.1f} us against {1e6 * per_cold:.0f} us cold: "

@@ -576,11 +576,18 @@ class SurveyResult:
             self._rows = [_row(values) for values in self.table]
         return self._rows
 
+    def rows_with(self, status: str) -> list[dict[str, Any]]:
+        """The rows of the files with this status ("ok", "warning" or "error"), sorted by path."""
+        return [_row(values) for values in self.table if values[_STATUS] == status]
+
+    def count_by(self, column: str) -> Counter:
+        """How many files have each value of ``column`` (one of :data:`COLUMNS`)."""
+        j = COLUMNS.index(column)
+        return Counter(values[j] for values in self.table)
+
     def counts(self) -> dict[str, int]:
         """{"ok": n, "warning": n, "error": n}."""
-        out = {"ok": 0, "warning": 0, "error": 0}
-        out.update(Counter(values[_STATUS] for values in self.table))
-        return out
+        return {"ok": 0, "warning": 0, "error": 0} | self.count_by("status")
 
     @property
     def exit_status(self) -> int:

@@ -390,20 +390,56 @@ def test_a_bad_cache_row_found_by_digest_in_a_worker_is_a_miss(tree, cache_dir):
     assert again.rows == first.rows and again.stats["parsed"] == 1 and again.notes == []
 
 
-def test_a_cache_of_the_older_layout_is_rebuilt_with_one_warning(tree, cache_dir):
+def _schema_2_cache(cache_dir: Path, tree: Path, reader_version: str) -> None:
+    """The layout qcthermo wrote before the survey columns (schema 2), holding a row for every file of ``tree``:
+    ok files with their record and nothing else, as a warm survey of that version would have found them."""
+    from qcthermo.cache import versioned
+
     cache_dir.mkdir()
-    db = sqlite3.connect(cache_dir / CACHE_FILE)  # schema 1: paths as text, no user_version
-    db.execute("CREATE TABLE parsed (path TEXT PRIMARY KEY, size INTEGER NOT NULL, mtime_ns INTEGER NOT NULL, "
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    db.execute("CREATE TABLE parsed (path BLOB PRIMARY KEY, size INTEGER NOT NULL, mtime_ns INTEGER NOT NULL, "
                "digest TEXT NOT NULL, reader_version TEXT NOT NULL, ok INTEGER NOT NULL, payload TEXT NOT NULL)")
-    db.execute("INSERT INTO parsed VALUES ('/x.out', 1, 1, 'd', 'schema1:v', 0, 'a reason')")
+    db.execute("CREATE INDEX parsed_by_digest ON parsed (digest, reader_version)")
+    db.execute("PRAGMA user_version = 2")
+    for path in sorted(tree.rglob("*.*")):
+        st = path.stat()
+        ok = path.name != "broken.out"
+        payload = json.dumps(xyz_reader(str(path)).to_dict()) if ok else "a reason"
+        # the key and reader version a survey of this version would look up, with schema 2's layout around it
+        db.execute("INSERT INTO parsed VALUES (?, ?, ?, ?, ?, ?, ?)",
+                   (os.fsencode(str(path)), st.st_size, st.st_mtime_ns, file_digest(path),
+                    versioned(reader_version).replace("schema3", "schema2"), int(ok), payload))
     db.commit()
     db.close()
+
+
+@pytest.mark.parametrize("schema", [1, 2])
+def test_a_cache_of_an_older_layout_is_rebuilt_with_one_warning(tree, cache_dir, schema):
+    from qcthermo.survey import reader_version
+
     reader = CountingReader()
+    if schema == 1:
+        cache_dir.mkdir()
+        db = sqlite3.connect(cache_dir / CACHE_FILE)  # schema 1: paths as text, no user_version
+        db.execute("CREATE TABLE parsed (path TEXT PRIMARY KEY, size INTEGER NOT NULL, mtime_ns INTEGER NOT NULL, "
+                   "digest TEXT NOT NULL, reader_version TEXT NOT NULL, ok INTEGER NOT NULL, payload TEXT NOT NULL)")
+        db.execute("INSERT INTO parsed VALUES ('/x.out', 1, 1, 'd', 'schema1:v', 0, 'a reason')")
+        db.commit()
+        db.close()
+    else:
+        _schema_2_cache(cache_dir, tree, reader_version(reader))
     result = survey(tree, jobs=1, reader=reader)
-    assert len(result.rows) == 3 and len(result.notes) == 1 and "older layout" in result.notes[0]
+    # never misread: every file read again (the old rows have no survey columns to trust)
+    assert len(reader.calls) == 3 and result.stats["parsed"] == 3
+    assert [r["status"] for r in result.rows] == ["error", "ok", "ok"]
+    assert len(result.notes) == 1 and f"older layout (schema {schema})" in result.notes[0]
+    db = sqlite3.connect(cache_dir / CACHE_FILE)
+    assert db.execute("PRAGMA user_version").fetchone() == (3,)
+    assert db.execute("SELECT count(*) FROM parsed").fetchone() == (3,)
+    db.close()
     reader.calls.clear()
     again = survey(tree, jobs=1, reader=reader)
-    assert again.notes == [] and reader.calls == []  # rebuilt and in use, not disabled
+    assert again.notes == [] and reader.calls == [] and again.rows == result.rows  # rebuilt and in use
 
 
 def test_another_programs_database_is_moved_aside_and_rebuilt(tree, cache_dir):

@@ -312,13 +312,51 @@ def test_survey_of_real_logs(real_tree):
     assert result.exit_status == 1
 
 
+def _typed(rows: list[dict]) -> list[list[tuple]]:
+    """Each row's values with their types: 1 == True and 0.0 == 0, but a CSV or JSON would show them apart."""
+    return [[(key, type(value).__name__, value) for key, value in row.items()] for row in rows]
+
+
+def _same_warm_as_cold(directory: Path) -> None:
+    """A warm survey of ``directory`` gives the cold one's rows, value for value and type for type, the same
+    DataFrame, and, built from the cache on first use, the Calculation the reader makes of each file."""
+    import pandas as pd
+
+    from qcthermo.readers import read_log
+
+    cold = qcthermo.survey(directory, jobs=2)
+    warm = qcthermo.survey(directory, jobs=2)
+    assert warm.stats["parsed"] == 0 and warm.stats["cached"] == len(warm.rows) == len(cold.rows) > 0
+    assert _typed(warm.rows) == _typed(cold.rows)
+    pd.testing.assert_frame_equal(warm.to_frame(), cold.to_frame())
+    assert list(warm.calculations) == list(cold.calculations) and warm.errors == cold.errors
+    assert warm.levels_of_theory() == cold.levels_of_theory() and warm.summary() == cold.summary()
+    for relpath, calc in warm.calculations.items():
+        # the reference: qcthermo's reader on the file itself, outside any survey or cache
+        direct = read_log(directory / relpath).to_dict()
+        assert calc.to_dict() == dict(direct, path=str(directory / relpath)), relpath
+        assert cold.calculations[relpath].to_dict() == calc.to_dict(), relpath
+
+
 def test_cached_survey_of_real_logs_gives_the_same_rows(real_tree):
-    first = qcthermo.survey(real_tree, jobs=2)
-    second = qcthermo.survey(real_tree, jobs=2)
-    assert second.stats["parsed"] == 0
-    assert second.rows == first.rows
-    calc1, calc2 = first.calculations["gaussian16/dvb_ir.out"], second.calculations["gaussian16/dvb_ir.out"]
-    assert np.array_equal(calc1.frequencies, calc2.frequencies) and calc1.job_types == calc2.job_types
+    _same_warm_as_cold(real_tree)
+
+
+def test_cached_survey_of_the_sample_logs_gives_the_same_rows(samples):
+    _same_warm_as_cold(samples)
+
+
+def test_a_warm_survey_builds_no_calculation_until_one_is_asked_for(xyz_tree, monkeypatch):
+    first = survey(xyz_tree, jobs=1, reader=xyz_reader)
+    built = []
+    real_from_dict = Calculation.from_dict.__func__
+    monkeypatch.setattr(Calculation, "from_dict", classmethod(lambda cls, d: built.append(d) or real_from_dict(cls, d)))
+    warm = survey(xyz_tree, jobs=1, reader=xyz_reader)
+    assert built == [] and warm.rows == first.rows and len(warm.calculations) == 4 and warm.exit_status == 1
+    a = warm.calculations["a.out"]
+    assert len(built) == 1 and warm.calculations["a.out"] is a  # made once, then kept
+    assert a.to_dict() == first.calculations["a.out"].to_dict()
+    assert a.symbols == ("O", "H", "H")  # WATER_XYZ of tests/xyz_stub.py, read by ASE
 
 
 def test_terminal_table_keeps_the_most_useful_columns_that_fit(xyz_tree):

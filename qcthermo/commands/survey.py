@@ -92,10 +92,13 @@ def print_table(result: SurveyResult) -> None:
 def print_overview(result: SurveyResult, written: list[str], rows: int) -> None:
     """In place of a table longer than ``rows``: the programs, then the files with a warning or an error (errors
     first, at most ``rows`` of them); the levels of theory and the status counts follow, as after a table."""
-    print_overview_heading(f"{len(result.rows)} files", written, "--csv FILE or --json FILE")
-    programs = Counter(row["program"] or "unreadable" for row in result.rows)
+    print_overview_heading(f"{len(result.table)} files", written, "--csv FILE or --json FILE")
+    programs: Counter = Counter()
+    for program, n in result.count_by("program").items():  # counted from the rows' tuples: no dict per row
+        programs[program or "unreadable"] += n
     print("programs: " + ", ".join(f"{name} ({n})" for name, n in programs.most_common()))
-    print_flagged([(r["status"], r["path"], r["reason"]) for r in result.rows if r["status"] != "ok"], rows)
+    flagged = result.rows_with("error") + result.rows_with("warning")
+    print_flagged([(r["status"], r["path"], r["reason"]) for r in flagged], rows)
 
 
 def print_errors(command: str, errors: dict[str, str], limit: int = SHOWN_ERRORS) -> None:
@@ -111,7 +114,7 @@ def main(args: argparse.Namespace) -> int:
     result = survey(args.directory, **reading_options(args))
     for note in result.notes:
         print(f"qcthermo survey: warning: {display(note)}", file=sys.stderr)
-    if not result.rows:
+    if not result.table:
         patterns = ", ".join(f"*{s}" for s in LOG_SUFFIXES)
         print(f"qcthermo survey: no log files ({patterns}, also gzipped) under {display(args.directory)}",
               file=sys.stderr)
@@ -122,7 +125,7 @@ def main(args: argparse.Namespace) -> int:
         write_json(result, args.json)
     if args.quiet:
         print_errors("survey", result.errors)
-    elif len(result.rows) > screenful():
+    elif len(result.table) > screenful():
         print_overview(result, [p for p in (args.csv, args.json) if p], screenful())
     else:
         print_table(result)
