@@ -726,12 +726,13 @@ def _from_cache(store: ParseCache | None, found: _Found, bar: ProgressBar) -> li
     decoded: the row's columns are the survey's); return the others (a damaged row among them: read again,
     its row rewritten)."""
     cached = store.rows_under(os.path.abspath(found.root)) if store is not None else {}
+    encoding = sys.getfilesystemencoding()  # os.fsencode without its cost per call (100,000 calls)
     misses = []
     for i, cand in enumerate(found.candidates):
         if cand.skipped is not None:
             found.error(i, cand.skipped)
             continue
-        hit = cached.get(os.fsencode(cand.key.path))
+        hit = cached.get(cand.key.path.encode(encoding, "surrogateescape"))
         if hit is None or hit.size != cand.key.size or hit.mtime_ns != cand.key.mtime_ns:
             misses.append(i)
             continue
