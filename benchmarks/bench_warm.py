@@ -196,6 +196,7 @@ def main() -> int:
     parser.add_argument("--max-kb", type=int, default=40, help="largest source log copied, kB")
     parser.add_argument("--baseline", type=Path, action="append", default=[],
                         help="a checkout of qcthermo to measure first (the code before a change)")
+    parser.add_argument("--code", type=Path, default=ROOT, help="the checkout measured last (this one)")
     parser.add_argument("--mode", choices=("measure", "rss"), help=argparse.SUPPRESS)
     parser.add_argument("--tree", type=Path, help=argparse.SUPPRESS)
     parser.add_argument("--cache", type=Path, help=argparse.SUPPRESS)
@@ -220,13 +221,13 @@ def main() -> int:
         print(f"tree of {args.files} files ({cold} under cold/) built in {time.perf_counter() - start:.0f} s")
         floor, floor_cpu, n = timed(args.repeat, scandir_walk, str(tree))
         print(f"floor: bare os.scandir walk stat-ing {n} files: {floor:.3f} s (CPU {floor_cpu:.3f} s)")
-        for k, code in enumerate([*args.baseline, ROOT]):
+        for k, code in enumerate([*args.baseline, args.code]):
             cache = Path(tmp) / f"cache-{k}"
             r = child(code, "--mode", "measure", "--tree", str(tree), "--cache", str(cache), "--twins",
                       str(twins_file), "--jobs", str(args.jobs), "--repeat", str(args.repeat))
             r.update(child(code, "--mode", "rss", "--tree", str(tree), "--cache", str(cache)))
             r["cmd_s"], r["cmd_cpu"] = min(command(code, tree, cache) for _ in range(args.repeat))
-            report(f"{'baseline ' if code != ROOT else ''}{code}", r, floor)
+            report(f"{'baseline ' if code != args.code else ''}{code}", r, floor)
             print(f"  load average now {os.getloadavg()[0]:.1f}", flush=True)
     return 0
 
