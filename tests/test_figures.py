@@ -372,6 +372,23 @@ def test_log_axis_labels_are_superscript_powers_of_ten():
     assert [figures.power_of_ten(v) for v in (1e-4, 1.0, 1e12, 3e-4, 0.0)] == ["10⁻⁴", "10⁰", "10¹²", "", ""]
 
 
+def test_concentration_legend_typesets_formulas_and_keeps_constant_lines_apart():
+    # drawing test on made-up curves: species labels in the legend, a formula typeset (IUPAC Red Book IR-3: counts
+    # as subscripts), any other name as written; two species held at one concentration drawn in two line styles
+    from qcthermo.export.simulation import concentration_figure
+
+    t = np.logspace(-3, 3, 7)
+    curves = pd.DataFrame({"ch4": 1e-3 * np.exp(-t / 100), "h": np.ones(7), "h2": np.ones(7), "x": 1e-4 * t},
+                          index=pd.Index(t, name="time_s"))
+    sim = SimpleNamespace(curves=curves, settings=SimpleNamespace(fixed=["h", "h2"]),
+                          summary=pd.DataFrame({"species": ["ch4", "x"]}))
+    fig = concentration_figure(sim, names={"ch4": "CH4", "h": "H", "h2": "H2", "x": "$\\alpha$"})
+    legend = {text.get_text(): text.get_parse_math() for text in fig.legends[0].get_texts()}
+    assert legend == {r"$\mathregular{CH_{4}}$": True, "H": False, r"$\mathregular{H_{2}}$": True, "$\\alpha$": False}
+    styles = {line.get_gid(): line.get_linestyle() for line in fig.axes[0].lines}
+    assert styles["concentration:h"] != styles["concentration:h2"] and styles["concentration:ch4"] == "-"
+
+
 def test_temperature_plots_draw_the_table():
     table = _reactions_table()
     fig = temperature_figures.plot_dG_T(table)

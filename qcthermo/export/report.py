@@ -220,7 +220,7 @@ def _simulation_section(results) -> list[str]:
     if sim is None:
         return []
     from .figure_common import figure_svg
-    from .simulation import concentration_figure
+    from .simulation import concentration_figure, species_names
 
     notes = "".join(f"<li>{html.escape(n)}</li>" for n in sim.notes)
     out = ['<h2 id="simulation">Simulation</h2>', f"<ul>{notes}</ul>" if notes else "",
@@ -229,7 +229,8 @@ def _simulation_section(results) -> list[str]:
         out.append("<h3>Degree of rate control</h3>" + _frame_table(sim.rate_control, "degrees of rate control"))
     if sim.tof_comparison is not None and len(sim.tof_comparison):
         out.append("<h3>Turnover frequency</h3>" + _frame_table(sim.tof_comparison, "turnover frequencies"))
-    fig = concentration_figure(sim, (getattr(results, "settings", None) or {}).get("time_axis", "auto"))
+    fig = concentration_figure(sim, (getattr(results, "settings", None) or {}).get("time_axis", "auto"),
+                               species_names(results))
     out.append(f'<figure id="figure-concentrations">{figure_svg(fig)}<figcaption>Concentrations against time '
                "(fixed species and species at their own concentration dashed).</figcaption></figure>")
     return out

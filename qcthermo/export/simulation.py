@@ -53,20 +53,32 @@ def _caption(sim, what: str) -> str:
             f"(solver {sim.settings.method}, rtol {sim.settings.rtol:g}, atol {sim.settings.atol:g} M){fixed}.")
 
 
-def concentration_figure(sim, time_axis: str = "auto"):
+#: line styles of the species held constant, in turn: two at the same concentration both stay visible
+_CONSTANT_STYLES = ("--", ":", "-.", (0, (6, 2, 1, 2, 1, 2)))
+
+
+def species_names(results) -> dict[str, str]:
+    """Each species' display name (its label in the reaction file, else its key)."""
+    return {n: s.label for n, s in (getattr(results, "species_results", None) or {}).items()}
+
+
+def concentration_figure(sim, time_axis: str = "auto", names: dict[str, str] | None = None):
     """Concentration against time, one line per species (fixed species and species at their own
     concentration dashed); log concentration axis; the time axis log, linear, or "auto" (log when the
-    output times span more than three decades)."""
+    output times span more than three decades). The legend names species by ``names`` (key -> display name),
+    formulas typeset as in the profiles (:mod:`.state_labels`)."""
     import matplotlib
 
     from .figure_common import PALETTE, STYLE, legend_below, log_axis, new_figure, style_axes
+    from .state_labels import name_text
 
     frame = sim.curves
     t = frame.index.to_numpy()
     positive = t[t > 0]
     log_time = time_axis == "log" or (time_axis == "auto" and positive.size and positive.max() / positive.min() > 1e3)
-    constant = set(sim.settings.fixed) | {c for c in frame.columns if c not in set(sim.summary["species"])}
+    constant = [c for c in frame.columns if c in set(sim.settings.fixed) or c not in set(sim.summary["species"])]
     top = float(np.nanmax(frame.to_numpy())) if frame.size else 1.0
+    typeset = set()
     with matplotlib.rc_context(STYLE):
         fig = new_figure(2 * 8.5 / 2.54 * 0.75)
         ax = fig.subplots()
@@ -74,9 +86,12 @@ def concentration_figure(sim, time_axis: str = "auto"):
         for k, name in enumerate(frame.columns):
             c = frame[name].to_numpy(dtype=float)
             keep = (c > top * _FLOOR) & ((t > 0) if log_time else True)
+            label, math = name_text((names or {}).get(name, name))
+            typeset |= {label} if math else set()
+            style = _CONSTANT_STYLES[constant.index(name) % len(_CONSTANT_STYLES)] if name in constant else "-"
             if keep.any():
-                ax.plot(t[keep], c[keep], color=PALETTE[k % len(PALETTE)], ls="--" if name in constant else "-",
-                        label=name, gid=f"concentration:{name}")
+                ax.plot(t[keep], c[keep], color=PALETTE[k % len(PALETTE)], ls=style, label=label,
+                        gid=f"concentration:{name}")
         ax.set_yscale("log")
         log_axis(ax.yaxis)
         if log_time:
@@ -85,6 +100,8 @@ def concentration_figure(sim, time_axis: str = "auto"):
         ax.set_xlabel("t / s")
         ax.set_ylabel("c / mol L⁻¹")
         legend_below(fig, [ax])
+        for text in fig.legends[-1].get_texts():
+            text.set_parse_math(text.get_text() in typeset)
     fig.set_label("concentrations")
     return fig
 
@@ -108,6 +125,6 @@ def write_simulation(results, out_dir: str | Path, time_axis: str = "auto") -> l
     for stem, frame in (("rate_control", sim.rate_control), ("tof", sim.tof_comparison)):
         if frame is not None and len(frame):
             written.append(atomic_write(out_dir / f"{stem}.csv", frame.to_csv(index=False)))
-    fig = concentration_figure(sim, time_axis)
+    fig = concentration_figure(sim, time_axis, species_names(results))
     written += [save_figure(fig, out_dir / f"concentrations{suffix}") for suffix in (".svg", ".png")]
     return written

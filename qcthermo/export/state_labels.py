@@ -79,6 +79,13 @@ def formula_mathtext(name: str) -> str | None:
     return f"$\\mathregular{{{tex}}}$"
 
 
+def name_text(name: str) -> tuple[str, bool]:
+    """A species name as drawn (in a legend, say): its formula typeset, or the name as written; and whether it
+    is mathtext (to draw with ``parse_math=True``)."""
+    formula = formula_mathtext(name)
+    return (formula, True) if formula else (name, False)
+
+
 def _escape(text: str) -> str:
     """Text the user wrote, inside a label drawn with mathtext: a dollar escaped, a backslash drawn by mathtext
     (outside math only "\\$" is special, and a backslash before our own "$" would escape it)."""
