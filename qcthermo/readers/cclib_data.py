@@ -19,6 +19,7 @@ import numpy as np
 
 from .normalise import method_name, solvent_model_name
 from .programs import rules
+from .slices import cclib_slice
 from .source import PROGRAMS, LogSource
 
 
@@ -35,7 +36,9 @@ _CCLIB_QUIET = logging.NullHandler()
 
 
 def parse(source: LogSource):
-    """ccData for ``source`` with the program's cclib parser, or (None, reason) when cclib fails."""
+    """ccData for ``source`` with the program's cclib parser, or (None, reason) when cclib fails.
+
+    cclib reads the program's slice of the text where there is one (slices.py), else the whole text."""
     import cclib.parser
 
     logging.getLogger("cclib").addHandler(_CCLIB_QUIET)  # the same handler object is added only once
@@ -43,7 +46,8 @@ def parse(source: LogSource):
     try:
         with warnings.catch_warnings(), contextlib.redirect_stdout(_NULL):
             warnings.simplefilter("ignore")
-            parser = parser_class(io.StringIO(source.text), loglevel=logging.CRITICAL + 1, logstream=_NULL)
+            text = cclib_slice(source.program, source.text) or source.text
+            parser = parser_class(io.StringIO(text), loglevel=logging.CRITICAL + 1, logstream=_NULL)
             return parser.parse(), None
     except Exception as err:  # cclib raises anything from AssertionError to IndexError on odd files
         return None, f"cclib failed with {type(err).__name__}"

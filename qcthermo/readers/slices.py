@@ -1,0 +1,140 @@
+"""The part of a log cclib needs, cut out before cclib parses it (docs/readers.md, "Slices for cclib").
+
+cclib reads a log line by line in Python (5-17 MB/s); a production optimisation log is mostly the same
+step printed tens of times, of which a Calculation uses the last. A slicer returns the text cclib is given
+instead of the whole log: the whole text without the steps it does not need, cut at line starts, found
+with ``str.find``/``str.count`` (C speed, no Python loop over lines). It returns None whenever it cannot
+tell that the cut is safe (then cclib reads the whole text, as without slicing). The damage checks and the
+programs' own extractors always see the whole text.
+
+``QCTHERMO_NO_SLICE=1`` turns slicing off (cclib reads every whole log); logs below
+:data:`MIN_SLICE_CHARS` are never sliced (the cut would save less than it costs).
+"""
+
+from __future__ import annotations
+
+import itertools
+import os
+from collections.abc import Callable, Iterable
+
+#: logs shorter than this (characters) go to cclib whole: slicing them saves little (benchmarks/bench_read.py)
+MIN_SLICE_CHARS = 200_000
+#: the environment variable that turns slicing off when set to anything but "" or "0"
+NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
+
+
+def slicing_enabled() -> bool:
+    """False when ``QCTHERMO_NO_SLICE`` is set (to anything but "" or "0")."""
+    return os.environ.get(NO_SLICE_VARIABLE, "") in ("", "0")
+
+
+def cclib_slice(program: str, text: str) -> str | None:
+    """The text cclib should parse for a log of ``program``, or None for the whole text (no slicer for the
+    program, slicing off, a short log, or a log its slicer cannot cut safely)."""
+    slicer = SLICERS.get(program)
+    if slicer is None or len(text) < MIN_SLICE_CHARS or not slicing_enabled():
+        return None
+    return slicer(text)
+
+
+# --- helpers for slicers ------------------------------------------------------------------------------
+
+
+def line_starts(text: str, phrase: str, start: int = 0, end: int | None = None) -> list[int]:
+    """Where each line holding ``phrase`` starts, in ``text[start:end]`` (one entry per line)."""
+    end = len(text) if end is None else end
+    found: list[int] = []
+    at = text.find(phrase, start, end)
+    while at >= 0:
+        line = text.rfind("\n", 0, at) + 1
+        if not found or found[-1] != line:
+            found.append(line)
+        at = text.find(phrase, at + len(phrase), end)
+    return found
+
+
+def first_line_start(text: str, phrases: Iterable[str], start: int, end: int) -> int | None:
+    """Start of the first line after ``start`` (before ``end``) holding any of ``phrases``; None if none does."""
+    hits = [at for phrase in phrases if (at := text.find(phrase, start, end)) >= 0]
+    return text.rfind("\n", 0, min(hits)) + 1 if hits else None
+
+
+def holds_any(text: str, phrases: Iterable[str], start: int = 0, end: int | None = None) -> bool:
+    """Whether ``text[start:end]`` holds any of ``phrases``."""
+    end = len(text) if end is None else end
+    return any(text.find(phrase, start, end) >= 0 for phrase in phrases)
+
+
+def without(text: str, cuts: list[tuple[int, int]]) -> str | None:
+    """``text`` without the ranges ``cuts`` (sorted, disjoint, at line starts); None if nothing is cut."""
+    cuts = [(a, b) for a, b in cuts if b > a]
+    if not cuts:
+        return None
+    kept, at = [], 0
+    for a, b in cuts:
+        kept.append(text[at:a])
+        at = b
+    kept.append(text[at:])
+    return "".join(kept)
+
+
+def segments(text: str, phrase: str) -> list[tuple[int, int]]:
+    """``text`` split (as ranges) at the start of each line holding ``phrase``: one range per job of a
+    multi-job log (Gaussian's Link1, ...), the whole text when the phrase is absent."""
+    bounds = [0, *line_starts(text, phrase), len(text)]
+    return [(a, b) for a, b in itertools.pairwise(bounds) if b > a]
+
+
+# --- Gaussian -----------------------------------------------------------------------------------------
+
+#: cclib 1.8.1 keeps state across the steps of these jobs (scans, IRCs, BOMD trajectories, ONIOM layers,
+#: counterpoise and fragment-guess fragments): such logs are never sliced
+_GAUSSIAN_UNSLICED = ("Number of optimizations in scan", "Summary of Optimized Potential Surface Scan",
+                      "INPUT DATA FOR L123", "Summary information for step", "ONIOM:", "Counterpoise:",
+                      "Fragment guess:", "IRC-IRC-IRC")
+#: what a step prints first: its geometry (cclib's triggers: "Input orientation" or "Z-Matrix orientation"
+#: anywhere in a line, "Standard orientation:" as the whole line)
+_GAUSSIAN_INPUT = ("Input orientation", "Z-Matrix orientation")
+_GAUSSIAN_STANDARD = "Standard orientation:"
+#: the optimiser's step line: cclib appends one entry to ``optstatus`` per line, and trims ``atomcoords`` to
+#: that count at the end, so a cut must drop as many of these as of geometries
+_GAUSSIAN_STEP = " Step number"
+#: never dropped: the end of an optimisation, frequencies, termination
+_GAUSSIAN_KEEP = ("Optimization completed", "Optimization stopped", "Harmonic frequencies", "Normal termination",
+                  "Error termination", "Link1:")
+
+
+def gaussian(text: str) -> str | None:
+    """A Gaussian log without the optimisation steps between the first and the last of each job (Link1).
+
+    Kept: the header and first step of each job (route, title, charge and multiplicity, basis, solvent;
+    cclib reads the atoms from the first geometry), the last step and everything after it (final geometry,
+    SCF energy, convergence, the frequencies with their normal modes, thermochemistry, archive block,
+    termination). None if nothing can be cut or a cut would not drop whole steps."""
+    if holds_any(text, _GAUSSIAN_UNSLICED):
+        return None
+    has_input = holds_any(text, _GAUSSIAN_INPUT)
+    has_standard = _GAUSSIAN_STANDARD in text
+    cuts = []
+    for start, end in segments(text, "Link1:  Proceeding to internal job step number"):
+        steps = line_starts(text, _GAUSSIAN_STEP, start, end)
+        if len(steps) < 3:
+            continue
+        # step k + 1 starts with the first geometry printed after step k's optimiser line
+        first = first_line_start(text, (*_GAUSSIAN_INPUT, _GAUSSIAN_STANDARD), steps[0], end)
+        last = first_line_start(text, (*_GAUSSIAN_INPUT, _GAUSSIAN_STANDARD), steps[-2], end)
+        if first is None or last is None or last <= first:
+            return None
+        dropped = text.count(_GAUSSIAN_STEP, first, last)
+        inputs = sum(text.count(phrase, first, last) for phrase in _GAUSSIAN_INPUT)
+        if (holds_any(text, _GAUSSIAN_KEEP, first, last) or inputs != (dropped if has_input else 0)
+                or text.count(_GAUSSIAN_STANDARD, first, last) != (dropped if has_standard else 0)):
+            return None
+        cuts.append((first, last))
+    return without(text, cuts)
+
+
+#: program (a key of source.PROGRAMS) -> its slicer
+SLICERS: dict[str, Callable[[str], str | None]] = {
+    "gaussian": gaussian,
+}
