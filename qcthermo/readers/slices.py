@@ -42,13 +42,21 @@ def cclib_slice(program: str, text: str) -> str | None:
 
 def line_starts(text: str, phrase: str, start: int = 0, end: int | None = None) -> list[int]:
     """Where each line holding ``phrase`` starts, in ``text[start:end]`` (one entry per line)."""
+    found: list[int] = []
+    for at in hits(text, phrase, start, end):
+        line = text.rfind("\n", 0, at) + 1
+        if not found or found[-1] != line:
+            found.append(line)
+    return found
+
+
+def hits(text: str, phrase: str, start: int = 0, end: int | None = None) -> list[int]:
+    """Where ``phrase`` occurs in ``text[start:end]``."""
     end = len(text) if end is None else end
     found: list[int] = []
     at = text.find(phrase, start, end)
     while at >= 0:
-        line = text.rfind("\n", 0, at) + 1
-        if not found or found[-1] != line:
-            found.append(line)
+        found.append(at)
         at = text.find(phrase, at + len(phrase), end)
     return found
 
@@ -87,21 +95,53 @@ def segments(text: str, phrase: str) -> list[tuple[int, int]]:
 
 # --- Gaussian -----------------------------------------------------------------------------------------
 
-#: cclib 1.8.1 keeps state across the steps of these jobs (scans, IRCs, BOMD trajectories, ONIOM layers,
-#: counterpoise and fragment-guess fragments): such logs are never sliced
-_GAUSSIAN_UNSLICED = ("Number of optimizations in scan", "Summary of Optimized Potential Surface Scan",
-                      "INPUT DATA FOR L123", "Summary information for step", "ONIOM:", "Counterpoise:",
-                      "Fragment guess:", "IRC-IRC-IRC")
-#: what a step prints first: its geometry (cclib's triggers: "Input orientation" or "Z-Matrix orientation"
-#: anywhere in a line, "Standard orientation:" as the whole line)
-_GAUSSIAN_INPUT = ("Input orientation", "Z-Matrix orientation")
-_GAUSSIAN_STANDARD = "Standard orientation:"
+#: cclib 1.8.1 keeps state across the steps of these jobs (IRCs, BOMD trajectories, scans, ONIOM layers,
+#: counterpoise and fragment-guess fragments); each prints its phrase in its header or first step, where it
+#: is looked for: such a job is never cut
+_GAUSSIAN_UNSLICED = ("INPUT DATA FOR L123", "IRC-IRC-IRC", "Summary information for step",
+                      "Number of optimizations in scan", "ONIOM:", "Counterpoise:", "Fragment guess:")
 #: the optimiser's step line: cclib appends one entry to ``optstatus`` per line, and trims ``atomcoords`` to
 #: that count at the end, so a cut must drop as many of these as of geometries
 _GAUSSIAN_STEP = " Step number"
-#: never dropped: the end of an optimisation, frequencies, termination
-_GAUSSIAN_KEEP = ("Optimization completed", "Optimization stopped", "Harmonic frequencies", "Normal termination",
-                  "Error termination", "Link1:")
+#: cclib's geometry triggers: "Input orientation" or "Z-Matrix orientation" anywhere in a line,
+#: "Standard orientation:" as the whole line; each ends in this word
+_ORIENTATION = "orientation"
+
+
+def _gaussian_orientations(text: str, start: int, end: int) -> tuple[int, int]:
+    """(input or Z-matrix, standard) orientation blocks in ``text[start:end]`` as cclib counts them."""
+    inputs = standard = 0
+    for at in hits(text, _ORIENTATION, start, end):
+        if text.startswith("Input ", at - 6) or text.startswith("Z-Matrix ", at - 9):
+            inputs += 1
+        elif text.startswith("Standard orientation:", at - 9):
+            line_start, line_end = text.rfind("\n", 0, at) + 1, text.find("\n", at)
+            standard += text[line_start:line_end].strip() == "Standard orientation:"
+    return inputs, standard
+
+
+def _gaussian_job_cut(text: str, start: int, end: int) -> tuple[int, int] | None:
+    """The range of one job (``text[start:end]``) to drop: from the start of its second optimisation step to
+    the start of its last; (start, start) when there is nothing to drop, None when no cut is safe."""
+    steps = hits(text, _GAUSSIAN_STEP, start, end)
+    if len(steps) < 3:
+        return start, start
+    # step k + 1 starts with the first geometry printed after step k's optimiser line
+    first = first_line_start(text, ("Input orientation", "Z-Matrix orientation", "Standard orientation:"),
+                             steps[0], steps[1])
+    last = first_line_start(text, ("Input orientation", "Z-Matrix orientation", "Standard orientation:"),
+                            steps[-2], steps[-1])
+    if first is None or last is None or last <= first or holds_any(text, _GAUSSIAN_UNSLICED, start, first):
+        return None
+    dropped = sum(first <= at < last for at in steps)
+    inputs, standard = _gaussian_orientations(text, first, last)
+    kept_inputs, kept_standard = _gaussian_orientations(text, last, steps[-1])
+    ended = any(text.startswith(("Optimization completed", "Optimization stopped"), at)
+                for at in hits(text, "Optimization ", first, last))
+    if (ended or holds_any(text, ("termination", "Harmonic frequencies"), first, last)
+            or inputs != dropped * kept_inputs or standard != dropped * kept_standard):
+        return None
+    return first, last
 
 
 def gaussian(text: str) -> str | None:
@@ -110,27 +150,14 @@ def gaussian(text: str) -> str | None:
     Kept: the header and first step of each job (route, title, charge and multiplicity, basis, solvent;
     cclib reads the atoms from the first geometry), the last step and everything after it (final geometry,
     SCF energy, convergence, the frequencies with their normal modes, thermochemistry, archive block,
-    termination). None if nothing can be cut or a cut would not drop whole steps."""
-    if holds_any(text, _GAUSSIAN_UNSLICED):
-        return None
-    has_input = holds_any(text, _GAUSSIAN_INPUT)
-    has_standard = _GAUSSIAN_STANDARD in text
+    termination). None if a job's cut would not drop whole steps (as many step lines as geometries, as in
+    its last step) or would drop the end of an optimisation, frequencies or a termination line."""
     cuts = []
     for start, end in segments(text, "Link1:  Proceeding to internal job step number"):
-        steps = line_starts(text, _GAUSSIAN_STEP, start, end)
-        if len(steps) < 3:
-            continue
-        # step k + 1 starts with the first geometry printed after step k's optimiser line
-        first = first_line_start(text, (*_GAUSSIAN_INPUT, _GAUSSIAN_STANDARD), steps[0], end)
-        last = first_line_start(text, (*_GAUSSIAN_INPUT, _GAUSSIAN_STANDARD), steps[-2], end)
-        if first is None or last is None or last <= first:
+        cut = _gaussian_job_cut(text, start, end)
+        if cut is None:
             return None
-        dropped = text.count(_GAUSSIAN_STEP, first, last)
-        inputs = sum(text.count(phrase, first, last) for phrase in _GAUSSIAN_INPUT)
-        if (holds_any(text, _GAUSSIAN_KEEP, first, last) or inputs != (dropped if has_input else 0)
-                or text.count(_GAUSSIAN_STANDARD, first, last) != (dropped if has_standard else 0)):
-            return None
-        cuts.append((first, last))
+        cuts.append(cut)
     return without(text, cuts)
 
 
