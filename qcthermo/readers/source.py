@@ -11,8 +11,10 @@ import bz2
 import gzip
 import io
 import lzma
+import mmap
 import os
 import re
+import stat
 import zlib
 from dataclasses import dataclass
 from pathlib import Path
@@ -94,28 +96,42 @@ class LogSource:
 
 
 def load(path: str | Path) -> LogSource:
-    """Read ``path`` once (gzip, bzip2, xz undone) and recognise the program; raise LogReadError if it is no log."""
+    """Read ``path`` once (gzip, bzip2, xz undone) and recognise the program; raise LogReadError if it is no log.
+
+    A plain file is mapped (mmap) and decoded from the mapping, so the text is the only copy of the file in
+    the process's memory; a compressed file or one that is not a regular file (a pipe) is read in pieces."""
     path = str(path)
     limit = max_log_bytes()
     try:
         with open(path, "rb") as stream:
-            if os.fstat(stream.fileno()).st_size > limit:  # known beyond the cap without reading it
+            status = os.fstat(stream.fileno())
+            if status.st_size > limit:  # known beyond the cap without reading it
                 _refuse_size(path, "file", limit)
-            raw = _read_capped(path, stream, limit, "file")
+            if stat.S_ISREG(status.st_mode) and status.st_size and not _packed(stream.read(8)):
+                with mmap.mmap(stream.fileno(), 0, access=mmap.ACCESS_READ) as mapped:
+                    text = _decoded(path, mapped)
+            else:
+                stream.seek(0)
+                text = _decoded(path, _decompressed(path, _read_capped(path, stream, limit, "file"), limit))
     except IsADirectoryError:
         raise LogReadError(path, "is a directory, not a log file") from None
     except OSError as err:
         raise LogReadError(path, f"cannot be read: {err.strerror or err}") from None
-    raw = _decompressed(path, raw, limit)
-    if not raw.strip():
-        raise LogReadError(path, "empty file")
-    encoding = _utf16(raw)
+    return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
+
+
+def _decoded(path: str, raw) -> str:
+    """The text of a file's bytes (``bytes`` or a mapping): UTF-8 or UTF-16, "\n" line ends; a LogReadError for
+    an empty or binary file."""
+    encoding = _utf16(raw[:8192])
     if encoding is None and b"\x00" in raw[:8192]:
         raise LogReadError(path, "binary file, not a text log")
-    text = raw.decode(encoding or "utf-8", errors="replace").removeprefix("\ufeff")
+    text = str(raw, encoding or "utf-8", errors="replace").removeprefix("\ufeff")
+    if not text or text.isspace():  # isspace stops at the first other character: no copy of the text
+        raise LogReadError(path, "empty file")
     if "\r" in text:  # logs copied from Windows: the parsers and patterns expect "\n" line ends
         text = text.replace("\r\n", "\n").replace("\r", "\n")
-    return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
+    return text
 
 
 def max_log_bytes() -> int:
@@ -152,6 +168,11 @@ def _refuse_size(path: str, what: str, limit: int) -> None:
 #: compressed formats by their magic bytes (the content decides, not the file name): name, streaming reader
 _COMPRESSED = ((b"\x1f\x8b", "gzip", gzip.open), (b"BZh", "bzip2", bz2.open),
                (b"\xfd7zXZ\x00", "xz", lzma.open))
+
+
+def _packed(head: bytes) -> bool:
+    """Whether ``head`` (the first bytes of a file) starts with a gzip, bzip2 or xz signature."""
+    return head.startswith(tuple(magic for magic, _, _ in _COMPRESSED))
 
 
 def _decompressed(path: str, raw: bytes, limit: int) -> bytes:
