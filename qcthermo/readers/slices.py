@@ -18,7 +18,7 @@ import os
 from collections.abc import Callable, Iterable
 
 #: logs shorter than this (characters) go to cclib whole: slicing them saves little (benchmarks/bench_read.py)
-MIN_SLICE_CHARS = 200_000
+MIN_SLICE_CHARS = 50_000
 #: the environment variable that turns slicing off when set to anything but "" or "0"
 NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
 
@@ -144,21 +144,44 @@ def _gaussian_job_cut(text: str, start: int, end: int) -> tuple[int, int] | None
     return first, last
 
 
+#: links whose output cclib reads into nothing a Calculation holds: 302 (one-electron integrals; the overlap
+#: matrix with IOp(3/33)) and 601 (population analysis: orbital energies and coefficients, density matrix,
+#: charges, multipole moments)
+_GAUSSIAN_UNUSED_LINKS = ("302", "601")
+
+
+def _gaussian_link_cuts(text: str, start: int, end: int) -> list[tuple[int, int]]:
+    """The output of each unused link in ``text[start:end]``: with ``#p`` Gaussian prints "(Enter .../lNNN.exe)"
+    before a link's output and " Leave Link  NNN" after it; the lines between are dropped when no other
+    link enters before that one leaves (without ``#p`` nothing marks a link, and nothing is cut)."""
+    cuts = []
+    for link in _GAUSSIAN_UNUSED_LINKS:
+        for at in hits(text, f"/l{link}.exe)", start, end):
+            body = text.find("\n", at, end) + 1
+            leave = text.find(f"\n Leave Link {link:>4}", body - 1, end)
+            if body > 0 and leave >= 0 and text.find("(Enter ", body, leave) < 0:
+                cuts.append((body, leave + 1))
+    return cuts
+
+
 def gaussian(text: str) -> str | None:
-    """A Gaussian log without the optimisation steps between the first and the last of each job (Link1).
+    """A Gaussian log without the optimisation steps between the first and the last of each job (Link1), and
+    without the output of the links a Calculation needs nothing from (integrals, population analysis).
 
     Kept: the header and first step of each job (route, title, charge and multiplicity, basis, solvent;
     cclib reads the atoms from the first geometry), the last step and everything after it (final geometry,
     SCF energy, convergence, the frequencies with their normal modes, thermochemistry, archive block,
     termination). None if a job's cut would not drop whole steps (as many step lines as geometries, as in
     its last step) or would drop the end of an optimisation, frequencies or a termination line."""
-    cuts = []
+    steps = []
     for start, end in segments(text, "Link1:  Proceeding to internal job step number"):
         cut = _gaussian_job_cut(text, start, end)
         if cut is None:
             return None
-        cuts.append(cut)
-    return without(text, cuts)
+        steps.append(cut)
+    kept = zip([0, *(b for _, b in steps)], [*(a for a, _ in steps), len(text)], strict=True)
+    links = [cut for a, b in kept for cut in _gaussian_link_cuts(text, a, b)]
+    return without(text, sorted(steps + links))
 
 
 #: program (a key of source.PROGRAMS) -> its slicer
