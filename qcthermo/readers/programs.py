@@ -9,7 +9,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass
 
-from .text import lines_with
+from .text import last_line_match, lines_with
 
 _F = r"(-?\d+\.\d+)"
 
@@ -232,10 +232,12 @@ def terminated_normally(program: str, text: str) -> bool | None:
 
 
 def optimisation_converged(program: str, text: str) -> bool | None:
+    """Whether the program's convergence message is printed, searched from the end (where it is)."""
     program_rules = rules(program)
     if program_rules.converged is None:
         return None
-    return re.search(program_rules.converged, lines_with(text, *program_rules.converged_literals)) is not None
+    regex = re.compile(program_rules.converged)
+    return any(last_line_match(text, literal, regex) for literal in program_rules.converged_literals)
 
 
 def last_s2(text: str) -> float | None:
