@@ -567,13 +567,25 @@ def test_a_tall_name_over_the_highest_level_stays_by_it():
                                 _sum_state([(1, "TS-oxidative-addition", True), (1, "C6H5Br"), (1, "NO2-")], 22.0),
                                 _sum_state([(1, "int1"), (1, "SO4^2-")], -5.0),
                                 _sum_state([(1, "product-complex"), (2, "CH3OH")], -12.0)])
-    fig = plot_profiles([profile])
+    _assert_by_their_levels(plot_profiles([profile]), "p")
+
+
+def _assert_by_their_levels(fig, name):
+    """Every label of the single profile ``name`` within 12 pt (the layout's reach without a leader) of its level."""
     fig.canvas.draw()
     renderer = fig.canvas.get_renderer()
     for text in fig.axes[0].texts:
-        level = _artists(fig, f"level:p:{_column(text)}")[0]
+        level = _artists(fig, f"level:{name}:{_column(text)}")[0]
         gap = _box_distance(text.get_window_extent(renderer), _ink(level, fig)) * 72 / fig.dpi
-        assert gap <= 12.0, f"{text.get_text()!r} is {gap:.0f} pt from its level"  # the layout's 12 pt
+        assert gap <= 12.0, f"{text.get_text()!r} is {gap:.0f} pt from its level"
+
+
+def test_names_wider_than_their_slots_widen_the_figure():
+    # five states of long names in one journal column leave names far from their levels: the figure grows
+    fig = plot_profiles([_catalytic(long=True)])
+    assert figures.COLUMN_WIDTH_IN < fig.get_figwidth() <= 17.8 / 2.54  # at most two columns (17.8 cm)
+    _assert_by_their_levels(fig, "cycle")
+    assert plot_profiles([_catalytic()]).get_figwidth() == pytest.approx(figures.COLUMN_WIDTH_IN)  # short: one
 
 
 def test_species_labels_of_the_reaction_file_are_typeset(samples, tmp_path):

@@ -10,7 +10,16 @@
 
 from __future__ import annotations
 
-from .figure_common import FORMATS, PALETTE, STYLE, UNIT_LABELS, figure_svg, power_of_ten, save_figure
+from .figure_common import (
+    COLUMN_WIDTH_IN,
+    FORMATS,
+    PALETTE,
+    STYLE,
+    UNIT_LABELS,
+    figure_svg,
+    power_of_ten,
+    save_figure,
+)
 from .profile_data import (
     ProfileData,
     ProfileState,
@@ -24,8 +33,8 @@ from .profile_figures import axis_label, format_value, overview_figure, plot_pro
 from .run_figures import run_figures, write_profile_figures
 
 __all__ = [
-    "FORMATS", "PALETTE", "STYLE", "UNIT_LABELS", "ProfileData", "ProfileState", "axis_label", "figure_svg",
-    "format_value", "overlay_groups", "overview_figure", "plot_profile_panels", "plot_profiles", "power_of_ten",
-    "profile_stems", "profile_temperature_index", "profiles_from_records", "run_figures", "run_profiles",
-    "save_figure", "state_name", "write_profile_figures",
+    "COLUMN_WIDTH_IN", "FORMATS", "PALETTE", "STYLE", "UNIT_LABELS", "ProfileData", "ProfileState", "axis_label",
+    "figure_svg", "format_value", "overlay_groups", "overview_figure", "plot_profile_panels", "plot_profiles",
+    "power_of_ten", "profile_stems", "profile_temperature_index", "profiles_from_records", "run_figures",
+    "run_profiles", "save_figure", "state_name", "write_profile_figures",
 ]

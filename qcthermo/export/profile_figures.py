@@ -183,16 +183,23 @@ def plot_profiles(
     """Draw one or several (overlaid) energy profiles; returns the matplotlib Figure.
 
     All profiles must share quantity and unit (the y axis). Level heights are exactly the states'
-    values; a legend names the profiles when there are several.
+    values; a legend names the profiles when there are several. A figure of its own (no ``ax``) is drawn
+    wider, by a quarter at a time up to two columns, while some name finds room only far from its level
+    (names wider than a state's slot).
     """
     profiles = list(profiles)
     _check_shared_axis(profiles)
     with matplotlib.rc_context(STYLE):
-        if ax is None:
-            fig = new_figure(_profile_width(max(len(p.states) for p in profiles)))
-            ax = fig.add_axes(_axes_rect(len(profiles), title))
-        _draw_profiles(ax, profiles, precision, title)
-    return ax.figure
+        if ax is not None:
+            _draw_profiles(ax, profiles, precision, title)
+            return ax.figure
+        width = _profile_width(max(len(p.states) for p in profiles))
+        while True:
+            fig = new_figure(width)
+            near = _draw_profiles(fig.add_axes(_axes_rect(len(profiles), title)), profiles, precision, title)
+            if near or width >= MAX_WIDTH_IN:
+                return fig
+            width = min(1.25 * width, MAX_WIDTH_IN)
 
 
 def plot_profile_panels(groups: Sequence[Sequence[ProfileData]], *, precision: int = 1) -> Figure:
@@ -216,7 +223,8 @@ def _dodges(n_profiles: int) -> np.ndarray:
     return (np.arange(n_profiles) - (n_profiles - 1) / 2) * step
 
 
-def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str | None) -> None:
+def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str | None) -> bool:
+    """Draw the profiles into ``ax``; whether every label sits by its level (:func:`.profile_labels.arrange_labels`)."""
     fig = ax.figure
     n_states = max(len(p.states) for p in profiles)
     style_axes(ax)
@@ -244,12 +252,14 @@ def _draw_profiles(ax, profiles: list[ProfileData], precision: int, title: str |
         handles.append(Line2D([], [], color=color, lw=LEVEL_LINEWIDTH, label=profile.name))
     labels = _draw_texts(ax, values_text, -1, MAX_NUDGE_STEPS * NUDGE_STEP_PT)
     labels += _draw_texts(ax, names_text, +1, NAME_CROSS_AFTER_PT)
-    arrange_labels(ax, labels, Levels(lines, np.array(columns), np.array(owners), np.array(is_level), connectors))
+    near = arrange_labels(ax, labels, Levels(lines, np.array(columns), np.array(owners), np.array(is_level),
+                                             connectors))
     if len(profiles) > 1:
         ax.legend(handles=handles, loc="upper center", bbox_to_anchor=(0.5, 0.0), ncol=min(len(profiles), 3),
                   handlelength=1.5, columnspacing=1.2)
     if title:
         ax.set_title(title, loc="left")
+    return near
 
 
 def overview_figure(profiles: Sequence[ProfileData], precision: int = 1) -> Figure:

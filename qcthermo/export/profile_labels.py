@@ -275,14 +275,14 @@ def _fit_ylim(ax, boxes: list[Bbox]) -> None:
     ax.set_ylim(new_lo - margin, new_hi + margin)
 
 
-def arrange_labels(ax, labels: list[Label], levels: Levels) -> None:
+def arrange_labels(ax, labels: list[Label], levels: Levels) -> bool:
     """Place every label inside the axes without a clash, then draw the leaders some of them need.
 
     A first free placement shows how much room the labels need; the y range is widened to hold it.
     Widening moves the levels closer together on the page, so the labels are placed again, now kept
     inside the axes; while some label finds no free spot, or (at most :data:`NEAR_WIDENINGS` times) some
     label finds one only far from its level (a tall name over the highest level), the range is widened
-    by a further 20 %.
+    by a further 20 %. Returns whether every label ended by its level.
     """
     fig = ax.figure
     _fit_ylim(ax, _place_labels(fig, labels, levels)[0])
@@ -304,6 +304,7 @@ def arrange_labels(ax, labels: list[Label], levels: Levels) -> None:
         _fit_ylim(ax, _place_labels(fig, labels, levels)[0])
         _place_labels(fig, labels, levels)
     _draw_leaders(ax, labels)
+    return free and near
 
 
 def _draw_leaders(ax, labels: list[Label]) -> None:
