@@ -7,8 +7,7 @@ with ``str.find``/``str.count`` (C speed, no Python loop over lines). It returns
 tell that the cut is safe (then cclib reads the whole text, as without slicing). The damage checks and the
 programs' own extractors always see the whole text.
 
-``QCTHERMO_NO_SLICE=1`` turns slicing off (cclib reads every whole log); logs below
-:data:`MIN_SLICE_CHARS` are never sliced (the cut would save less than it costs).
+``QCTHERMO_NO_SLICE=1`` turns slicing off (cclib reads every whole log).
 """
 
 from __future__ import annotations
@@ -17,8 +16,6 @@ import itertools
 import os
 from collections.abc import Callable, Iterable
 
-#: logs shorter than this (characters) go to cclib whole: slicing them saves little (benchmarks/bench_read.py)
-MIN_SLICE_CHARS = 50_000
 #: the environment variable that turns slicing off when set to anything but "" or "0"
 NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
 
@@ -30,9 +27,10 @@ def slicing_enabled() -> bool:
 
 def cclib_slice(program: str, text: str) -> str | None:
     """The text cclib should parse for a log of ``program``, or None for the whole text (no slicer for the
-    program, slicing off, a short log, or a log its slicer cannot cut safely)."""
+    program, slicing off, or a log its slicer cannot cut safely). Every size is sliced: the cut pays even on
+    the smallest real log at hand (benchmarks/bench_read.py)."""
     slicer = SLICERS.get(program)
-    if slicer is None or len(text) < MIN_SLICE_CHARS or not slicing_enabled():
+    if slicer is None or not slicing_enabled():
         return None
     return slicer(text)
 
