@@ -102,6 +102,24 @@ def test_slicers_cut_real_logs():
     assert set(cut) >= {"gaussian"} & {load(p).program for p in LOGS}
 
 
+def test_a_long_optimisation_gives_the_whole_log_record(tmp_path, monkeypatch):
+    """A real optimisation made long (its second step printed 40 times more, as a long optimisation prints
+    its steps): the slice drops 41 steps at once and the record is still the whole text's."""
+    logs = [p for p in LOGS if p.name == "dvb_gopt.out"]
+    if not logs:
+        pytest.skip("the third-party Gaussian optimisation is absent")
+    text = load(logs[0]).text
+    steps = slices.line_starts(text, "Input orientation:")
+    long_log = tmp_path / "dvb_gopt_long.out"
+    long_log.write_text(text[: steps[2]] + text[steps[1] : steps[2]] * 40 + text[steps[2] :])
+    whole, sliced = both_ways(long_log, monkeypatch)
+    assert not differences(whole, sliced), differences(whole, sliced)
+    # reference: the energy and final geometry printed in the real log, which the long one ends with
+    original = core.read_log(logs[0])
+    assert sliced.energy == original.energy and np.array_equal(sliced.coordinates, original.coordinates)
+    assert len(slices.gaussian(load(long_log).text)) < len(text)
+
+
 def test_a_slicer_that_drops_a_needed_section_is_caught(monkeypatch):
     """A broken slicer (it drops the last optimisation step, whose geometry and energy are the record's)
     makes the comparison fail: the test above has teeth."""
