@@ -188,7 +188,8 @@ def test_profile_reports_its_own_errors_and_counts_the_folders_others(tmp_path, 
     assert "hnc_extra.out" in err and (tmp_path / "b.svg").exists()
 
 
-def test_terminal_reactions_table_gives_k_its_unit_and_t_once(tmp_path, samples, capsys):
+def test_terminal_reactions_table_gives_k_its_unit_and_t_once(tmp_path, samples, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "160")
     # HCN -> HNC is unimolecular: k in s^-1 (qcthermo.kinetics.rate_constant_unit; Eyring, (c0)^(1-m) with m = 1)
     path = _file(tmp_path, samples, GOOD)
     main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "one"), "--no-cache",
@@ -216,6 +217,7 @@ def test_terminal_reactions_table_shows_an_excluded_reaction_once_and_the_ends_o
     path = _file(tmp_path, samples, GOOD + f'[species.bad]\nlogs = "{logs.as_posix()}/broken.out"\n'
                  '[[reaction]]\nname = "broken"\nreactants = ["bad"]\nproducts = ["hcn"]\n')
     monkeypatch.setenv("LINES", "60")
+    monkeypatch.setenv("COLUMNS", "160")
     main(["run", str(samples / "gas"), "--reactions", str(path), "--out", str(tmp_path / "a"), "--no-cache",
           "--jobs", "1", "--temperature-range", "300:500:100"])
     rows = [line.split() for line in capsys.readouterr().out.splitlines() if line.startswith(("broken ", "isom"))]

@@ -286,6 +286,7 @@ def test_terminal_table_names_its_reference_and_units_and_the_temperature_once(s
     # the numbers on the terminal are the CSV's: the lowest pentane conformer (pentane_tt.out, sample_outputs/
     # README.md) at 0.00, the others at their G minus its G, in kcal/mol (CODATA hartree, 4.184 J per calorie)
     monkeypatch.setenv("LINES", "60")
+    monkeypatch.setenv("COLUMNS", "200")
     csv = tmp_path / "conformers.csv"
     assert main(["thermo", str(samples / "conformers"), "--jobs", "1", "--csv", str(csv)]) == 0
     out = capsys.readouterr().out
@@ -310,6 +311,7 @@ def test_terminal_table_names_its_reference_and_units_and_the_temperature_once(s
 def test_terminal_range_prints_a_table_per_temperature_and_a_refused_file_once(samples, tmp_path, cache_dir,
                                                                              capsys, monkeypatch):
     monkeypatch.setenv("LINES", "60")
+    monkeypatch.setenv("COLUMNS", "200")
     logs = tmp_path / "logs"
     logs.mkdir()
     for name in ("pentane_tt.out", "pentane_gpgm.out"):
@@ -346,3 +348,21 @@ def test_more_than_a_screenful_prints_an_overview(samples, tmp_path, cache_dir, 
     monkeypatch.setenv("LINES", "40")  # a taller screen: the table
     assert main(["thermo", str(logs), "--jobs", "1"]) == 1
     assert _row(capsys.readouterr().out, "hnc.out")[:2] == ["hnc.out", "CHN"]
+
+
+def test_a_narrow_terminal_leaves_columns_out_and_says_which(samples, cache_dir, capsys, monkeypatch):
+    # 70 columns: the file, the formula, the vibrational and low-mode parts, G and G − G_min stay (NARROW_DROPS);
+    # the values do not change with the width (pentane_tt.out is the lowest conformer, sample_outputs/README.md)
+    monkeypatch.setenv("LINES", "60")
+    wide = {}
+    for columns in ("200", "70"):
+        monkeypatch.setenv("COLUMNS", columns)
+        assert main(["thermo", str(samples / "conformers"), "--jobs", "1"]) == 0
+        wide[columns] = capsys.readouterr().out
+    lines = wide["70"].splitlines()
+    assert max(len(line.rstrip()) for line in lines[:11]) <= 70  # the title, two heading lines, 8 conformers
+    assert lines[1].split() == ["vib", "low-mode", "G", "G", "−", "G_min"]
+    assert "left out, the terminal being too narrow: group, σ, E_elec, trans, rot, elec" in wide["70"]
+    narrow, full = _row(wide["70"], "pentane_gpgm.out"), _row(wide["200"], "pentane_gpgm.out")
+    assert len(full) == 12 and narrow == [*full[:2], full[7], *full[9:]]  # file, formula, vib, low-mode, G, G − G_min
+    assert "left out" not in wide["200"]

@@ -70,3 +70,14 @@ def print_flagged(flagged: list[tuple[str, str, str]], rows: int) -> None:
         print(f"  {status}: {display(path)}: {display(reason)}")
     if len(ordered) > rows:
         print(f"  ... and {len(ordered) - rows} more with a warning or an error")
+
+
+def console_for_stdout(pipe_width: int):
+    """A rich Console on stdout, without highlighting of numbers and names: the terminal's width, ``$COLUMNS``
+    when set, else ``pipe_width`` characters when stdout is a pipe or a file (a table is not cut to 80 there)."""
+    from rich.console import Console
+
+    console = Console(highlight=False)
+    if not console.is_terminal and not os.environ.get("COLUMNS", "").isdigit():
+        console = Console(width=pipe_width, highlight=False)
+    return console

@@ -8,7 +8,7 @@ from pathlib import Path
 from typing import Any
 
 from ..errors import QcthermoError
-from .common import explicit_conditions, reading_options, screenful
+from .common import console_for_stdout, explicit_conditions, reading_options, screenful
 
 #: how many findings of each severity the terminal shows (all are in run.json and the tables' notes)
 SHOWN_FINDINGS = 12
@@ -38,15 +38,12 @@ def print_summary(results, out: Path | None, quiet: bool) -> None:
     Names (files, species, reactions) reach rich as escaped markup or Text, so "b[1].out" or "[bold]x" is
     printed as named, and a file name that is not UTF-8 in its display form (qcthermo.fileio.display).
     """
-    from rich.console import Console
     from rich.markup import escape
     from rich.text import Text
 
     from ..fileio import display
 
-    console = Console(stderr=False, highlight=False)
-    if not console.is_terminal:
-        console = Console(width=160, highlight=False)
+    console = console_for_stdout(160)
     usable = sum(s.usable for s in results.species_results.values())
     df = results.reactions
     n_reactions = df["reaction"].nunique() if len(df) else 0

@@ -38,6 +38,7 @@ from ..units import hartree_to, unit_suffix
 from .common import (
     SHOWN_ERRORS,
     conditions_from_args,
+    console_for_stdout,
     print_flagged,
     print_overview_heading,
     reading_options,
@@ -52,6 +53,11 @@ TOTAL_NAMES = {"zpe": ("ZPE", "Eh"), "thermal_energy": ("U", "Eh"), "enthalpy": 
 #: under the terminal's tables: what the columns are (the CSV's are in docs/thermo.md)
 LEGEND = ("G = E_elec + trans + rot + vib + elec + low-mode; vib harmonic, low-mode = G({model}) − G(RRHO)\n"
           "G_min: the lowest G of the same formula, program, level of theory and solvent model at that temperature")
+
+
+#: the terminal's columns that leave first when it is too narrow for all (file, G and G − G_min stay)
+NARROW_DROPS = ("G_elec_Eh", "E_elec_Eh", "point_group", "G_trans_Eh", "G_rot_Eh", "symmetry_number", "formula",
+                "G_low_mode_Eh", "G_vib_Eh")
 
 
 @dataclass
@@ -255,24 +261,34 @@ def _cell(value, scale: float | None, fmt: str) -> str:
     return display(fmt.format(value))
 
 
-def print_table(frame, title: str, unit: str, console) -> None:
-    """One temperature's rows of the wide table on ``console`` (rich): parts of G and G − G_min in ``unit``,
-    E_elec and G in Eh, each unit on the second line of its heading. Every cell is a rich Text, so a file
-    name such as ``a[/red].out`` is printed verbatim, not read as markup."""
+def _fitting_columns(shown: list[tuple[str, str, bool, str]], cells: list[list[str]], width: int) -> list[int]:
+    """Indices of the columns of ``shown`` that fit ``width`` characters whole: all of them, or without the
+    first of :data:`NARROW_DROPS` until they fit (2 spaces between columns)."""
+    widths = [max([len(line) for line in heading.split("\n")] + [len(row[j]) for row in cells])
+              for j, (_, heading, _, _) in enumerate(shown)]
+    keep = list(range(len(shown)))
+    for key in NARROW_DROPS:
+        if sum(widths[j] for j in keep) + 2 * (len(keep) - 1) <= width:
+            break
+        keep = [j for j in keep if shown[j][0] != key]
+    return keep
+
+
+def print_table(records: list[dict[str, Any]], cells: list[list[str]], columns: list[tuple[str, str]], title: str,
+                console) -> None:
+    """One temperature's rows of the wide table on ``console`` (rich): ``columns`` (frame column, heading) and
+    their ``cells``, one list per record. Every cell is a rich Text, so a file name such as ``a[/red].out`` is
+    printed verbatim, not read as markup."""
     from rich.table import Table
     from rich.text import Text
 
-    factor = hartree_to(1.0, unit)
-    shown = _shown_columns(frame, unit)
     table = Table(box=None, pad_edge=False, header_style="bold", title=title, title_justify="left")
-    for key, heading, _, _ in shown:
+    for key, heading in columns:
         table.add_column(heading, overflow="fold", no_wrap=key != "file",
                          justify="right" if key.endswith(("_Eh", "_mol", "_eV")) else "left")
     styles = {"warning": "yellow", "error": "red"}
-    for record in frame.to_dict("records"):
-        record["point_group"] = point_group_text(record.get("point_group"))
-        cells = [Text(_cell(record.get(key), factor if scaled else None, fmt)) for key, _, scaled, fmt in shown]
-        table.add_row(*cells, style=styles.get(record.get("status")))
+    for record, row in zip(records, cells, strict=True):
+        table.add_row(*(Text(c) for c in row), style=styles.get(record["status"]))
     console.print(table)
 
 
@@ -294,18 +310,28 @@ def _table_lines(frame) -> int:
 
 def print_tables(frame, cond: Conditions, unit: str) -> None:
     """The wide table on stdout: one table per temperature (its temperature in the title, not on every row),
-    then the legend, then each file's notes and each refused file's reason, once."""
-    from rich.console import Console
+    parts of G and G − G_min in ``unit``, E_elec and G in Eh, each unit on the second line of its heading; then
+    the legend, then each file's notes and each refused file's reason, once. Columns that do not fit the
+    terminal are left out (:data:`NARROW_DROPS`) and named."""
     from rich.text import Text
 
-    console = Console()
-    if not console.is_terminal:
-        console = Console(width=200)
-    usable = frame[frame["status"] != "error"]
+    console = console_for_stdout(200)
+    records = frame[frame["status"] != "error"].to_dict("records")
+    shown, factor = _shown_columns(frame[frame["status"] != "error"], unit), hartree_to(1.0, unit)
+    for record in records:
+        record["point_group"] = point_group_text(record.get("point_group"))
+    cells = [[_cell(r.get(key), factor if scaled else None, fmt) for key, _, scaled, fmt in shown] for r in records]
+    keep = _fitting_columns(shown, cells, console.width)
     model = cond.low_mode_model
-    for t, rows in usable.groupby("T_K", sort=True) if "T_K" in usable else ():
-        print_table(rows, f"G by motion at {t:g} K ({model}, {_state(cond)})", unit, console)
+    for t in sorted({r["T_K"] for r in records}):
+        at = [i for i, r in enumerate(records) if r["T_K"] == t]
+        print_table([records[i] for i in at], [[cells[i][j] for j in keep] for i in at],
+                    [shown[j][:2] for j in keep], f"G by motion at {t:g} K ({model}, {_state(cond)})", console)
     console.print(Text(LEGEND.format(model=model), style="dim"), soft_wrap=True)
+    if len(keep) < len(shown):
+        names = ", ".join(shown[j][1].split("\n")[0] for j in range(len(shown)) if j not in keep)
+        console.print(Text(f"left out, the terminal being too narrow: {names} (--csv FILE has every column)"),
+                      soft_wrap=True)
     styles = {"warning": "yellow", "error": "red"}
     for status, path, notes in _flagged(frame):
         console.print(Text(f"  {status}: {display(path)}: {display(notes)}", style=styles.get(status)), soft_wrap=True)
