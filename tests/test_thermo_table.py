@@ -188,9 +188,10 @@ def test_command_end_to_end_on_the_samples(samples, tmp_path, cache_dir):
     assert doc.read_bytes() != before[doc]  # one temperature now, not three
 
 
-def test_terminal_table_prints_names_verbatim_and_infinity(samples, tmp_path, cache_dir, capsys):
+def test_terminal_table_prints_names_verbatim_and_infinity(samples, tmp_path, cache_dir, capsys, monkeypatch):
     # rich reads "[/red]" and "[bold]" as markup; the file names must come out as they are on disk.
-    # O2 is D*h in the engine (sample_outputs/README.md: triplet O2), printed D∞h
+    # O2 is D*h in the engine (sample_outputs/README.md: triplet O2), printed D∞h (200 columns: every column)
+    monkeypatch.setenv("COLUMNS", "200")
     logs = tmp_path / "logs"
     (logs / "a[").mkdir(parents=True)
     shutil.copy(samples / "gas" / "water.out", logs / "a[" / "red].out")
@@ -201,9 +202,10 @@ def test_terminal_table_prints_names_verbatim_and_infinity(samples, tmp_path, ca
     assert "D∞h" in out and "D*h" not in out
 
 
-def test_terminal_table_shows_an_unreadable_log_as_an_error_row(samples, tmp_path, cache_dir, capsys):
-    # an error row has no point group (NaN in the frame); the table on the terminal (no --quiet) prints it.
+def test_terminal_table_shows_an_unreadable_log_as_an_error_row(samples, tmp_path, cache_dir, capsys, monkeypatch):
+    # an error row has no point group (NaN in the frame); the terminal (no --quiet) names it under the table.
     # The damage: the water log emptied of its energies, which the reader refuses ("no energy")
+    monkeypatch.setenv("COLUMNS", "200")
     logs = tmp_path / "logs"
     logs.mkdir()
     text = (samples / "gas" / "water.out").read_text()
