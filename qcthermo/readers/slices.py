@@ -14,6 +14,7 @@ from __future__ import annotations
 
 import itertools
 import os
+import re
 from collections.abc import Callable, Iterable
 
 #: the environment variable that turns slicing off when set to anything but "" or "0"
@@ -186,3 +187,153 @@ def gaussian(text: str) -> str | None:
 SLICERS: dict[str, Callable[[str], str | None]] = {
     "gaussian": gaussian,
 }
+
+
+# --- NWChem, Psi4, GAMESS, xTB --------------------------------------------------------------------------
+# Each drops, from every run of repeated blocks (optimisation steps, displaced-geometry calculations of a
+# finite-difference Hessian), the blocks between the first and the last: the first keeps the state cclib sets
+# once (atoms, level, basis), the last gives the values cclib keeps (its geometry, its energy last in the list).
+
+
+def _middle_cut(text: str, starts: list[int], forbidden: Iterable[str]) -> tuple[int, int] | None:
+    """(start of the second block, start of the last) of blocks starting at ``starts``; None when fewer than three
+    blocks leave nothing to drop, or when the dropped part holds a line of ``forbidden`` (a section the record
+    needs, or the sign of a structure not recognised)."""
+    if len(starts) < 3:
+        return None
+    cut = (starts[1], starts[-1])
+    return None if holds_any(text, forbidden, *cut) else cut
+
+
+def _values_kept(text: str, pattern: re.Pattern, start: int, end: int) -> bool:
+    """Whether every match of ``pattern`` in ``text[start:end]`` has the value (group 1) of the last match before
+    ``start``: state cclib overwrites (a point group's order) is then the same after the cut as after the whole."""
+    values = {m.group(1) for m in pattern.finditer(text, start, end)}
+    before = [m.group(1) for m in pattern.finditer(text, 0, start)][-1:]
+    return not values or values == set(before)
+
+
+#: the header of an NWChem optimisation step (cclib's trigger: "Step" at column 10; it keeps the step number)
+_NWCHEM_STEP = re.compile(r"^ {10}Step +(\d+)\n", re.M)
+#: a point group's order, read by cclib in each geometry printout and used for the next basis table
+_NWCHEM_ORDER = re.compile(r"^ Group order +(\d+)", re.M)
+#: never dropped: the end of an optimisation, the next task, the frequencies, termination, another run
+_NWCHEM_KEEP = ("Optimization converged", "Failed to converge", "NWChem Input Module", "Projected Frequencies",
+                "Nuclear Hessian", "Total times", "Northwest Computational Chemistry Package")
+#: the displaced-geometry calculations of a finite-difference Hessian: from its header to the frequency analysis
+_NWCHEM_FD = "NWChem Finite-difference Hessian"
+_NWCHEM_FD_END = "Vibrational analysis via the FX method"
+#: the modules whose runs are the displaced calculations (one of the two per Hessian)
+_NWCHEM_MODULES = ("NWChem DFT Module", "NWChem SCF Module")
+
+
+def nwchem(text: str) -> str | None:
+    """An NWChem log without the optimisation steps between the first and the last of each optimisation
+    ("NWChem Geometry Optimization"), and without the displaced-geometry calculations between the first and the
+    last of a finite-difference Hessian.
+
+    Kept: the header and input (atoms, charge, basis, symmetry), step 0 of each optimisation (its module
+    headers give the multiplicity and functional; cclib asserts that the step summary with "@" is step 0's),
+    the last step and all after it (final geometry and energy, "Optimization converged", the frequency task with
+    its normal modes and thermochemistry, termination). Of a finite-difference Hessian the first and the last
+    displaced calculation (cclib keeps the last energy it reads, so the record's energy is unchanged).
+    None for molecular dynamics (cclib reads every step's coordinates) and anything not recognised."""
+    if "NWChem QMD Module" in text:
+        return None
+    cuts = []
+    for start, end in segments(text, "NWChem Geometry Optimization"):
+        steps = [(m.start(), int(m.group(1))) for m in _NWCHEM_STEP.finditer(text, start, end)]
+        if [number for _, number in steps] != list(range(len(steps))):
+            return None  # steps out of order: a structure not recognised
+        cut = _middle_cut(text, [at for at, _ in steps], _NWCHEM_KEEP)
+        if cut:
+            cuts.append(cut)
+    for start in line_starts(text, _NWCHEM_FD):
+        end = text.find(_NWCHEM_FD_END, start)
+        if end < 0:
+            continue
+        runs = sorted(at for module in _NWCHEM_MODULES for at in line_starts(text, module, start, end))
+        cut = _middle_cut(text, runs, (*_NWCHEM_KEEP, _NWCHEM_FD))
+        if cut and not _NWCHEM_STEP.search(text, *cut):
+            cuts.append(cut)
+    if not all(_values_kept(text, _NWCHEM_ORDER, a, b) for a, b in cuts):
+        return None
+    return without(text, sorted(cuts))
+
+
+
+#: cclib reads no geometry or energy after this line (its finite_difference flag), only the Hessian's results
+_PSI4_FD = "Using finite-differences of gradients"
+#: the banner line before each displaced-geometry gradient of a finite-difference Hessian
+_PSI4_DISPLACEMENT = re.compile(r"^ *//>+//\n *// +Loading displacement \d+ of \d+ +//$", re.M)
+#: never dropped: an optimisation's steps and end, the frequencies, thermochemistry, termination, another run
+_PSI4_KEEP = ("Convergence Check", "Final optimized geometry", "Harmonic Vibrational Analysis", "Harmonic Frequency",
+              "Thermochemistry", "Total Hessian", "Psi4 exiting", "An Open-Source Ab Initio", "Variable Map")
+
+
+def psi4(text: str) -> str | None:
+    """A Psi4 log without the displaced-geometry gradients between the first and the last of a frequency
+    computation by finite differences of gradients ("Loading displacement k of n").
+
+    Kept: everything before them (header, the reference geometry with charge and multiplicity, its SCF and
+    energy, "Using finite-differences of gradients", after which cclib reads no geometry or energy), the first
+    and the last displacement, the Hessian, the vibrational analysis with normal modes, the thermochemistry and
+    termination. Optimisation steps are not cut (no real multi-step Psi4 optimisation at hand to prove it on):
+    None for a log without a finite-difference Hessian of gradients, or any structure not recognised."""
+    flag = text.find(_PSI4_FD)
+    if flag < 0:
+        return None
+    starts = [m.start() for m in _PSI4_DISPLACEMENT.finditer(text, flag)]
+    cut = _middle_cut(text, starts, _PSI4_KEEP)
+    return None if cut is None else without(text, [cut])
+
+
+#: the start of each displaced-geometry calculation of GAMESS's numerical Hessian (RUNTYP=HESSIAN, HSSEND)
+_GAMESS_DISPLACEMENT = re.compile(r"^ +COORD +\d+ +NUCLEAR COORDINATES$", re.M)
+_GAMESS_FD_END = "END OF NUMERICAL HESSIAN CALCULATION"
+#: never dropped: an optimisation's steps and end, the frequencies, thermochemistry, termination, another run
+_GAMESS_KEEP = ("NSERCH", "EQUILIBRIUM GEOMETRY LOCATED", "GEOMETRY SEARCH IS NOT CONVERGED",
+                "NORMAL COORDINATE ANALYSIS", "THERMOCHEMISTRY", "EXECUTION OF GAMESS", "GAMESS VERSION",
+                "COORDINATES OF ALL ATOMS ARE", "ATOMIC                      COORDINATES")
+
+
+def gamess(text: str) -> str | None:
+    """A GAMESS-US log without the displaced-geometry calculations between the first and the last of a numerical
+    Hessian (each starts "COORD n  NUCLEAR COORDINATES", the lot ends "END OF NUMERICAL HESSIAN CALCULATION").
+
+    Kept: the header and input (atoms, charge, multiplicity, basis), the reference point's SCF and gradient,
+    the first and the last displaced calculation (cclib keeps the last "FINAL ... ENERGY" it reads, so the
+    record's energy is unchanged), the normal-mode analysis, thermochemistry and termination. Optimisation steps
+    (NSERCH) are not cut (no real GAMESS optimisation at hand to prove it on): None for a log without a numerical
+    Hessian, or any structure not recognised."""
+    end = text.find(_GAMESS_FD_END)
+    if end < 0:
+        return None
+    starts = [m.start() for m in _GAMESS_DISPLACEMENT.finditer(text, 0, end)]
+    cut = _middle_cut(text, starts, _GAMESS_KEEP)
+    return None if cut is None else without(text, [cut])
+
+
+#: the header line of each cycle of xTB's optimiser; cclib reads from the first one to the end line, keeping
+#: each cycle's "* total energy" and then the final "TOTAL ENERGY" in place of the last
+_XTB_CYCLE = re.compile(r"^\.+ CYCLE +\d+ \.+$", re.M)
+#: the end line of an optimisation (converged or not)
+_XTB_END = "GEOMETRY OPTIMIZATION"
+_XTB_KEEP = (_XTB_END, "final structure", "TOTAL ENERGY", "Frequency Printout", "normal termination")
+
+
+def xtb(text: str) -> str | None:
+    """An xTB log without the optimisation cycles between the first and the last of each optimisation.
+
+    Kept: the header and setup (program call, charge, multiplicity where printed, method), the first and the
+    last cycle with the end line, the final structure, the summary with the final energy, the frequencies and
+    thermochemistry, termination. None when there is nothing to cut or a structure not recognised."""
+    cuts = []
+    for start, end in segments(text, _XTB_END):
+        cut = _middle_cut(text, [m.start() for m in _XTB_CYCLE.finditer(text, start, end)], _XTB_KEEP)
+        if cut:
+            cuts.append(cut)
+    return without(text, cuts)
+
+
+SLICERS.update(nwchem=nwchem, psi4=psi4, gamess=gamess, xtb=xtb)

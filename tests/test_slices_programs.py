@@ -1,0 +1,91 @@
+"""The NWChem, Psi4, GAMESS and xTB slicers keep what the record is read from (docs/readers.md, "Slices for cclib").
+
+tests/test_slices.py compares every real log read whole and sliced; here each of these slicers is shown to cut
+the real logs it is made for, and a slice that lost its final geometry, last energy or frequency section is
+shown to be caught by that comparison. The reference is always the same reader on the whole text (cclib 1.8.1
+on the log as the program printed it).
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+from conftest import SAMPLES, THIRD_PARTY
+from test_slices import both_ways, differences
+
+from qcthermo.readers import slices
+from qcthermo.readers.source import load
+
+#: (log, its program, what its slicer cuts): a real log of each kind of cut, and the share of it (of the text)
+#: the slice keeps at most, measured on these logs
+CUT_LOGS = [
+    (SAMPLES / "gas" / "water.out", "nwchem", 0.65),  # optimisation steps 1-2 of 0-3
+    (SAMPLES / "scans" / "ethane_rot1.out", "nwchem", 0.3),  # seven constrained optimisations
+    (SAMPLES / "solvent" / "methanediol.out", "nwchem", 0.35),  # steps and a finite-difference Hessian
+    (THIRD_PARTY / "psi4-1.2.1" / "dvb_ir_rhf.out", "psi4", 0.1),  # 72 of 74 displaced gradients
+    (THIRD_PARTY / "gamess-us2018" / "nh3_ts_ir.out", "gamess", 0.35),  # displaced SCFs of a numerical Hessian
+    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", 0.95),  # optimisation cycles 2-5 of 6
+]
+
+
+def _present(path: Path) -> Path:
+    if not path.is_file():
+        pytest.skip(f"{path} is absent (the third-party logs are beside the project)")
+    return path
+
+
+def _without_section(text: str, marker: str, upto: str) -> str:
+    """``text`` without the lines from the last one holding ``marker`` to the next one holding ``upto``."""
+    start = text.rfind("\n", 0, text.rindex(marker)) + 1
+    end = text.rfind("\n", 0, text.index(upto, start)) + 1
+    return text[:start] + text[end:]
+
+
+@pytest.mark.parametrize(("path", "program", "share"), CUT_LOGS, ids=[p.name for p, _, _ in CUT_LOGS])
+def test_slicer_cuts_its_real_logs(path, program, share):
+    text = load(_present(path)).text
+    piece = slices.SLICERS[program](text)
+    assert piece is not None and len(piece) < share * len(text)
+
+
+#: (log, program, section dropped from the slice as (marker, up to), fields that must then differ): the final
+#: geometry, the energy cclib keeps last, and the frequencies with their normal modes
+BROKEN = [
+    # the last step, "Optimization converged" and the final geometry (the last step's, printed again): cclib then
+    # gives step 0's energy, which the damage check refuses against the whole text's restated "@" energy
+    (SAMPLES / "gas" / "water.out", "nwchem", ("          Step", "NWChem Input Module"), {"outcome"}),
+    (SAMPLES / "gas" / "water.out", "nwchem", ("(Projected Frequencies", "Projected Derivative Dipole"),
+     {"normal_modes"}),
+    (THIRD_PARTY / "psi4-1.2.1" / "dvb_ir_rhf.out", "psi4",
+     ("==> Harmonic Vibrational Analysis <==", "==> Thermochemistry Components <=="), {"frequencies"}),
+    (THIRD_PARTY / "gamess-us2018" / "nh3_ts_ir.out", "gamess", ("NUCLEAR COORDINATES", "END OF NUMERICAL HESSIAN"),
+     {"energy"}),
+    (THIRD_PARTY / "gamess-us2018" / "nh3_ts_ir.out", "gamess", ("NORMAL COORDINATE ANALYSIS IN", "THERMOCHEMISTRY AT"),
+     {"frequencies"}),
+    # without its final structure an xTB optimisation is refused (core.py: the block is printed, cclib has none)
+    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", ("final structure:", "Bond Distances"), {"outcome"}),
+]
+
+
+@pytest.mark.parametrize(("path", "program", "section", "fields"), BROKEN,
+                         ids=[f"{p.name}-{s[0][:12]}" for p, _, s, _ in BROKEN])
+def test_a_slice_without_a_needed_section_is_caught(path, program, section, fields, monkeypatch):
+    """The whole-versus-slice comparison has teeth for these slicers: the slice of a real log with one section
+    the record needs dropped from it reads differently from the whole log."""
+    text = load(_present(path)).text
+    broken = _without_section(slices.SLICERS[program](text), *section)
+    monkeypatch.setitem(slices.SLICERS, program, lambda _: broken)
+    whole, sliced = both_ways(path, monkeypatch)
+    found = differences(whole, sliced)
+    assert fields <= {name.split(":")[0] for name in found}, found
+
+
+def test_structures_not_recognised_are_not_cut():
+    """Steps out of order (NWChem), displaced calculations without cclib's finite-difference flag before them
+    (Psi4), molecular dynamics (NWChem): the slicer gives None and cclib reads the whole text."""
+    step = "          Step   {}\n body\n"
+    assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in (0, 2, 1, 3))) is None
+    assert slices.nwchem("NWChem QMD Module\n" + "".join(step.format(n) for n in range(5))) is None
+    banner = "  //>>>>//\n  //    Loading displacement {} of 9   //\n"
+    assert slices.psi4("".join(banner.format(n) for n in range(1, 6))) is None
