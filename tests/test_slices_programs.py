@@ -82,10 +82,13 @@ def test_a_slice_without_a_needed_section_is_caught(path, program, section, fiel
 
 
 def test_structures_not_recognised_are_not_cut():
-    """Steps out of order (NWChem), displaced calculations without cclib's finite-difference flag before them
-    (Psi4), molecular dynamics (NWChem): the slicer gives None and cclib reads the whole text."""
+    """An optimisation that does not start at step 0 or starts twice (NWChem), displaced calculations without
+    cclib's finite-difference flag before them (Psi4), molecular dynamics (NWChem): the slicer gives None and cclib
+    reads the whole text."""
     step = "          Step   {}\n body\n"
-    assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in (0, 2, 1, 3))) is None
+    for numbers in ((1, 2, 3, 4), (0, 1, 2, 0, 1, 2)):
+        assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in numbers)) is None
+    assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in range(4))) is not None
     assert slices.nwchem("NWChem QMD Module\n" + "".join(step.format(n) for n in range(5))) is None
     banner = "  //>>>>//\n  //    Loading displacement {} of 9   //\n"
     assert slices.psi4("".join(banner.format(n) for n in range(1, 6))) is None
