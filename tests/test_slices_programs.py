@@ -83,12 +83,16 @@ def test_a_slice_without_a_needed_section_is_caught(path, program, section, fiel
 
 def test_structures_not_recognised_are_not_cut():
     """An optimisation that does not start at step 0 or starts twice (NWChem), displaced calculations without
-    cclib's finite-difference flag before them (Psi4), molecular dynamics (NWChem): the slicer gives None and cclib
-    reads the whole text."""
+    cclib's finite-difference flag before them or of two computations (Psi4), molecular dynamics (NWChem): the
+    slicer gives None and cclib reads the whole text."""
     step = "          Step   {}\n body\n"
     for numbers in ((1, 2, 3, 4), (0, 1, 2, 0, 1, 2)):
         assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in numbers)) is None
     assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in range(4))) is not None
-    assert slices.nwchem("NWChem QMD Module\n" + "".join(step.format(n) for n in range(5))) is None
-    banner = "  //>>>>//\n  //    Loading displacement {} of 9   //\n"
-    assert slices.psi4("".join(banner.format(n) for n in range(1, 6))) is None
+    assert slices.nwchem("NWChem Geometry Optimization\n" + "".join(step.format(n) for n in range(5))
+                         + "NWChem QMD Module\n") is None
+    banner = "  //>>>>//\n  //    Loading displacement {} of 4   //\n"
+    flag = "  Using finite-differences of gradients to determine vibrational frequencies\n"
+    assert slices.psi4("".join(banner.format(n) for n in range(1, 5))) is None
+    assert slices.psi4(flag + "".join(banner.format(n) for n in (1, 2, 3, 4, 1, 2, 3, 4))) is None
+    assert slices.psi4(flag + "".join(banner.format(n) for n in (1, 2, 3, 4))) is not None

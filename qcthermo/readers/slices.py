@@ -224,14 +224,20 @@ def _values_kept(text: str, phrase: str, pattern: re.Pattern, start: int, end: i
 _NWCHEM_STEP_PHRASE, _NWCHEM_STEP = "          Step ", re.compile(r" {10}Step +(\d+)\n")
 #: a point group's order, read by cclib in each geometry printout and used for the next basis table
 _NWCHEM_ORDER_PHRASE, _NWCHEM_ORDER = " Group order", re.compile(r" Group order +(\d+)")
-#: never in a dropped part: the end of an optimisation, the next task (frequencies come in one), the end of a run.
-#: Each phrase costs a pass over the part (~1 GB/s): only those that tell a structure apart are searched
-_NWCHEM_KEEP = ("Optimization converged", "NWChem Input Module", "Total times")
+_NWCHEM_TABLE = "Symmetry analysis of basis"
 #: the displaced-geometry calculations of a finite-difference Hessian: from its header to the frequency analysis
 _NWCHEM_FD = "NWChem Finite-difference Hessian"
 _NWCHEM_FD_END = "Vibrational analysis via the FX method"
 #: the modules whose runs are the displaced calculations (one of the two per Hessian)
 _NWCHEM_MODULES = ("NWChem DFT Module", "NWChem SCF Module")
+
+
+def _nwchem_order_reprinted(text: str, at: int) -> bool:
+    """Whether the point group's order cclib holds when it next reads a basis-symmetry table (it reads as many rows
+    as the order) is printed again after ``at``: each optimisation step reprints its geometry with its symmetry;
+    then the dropped part before ``at`` cannot change it (a search in the kept step only, not the dropped part)."""
+    table = text.find(_NWCHEM_TABLE, at)
+    return table < 0 or text.find(_NWCHEM_ORDER_PHRASE, at, table) >= 0
 
 
 def nwchem(text: str) -> str | None:
@@ -244,39 +250,40 @@ def nwchem(text: str) -> str | None:
     the last step and all after it (final geometry and energy, "Optimization converged", the frequency task with
     its normal modes and thermochemistry, termination). Of a finite-difference Hessian the first and the last
     displaced calculation (cclib keeps the last energy it reads, so the record's energy is unchanged).
-    None for molecular dynamics (cclib reads every step's coordinates) and anything not recognised."""
-    if "NWChem QMD Module" in text:
-        return None
+    None for molecular dynamics (cclib reads every step's coordinates) and anything not recognised.
+
+    Each phrase searched costs a pass over the text (~1 GB/s), so the structure is told from the steps' numbers
+    rather than by searching the dropped part for what must not be there: the steps of one optimisation (between
+    two driver headers) start at step 0 and have no other step 0 (a second optimisation, a restart, another run
+    pasted in would), so the part between its step 1 and its last step holds steps of it alone."""
     cuts = []
     for start, end in segments(text, "NWChem Geometry Optimization"):
-        steps = [(m.start(), int(m.group(1))) for m in matching_lines(text, _NWCHEM_STEP_PHRASE, _NWCHEM_STEP, start,
-                                                                        end)]
+        steps = [(m.start(), int(m.group(1)))
+                 for m in matching_lines(text, _NWCHEM_STEP_PHRASE, _NWCHEM_STEP, start, end)]
         if steps and [number for _, number in steps if number == 0] != [steps[0][1]]:
             return None  # an optimisation that does not start at step 0, or starts twice: not recognised
-        cut = _middle_cut(text, [at for at, _ in steps], _NWCHEM_KEEP)
+        cut = _middle_cut(text, [at for at, _ in steps], ())
         if cut:
             cuts.append(cut)
-    for start in line_starts(text, _NWCHEM_FD):
-        end = text.find(_NWCHEM_FD_END, start)
-        if end < 0:
-            continue
-        runs = sorted(at for module in _NWCHEM_MODULES for at in line_starts(text, module, start, end))
-        cut = _middle_cut(text, runs, _NWCHEM_KEEP)
+    for start, following in itertools.pairwise([*line_starts(text, _NWCHEM_FD), len(text)]):
+        end = text.find(_NWCHEM_FD_END, start, following)  # a Hessian restarted before its analysis: not cut
+        runs = [at for module in _NWCHEM_MODULES for at in line_starts(text, module, start, end)] if end > 0 else []
+        cut = _middle_cut(text, sorted(runs), ())
         if cut and text.find(_NWCHEM_STEP_PHRASE, *cut) < 0:
             cuts.append(cut)
-    if not all(_values_kept(text, _NWCHEM_ORDER_PHRASE, _NWCHEM_ORDER, a, b) for a, b in cuts):
+    if not all(_nwchem_order_reprinted(text, b) or _values_kept(text, _NWCHEM_ORDER_PHRASE, _NWCHEM_ORDER, a, b)
+               for a, b in cuts):
         return None
-    return without(text, sorted(cuts))
+    piece = without(text, sorted(cuts))
+    # molecular dynamics (cclib reads every step's coordinates) is a task of its own, kept whole by the cuts
+    return None if piece is None or "NWChem QMD Module" in piece else piece
 
 
 
 #: cclib reads no geometry or energy after this line (its finite_difference flag), only the Hessian's results
 _PSI4_FD = "Using finite-differences of gradients"
-#: the banner line of each displaced-geometry gradient of a finite-difference Hessian
-_PSI4_DISPLACEMENT = re.compile(r" *// +Loading displacement \d+ of \d+ +//$", re.M)
-#: never in a dropped part: an optimisation step, the end of the frequency computation (a later one has its own
-#: displacements), the end of a run
-_PSI4_KEEP = ("Convergence Check", "Harmonic Vibrational Analysis", "Psi4 exiting")
+#: the banner line of each displaced-geometry gradient of a finite-difference Hessian: "k of n"
+_PSI4_DISPLACEMENT = re.compile(r" *// +Loading displacement (\d+) of (\d+) +//$", re.M)
 
 
 def psi4(text: str) -> str | None:
@@ -291,16 +298,20 @@ def psi4(text: str) -> str | None:
     flag = text.find(_PSI4_FD)
     if flag < 0:
         return None
-    starts = [m.start() for m in matching_lines(text, "Loading displacement", _PSI4_DISPLACEMENT, flag)]
-    cut = _middle_cut(text, starts, _PSI4_KEEP)
+    banners = matching_lines(text, "Loading displacement", _PSI4_DISPLACEMENT, flag)
+    numbers = [(int(m.group(1)), int(m.group(2))) for m in banners]
+    # one computation: displacement 1 first and only once, n of n last, one n (a second one would start at 1)
+    if not numbers or numbers[0][0] != 1 or numbers[-1][0] != numbers[-1][1] or [k for k, _ in numbers].count(1) > 1:
+        return None
+    if len({n for _, n in numbers}) > 1:
+        return None
+    cut = _middle_cut(text, [m.start() for m in banners], ())
     return None if cut is None else without(text, [cut])
 
 
 #: the start of each displaced-geometry calculation of GAMESS's numerical Hessian (RUNTYP=HESSIAN, HSSEND)
 _GAMESS_DISPLACEMENT = re.compile(r" +COORD +\d+ +NUCLEAR COORDINATES$", re.M)
 _GAMESS_FD_END = "END OF NUMERICAL HESSIAN CALCULATION"
-#: never in a dropped part: an optimisation step, the normal-mode analysis, the end or start of a run
-_GAMESS_KEEP = ("NSERCH", "NORMAL COORDINATE ANALYSIS", "EXECUTION OF GAMESS")
 
 
 def gamess(text: str) -> str | None:
@@ -316,7 +327,9 @@ def gamess(text: str) -> str | None:
     if end < 0:
         return None
     starts = [m.start() for m in matching_lines(text, "NUCLEAR COORDINATES", _GAMESS_DISPLACEMENT, 0, end)]
-    cut = _middle_cut(text, starts, _GAMESS_KEEP)
+    # the displacements before the first end line are of one Hessian: GAMESS runs nothing else between them (an
+    # optimisation's steps or a second Hessian come after that line), so the dropped part needs no search
+    cut = _middle_cut(text, starts, ())
     return None if cut is None else without(text, [cut])
 
 
