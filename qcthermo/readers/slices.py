@@ -195,14 +195,11 @@ SLICERS: dict[str, Callable[[str], str | None]] = {
 # once (atoms, level, basis), the last gives the values cclib keeps (its geometry, its energy last in the list).
 
 
-def _middle_cut(text: str, starts: list[int], forbidden: Iterable[str]) -> tuple[int, int] | None:
+def _middle_cut(starts: list[int]) -> tuple[int, int] | None:
     """(start of the second block, start of the last) of blocks starting at ``starts``; None when fewer than three
-    blocks leave nothing to drop, or when the dropped part holds a line of ``forbidden`` (a section the record
-    needs, or the sign of a structure not recognised)."""
-    if len(starts) < 3:
-        return None
-    cut = (starts[1], starts[-1])
-    return None if holds_any(text, forbidden, *cut) else cut
+    blocks leave nothing to drop. Each slicer tells from the blocks' own numbers and bounds that they are one run
+    of blocks (searching the dropped part for what must not be there would cost a pass over the text per phrase)."""
+    return (starts[1], starts[-1]) if len(starts) >= 3 else None
 
 
 def matching_lines(text: str, phrase: str, pattern: re.Pattern, start: int = 0, end: int | None = None) -> list:
@@ -262,13 +259,13 @@ def nwchem(text: str) -> str | None:
                  for m in matching_lines(text, _NWCHEM_STEP_PHRASE, _NWCHEM_STEP, start, end)]
         if steps and [number for _, number in steps if number == 0] != [steps[0][1]]:
             return None  # an optimisation that does not start at step 0, or starts twice: not recognised
-        cut = _middle_cut(text, [at for at, _ in steps], ())
+        cut = _middle_cut([at for at, _ in steps])
         if cut:
             cuts.append(cut)
     for start, following in itertools.pairwise([*line_starts(text, _NWCHEM_FD), len(text)]):
         end = text.find(_NWCHEM_FD_END, start, following)  # a Hessian restarted before its analysis: not cut
         runs = [at for module in _NWCHEM_MODULES for at in line_starts(text, module, start, end)] if end > 0 else []
-        cut = _middle_cut(text, sorted(runs), ())
+        cut = _middle_cut(sorted(runs))
         if cut and text.find(_NWCHEM_STEP_PHRASE, *cut) < 0:
             cuts.append(cut)
     if not all(_nwchem_order_reprinted(text, b) or _values_kept(text, _NWCHEM_ORDER_PHRASE, _NWCHEM_ORDER, a, b)
@@ -305,7 +302,7 @@ def psi4(text: str) -> str | None:
         return None
     if len({n for _, n in numbers}) > 1:
         return None
-    cut = _middle_cut(text, [m.start() for m in banners], ())
+    cut = _middle_cut([m.start() for m in banners])
     return None if cut is None else without(text, [cut])
 
 
@@ -329,7 +326,7 @@ def gamess(text: str) -> str | None:
     starts = [m.start() for m in matching_lines(text, "NUCLEAR COORDINATES", _GAMESS_DISPLACEMENT, 0, end)]
     # the displacements before the first end line are of one Hessian: GAMESS runs nothing else between them (an
     # optimisation's steps or a second Hessian come after that line), so the dropped part needs no search
-    cut = _middle_cut(text, starts, ())
+    cut = _middle_cut(starts)
     return None if cut is None else without(text, [cut])
 
 
@@ -350,7 +347,7 @@ def xtb(text: str) -> str | None:
     cuts = []
     for start, end in segments(text, _XTB_END):
         cycles = [m.start() for m in matching_lines(text, " CYCLE ", _XTB_CYCLE, start, end)]
-        cut = _middle_cut(text, cycles, ())
+        cut = _middle_cut(cycles)
         if cut:
             cuts.append(cut)
     return without(text, cuts)
