@@ -31,17 +31,24 @@ cloudpickle.register_pickle_by_value(sys.modules[__name__])
 KILLER = "h2.out"
 
 
-@pytest.fixture(scope="module")
-def client():
-    """A LocalCluster of two worker processes (distributed's own Nanny and Worker processes) on 127.0.0.1.
+def local_cluster():
+    """A LocalCluster of two worker processes (distributed's own Nanny and Worker processes) on 127.0.0.1, and
+    its Client.
 
     allowed-failures 1 (Dask's default is 3): a task is run again once after its worker died, then given up,
-    so the test of a file that kills every worker costs four worker restarts, not eight."""
+    so the test of a file that kills every worker costs six worker restarts, not twelve."""
     with (dask.config.set({"distributed.scheduler.allowed-failures": 1}),
           distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True, host="127.0.0.1",
                                    dashboard_address=None) as lc,
           distributed.Client(lc) as c):
         yield c
+
+
+#: one cluster for the tests whose workers live
+client = pytest.fixture(scope="module")(local_cluster)
+#: a cluster of its own for each test that kills workers: on a loaded machine the restarted workers may
+#: not be back when the next test submits, and a test on the shared cluster would wait for them
+doomed_client = pytest.fixture(local_cluster)
 
 
 @pytest.fixture(scope="module")
@@ -91,11 +98,12 @@ def killing_reader(path: str):
 
 
 @pytest.mark.slow
-def test_a_worker_killed_mid_run_is_replaced_and_its_files_read(client, samples, local, tmp_path, monkeypatch):
+def test_a_worker_killed_mid_run_is_replaced_and_its_files_read(doomed_client, samples, local, tmp_path,
+                                                                 monkeypatch):
     marker = tmp_path / "killed"
     monkeypatch.setenv("QCTHERMO_TEST_MARKER", str(marker))
-    client.run(set_marker, str(marker))
-    remote = survey(samples, scheduler=client, cache=False, reader=killing_reader)
+    doomed_client.run(set_marker, str(marker))
+    remote = survey(samples, scheduler=doomed_client, cache=False, reader=killing_reader)
     assert marker.exists()  # a worker did die
     assert remote.rows == local.rows
 
@@ -108,11 +116,11 @@ def poisoned_reader(path: str):
 
 
 @pytest.mark.slow
-def test_a_file_that_kills_every_worker_is_an_error_row(client, samples, tmp_path, monkeypatch):
+def test_a_file_that_kills_every_worker_is_an_error_row(doomed_client, samples, tmp_path, monkeypatch):
     for name in ("ch4.out", "water.out", KILLER):
         (tmp_path / name).symlink_to(samples / "gas" / name)
     monkeypatch.setattr(cluster, "batches", lambda items, workers: [items])  # the three files in one task
-    result = survey(tmp_path, scheduler=client, cache=False, reader=poisoned_reader)
+    result = survey(tmp_path, scheduler=doomed_client, cache=False, reader=poisoned_reader)
     assert [r["status"] for r in result.rows] == ["ok", "error", "ok"]
     assert "the reading process died (KilledWorker)" in result.errors[KILLER]
     assert result.exit_status == 1
