@@ -130,14 +130,9 @@ class Entry:
     row: tuple | None = None
 
 
-class CachedRow(NamedTuple):
-    """What :meth:`ParseCache.rows_under` gives for a file: its key, ``ok``, and :data:`ROW_COLUMNS` (in order;
-    ``normal_termination`` as 0, 1 or None)."""
-
-    size: int
-    mtime_ns: int
-    ok: bool
-    columns: tuple
+#: what :meth:`ParseCache.rows_under` gives for a file, a plain tuple (no object more per file): path (bytes),
+#: size, mtime_ns, ok (0 or 1), then the values of :data:`ROW_COLUMNS` in order (normal_termination 0, 1 or None)
+CACHED_ROW = ("path", "size", "mtime_ns", "ok", *(name for name, _ in ROW_COLUMNS))
 
 
 class ParseCache:
@@ -260,28 +255,28 @@ class ParseCache:
             self._disable(err)
             return None
 
-    def rows_under(self, directory: str) -> dict[bytes, CachedRow]:
+    def rows_under(self, directory: str) -> dict[bytes, tuple]:
         """The rows of this reader version for every file under the absolute ``directory``, by path (as bytes),
-        in one query (a range of the primary key); sound rows only, so a damaged one is a miss."""
+        each a tuple of :data:`CACHED_ROW`, in one query (a range of the primary key); sound rows only, so a
+        damaged one is a miss. No record is read."""
         if self._db is None:
             return {}
         prefix = os.fsencode(directory.rstrip("/") + "/")
         end = prefix[:-1] + b"0"  # the first byte string after every one that starts with prefix ("0" follows "/")
-        query = (f"SELECT path, size, mtime_ns, ok, {', '.join(_ROW_NAMES)} FROM parsed "
+        query = (f"SELECT {', '.join(CACHED_ROW)} FROM parsed "
                  f"WHERE path >= ? AND path < ? AND reader_version = ? AND {_SOUND}")
         try:
             try:  # sqlite3's own decoding first (a Python text factory costs a call per value), and...
                 self._db.text_factory = str
-                rows = self._db.execute(query, (prefix, end, self.reader_version)).fetchall()
+                return {row[0]: row for row in self._db.execute(query, (prefix, end, self.reader_version))}
             except sqlite3.OperationalError as err:  # ...only for text that is not UTF-8 (damage) the careful one
                 if "decode" not in str(err):
                     raise
                 self._db.text_factory = _text
-                rows = [row for row in self._db.execute(query, (prefix, end, self.reader_version))
-                        if not any(isinstance(value, bytes) for value in row[4:])]
+                return {row[0]: row for row in self._db.execute(query, (prefix, end, self.reader_version))
+                        if not any(isinstance(value, bytes) for value in row[4:])}
             finally:
                 self._db.text_factory = _text
-            return {row[0]: CachedRow(row[1], row[2], row[3] == 1, row[4:]) for row in rows}
         except sqlite3.DatabaseError as err:
             self._disable(err)
             return {}

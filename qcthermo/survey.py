@@ -732,12 +732,12 @@ def _from_cache(store: ParseCache | None, found: _Found, bar: ProgressBar) -> li
         if cand.skipped is not None:
             found.error(i, cand.skipped)
             continue
-        hit = cached.get(cand.key.path.encode(encoding, "surrogateescape"))
-        if hit is None or hit.size != cand.key.size or hit.mtime_ns != cand.key.mtime_ns:
+        hit = cached.get(cand.key.path.encode(encoding, "surrogateescape"))  # path, size, mtime_ns, ok, columns
+        if hit is None or hit[1] != cand.key.size or hit[2] != cand.key.mtime_ns:
             misses.append(i)
             continue
-        found.table[i] = (cand.relpath, *hit.columns)
-        found.items[i] = ("calculation", cand.key) if hit.ok else ("error", hit.columns[-1])
+        found.table[i] = (cand.relpath, *hit[4:])
+        found.items[i] = ("calculation", cand.key) if hit[3] else ("error", hit[-1])
     found.stats["cached"] = len(found.candidates) - len(misses) - sum(c.skipped is not None for c in found.candidates)
     bar.advance(len(found.candidates) - len(misses))
     return misses

@@ -362,14 +362,18 @@ def test_a_bad_cached_record_is_read_again_when_its_calculation_is_needed(tree, 
 
 @pytest.mark.parametrize("column, value", [
     ("ok", 7), ("charge", "zero"), ("natoms", 2.5), ("status", "fine"), ("normal_termination", 5),
-    ("formula", None), ("E_elec_Eh", "-76.0"),
+    ("formula", None), ("E_elec_Eh", "-76.0"), ("method", "not UTF-8"),
 ])
 def test_a_bad_cached_survey_column_is_a_miss_and_is_rewritten(tree, cache_dir, column, value):
     first = survey(tree, jobs=1, reader=CountingReader())
     water = "SELECT * FROM parsed WHERE CAST(path AS TEXT) LIKE '%/water.out'"
     db = sqlite3.connect(cache_dir / CACHE_FILE)
     row = db.execute(water).fetchone()
-    _rewrite_row(cache_dir, "water.out", **{column: value})
+    if value == "not UTF-8":  # TEXT holding bytes that are no UTF-8 (RFC 3629: 0xFF never occurs)
+        db.execute(f"UPDATE parsed SET {column} = CAST(X'FF41' AS TEXT) WHERE CAST(path AS TEXT) LIKE '%/water.out'")
+        db.commit()
+    else:
+        _rewrite_row(cache_dir, "water.out", **{column: value})
     second = survey(tree, jobs=1, reader=CountingReader())
     # the bad row only missed: the file was hashed, then its record found by the digest (or parsed, when the
     # damage makes the whole row unsound), and the row rewritten
