@@ -489,11 +489,12 @@ class Calculations(Mapping[str, Calculation]):
     and its cache row rewritten), and kept. ``Calculation.path`` is ``directory / relative path``.
     """
 
-    def __init__(self, root: Path, reader: Reader | None = None, index: DigestIndex | None = None,
-                 reopen: Callable[[], ParseCache] | None = None):
-        """``index``: the cache to read records back from; ``reopen``: opens it to rewrite a damaged row."""
-        self._root, self._reader, self._index, self._reopen = root, reader or default_reader, index, reopen
-        self._items: dict[str, Calculation | FileKey] = {}
+    def __init__(self, root: Path, items: dict[str, Calculation | FileKey], reader: Reader | None = None,
+                 index: DigestIndex | None = None, reopen: Callable[[], ParseCache] | None = None):
+        """``items``: relative path -> Calculation, or the FileKey of a cached one; ``index``: the cache to read
+        records back from; ``reopen``: opens it to rewrite a damaged row."""
+        self._root, self._items, self._reader = root, items, reader or default_reader
+        self._index, self._reopen = index, reopen
 
     def __getitem__(self, relpath: str) -> Calculation:
         item = self._items[relpath]
@@ -668,14 +669,14 @@ def survey(
         if store is not None:
             store.close()
             result.notes.extend(store.warnings)
-    result.table, result.errors = found.table, {}
-    result.calculations = Calculations(root, reader, index, functools.partial(ParseCache, version, cache_dir)
-                                              if index else None)
+    calculations = {}
     for cand, (kind, item) in zip(candidates, found.items, strict=True):  # in path order
         if kind == "error":
             result.errors[cand.relpath] = item
         else:
-            result.calculations._items[cand.relpath] = item
+            calculations[cand.relpath] = item
+    reopen = functools.partial(ParseCache, version, cache_dir) if index is not None else None
+    result.table, result.calculations = found.table, Calculations(root, calculations, reader, index, reopen)
     found.stats["files"] = len(candidates)
     result.stats = found.stats
     return result
