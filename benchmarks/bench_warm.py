@@ -38,9 +38,8 @@ import tempfile
 import time
 from pathlib import Path
 
-ROOT = Path(__file__).resolve().parent.parent
-SOURCES = [ROOT.parent / "shared" / "fixtures" / "third-party-logs", ROOT / "sample_outputs"]
-SUFFIXES = (".out", ".log", ".output", ".nwo")
+from bench_survey import ROOT, SOURCES, SUFFIXES, cpu_seconds, timed
+
 PER_FOLDER = 50
 CACHE_FILE = "parse-cache.sqlite"
 KEY_COLUMNS = ("path", "size", "mtime_ns", "digest")
@@ -81,23 +80,6 @@ def scandir_walk(directory: str) -> int:
                 entry.stat()
                 n += 1
     return n
-
-
-def cpu_seconds() -> float:
-    own = resource.getrusage(resource.RUSAGE_SELF)
-    children = resource.getrusage(resource.RUSAGE_CHILDREN)
-    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
-
-
-def timed(repeat: int, func, *args, **kwargs):
-    """(least wall s, least CPU s, value of the last run) over ``repeat`` runs: a busy neighbour only adds."""
-    walls, cpus = [], []
-    for _ in range(repeat):
-        start, cpu = time.perf_counter(), cpu_seconds()
-        value = func(*args, **kwargs)
-        walls.append(time.perf_counter() - start)
-        cpus.append(cpu_seconds() - cpu)
-    return min(walls), min(cpus), value
 
 
 def fill_cache(cache: Path, tree: Path, twins: dict) -> None:
