@@ -10,11 +10,12 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
 import pytest
 from conftest import SAMPLES, THIRD_PARTY
 from test_slices import both_ways, differences
 
-from qcthermo.readers import slices
+from qcthermo.readers import core, slices
 from qcthermo.readers.source import load
 
 #: (log, its program, what its slicer cuts): a real log of each kind of cut, and the share of it (of the text)
@@ -96,3 +97,34 @@ def test_structures_not_recognised_are_not_cut():
     assert slices.psi4("".join(banner.format(n) for n in range(1, 5))) is None
     assert slices.psi4(flag + "".join(banner.format(n) for n in (1, 2, 3, 4, 1, 2, 3, 4))) is None
     assert slices.psi4(flag + "".join(banner.format(n) for n in (1, 2, 3, 4))) is not None
+
+
+#: (log, program, the phrase that starts each repeated block): a real optimisation step or displaced-geometry
+#: calculation of each slicer's kind, printed 40 times more as a long run prints them
+LONG = [
+    (SAMPLES / "gas" / "water.out", "nwchem", "          Step  "),
+    (SAMPLES / "solvent" / "methanediol.out", "nwchem", "NWChem DFT Module"),
+    (THIRD_PARTY / "psi4-1.2.1" / "dvb_ir_rhf.out", "psi4", "Loading displacement"),
+    (THIRD_PARTY / "gamess-us2018" / "nh3_ts_ir.out", "gamess", "NUCLEAR COORDINATES"),
+    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", " CYCLE "),
+]
+
+
+@pytest.mark.parametrize(("path", "program", "phrase"), LONG, ids=[f"{p.name}-{ph.strip()[:8]}" for p, _, ph in LONG])
+def test_a_long_run_gives_the_whole_log_record(path, program, phrase, tmp_path, monkeypatch):
+    """A real log made long (one of its middle blocks printed 40 times more; the repeated block numbers are
+    allowed, a step 0 or a displacement 1 is not repeated): the slice drops them all and the record is the
+    whole text's, and the one of the real log it ends with."""
+    text = load(_present(path)).text
+    starts = slices.line_starts(text, phrase)
+    middle = len(starts) // 2  # methanediol's DFT modules: one of the displaced calculations of its Hessian
+    long_log = tmp_path / path.name
+    long_log.write_text(text[: starts[middle + 1]] + text[starts[middle] : starts[middle + 1]] * 40
+                        + text[starts[middle + 1] :])
+    assert len(slices.SLICERS[program](load(long_log).text)) < len(text)
+    whole, sliced = both_ways(long_log, monkeypatch)
+    assert not differences(whole, sliced), differences(whole, sliced)
+    # reference: the energy, final geometry and frequencies printed in the real log, which the long one ends with
+    original = core.read_log(path)
+    assert sliced.energy == original.energy and np.array_equal(sliced.coordinates, original.coordinates)
+    assert np.array_equal(sliced.frequencies, original.frequencies)
