@@ -107,7 +107,7 @@ def reactions_table(df, energy_unit: str, model: str) -> tuple[Any, str]:
     at = "" if temperatures else f" at {df['T_K'].iloc[0]:g} K"
     table = Table(box=None, pad_edge=False, header_style="bold", title=f"reactions ({model}){at}")
     headings = ["reaction", *(["T\nK"] if temperatures else []),
-                *(f"{q}\n{energy_unit}" for q in ("ΔE", "ΔH", "ΔG", "ΔG‡")), "k_forward", "k unit", "status"]
+                *(f"{q}\n{energy_unit}" for q in ("ΔE", "ΔH", "ΔG", "ΔG‡")), "k (forward)", "k unit", "status"]
     for heading in headings:
         table.add_column(heading, justify="left" if heading in ("reaction", "k unit", "status") else "right")
     for i, row in rows.iterrows():
