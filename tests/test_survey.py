@@ -14,6 +14,7 @@ import gzip
 import importlib
 import json
 import os
+import re
 import shutil
 import signal
 import subprocess
@@ -369,6 +370,15 @@ def test_terminal_table_keeps_the_most_useful_columns_that_fit(xyz_tree):
     # 52 = 24 for the reason + file (8+2) + status (6+2) + program (7+2) + 1 spare: no room for q/2S+1 (6+2)
     assert headings(_fitting_columns(cells, 52)) == ["file", "program", "status", "reason"]
     assert headings(_fitting_columns(cells, 10)) == ["file", "reason"]  # the file name always
+
+
+def test_terminal_table_lines_up_the_digits_of_its_numbers(samples, capsys, monkeypatch):
+    # sample_outputs/gas: energies from -0.5 (H) to -150.3 Eh (O2) and frequencies of 3 and 4 digits
+    monkeypatch.setenv("COLUMNS", "160")
+    assert main(["survey", str(samples / "gas"), "--no-cache", "--jobs", "1"]) == 0
+    lines = [line for line in capsys.readouterr().out.splitlines() if line.rstrip().endswith(" ok")]
+    ends = {re.search(r"-\d+\.\d{6}", line).end() for line in lines}  # one right edge for every energy
+    assert len(lines) > 5 and len(ends) == 1
 
 
 @pytest.mark.parametrize("first", ["", "import qcthermo.survey; "])

@@ -28,6 +28,8 @@ _TABLE = (
 )
 #: which columns stay when the terminal is narrow, most useful first (indices into _TABLE; reason always)
 _PRIORITY = (0, 10, 1, 6, 7, 9, 8, 5, 3, 2, 4)
+#: numbers, right-aligned so that their digits line up
+_NUMERIC = {"E / Eh", "lowest / cm⁻¹", "imag"}
 _REASON_MIN = 24
 _STATUS_STYLE = {"warning": "yellow", "error": "red"}
 
@@ -83,7 +85,8 @@ def print_table(result: SurveyResult) -> None:
     table = Table(box=None, pad_edge=False, header_style="bold")
     for j in keep:
         heading = _TABLE[j][0]
-        table.add_column(heading, overflow="fold", no_wrap=heading != "reason")
+        table.add_column(heading, overflow="fold", no_wrap=heading != "reason",
+                         justify="right" if heading in _NUMERIC else "left")
     for row, row_cells in zip(result.rows, cells, strict=True):
         table.add_row(*(Text(display(row_cells[j])) for j in keep), style=_STATUS_STYLE.get(row["status"]))
     console.print(table)
