@@ -378,10 +378,10 @@ _RESTATEMENTS: dict[str, tuple[_Restated, ...]] = {
 }
 #: hartree: the final energy and a restatement agree to the digits both print (7 decimals in Gaussian's
 #: archive) or nearly: NWChem's frequency job reruns the SCF of the last optimisation step (within 1e-6 Eh
-#: of it), and its numerical Hessian (COSMO) ends on a displaced geometry whose SCF energy, the one read,
-#: is 1.0e-5 Eh off the last step's (sample ts_hydration.out); finite-difference steps of 0.01 bohr move it
-#: by a few 1e-5 Eh. 1e-4 Eh (0.06 kcal/mol, below any chemical conclusion) leaves room for those, while a
-#: stray or damaged energy line is off by far more (-1.0 against -382 Eh).
+#: of it; the energy read is that rerun's, the last before a finite-difference Hessian's displaced geometries,
+#: whose energies are a few 1e-5 Eh off: 1.0e-5 Eh in sample ts_hydration.out). 1e-4 Eh (0.06 kcal/mol, below
+#: any chemical conclusion) leaves room for those, while a stray or damaged energy line is off by far more
+#: (-1.0 against -382 Eh).
 RESTATED_TOLERANCE_EH = 1e-4
 #: Gaussian's archive energies (hartree) by method, as printed after the job's last step
 _ARCHIVE_ENERGY = re.compile(r"\\(HF|MP2|MP3|MP4D|MP4DQ|MP4SDQ|MP4SDTQ|MP5|CCSD|CCSD\(T\)|QCISD|QCISD\(T\)|CISD|BD"

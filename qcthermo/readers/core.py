@@ -36,6 +36,7 @@ from .programs import (
     rules,
     terminated_normally,
 )
+from .slices import displacements_start
 from .source import LogSource, load
 from .text import last_line_match, lines_with
 
@@ -109,8 +110,32 @@ def _read_run(source: LogSource) -> Calculation:
         raise LogReadError(source.path, f"no geometry in this {source.program} output (truncated or not a job log?)")
     if "energy" not in found:
         raise LogReadError(source.path, f"no energy in this {source.program} output (stopped before the first SCF?)")
+    _stationary_energy(source, found)
     _amend(source, found, notes)
     return _finish(source, found, notes)
+
+
+#: hartree: an energy read equals a printed one to this (cclib's eV round trip changes the last digits only)
+_SAME_ENERGY_EH = 1e-8
+
+
+def _stationary_energy(source: LogSource, found: dict) -> None:
+    """After a finite-difference Hessian's displaced-geometry calculations, the last energy printed (the one
+    cclib and the extractors read) is a displaced geometry's: replace it by the last one printed before them, the
+    energy of the geometry the frequencies belong to. Only when the energy read is that last printed one (a
+    correlated energy read over an SCF-level line is left alone). The program's own totals cclib built on the
+    energy it read (GAMESS's enthalpy and free energy: its last SCF energy plus the printed corrections) move
+    with it."""
+    start = displacements_start(source.program, source.text)
+    if start is None:
+        return
+    last_energy = fallback.LAST_ENERGY[source.program]
+    final, before = last_energy(source.text), last_energy(source.text[:start])
+    if final is not None and before is not None and abs(found["energy"] - final) < _SAME_ENERGY_EH:
+        shift, found["energy"] = before - found["energy"], before
+        thermo = found.get("thermo_printed", {})
+        found["thermo_printed"] = {key: value + shift if key in ("enthalpy", "gibbs") else value
+                                   for key, value in thermo.items()}
 
 
 def _amend(source: LogSource, found: dict, notes: list[str]) -> None:

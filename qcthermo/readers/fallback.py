@@ -301,4 +301,15 @@ def nwchem_thermo(text: str, energy: float) -> dict[str, float]:
     return thermo
 
 
+# -------------------------------------------------------------------------------------------- GAMESS
+
+
+def gamess_scf_energy(text: str) -> float | None:
+    """The last SCF energy GAMESS printed, " FINAL R-AM1 ENERGY IS       -9.1286961082 AFTER   8 ITERATIONS"."""
+    return _last_float(text, "ENERGY IS", rf"^ FINAL \S+ ENERGY IS\s+{_F}")
+
+
+#: the last energy a program printed, at the level the reader reads, from its text
+LAST_ENERGY = {"nwchem": lambda text: nwchem_level(text)[1], "gamess": gamess_scf_energy}
+
 EXTRACTORS = {"orca": orca, "nwchem": nwchem}

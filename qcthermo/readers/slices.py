@@ -307,7 +307,7 @@ def psi4(text: str) -> str | None:
 
 
 #: the start of each displaced-geometry calculation of GAMESS's numerical Hessian (RUNTYP=HESSIAN, HSSEND)
-_GAMESS_DISPLACEMENT = re.compile(r" +COORD +\d+ +NUCLEAR COORDINATES$", re.M)
+_GAMESS_DISPLACEMENT = re.compile(r" +COORD +(\d+) +NUCLEAR COORDINATES$", re.M)
 _GAMESS_FD_END = "END OF NUMERICAL HESSIAN CALCULATION"
 
 
@@ -351,6 +351,22 @@ def xtb(text: str) -> str | None:
         if cut:
             cuts.append(cut)
     return without(text, cuts)
+
+
+def displacements_start(program: str, text: str) -> int | None:
+    """Where the displaced-geometry calculations of a finite-difference Hessian start in ``text``: every energy
+    printed from there on is of a displaced geometry, the last one before is of the geometry the frequencies
+    belong to. NWChem: the header of the last Hessian that reached its vibrational analysis; GAMESS: "COORD 1"
+    of the numerical Hessian ("COORD 0" is the reference point). None for any other log (Psi4 needs none:
+    cclib reads no energy after its "Using finite-differences of gradients")."""
+    if program == "nwchem":
+        at = text.rfind(_NWCHEM_FD)
+        return at if at >= 0 and text.find(_NWCHEM_FD_END, at) >= 0 else None
+    end = text.find(_GAMESS_FD_END) if program == "gamess" else -1
+    if end < 0:
+        return None
+    starts = matching_lines(text, "NUCLEAR COORDINATES", _GAMESS_DISPLACEMENT, 0, end)
+    return next((m.start() for m in starts if m.group(1) != "0"), None)
 
 
 SLICERS.update(nwchem=nwchem, psi4=psi4, gamess=gamess, xtb=xtb)
