@@ -8,6 +8,7 @@ refused at once without starting cclib.
 from __future__ import annotations
 
 import bz2
+import codecs
 import gzip
 import io
 import lzma
@@ -121,17 +122,31 @@ def load(path: str | Path) -> LogSource:
 
 
 def _decoded(path: str, raw) -> str:
-    """The text of a file's bytes (``bytes`` or a mapping): UTF-8 or UTF-16, "\n" line ends; a LogReadError for
-    an empty or binary file."""
+    """The text of a file's bytes (``bytes`` or a mapping): UTF-16, else ASCII with "?" for every other byte
+    (:func:`_ascii_text`); "\n" line ends; a LogReadError for an empty or binary file."""
     encoding = _utf16(raw[:8192])
     if encoding is None and b"\x00" in raw[:8192]:
         raise LogReadError(path, "binary file, not a text log")
-    text = str(raw, encoding or "utf-8", errors="replace").removeprefix("\ufeff")
+    text = str(raw, encoding, errors="replace").removeprefix("\ufeff") if encoding else _ascii_text(raw)
     if not text or text.isspace():  # isspace stops at the first other character: no copy of the text
         raise LogReadError(path, "empty file")
     if "\r" in text:  # logs copied from Windows: the parsers and patterns expect "\n" line ends
         text = text.replace("\r\n", "\n").replace("\r", "\n")
     return text
+
+
+#: a byte outside ASCII becomes "?" (the numbers, keywords and names read from logs are ASCII): one non-ASCII
+#: character (an author's name in NWChem's banner, xTB's "Eh/α") would make Python store the whole text at 2 bytes
+#: per character, 3x the file in memory, and every later pass over it would read twice the bytes
+codecs.register_error("qcthermo-ascii", lambda err: ("?" * (err.end - err.start), err.end))
+_UTF8_BOM = b"\xef\xbb\xbf"
+
+
+def _ascii_text(raw) -> str:
+    """The text of UTF-8 (or any ASCII-based) bytes, one character per byte, "?" for each byte beyond ASCII."""
+    start = len(_UTF8_BOM) if raw[: len(_UTF8_BOM)] == _UTF8_BOM else 0
+    with memoryview(raw) as whole, whole[start:] as text:  # released here: a mapping must not stay exported
+        return str(text, "ascii", errors="qcthermo-ascii")
 
 
 def max_log_bytes() -> int:
