@@ -20,6 +20,8 @@ def test_one_file_per_structure_reads_back_as_its_frame_and_its_log(sample_run, 
     listed = sorted(n for n in json.loads((out / "run.json").read_text())["files"] if n.startswith("structures/"))
     assert listed == sorted(f"structures/{p.name}" for p in (out / "structures").iterdir())
     assert listed == ["structures/hcn.xyz", "structures/hnc.xyz", "structures/ts_hcn.xyz"]
+    for si in ("si.md", "si.tex"):  # the supporting information names the folder
+        assert "also in structures/, one extended-XYZ file per structure" in (out / si).read_text()
     for name in listed:
         (atoms,) = ase.io.read(out / name, index=":")
         frame = frames[atoms.info["name"]]

@@ -157,6 +157,6 @@ def _model_files_figures_and_documents(results: RunResults, out_dir: Path) -> li
 
     written = [Path(p) for p in write_run_thermo(results, out_dir)]
     written += write_profile_figures(results, out_dir)
-    written += write_si(results, out_dir)
+    written += write_si(results, out_dir, STRUCTURES if _xyz_blocks(results) else None)
     written.append(write_report(results, out_dir))
     return written

@@ -246,10 +246,14 @@ def render_latex(blocks: list[SpeciesBlock], note: str, left_out: list[str]) -> 
     return "\n".join(out) + "\n"
 
 
-def write_si(results, out_dir: str | Path) -> list[Path]:
-    """Write si.md and si.tex into ``out_dir`` (atomically); returns both paths."""
+def write_si(results, out_dir: str | Path, structure_folder: str | None = None) -> list[Path]:
+    """Write si.md and si.tex into ``out_dir`` (atomically); returns both paths. ``structure_folder``: the folder
+    beside them holding one extended-XYZ file per structure, named in the opening note."""
     out_dir = Path(out_dir)
     blocks, left_out = run_blocks(results)
     note = conditions_text(results)
+    if structure_folder:
+        note += (f" The coordinates are also in {structure_folder}/, one extended-XYZ file per structure "
+                 "(energies and the source log on its comment line).")
     return [atomic_write(out_dir / "si.md", render_markdown(blocks, note, left_out)),
             atomic_write(out_dir / "si.tex", render_latex(blocks, note, left_out))]
