@@ -10,6 +10,7 @@ import numpy as np
 import pytest
 from eckart_quad import eckart_kappa_by_quad
 from log_text import last_printed
+from sample_species import species_tables
 from scipy import constants
 
 import qcthermo
@@ -20,29 +21,7 @@ from qcthermo.records import Conditions
 HARTREE_J = constants.physical_constants["Hartree energy"][0]
 #: the unimolecular HCN -> HNC shift (B3LYP/6-31G* throughout) and the H + CH4 abstraction at
 #: MP2/cc-pVTZ//B3LYP/6-31G* (MP2 energies, B3LYP zero-point energies), both from the sample scenario
-REACTIONS = """\
-[species.hcn]
-logs = "{s}/gas/hcn.out"
-[species.hnc]
-logs = "{s}/gas/hnc.out"
-[species.ts_hcn]
-logs = "{s}/gas/ts_hcn.out"
-[species.ch4]
-logs = "{s}/gas/ch4.out"
-single_point = "{s}/sp/ch4_mp2.out"
-[species.h]
-logs = "{s}/gas/h_atom.out"
-single_point = "{s}/sp/h_atom_mp2.out"
-[species.ts_abstraction]
-logs = "{s}/gas/ts_abstraction.out"
-single_point = "{s}/sp/ts_abstraction_mp2.out"
-[species.ch3]
-logs = "{s}/gas/ch3.out"
-single_point = "{s}/sp/ch3_mp2.out"
-[species.h2]
-logs = "{s}/gas/h2.out"
-single_point = "{s}/sp/h2_mp2.out"
-
+REACTIONS = species_tables("hcn", "hnc", "ts_hcn", "ch4", "h", "ts_abstraction", "ch3", "h2", single_points=True) + """
 [[reaction]]
 name = "isomerisation"
 reactants = ["hcn"]

@@ -3,29 +3,13 @@ thermo.yaml (its NASA-7 species and modified Arrhenius reactions) against qcther
 
 import numpy as np
 import pytest
+from sample_species import species_tables
 
 import qcthermo
 from qcthermo.errors import SimulationError
 from qcthermo.records import Conditions
 
-GAS = """
-[species.hcn]
-logs = "{s}/gas/hcn.out"
-[species.hnc]
-logs = "{s}/gas/hnc.out"
-[species.ts_hcn]
-logs = "{s}/gas/ts_hcn.out"
-[species.ch4]
-logs = "{s}/gas/ch4.out"
-[species.h]
-logs = "{s}/gas/h_atom.out"
-[species.ts_abstraction]
-logs = "{s}/gas/ts_abstraction.out"
-[species.ch3]
-logs = "{s}/gas/ch3.out"
-[species.h2]
-logs = "{s}/gas/h2.out"
-[[reaction]]
+GAS = "\n" + species_tables("hcn", "hnc", "ts_hcn", "ch4", "h", "ts_abstraction", "ch3", "h2") + """[[reaction]]
 name = "isomerisation"
 reactants = ["hcn"]
 transition_state = "ts_hcn"

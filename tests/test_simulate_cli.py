@@ -5,23 +5,14 @@ import json
 
 import pandas as pd
 import pytest
+from sample_species import species_tables
 
 from qcthermo.cli import main
 
 CYCLE = """
 [conditions]
 standard_state = "1M"
-[species.ch4]
-logs = "{s}/gas/ch4.out"
-[species.h]
-logs = "{s}/gas/h_atom.out"
-[species.ts_abstraction]
-logs = "{s}/gas/ts_abstraction.out"
-[species.ch3]
-logs = "{s}/gas/ch3.out"
-[species.h2]
-logs = "{s}/gas/h2.out"
-[[reaction]]
+""" + species_tables("ch4", "h", "ts_abstraction", "ch3", "h2") + """[[reaction]]
 name = "abstraction"
 reactants = ["ch4", "h"]
 transition_state = "ts_abstraction"

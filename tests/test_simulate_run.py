@@ -4,6 +4,7 @@ the energy span model, the law of mass action and the standard-state independenc
 
 import numpy as np
 import pytest
+from sample_species import species_tables
 from scipy import constants
 
 import qcthermo
@@ -15,22 +16,7 @@ from qcthermo.records import Conditions
 CYCLE = """
 [conditions]
 standard_state = "{state}"
-[species.ch4]
-logs = "{s}/gas/ch4.out"
-single_point = "{s}/sp/ch4_mp2.out"
-[species.h]
-logs = "{s}/gas/h_atom.out"
-single_point = "{s}/sp/h_atom_mp2.out"
-[species.ts_abstraction]
-logs = "{s}/gas/ts_abstraction.out"
-single_point = "{s}/sp/ts_abstraction_mp2.out"
-[species.ch3]
-logs = "{s}/gas/ch3.out"
-single_point = "{s}/sp/ch3_mp2.out"
-[species.h2]
-logs = "{s}/gas/h2.out"
-single_point = "{s}/sp/h2_mp2.out"
-
+""" + species_tables("ch4", "h", "ts_abstraction", "ch3", "h2", single_points=True) + """
 [[reaction]]
 name = "abstraction"
 reactants = ["ch4", "h"]
