@@ -18,7 +18,7 @@ import numpy as np
 from .normalise import electron_count
 from .programs import RULES, rules
 from .source import LogSource
-from .text import lines_with
+from .text import hits, lines_with
 
 #: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
 #: 23, 22; the coefficient from memory), exceeds the true magnitude (-0.500 vs -0.769 for H, -37.8 vs -50.3 for
@@ -107,21 +107,12 @@ _INVARIANTS: dict[str, tuple[_Count, ...]] = {
 def invariant_problem(program: str, text: str) -> str | None:
     """Why a number the program states for the molecule alone takes two values in one run, or None."""
     for spec in _INVARIANTS.get(program, ()):
-        starts = {spec.literal: _starts(text, spec.literal)}
+        starts = {spec.literal: hits(text, spec.literal)}
         values = sorted({int(m.group(1)) for _, m in _matches(text, (spec,), starts)})
         if len(values) > 1:
             return (f"the log states \"{spec.literal}\" as {' and '.join(map(str, values))}: logs of two molecules "
                     "spliced together? split the file")
     return None
-
-
-def _starts(text: str, literal: str) -> list[int]:
-    """Every index where ``literal`` starts in ``text`` (one ``str.find`` pass over the text)."""
-    starts, at = [], text.find(literal)
-    while at >= 0:
-        starts.append(at)
-        at = text.find(literal, at + len(literal))
-    return starts
 
 
 def _matches(text: str, specs: tuple[_Count, ...], starts: dict[str, list[int]]) -> list[tuple[_Count, re.Match]]:
@@ -144,7 +135,7 @@ def atoms_problem(program: str, text: str, symbols, coordinates) -> str | None:
     declared_specs, block_specs = _DECLARED.get(program, ()), _BLOCKS.get(program, ())
     # one pass over the text per phrase, shared by every check (NWChem's "XYZ format geometry" is in two):
     # the passes are most of this check's time (30 to 50 us per 100 kB each on the development machine)
-    starts = {literal: _starts(text, literal) for literal in {spec.literal for spec in (*declared_specs, *block_specs)}}
+    starts = {literal: hits(text, literal) for literal in {spec.literal for spec in (*declared_specs, *block_specs)}}
     declared = [int(m.group(1)) for _, m in _matches(text, declared_specs, starts)]
     wrong = sorted({n for n in declared if n != natoms})
     if wrong:

@@ -17,6 +17,8 @@ import os
 import re
 from collections.abc import Callable, Iterable
 
+from .text import hits
+
 #: the environment variable that turns slicing off when set to anything but "" or "0"
 NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
 
@@ -46,17 +48,6 @@ def line_starts(text: str, phrase: str, start: int = 0, end: int | None = None) 
         line = text.rfind("\n", 0, at) + 1
         if not found or found[-1] != line:
             found.append(line)
-    return found
-
-
-def hits(text: str, phrase: str, start: int = 0, end: int | None = None) -> list[int]:
-    """Where ``phrase`` occurs in ``text[start:end]``."""
-    end = len(text) if end is None else end
-    found: list[int] = []
-    at = text.find(phrase, start, end)
-    while at >= 0:
-        found.append(at)
-        at = text.find(phrase, at + len(phrase), end)
     return found
 
 

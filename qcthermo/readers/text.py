@@ -21,6 +21,17 @@ def _line_bounds(text: str, at: int) -> tuple[int, int]:
     return start, len(text) if end < 0 else end
 
 
+def hits(text: str, phrase: str, start: int = 0, end: int | None = None) -> list[int]:
+    """Where ``phrase`` occurs in ``text[start:end]``, not overlapping (one ``str.find`` pass over the text)."""
+    end = len(text) if end is None else end
+    found: list[int] = []
+    at = text.find(phrase, start, end)
+    while at >= 0:
+        found.append(at)
+        at = text.find(phrase, at + len(phrase), end)
+    return found
+
+
 def lines_with(text: str, *literals: str) -> str:
     """The lines of ``text`` that contain any of ``literals``, in file order, each ending in a newline.
 
