@@ -9,7 +9,14 @@ from pathlib import Path
 
 from ..fileio import atomic_write, check_output_file, csv_text, display, json_text
 from ..survey import LOG_SUFFIXES, SurveyResult, survey
-from .common import SHOWN_ERRORS, print_flagged, print_overview_heading, reading_options, screenful
+from .common import (
+    SHOWN_ERRORS,
+    console_for_stdout,
+    print_flagged,
+    print_overview_heading,
+    reading_options,
+    screenful,
+)
 
 #: the columns of the terminal table: (heading, how to show a row)
 _TABLE = (
@@ -71,15 +78,12 @@ def _fitting_columns(cells: list[list[str]], width: int) -> list[int]:
 
 
 def print_table(result: SurveyResult) -> None:
-    """The rows on stdout, fitted to the terminal (a pipe gets 200 characters). Cells are Text, not markup:
-    a file called "[bold]x.log" is shown as named."""
-    from rich.console import Console
+    """The rows on stdout, fitted to the terminal (a pipe gets $COLUMNS or 200 characters). Cells are Text, not
+    markup: a file called "[bold]x.log" is shown as named."""
     from rich.table import Table
     from rich.text import Text
 
-    console = Console()
-    if not console.is_terminal:
-        console = Console(width=200)
+    console = console_for_stdout(200)
     cells = [[show(row) for _, show in _TABLE] for row in result.rows]
     keep = _fitting_columns(cells, console.width)
     table = Table(box=None, pad_edge=False, header_style="bold")
