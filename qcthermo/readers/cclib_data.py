@@ -21,6 +21,7 @@ from .normalise import method_name, solvent_model_name
 from .programs import rules
 from .slices import cclib_slice
 from .source import PROGRAMS, LogSource
+from .text import find, rfind
 
 
 class _NullStream(io.TextIOBase):
@@ -84,20 +85,20 @@ def known_failure(source: LogSource) -> str | None:
 
 def _lines_from(text: str, header: str):
     """For each line that is ``header`` alone (cclib compares stripped lines): that line and the next ones."""
-    at = text.find(header)
+    at = find(text, header)
     while at >= 0:
         start = text.rfind("\n", 0, at) + 1
         lines = text[start : start + 4000].split("\n")
         if lines[0].strip() == header:
             yield start, lines
-        at = text.find(header, at + len(header))
+        at = find(text, header, at + len(header))
 
 
 def _nwchem_short_symmetry_table(text: str) -> bool:
     """A "Symmetry analysis of basis" table with fewer rows (irreducible representations) than the group
     order: cclib 1.8.1 reads one row per group element and splits the blank line after the table."""
     for start, lines in _lines_from(text, "Symmetry analysis of basis"):
-        at = text.rfind("\n Group order", 0, start)  # the order cclib keeps: the last one printed before
+        at = rfind(text, "\n Group order", 0, start)  # the order cclib keeps: the last one printed before
         order = _GROUP_ORDER.match(text, at + 1) if at >= 0 else None
         if order is None:
             continue

@@ -18,7 +18,7 @@ import numpy as np
 from .normalise import electron_count
 from .programs import RULES, rules
 from .source import LogSource
-from .text import hits, lines_with
+from .text import hits, indexed_for, lines_with, rfind
 
 #: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
 #: 23, 22; the coefficient from memory), exceeds the true magnitude (-0.500 vs -0.769 for H, -37.8 vs -50.3 for
@@ -102,6 +102,14 @@ _INVARIANTS: dict[str, tuple[_Count, ...]] = {
     "xtb": (_count("# electrons", r"# electrons\s+(\d+)"), _count("# atomic orbitals", r"# atomic orbitals\s+(\d+)"),
             _count("# shells", r"# shells\s+(\d+)")),
 }
+
+
+def literals_checked(program: str) -> tuple[str, ...]:
+    """The phrases these checks search a log of ``program`` for (literals.py indexes them)."""
+    specs = (*_DECLARED.get(program, ()), *_BLOCKS.get(program, ()), *_INVARIANTS.get(program, ()))
+    restated = [phrase for statement in _RESTATEMENTS.get(program, ())
+                for phrase in (statement.literal.strip("\n"), statement.requires) if phrase]
+    return tuple(dict.fromkeys([*(spec.literal for spec in specs), *restated]))
 
 
 def invariant_problem(program: str, text: str) -> str | None:
@@ -410,10 +418,11 @@ def restated_energy_problem(program: str, text: str, energy: float, method: str 
         return None
     for statement in _RESTATEMENTS.get(program, ()):
         # a statement that needs a phrase is looked for after its last occurrence only (found from the end)
-        start = text.rfind(statement.requires) if statement.requires else 0
+        start = rfind(text, statement.requires) if statement.requires else 0
         if (statement.scf_level and _correlated(method)) or start < 0:
             continue
-        values = [float(v) for v in statement.regex.findall(lines_with(text[start:], statement.literal.strip("\n")))]
+        lines = lines_with(text, statement.literal.strip("\n"), start=start)
+        values = [float(v) for v in statement.regex.findall(lines)]
         values = values[-1:] if statement.last else values
         if values and min(abs(v - energy) for v in values) > RESTATED_TOLERANCE_EH:
             return (f"the final energy reads {energy!r} Eh, but the log restates it as {values[-1]!r} Eh "
@@ -481,8 +490,17 @@ END_WINDOW = 8000
 
 
 def run_marks(text: str) -> list[Mark]:
-    """Every run banner and end phrase of every program in ``text``, in order (one pass over the text)."""
-    return [Mark(found.start(), *_MARK_LITERALS[found.group()]) for found in _MARKS.finditer(text)]
+    """Every run banner and end phrase of every program in ``text``, in order (one pass over the text, or none
+    when the text is indexed: then the regex's leftmost-longest choice among the indexed occurrences)."""
+    if not indexed_for(text, _MARK_LITERALS):
+        return [Mark(found.start(), *_MARK_LITERALS[found.group()]) for found in _MARKS.finditer(text)]
+    found = sorted((at, -len(literal), literal) for literal in _MARK_LITERALS for at in hits(text, literal))
+    marks, after = [], 0
+    for at, _, literal in found:
+        if at >= after:
+            marks.append(Mark(at, *_MARK_LITERALS[literal]))
+            after = at + len(literal)
+    return marks
 
 
 def _line(text: str, at: int) -> int:

@@ -15,7 +15,7 @@ import numpy as np
 
 from ..errors import LogReadError
 from ..records import Calculation
-from . import cclib_data, checks, fallback
+from . import cclib_data, checks, fallback, literals
 from .normalise import (
     PROJECTED_ZERO_CM,
     basis_name,
@@ -38,7 +38,7 @@ from .programs import (
 )
 from .slices import displacements_start
 from .source import LogSource, load
-from .text import last_line_match, lines_with
+from .text import indexed, last_line_match, lines_with
 
 #: job types that are not a single point
 _NOT_SINGLE_POINT = {"optimization", "frequencies", "saddle-search", "irc", "scan"}
@@ -50,11 +50,12 @@ def read_log(path: str | Path) -> Calculation:
     Raises :class:`~qcthermo.errors.LogReadError` (one line) for anything it cannot read: empty,
     binary, not a log, an unsupported program, or a log that gives no geometry or no energy.
     """
-    source = load(path)
+    source = load(path, scan=literals.scan)
     if source.program is None:
         return _read_geometry(source)
     try:
-        return _read(source)
+        with indexed(source.text, source.literals):
+            return _read(source)
     except LogReadError:
         raise
     except Exception as err:  # a malformed log must never surface as a traceback
@@ -130,7 +131,7 @@ def _stationary_energy(source: LogSource, found: dict) -> None:
     if start is None:
         return
     last_energy = fallback.LAST_ENERGY[source.program]
-    final, before = last_energy(source.text), last_energy(source.text[:start])
+    final, before = last_energy(source.text), last_energy(source.text, start)
     if final is not None and before is not None and abs(found["energy"] - final) < _SAME_ENERGY_EH:
         shift, found["energy"] = before - found["energy"], before
         thermo = found.get("thermo_printed", {})

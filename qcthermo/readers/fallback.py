@@ -13,21 +13,21 @@ import numpy as np
 
 from ..units import HARTREE_J, N_A
 from .normalise import method_name
-from .text import last_block_match, last_line_match, last_section, lines_with
+from .text import find, last_block_match, last_line_match, last_section, lines_with
 
 _F = r"(-?\d+\.\d+)"
 #: one thermochemical calorie, J (entropies printed in cal/(mol K))
 _CAL = 4.184
 
 
-def _last(text: str, literal: str, pattern: str) -> str | None:
-    """Group 1 of the last match of a one-line ``pattern`` that contains ``literal`` (see text.py)."""
-    found = last_line_match(text, literal, re.compile(pattern, re.MULTILINE))
+def _last(text: str, literal: str, pattern: str, end: int | None = None) -> str | None:
+    """Group 1 of the last match in ``text[:end]`` of a one-line ``pattern`` that contains ``literal`` (text.py)."""
+    found = last_line_match(text, literal, re.compile(pattern, re.MULTILINE), end)
     return None if found is None else found.group(1)
 
 
-def _last_float(text: str, literal: str, pattern: str) -> float | None:
-    value = _last(text, literal, pattern)
+def _last_float(text: str, literal: str, pattern: str, end: int | None = None) -> float | None:
+    value = _last(text, literal, pattern, end)
     return None if value is None else float(value)
 
 
@@ -77,8 +77,8 @@ def orca_method(echo: str) -> str | None:
 
 def orca_solvent(text: str, echo: str) -> tuple[str | None, str | None]:
     """(model, solvent): ORCA's printed CPCM section first, else its "!" keywords or the %cpcm block."""
-    if "CPCM SOLVATION MODEL" in text:
-        model = "smd" if "SMD-CDS" in text or "SMD CDS" in text else "cpcm"
+    if find(text, "CPCM SOLVATION MODEL") >= 0:
+        model = "smd" if find(text, "SMD-CDS") >= 0 or find(text, "SMD CDS") >= 0 else "cpcm"
         name = _last(text, "Solvent:", r"^Solvent:\s+\.\.\.\s+(\S.*?)\s*$")
         return model, name.lower() if name else None
     keywords = " ".join(orca_keywords(echo))
@@ -193,13 +193,14 @@ _NWCHEM_ENERGIES = (
 )
 
 
-def nwchem_level(text: str) -> tuple[str | None, float | None]:
-    """(method, energy) at the highest level NWChem printed; the DFT functional where the module names it."""
+def nwchem_level(text: str, end: int | None = None) -> tuple[str | None, float | None]:
+    """(method, energy) at the highest level NWChem printed in ``text[:end]``; the DFT functional where the module
+    names it."""
     for method, literal, pattern in _NWCHEM_ENERGIES:
-        energy = _last_float(text, literal, pattern)
+        energy = _last_float(text, literal, pattern, end)
         if energy is not None:
             if method == "DFT":
-                functional = _last(text, " Method XC ", r"^\s+(\S+) Method XC (?:Potential|Functional)")
+                functional = _last(text, " Method XC ", r"^\s+(\S+) Method XC (?:Potential|Functional)", end)
                 method = method_name(functional) if functional else "DFT"
             return method, energy
     return None, None
@@ -304,12 +305,13 @@ def nwchem_thermo(text: str, energy: float) -> dict[str, float]:
 # -------------------------------------------------------------------------------------------- GAMESS
 
 
-def gamess_scf_energy(text: str) -> float | None:
-    """The last SCF energy GAMESS printed, " FINAL R-AM1 ENERGY IS       -9.1286961082 AFTER   8 ITERATIONS"."""
-    return _last_float(text, "ENERGY IS", rf"^ FINAL \S+ ENERGY IS\s+{_F}")
+def gamess_scf_energy(text: str, end: int | None = None) -> float | None:
+    """The last SCF energy GAMESS printed in ``text[:end]``,
+    " FINAL R-AM1 ENERGY IS       -9.1286961082 AFTER   8 ITERATIONS"."""
+    return _last_float(text, "ENERGY IS", rf"^ FINAL \S+ ENERGY IS\s+{_F}", end)
 
 
-#: the last energy a program printed, at the level the reader reads, from its text
-LAST_ENERGY = {"nwchem": lambda text: nwchem_level(text)[1], "gamess": gamess_scf_energy}
+#: the last energy a program printed in ``text[:end]``, at the level the reader reads
+LAST_ENERGY = {"nwchem": lambda text, end=None: nwchem_level(text, end)[1], "gamess": gamess_scf_energy}
 
 EXTRACTORS = {"orca": orca, "nwchem": nwchem}

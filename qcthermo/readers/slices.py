@@ -17,7 +17,7 @@ import os
 import re
 from collections.abc import Callable, Iterable
 
-from .text import hits
+from .text import find, hits, rfind
 
 #: the environment variable that turns slicing off when set to anything but "" or "0"
 NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
@@ -53,14 +53,14 @@ def line_starts(text: str, phrase: str, start: int = 0, end: int | None = None) 
 
 def first_line_start(text: str, phrases: Iterable[str], start: int, end: int) -> int | None:
     """Start of the first line after ``start`` (before ``end``) holding any of ``phrases``; None if none does."""
-    hits = [at for phrase in phrases if (at := text.find(phrase, start, end)) >= 0]
-    return text.rfind("\n", 0, min(hits)) + 1 if hits else None
+    found = [at for phrase in phrases if (at := find(text, phrase, start, end)) >= 0]
+    return text.rfind("\n", 0, min(found)) + 1 if found else None
 
 
 def holds_any(text: str, phrases: Iterable[str], start: int = 0, end: int | None = None) -> bool:
     """Whether ``text[start:end]`` holds any of ``phrases``."""
     end = len(text) if end is None else end
-    return any(text.find(phrase, start, end) >= 0 for phrase in phrases)
+    return any(find(text, phrase, start, end) >= 0 for phrase in phrases)
 
 
 def without(text: str, cuts: list[tuple[int, int]]) -> str | None:
@@ -203,7 +203,7 @@ def _values_kept(text: str, phrase: str, pattern: re.Pattern, start: int, end: i
     """Whether every line of ``pattern`` (found by ``phrase``) in ``text[start:end]`` has the value (group 1) of the
     last one before ``start``: state cclib overwrites (a point group's order) is then the same after the cut."""
     values = {m.group(1) for m in matching_lines(text, phrase, pattern, start, end)}
-    before = text.rfind(phrase, 0, start)
+    before = rfind(text, phrase, 0, start)
     last = pattern.match(text, text.rfind("\n", 0, before) + 1) if before >= 0 else None
     return not values or (last is not None and values == {last.group(1)})
 
@@ -224,8 +224,8 @@ def _nwchem_order_reprinted(text: str, at: int) -> bool:
     """Whether the point group's order cclib holds when it next reads a basis-symmetry table (it reads as many rows
     as the order) is printed again after ``at``: each optimisation step reprints its geometry with its symmetry;
     then the dropped part before ``at`` cannot change it (a search in the kept step only, not the dropped part)."""
-    table = text.find(_NWCHEM_TABLE, at)
-    return table < 0 or text.find(_NWCHEM_ORDER_PHRASE, at, table) >= 0
+    table = find(text, _NWCHEM_TABLE, at)
+    return table < 0 or find(text, _NWCHEM_ORDER_PHRASE, at, table) >= 0
 
 
 def nwchem(text: str) -> str | None:
@@ -254,10 +254,10 @@ def nwchem(text: str) -> str | None:
         if cut:
             cuts.append(cut)
     for start, following in itertools.pairwise([*line_starts(text, _NWCHEM_FD), len(text)]):
-        end = text.find(_NWCHEM_FD_END, start, following)  # a Hessian restarted before its analysis: not cut
+        end = find(text, _NWCHEM_FD_END, start, following)  # a Hessian restarted before its analysis: not cut
         runs = [at for module in _NWCHEM_MODULES for at in line_starts(text, module, start, end)] if end > 0 else []
         cut = _middle_cut(sorted(runs))
-        if cut and text.find(_NWCHEM_STEP_PHRASE, *cut) < 0:
+        if cut and find(text, _NWCHEM_STEP_PHRASE, *cut) < 0:
             cuts.append(cut)
     if not all(_nwchem_order_reprinted(text, b) or _values_kept(text, _NWCHEM_ORDER_PHRASE, _NWCHEM_ORDER, a, b)
                for a, b in cuts):
@@ -283,7 +283,7 @@ def psi4(text: str) -> str | None:
     and the last displacement, the Hessian, the vibrational analysis with normal modes, the thermochemistry and
     termination. Optimisation steps are not cut (no real multi-step Psi4 optimisation at hand to prove it on):
     None for a log without a finite-difference Hessian of gradients, or any structure not recognised."""
-    flag = text.find(_PSI4_FD)
+    flag = find(text, _PSI4_FD)
     if flag < 0:
         return None
     banners = matching_lines(text, "Loading displacement", _PSI4_DISPLACEMENT, flag)
@@ -311,7 +311,7 @@ def gamess(text: str) -> str | None:
     record's energy is unchanged), the normal-mode analysis, thermochemistry and termination. Optimisation steps
     (NSERCH) are not cut (no real GAMESS optimisation at hand to prove it on): None for a log without a numerical
     Hessian, or any structure not recognised."""
-    end = text.find(_GAMESS_FD_END)
+    end = find(text, _GAMESS_FD_END)
     if end < 0:
         return None
     starts = [m.start() for m in matching_lines(text, "NUCLEAR COORDINATES", _GAMESS_DISPLACEMENT, 0, end)]
@@ -351,9 +351,9 @@ def displacements_start(program: str, text: str) -> int | None:
     of the numerical Hessian ("COORD 0" is the reference point). None for any other log (Psi4 needs none:
     cclib reads no energy after its "Using finite-differences of gradients")."""
     if program == "nwchem":
-        at = text.rfind(_NWCHEM_FD)
-        return at if at >= 0 and text.find(_NWCHEM_FD_END, at) >= 0 else None
-    end = text.find(_GAMESS_FD_END) if program == "gamess" else -1
+        at = rfind(text, _NWCHEM_FD)
+        return at if at >= 0 and find(text, _NWCHEM_FD_END, at) >= 0 else None
+    end = find(text, _GAMESS_FD_END) if program == "gamess" else -1
     if end < 0:
         return None
     starts = matching_lines(text, "NUCLEAR COORDINATES", _GAMESS_DISPLACEMENT, 0, end)

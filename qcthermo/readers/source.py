@@ -17,6 +17,7 @@ import os
 import re
 import stat
 import zlib
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -82,11 +83,14 @@ GEOMETRY_EXTENSIONS = {".xyz", ".extxyz", ".pdb", ".cif", ".sdf", ".mol", ".gen"
 
 @dataclass
 class LogSource:
-    """A file read into memory: its text and the program family that wrote it (None: geometry file)."""
+    """A file read into memory: its text and the program family that wrote it (None: geometry file).
+
+    ``literals``: where the phrases the readers look for occur in ``text`` (literals.py), or None."""
 
     path: str
     text: str
     program: str | None
+    literals: dict[str, list[int]] | None = None
 
     @property
     def head(self) -> str:
@@ -96,11 +100,16 @@ class LogSource:
         return self.text[-n:]
 
 
-def load(path: str | Path) -> LogSource:
+#: ``scan(program, data)``: where phrases occur in a log's bytes (literals.scan)
+Scanner = Callable[[str, object], "dict[str, list[int]] | None"]
+
+
+def load(path: str | Path, scan: Scanner | None = None) -> LogSource:
     """Read ``path`` once (gzip, bzip2, xz undone) and recognise the program; raise LogReadError if it is no log.
 
     A plain file is mapped (mmap) and decoded from the mapping, so the text is the only copy of the file in
-    the process's memory; a compressed file or one that is not a regular file (a pipe) is read in pieces."""
+    the process's memory; a compressed file or one that is not a regular file (a pipe) is read in pieces.
+    ``scan``: given, the log's bytes are scanned with it too (``LogSource.literals``), while they are at hand."""
     path = str(path)
     limit = max_log_bytes()
     try:
@@ -110,15 +119,25 @@ def load(path: str | Path) -> LogSource:
                 _refuse_size(path, "file", limit)
             if stat.S_ISREG(status.st_mode) and status.st_size and not _packed(stream.read(8)):
                 with mmap.mmap(stream.fileno(), 0, access=mmap.ACCESS_READ) as mapped:
-                    text = _decoded(path, mapped)
-            else:
-                stream.seek(0)
-                text = _decoded(path, _decompressed(path, _read_capped(path, stream, limit, "file"), limit))
+                    return _source(path, mapped, scan)
+            stream.seek(0)
+            return _source(path, _decompressed(path, _read_capped(path, stream, limit, "file"), limit), scan)
     except IsADirectoryError:
         raise LogReadError(path, "is a directory, not a log file") from None
     except OSError as err:
         raise LogReadError(path, f"cannot be read: {err.strerror or err}") from None
-    return LogSource(path, text, sniff_program(path, text[:SNIFF_CHARS]))
+
+
+def _source(path: str, raw, scan: Scanner | None) -> LogSource:
+    """The LogSource of a file's bytes (``bytes`` or a mapping), scanned with ``scan`` when given: the bytes
+    themselves when the text has one character per byte (an offset in one is an offset in the other), else
+    the text encoded (a byte-order mark or CRLF line ends removed, UTF-16)."""
+    text = _decoded(path, raw)
+    program = sniff_program(path, text[:SNIFF_CHARS])
+    if scan is None or program is None:
+        return LogSource(path, text, program)
+    aligned = len(text) == len(raw)
+    return LogSource(path, text, program, scan(program, raw if aligned else text.encode("ascii", "replace")))
 
 
 def _decoded(path: str, raw) -> str:
