@@ -15,7 +15,7 @@ from __future__ import annotations
 import itertools
 import os
 import re
-from collections.abc import Callable, Iterable
+from collections.abc import Callable, Iterable, Iterator
 
 from .text import find, hits, rfind
 
@@ -337,11 +337,31 @@ def xtb(text: str) -> str | None:
     thermochemistry, termination. None when there is nothing to cut or a structure not recognised."""
     cuts = []
     for start, end in segments(text, _XTB_END):
-        cycles = [m.start() for m in matching_lines(text, " CYCLE ", _XTB_CYCLE, start, end)]
-        cut = _middle_cut(cycles)
+        cut = _middle_cut(_outer_matching_lines(text, " CYCLE ", _XTB_CYCLE, start, end))
         if cut:
             cuts.append(cut)
     return without(text, cuts)
+
+
+def _outer_matching_lines(text: str, phrase: str, pattern: re.Pattern, start: int, end: int) -> list[int]:
+    """The starts of the first two and the last of :func:`matching_lines` (all of them when there are at most
+    three): what :func:`_middle_cut` needs, without trying the pattern on the thousands of lines between
+    (an optimisation of 30,000 xTB cycles)."""
+    found = hits(text, phrase, start, end)
+
+    def matching(positions) -> Iterator[int]:  # the start of each line there that matches, each line once
+        previous = None
+        for at in positions:
+            line = text.rfind("\n", 0, at) + 1
+            if line != previous and pattern.match(text, line):
+                yield line
+            previous = line
+
+    head = list(itertools.islice(matching(found), 2))
+    if len(head) < 2:
+        return head
+    last = next(matching(reversed(found)), None)
+    return head if last is None or last <= head[1] else [*head, last]
 
 
 def displacements_start(program: str, text: str) -> int | None:
