@@ -11,6 +11,7 @@ from __future__ import annotations
 
 import functools
 import re
+from collections.abc import Iterator
 from dataclasses import dataclass
 
 import numpy as np
@@ -18,7 +19,7 @@ import numpy as np
 from .normalise import electron_count
 from .programs import RULES, rules
 from .source import LogSource
-from .text import hits, indexed_for, lines_with, rfind
+from .text import hits, indexed_for, line_bounds, lines_with, rfind
 
 #: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
 #: 23, 22; the coefficient from memory), exceeds the true magnitude (-0.500 vs -0.769 for H, -37.8 vs -50.3 for
@@ -258,15 +259,28 @@ def nuclear_repulsion_problem(program: str, text: str, symbols, coordinates) -> 
     coords = np.asarray(coordinates, dtype=float)
     if len(z) < 2 or z.max() > REPULSION_MAX_Z or not np.all(np.isfinite(coords)) or program not in _REPULSION:
         return None
-    printed = [float(v) for literal, rx in _REPULSION[program] for v in rx.findall(lines_with(text, literal))]
-    if not printed:
-        return None
     with np.errstate(divide="ignore"):
         computed = nuclear_repulsion(symbols, coords)
-    if not np.isfinite(computed) or min(abs(p - computed) for p in printed) <= REPULSION_RTOL * computed:
-        return None  # two nuclei on one spot: geometry_problem says so
+    last = None
+    for value in _printed_repulsions(program, text):
+        if not np.isfinite(computed) or abs(value - computed) <= REPULSION_RTOL * computed:
+            return None  # not finite: two nuclei on one spot, which geometry_problem says
+        last = value if last is None else last
+    if last is None:
+        return None
     return (f"the nuclear repulsion energy of the final geometry is {computed:.6f} Eh, but the log prints "
-            f"{printed[-1]:.6f} Eh (an element or a coordinate of the final geometry damaged?)")
+            f"{last:.6f} Eh (an element or a coordinate of the final geometry damaged?)")
+
+
+def _printed_repulsions(program: str, text: str) -> Iterator[float]:
+    """The nuclear repulsion energies the log printed: the last first, then the first, then the others (the final
+    geometry's is the last printed, or, after a finite-difference Hessian's displaced geometries, the first: a
+    log that agrees is told after one or two; thousands are printed in a long one)."""
+    for literal, rx in _REPULSION[program]:
+        lines = dict.fromkeys(line_bounds(text, at) for at in hits(text, literal))
+        order = [*lines][-1:] + [*lines][:-1]
+        for start, end in order:
+            yield from (float(v) for v in rx.findall(text, start, end))
 
 
 def frequency_problem(printed: np.ndarray, natoms: int, expected: int | None, all_modes: bool) -> str | None:

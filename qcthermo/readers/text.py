@@ -70,7 +70,7 @@ def rfind(text: str, phrase: str, start: int = 0, end: int | None = None) -> int
     return known[i] if i >= 0 and known[i] >= start else -1
 
 
-def _line_bounds(text: str, at: int) -> tuple[int, int]:
+def line_bounds(text: str, at: int) -> tuple[int, int]:
     """(start, end) of the line holding index ``at``, newline excluded."""
     start = text.rfind("\n", 0, at) + 1
     end = text.find("\n", at)
@@ -108,7 +108,7 @@ def lines_with(text: str, *literals: str, start: int = 0) -> str:
     for literal in literals:
         at = find(text, literal, start)
         while at >= 0:
-            first, end = _line_bounds(text, at)
+            first, end = line_bounds(text, at)
             spans.add((max(first, start), end))  # a line cut at ``start`` as in text[start:]
             at = find(text, literal, end + 1)  # the next line (a literal never holds a newline)
     return "".join(text[first:end] + "\n" for first, end in sorted(spans))
@@ -123,7 +123,7 @@ def last_line_match(text: str, literal: str, regex: re.Pattern, end: int | None 
     """
     stop = limit = len(text) if end is None else end
     while (at := rfind(text, literal, 0, stop)) >= 0:
-        start, line_end = _line_bounds(text, at)
+        start, line_end = line_bounds(text, at)
         after = text.find("\n", line_end + 1, limit)
         found = [m for m in regex.finditer(text, start, limit if after < 0 else after) if m.start() <= line_end]
         if found:
