@@ -9,10 +9,11 @@ displaced-geometry calculation of their finite-difference Hessian (``GROWN``). T
 log (CPU time, the best of ``--repeat`` runs; the machine is shared and a busy neighbour only ever adds time):
 
 - ``cclib.io.ccread`` on the file (the baseline: what a plain cclib loop costs per file);
-- ``read_log`` with slicing off (``QCTHERMO_NO_SLICE=1``) and on (the default), and the ratio ccread / read_log
+- ``read_log`` with slicing off (``QCTHERMO_NO_SLICE=1``), with slicing on but without the one-pass phrase index
+  (readers/literals.py: every search a ``str.find``), and with both (the default), and the ratio ccread / read_log
   (targets: >= 10x at 5 MB, >= 20x at 30 MB);
-- read_log's rate in MB/s next to the limits of the same file: reading it from the page cache, and one pass
-  of a line-anchored bytes regex over it;
+- read_log's rate in MB/s next to the limits of the same file: reading it from the page cache, one pass
+  of a line-anchored bytes regex over it, and the phrase index's one pass (Hyperscan) over it;
 - the share of the text cclib is given (the slice), and the slice's own cost;
 - the peak memory of read_log (tracemalloc) against the file's size (target: flat, about one copy of it);
 - a check that the built log reads as the real one does (energy, frequencies) and the same with slicing on
@@ -39,7 +40,7 @@ from pathlib import Path
 
 import numpy as np
 
-from qcthermo.readers import core, slices
+from qcthermo.readers import core, literals, slices
 from qcthermo.readers.source import load
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -147,8 +148,20 @@ def slicing(on: bool):
             os.environ[slices.NO_SLICE_VARIABLE] = before
 
 
-def read(path: Path, sliced: bool = True):
-    with slicing(sliced):
+@contextlib.contextmanager
+def indexing(on: bool):
+    """The one-pass phrase index (readers/literals.py) on or off for the block (off: every search a str.find)."""
+    scan = literals.scan
+    if not on:
+        literals.scan = lambda program, data: None
+    try:
+        yield
+    finally:
+        literals.scan = scan
+
+
+def read(path: Path, sliced: bool = True, indexed: bool = True):
+    with slicing(sliced), indexing(indexed):
         return core.read_log(path)
 
 
@@ -177,29 +190,34 @@ def peak_mb(func, *args) -> float:
 
 
 def bench_built(built, repeat: int) -> None:
-    print(f"{'log':<28}{'MB':>6}{'ccread s':>10}{'whole s':>9}{'read s':>8}{'ratio':>7}{'read MB/s':>11}"
-          f"{'cache MB/s':>12}{'regex MB/s':>12}{'slice %':>9}{'slice ms':>10}{'peak/size':>11}  check")
+    print(f"{'log':<28}{'MB':>6}{'ccread s':>10}{'whole s':>9}{'no index s':>11}{'read s':>8}{'ratio':>7}"
+          f"{'read MB/s':>11}{'cache MB/s':>12}{'regex MB/s':>12}{'scan MB/s':>11}{'slice %':>9}{'slice ms':>10}"
+          f"{'peak/size':>11}  check")
     for program, kind, path, original in built:
         size = path.stat().st_size / 2**20
         t_cache, data = best(3, path.read_bytes)
         t_regex, _ = best(3, lambda d: sum(1 for _ in _LINE_REGEX.finditer(d)), data)
         t_cc, _ = best(repeat, ccread, path)
         t_whole, whole = best(1, read, path, False)
+        t_plain, plain = best(1, read, path, True, False)
         t_read, calc = best(repeat, read, path)
+        program_of = load(path).program
+        t_scan, _ = best(3, literals.scan, program_of, data)
         text = load(path).text
         t_slice, piece = best(3, slices.cclib_slice, program, text)
         share = 100 * len(piece or text) / len(text)
         peak = peak_mb(read, path)
         reference = read(original)
-        same = not differing_fields(whole, calc)
+        same = not differing_fields(whole, calc) and not differing_fields(plain, calc)
         as_real = calc.energy == reference.energy and (
             (calc.frequencies is None and reference.frequencies is None)
             or np.array_equal(calc.frequencies, reference.frequencies))
         check = ("ok" if same and as_real else
-                 f"DIFFERS: {differing_fields(whole, calc) or ''} {'' if as_real else 'energy/frequencies'}")
-        print(f"{program + ' ' + kind:<28}{size:6.1f}{t_cc:10.2f}{t_whole:9.2f}{t_read:8.3f}{t_cc / t_read:6.1f}x"
-              f"{size / t_read:11.0f}{size / t_cache:12.0f}{size / t_regex:12.0f}{share:9.2f}{1000 * t_slice:10.1f}"
-              f"{peak / size:11.2f}  {check}")
+                 f"DIFFERS: {differing_fields(whole, calc) or differing_fields(plain, calc)} "
+                 f"{'' if as_real else 'energy/frequencies'}")
+        print(f"{program + ' ' + kind:<28}{size:6.1f}{t_cc:10.2f}{t_whole:9.2f}{t_plain:11.3f}{t_read:8.3f}"
+              f"{t_cc / t_read:6.1f}x{size / t_read:11.0f}{size / t_cache:12.0f}{size / t_regex:12.0f}"
+              f"{size / t_scan:11.0f}{share:9.2f}{1000 * t_slice:10.1f}{peak / size:11.2f}  {check}")
 
 
 def bench_small(repeat: int) -> None:

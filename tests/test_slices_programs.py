@@ -22,6 +22,7 @@ from qcthermo.readers.source import load
 #: the slice keeps at most, measured on these logs
 CUT_LOGS = [
     (SAMPLES / "gas" / "water.out", "nwchem", 0.65),  # optimisation steps 1-2 of 0-3
+    (SAMPLES / "gas" / "c_atom.out", "nwchem", 0.6),  # a single point: its orbital analysis blocks (alpha, beta)
     (SAMPLES / "scans" / "ethane_rot1.out", "nwchem", 0.3),  # seven constrained optimisations
     (SAMPLES / "solvent" / "methanediol.out", "nwchem", 0.35),  # steps and a finite-difference Hessian
     (THIRD_PARTY / "psi4-1.2.1" / "dvb_ir_rhf.out", "psi4", 0.1),  # 72 of 74 displaced gradients
@@ -129,3 +130,16 @@ def test_a_long_run_gives_the_whole_log_record(path, program, phrase, tmp_path, 
     original = core.read_log(path)
     assert sliced.energy == original.energy and np.array_equal(sliced.coordinates, original.coordinates)
     assert np.array_equal(sliced.frequencies, original.frequencies)
+
+
+def test_an_nwchem_orbital_block_ends_where_cclib_stops_reading_it(samples):
+    """Reference: the real log's layout and cclib 1.8.1's loop (nwchemparser: the vectors, each up to a blank line,
+    then one more line read to end the loop): each block cut out ends just before the next line cclib would read
+    (here " center of mass", the line after the two blank ones), and begins at the analysis header's line."""
+    text = load(samples / "solution" / "acetate.out").text
+    blocks = slices._nwchem_orbital_blocks(text, [])
+    assert len(blocks) == text.count("DFT Final Molecular Orbital Analysis") == 11
+    for start, end in blocks:
+        assert text[start:].lstrip().startswith("DFT Final Molecular Orbital Analysis")
+        assert text[end:].startswith(" center of mass\n")
+        assert text[start:end].count(" Vector ") == 66  # every orbital of the basis, none left behind

@@ -230,8 +230,9 @@ def _nwchem_order_reprinted(text: str, at: int) -> bool:
 
 def nwchem(text: str) -> str | None:
     """An NWChem log without the optimisation steps between the first and the last of each optimisation
-    ("NWChem Geometry Optimization"), and without the displaced-geometry calculations between the first and the
-    last of a finite-difference Hessian.
+    ("NWChem Geometry Optimization"), without the displaced-geometry calculations between the first and the
+    last of a finite-difference Hessian, and without the orbital analysis blocks of what is kept
+    (:func:`_nwchem_orbital_blocks`).
 
     Kept: the header and input (atoms, charge, basis, symmetry), step 0 of each optimisation (its module
     headers give the multiplicity and functional; cclib asserts that the step summary with "@" is step 0's),
@@ -262,9 +263,37 @@ def nwchem(text: str) -> str | None:
     if not all(_nwchem_order_reprinted(text, b) or _values_kept(text, _NWCHEM_ORDER_PHRASE, _NWCHEM_ORDER, a, b)
                for a, b in cuts):
         return None
-    piece = without(text, sorted(cuts))
+    piece = without(text, sorted([*cuts, *_nwchem_orbital_blocks(text, cuts)]))
     # molecular dynamics (cclib reads every step's coordinates) is a task of its own, kept whole by the cuts
     return None if piece is None or "NWChem QMD Module" in piece else piece
+
+
+#: an orbital analysis block as cclib 1.8.1 reads it (nwchemparser, "Final" and "Molecular Orbital Analysis" in a
+#: line): that line, dashes, a blank line, then while a line starts " Vector": it, the lines up to a blank one
+#: (MO centre, coefficient table), the blank one, and the line after it, which cclib reads to end its loop and
+#: never looks at again (required blank here, so that no trigger is in it)
+_NWCHEM_ORBITALS = "Molecular Orbital Analysis"
+_NWCHEM_ORBITAL_BLOCK = re.compile(r"[^\n]*?Final[^\n]*?Molecular Orbital Analysis[^\n]*\n[ \t]*-+[ \t]*\n[ \t]*\n"
+                                   r"(?: Vector[^\n]*\n(?:[ \t]*\S[^\n]*\n)*[ \t]*\n)+[ \t]*\n")
+#: phrases of tasks that read what those blocks give (the orbital count, the orbital energies): then none is cut
+_NWCHEM_ORBITAL_READERS = ("Final MO vectors", "NWChem TDDFT Module")
+
+
+def _nwchem_orbital_blocks(text: str, cuts: list[tuple[int, int]]) -> list[tuple[int, int]]:
+    """The orbital analysis blocks outside ``cuts`` (each SCF prints one, or an alpha and a beta one: half of a
+    small log's lines): cclib takes from them the orbital energies, symmetries and HOMO indices, which no field of a
+    Calculation uses, and nothing else reads its state from them unless a task of :data:`_NWCHEM_ORBITAL_READERS`
+    is in the log."""
+    if any(find(text, phrase) >= 0 for phrase in _NWCHEM_ORBITAL_READERS):
+        return []
+    blocks = []
+    for at in hits(text, _NWCHEM_ORBITALS):
+        if any(a <= at < b for a, b in cuts):
+            continue
+        found = _NWCHEM_ORBITAL_BLOCK.match(text, text.rfind("\n", 0, at) + 1)
+        if found:
+            blocks.append(found.span())
+    return blocks
 
 
 
