@@ -83,27 +83,29 @@ def known_failure(source: LogSource) -> str | None:
     return None
 
 
-def _lines_from(text: str, header: str):
-    """For each line that is ``header`` alone (cclib compares stripped lines): that line and the next ones."""
+def _lines_from(text: str, header: str, count: int):
+    """For each line that is ``header`` alone (cclib compares stripped lines): that line and the ``count`` next ones
+    (fewer at the end of the text), each without its newline."""
     at = find(text, header)
     while at >= 0:
         start = text.rfind("\n", 0, at) + 1
-        lines = text[start : start + 4000].split("\n")
-        if lines[0].strip() == header:
-            yield start, lines
+        end = text.find("\n", at)
+        if text[start : len(text) if end < 0 else end].strip() == header:
+            yield start, text[start : start + 4000].split("\n", count + 1)[: count + 1]
         at = find(text, header, at + len(header))
 
 
 def _nwchem_short_symmetry_table(text: str) -> bool:
     """A "Symmetry analysis of basis" table with fewer rows (irreducible representations) than the group
     order: cclib 1.8.1 reads one row per group element and splits the blank line after the table."""
-    for start, lines in _lines_from(text, "Symmetry analysis of basis"):
+    for start, _ in _lines_from(text, "Symmetry analysis of basis", 0):
         at = rfind(text, "\n Group order", 0, start)  # the order cclib keeps: the last one printed before
         order = _GROUP_ORDER.match(text, at + 1) if at >= 0 else None
         if order is None:
             continue
-        rows = lines[3 : 3 + int(order.group(1))]
-        if len(rows) == int(order.group(1)) and not all(row.strip() for row in rows):
+        size = int(order.group(1))
+        rows = text[start : start + 4000].split("\n", 3 + size)[3 : 3 + size]
+        if len(rows) == size and not all(row.strip() for row in rows):
             return True
     return False
 
@@ -111,7 +113,7 @@ def _nwchem_short_symmetry_table(text: str) -> bool:
 def _nwchem_untitled_optimisation(text: str) -> bool:
     """An "NWChem Geometry Optimization" header where cclib 1.8.1 does not find the gradient threshold
     after skipping the lines of a title (cclib's assertion at that header)."""
-    for _, lines in _lines_from(text, "NWChem Geometry Optimization"):
+    for _, lines in _lines_from(text, "NWChem Geometry Optimization", 10):
         if len(lines) < 11:
             continue
         line, rest = lines[4], 5

@@ -253,7 +253,7 @@ def nwchem_multiplicity(text: str) -> int | None:
 
 def nwchem_cosmo(text: str) -> dict:
     """COSMO runs: solvent model, solvent name or dielectric, and the gas-phase energy NWChem printed."""
-    if "-cosmo- solvent" not in text:
+    if find(text, "-cosmo- solvent") < 0:
         return {}
     out: dict = {"solvent_model": "cosmo"}
     name = _last(text, "solvname_long:", r"solvname_long:\s+(\S.*?)\s*$")
