@@ -27,7 +27,7 @@ CUT_LOGS = [
     (SAMPLES / "solvent" / "methanediol.out", "nwchem", 0.35),  # steps and a finite-difference Hessian
     (THIRD_PARTY / "psi4-1.2.1" / "dvb_ir_rhf.out", "psi4", 0.1),  # 72 of 74 displaced gradients
     (THIRD_PARTY / "gamess-us2018" / "nh3_ts_ir.out", "gamess", 0.35),  # displaced SCFs of a numerical Hessian
-    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", 0.95),  # optimisation cycles 2-5 of 6
+    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", 0.3),  # cycles 2-5 of 6, and lines cclib ignores
 ]
 
 
@@ -67,7 +67,7 @@ BROKEN = [
     (THIRD_PARTY / "gamess-us2018" / "nh3_ts_ir.out", "gamess", ("NORMAL COORDINATE ANALYSIS IN", "THERMOCHEMISTRY AT"),
      {"frequencies"}),
     # without its final structure an xTB optimisation is refused (core.py: the block is printed, cclib has none)
-    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", ("final structure:", "Bond Distances"), {"outcome"}),
+    (SAMPLES / "conformers" / "pentane_tt.out", "xtb", ("final structure:", "total charge"), {"outcome"}),
 ]
 
 
@@ -143,3 +143,54 @@ def test_an_nwchem_orbital_block_ends_where_cclib_stops_reading_it(samples):
         assert text[start:].lstrip().startswith("DFT Final Molecular Orbital Analysis")
         assert text[end:].startswith(" center of mass\n")
         assert text[start:end].count(" Vector ") == 66  # every orbital of the basis, none left behind
+
+
+#: cclib 1.8.1's own tests of a line in its xTB parser (cclib/parser/xtbparser.py), each applied to a line on its
+#: own: the reference for which lines the xTB slice may drop
+def _cclib_xtb_tests():
+    from cclib.parser import xtbparser as xp
+
+    extractors = (xp._extract_version, xp._extract_program_call, xp._extract_coord_file, xp._extract_method,
+                  xp._extract_charge, xp._extract_multiplicity, xp._extract_final_energy, xp._extract_symmetry,
+                  xp._extract_zpve, xp._extract_enthalpy, xp._extract_free_energy, xp._extract_temperature,
+                  xp._extract_wall_time, xp._extract_cpu_time)
+    predicates = (xp._is_geom_cycle_line, xp._is_orbitals_line, xp._is_gfn1_atom_charges, xp._is_gfn2_atom_charges,
+                  xp._is_freq_printout, xp._is_warning, xp._is_success, xp._is_grad_line, xp._is_hessian_line,
+                  lambda line: "final structure:" in line)
+    return extractors, predicates
+
+
+def _fires(test, line: str) -> bool:
+    try:
+        result = test(line)
+    except Exception:  # a test that raises on the line acts on it
+        return True
+    return result is not None and result is not False  # a charge of 0 is read
+
+
+def test_the_xtb_slice_drops_only_lines_cclib_ignores(samples, third_party):
+    """Reference: cclib 1.8.1's own line tests (xtbparser). Every line of a real xTB log outside the ranges the
+    slice keeps passes all of them without effect, and at least half of each log's lines are dropped."""
+    extractors, predicates = _cclib_xtb_tests()
+    logs = [*sorted((samples / "conformers").glob("*.out")), samples / "flawed" / "butyne_eclipsed.out",
+            third_party / "xtb6.6.1" / "dvb_ir.out"]
+    for path in filter(Path.is_file, logs):
+        text = load(path).text
+        ranges = slices.xtb_ranges_read(text)
+        dropped, at = [], 0
+        for start, end in [*ranges, (len(text), len(text))]:
+            dropped += text[at:start].splitlines(keepends=True)
+            at = end
+        assert len(dropped) > text.count("\n") / 2, path.name
+        for line in dropped:
+            assert not any(_fires(test, line) for test in (*extractors, *predicates)), (path.name, line)
+
+
+def test_a_line_cclib_reads_is_never_dropped_from_an_xtb_log(samples):
+    """The check above has teeth: a phrase cclib reads (its charge line), forgotten by the slice, fails it."""
+    extractors, _ = _cclib_xtb_tests()
+    text = load(samples / "conformers" / "pentane_tt.out").text
+    kept = slices.xtb_lines_read(text)
+    lost = [line for line in text.splitlines(keepends=True) if "total charge" in line]
+    assert lost and all(line in kept for line in lost)
+    assert any(_fires(test, lost[0]) for test in extractors)

@@ -22,7 +22,11 @@ import threading
 
 from .checks import literals_checked
 from .programs import RULES, rules
+from .slices import XTB_READ
 
+#: phrases searched only from known points, a few lines away, and printed thousands of times in a long log (a cycle
+#: header of xTB's optimiser): indexing them would cost a Python call per occurrence in the scan
+NOT_INDEXED = ("CYCLE",)
 #: phrases the readers search a whole log of each program for, beyond those derived from the damage checks
 #: and ProgramRules (:func:`vocabulary`): the slicers', the extractors' and the amendments' (a phrase left out is
 #: only searched the slow way; tests/test_literals.py fails when a reading searches one that is not here)
@@ -47,8 +51,9 @@ PHRASES: dict[str, tuple[str, ...]] = {
              "Nuclear repulsion =", "Total Energy =", "Using finite-differences of gradients"),
     "gamess": ("ENERGY IS", "NUCLEAR COORDINATES", "NUCLEAR REPULSION ENERGY IS", "RUNTYP=", "TOTAL ENERGY =",
                "END OF NUMERICAL HESSIAN CALCULATION"),
-    "xtb": (" CYCLE ", ":: total energy", "GEOMETRY OPTIMIZATION", "GEOMETRY OPTIMIZATION CONVERGED",
-            "TOTAL ENTHALPY", "TOTAL FREE ENERGY", "program call", "zero point energy", "| TOTAL ENERGY"),
+    "xtb": (":: total energy", "GEOMETRY OPTIMIZATION", "GEOMETRY OPTIMIZATION CONVERGED",
+            "TOTAL ENTHALPY", "TOTAL FREE ENERGY", "program call", "zero point energy", "| TOTAL ENERGY",
+            *(phrase for phrase in XTB_READ if phrase not in NOT_INDEXED)),
     "orca": ("Electronic energy", "FINAL SINGLE POINT ENERGY", "Final Gibbs free energy",
              "GEOMETRY OPTIMIZATION CYCLE", "Multiplicity", "NORMAL MODES", "Nuclear Repulsion", "Program Version",
              "Temperature", "The first frequency", "Total Charge", "Total Enthalpy", "VIBRATIONAL FREQUENCIES",

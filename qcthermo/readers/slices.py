@@ -12,6 +12,7 @@ programs' own extractors always see the whole text.
 
 from __future__ import annotations
 
+import heapq
 import itertools
 import os
 import re
@@ -359,26 +360,194 @@ _XTB_END = "GEOMETRY OPTIMIZATION"
 
 
 def xtb(text: str) -> str | None:
-    """An xTB log without the optimisation cycles between the first and the last of each optimisation.
+    """An xTB log without the optimisation cycles between the first and the last of each optimisation, and
+    without the lines cclib's xTB parser ignores (:func:`xtb_lines_read`).
 
     Kept: the header and setup (program call, charge, multiplicity where printed, method), the first and the
     last cycle with the end line, the final structure, the summary with the final energy, the frequencies and
     thermochemistry, termination. None when there is nothing to cut or a structure not recognised."""
     cuts = []
     for start, end in segments(text, _XTB_END):
-        cut = _middle_cut(_outer_matching_lines(text, " CYCLE ", _XTB_CYCLE, start, end))
+        cut = _middle_cut(_outer_matching_lines(text, "CYCLE", _XTB_CYCLE, start, end))
         if cut:
             cuts.append(cut)
-    return without(text, cuts)
+    if not _cclib_is_1_8_1():
+        return without(text, cuts)
+    kept = _minus(xtb_ranges_read(text), cuts)
+    return None if kept == [(0, len(text))] else "".join(text[a:b] for a, b in kept)
+
+
+def _minus(ranges: list[tuple[int, int]], cuts: list[tuple[int, int]]) -> list[tuple[int, int]]:
+    """The parts of ``ranges`` (sorted, disjoint) outside every range of ``cuts`` (sorted, disjoint)."""
+    out = []
+    for start, end in ranges:
+        for a, b in cuts:
+            if b <= start or a >= end:
+                continue
+            if a > start:
+                out.append((start, a))
+            start = max(start, b)
+        if start < end:
+            out.append((start, end))
+    return out
+
+
+def _cclib_is_1_8_1() -> bool:
+    """Whether the cclib installed is the release whose xTB parser :data:`XTB_READ` mirrors."""
+    import cclib
+
+    return cclib.__version__ == "1.8.1"
+
+
+#: cclib 1.8.1's xTB parser (xtbparser.extract) tests each line it is given for these phrases (a part of each
+#: test, so a line without any of them passes every test: "G F N" of its three method banners, "-u" of its
+#: "(--uhf|-u) N" multiplicity, "symmetry" of its ":"-and-"symmetry" test) and reads nothing from any other line
+#: unless one of :data:`_XTB_BLOCKS` is reading it
+XTB_READ = ("xtb version", "program call", "coordinate file", "total charge", "-u", "G F N", "CYCLE",
+             "final structure:", "* Orbital Energies and Occupations", "covCN", "Mulliken/CM5 charges", "TOTAL ENERGY",
+             "symmetry", "Frequency Printout", "TOTAL ENTHALPY", "TOTAL FREE ENERGY", "zero point energy", "VIB",
+             "[WARNING]", "wall-time", "cpu-time", "* finished run", "$grad", "$hessian")
+#: the blocks that parser reads line by line after a line holding the phrase, as its loops do: phrase -> (the
+#: line, counted from the phrase's, its loop tests first; then for each loop in turn the test that ends it and
+#: the line, counted from the one that ended the loop before, the next loop tests first). "" is an empty line;
+#: "M END" a line holding "M" and "END", "*** GEOMETRY" one holding "***" and "GEOMETRY OPTIMIZATION".
+#: The final structure's end depends on the input's format (:func:`_xtb_structure_end`)
+_XTB_BLOCKS: dict[str, tuple[int, tuple[tuple[str, int], ...]]] = {
+    "CYCLE": (0, (("*** GEOMETRY", 0),)),
+    "* Orbital Energies and Occupations": (4, (("------", 0),)),
+    "covCN": (1, (("", 0),)),  # only under the header "#   Z   covCN   q ..." (its test splits the line)
+    "Mulliken/CM5 charges": (1, (("", 0),)),
+    "Frequency Printout": (3, (("reduced masses", 0), ("IR intensities", 1), ("Raman intensities", 0))),
+    "[WARNING]": (0, (("###", 0),)),
+    "$grad": (0, (("$end", 0),)),
+    "$hessian": (1, (("", 0),)),
+}
+
+
+def xtb_lines_read(text: str) -> str | None:
+    """``text`` (an xTB log) with only the lines cclib 1.8.1's parser reads: every line holding a phrase of
+    :data:`XTB_READ` and every block one of them starts (:data:`_XTB_BLOCKS`), whole and in order. The others
+    (citations, setup boxes, SCC iterations, timings, bond orders, geometry analysis: two thirds of a small log's
+    lines) pass through all its tests without effect, so the record is the same without them. None when nothing
+    is dropped, or for another cclib release, whose tests may differ."""
+    if not _cclib_is_1_8_1():
+        return None
+    kept = "".join(text[a:b] for a, b in xtb_ranges_read(text))
+    return None if len(kept) == len(text) else kept
+
+
+def xtb_ranges_read(text: str) -> list[tuple[int, int]]:
+    """The ranges of ``text`` (whole lines, in order, disjoint) that :func:`xtb_lines_read` keeps."""
+    merged: list[tuple[int, int]] = []
+    inside = 0  # lines before this, within a block, are read by the block's loop (not tested one by one)
+    upcoming = [(at, word) for word in XTB_READ if (at := find(text, word)) >= 0]
+    heapq.heapify(upcoming)
+    while upcoming:
+        at, phrase = heapq.heappop(upcoming)
+        if at < inside:  # within a block (an optimisation's thousands of cycle lines): on from its end
+            _push_next(upcoming, text, phrase, inside)
+            continue
+        start, end = text.rfind("\n", 0, at) + 1, _xtb_read_end(text, phrase, at)
+        if end > _line_end(text, at):  # a block: its last line is tested further, as a line of its own
+            inside = text.rfind("\n", 0, end - 1) + 1
+        if merged and start <= merged[-1][1]:
+            merged[-1] = (merged[-1][0], max(merged[-1][1], end))
+        else:
+            merged.append((start, end))
+        _push_next(upcoming, text, phrase, at + 1)
+    return merged
+
+
+def _push_next(upcoming: list, text: str, phrase: str, start: int) -> None:
+    """Queue the next occurrence of ``phrase`` from ``start``, if any."""
+    at = find(text, phrase, start)
+    if at >= 0:
+        heapq.heappush(upcoming, (at, phrase))
+
+
+def _line_end(text: str, at: int) -> int:
+    """The index after the newline that ends the line holding ``at`` (the text's end for its last line)."""
+    end = text.find("\n", at)
+    return len(text) if end < 0 else end + 1
+
+
+def _nth_line(text: str, at: int, n: int) -> int:
+    """The start of the ``n``-th line after the one holding ``at`` (0: that line's start)."""
+    line = text.rfind("\n", 0, at) + 1
+    for _ in range(n):
+        line = _line_end(text, line)
+    return line
+
+
+def _xtb_line_with(text: str, test: str, start: int) -> int:
+    """The start of the first line from ``start`` (a line start) that passes ``test`` (:data:`_XTB_BLOCKS`), or -1."""
+    if test == "":  # cclib's line == "\n"
+        if text.startswith("\n", start):
+            return start
+        found = text.find("\n\n", start)
+        return -1 if found < 0 else found + 1
+    phrase, also = {"*** GEOMETRY": ("GEOMETRY OPTIMIZATION", "***"), "M END": ("END", "M")}.get(test, (test, ""))
+    # an optimisation's cycles span most of a long log: their end is found from the phrase index; every other block
+    # ends within a few lines of its start
+    locate = find if test == "*** GEOMETRY" else str.find
+    while (at := locate(text, phrase, start)) >= 0:
+        line = text.rfind("\n", 0, at) + 1
+        if also in text[line : _line_end(text, at)]:
+            return line
+        start = _line_end(text, at)
+    return -1
+
+
+def _xtb_read_end(text: str, phrase: str, at: int) -> int:
+    """The end of what cclib reads for the line holding ``phrase`` at ``at``: that line's end, or the end of the
+    block it starts (the text's end when the block never ends, or cclib would raise at it: all is kept then)."""
+    end = _line_end(text, at)
+    line = text.rfind("\n", 0, at) + 1
+    if phrase == "final structure:":
+        first, loops = 0, ((_xtb_structure_end(text, at), 0),)
+    elif phrase in _XTB_BLOCKS and (phrase != "covCN" or text[line:end].split()[:4] == ["#", "Z", "covCN", "q"]):
+        first, loops = _XTB_BLOCKS[phrase]
+    else:
+        return end
+    start = _nth_line(text, at, first)
+    for test, after in loops:
+        if test is None or start >= len(text) or (found := _xtb_line_with(text, test, start)) < 0:
+            return len(text)
+        start = _nth_line(text, found, after)
+        end = _line_end(text, found)
+    return end
+
+
+def _xtb_structure_end(text: str, at: int) -> str | None:
+    """The test that ends the final structure at ``at``, by the format of the input file named before it, as cclib
+    tells it (the extension of "coordinate file"'s last word): "" for xyz, "M END" for mol and sdf, None (cclib
+    raises: everything is kept) for any other."""
+    named = rfind(text, "coordinate file", 0, at)
+    if named < 0:
+        return None
+    words = text[named : _line_end(text, named)].split()
+    kind = words[-1].split(".")[-1] if words else ""
+    return "" if kind == "xyz" else "M END" if kind in ("mol", "sdf") else None
 
 
 def _outer_matching_lines(text: str, phrase: str, pattern: re.Pattern, start: int, end: int) -> list[int]:
     """The starts of the first two and the last of :func:`matching_lines` (all of them when there are at most
-    three): what :func:`_middle_cut` needs, without trying the pattern on the thousands of lines between
-    (an optimisation of 30,000 xTB cycles)."""
-    found = hits(text, phrase, start, end)
+    three): what :func:`_middle_cut` needs, found from both ends of ``text[start:end]`` without visiting the
+    thousands of lines between (an optimisation of 30,000 xTB cycles)."""
 
-    def matching(positions) -> Iterator[int]:  # the start of each line there that matches, each line once
+    def forward() -> Iterator[int]:
+        at = find(text, phrase, start, end)
+        while at >= 0:
+            yield at
+            at = find(text, phrase, at + 1, end)
+
+    def backward() -> Iterator[int]:
+        at = rfind(text, phrase, start, end)
+        while at >= 0:
+            yield at
+            at = rfind(text, phrase, start, at + len(phrase) - 1)
+
+    def matching(positions: Iterator[int]) -> Iterator[int]:  # the start of each line there that matches, once
         previous = None
         for at in positions:
             line = text.rfind("\n", 0, at) + 1
@@ -386,10 +555,10 @@ def _outer_matching_lines(text: str, phrase: str, pattern: re.Pattern, start: in
                 yield line
             previous = line
 
-    head = list(itertools.islice(matching(found), 2))
+    head = list(itertools.islice(matching(forward()), 2))
     if len(head) < 2:
         return head
-    last = next(matching(reversed(found)), None)
+    last = next(matching(backward()), None)
     return head if last is None or last <= head[1] else [*head, last]
 
 
