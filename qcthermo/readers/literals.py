@@ -22,11 +22,8 @@ import threading
 
 from .checks import literals_checked
 from .programs import RULES, rules
-from .slices import XTB_READ
+from .slices import NOT_INDEXED, XTB_READ
 
-#: phrases searched only from known points, a few lines away, and printed thousands of times in a long log (a cycle
-#: header of xTB's optimiser): indexing them would cost a Python call per occurrence in the scan
-NOT_INDEXED = ("CYCLE",)
 #: phrases the readers search a whole log of each program for, beyond those derived from the damage checks
 #: and ProgramRules (:func:`vocabulary`): the slicers', the extractors' and the amendments' (a phrase left out is
 #: only searched the slow way; tests/test_literals.py fails when a reading searches one that is not here)

@@ -18,7 +18,7 @@ import os
 import re
 from collections.abc import Callable, Iterable, Iterator
 
-from .text import find, hits, rfind
+from .text import find, hits, indexed_for, rfind
 
 #: the environment variable that turns slicing off when set to anything but "" or "0"
 NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
@@ -361,7 +361,8 @@ _XTB_END = "GEOMETRY OPTIMIZATION"
 
 def xtb(text: str) -> str | None:
     """An xTB log without the optimisation cycles between the first and the last of each optimisation, and
-    without the lines cclib's xTB parser ignores (:func:`xtb_lines_read`).
+    without the lines cclib's xTB parser ignores (:func:`xtb_ranges_read`; with cclib 1.8.1 only, whose
+    tests they mirror).
 
     Kept: the header and setup (program call, charge, multiplicity where printed, method), the first and the
     last cycle with the end line, the final structure, the summary with the final energy, the frequencies and
@@ -373,8 +374,12 @@ def xtb(text: str) -> str | None:
             cuts.append(cut)
     if not _cclib_is_1_8_1():
         return without(text, cuts)
-    kept = _minus(xtb_ranges_read(text), cuts)
-    return None if kept == [(0, len(text))] else "".join(text[a:b] for a, b in kept)
+    if not indexed_for(text, (phrase for phrase in XTB_READ if phrase not in NOT_INDEXED)):
+        piece = without(text, cuts) or text  # searched phrase by phrase: the cut text, which is the shorter
+        kept = "".join(piece[a:b] for a, b in xtb_ranges_read(piece))
+        return None if len(kept) == len(text) else kept
+    kept_ranges = _minus(xtb_ranges_read(text), cuts)  # positions from the index: no pass over the text
+    return None if kept_ranges == [(0, len(text))] else "".join(text[a:b] for a, b in kept_ranges)
 
 
 def _minus(ranges: list[tuple[int, int]], cuts: list[tuple[int, int]]) -> list[tuple[int, int]]:
@@ -399,6 +404,10 @@ def _cclib_is_1_8_1() -> bool:
     return cclib.__version__ == "1.8.1"
 
 
+#: phrases searched only from known points, a few lines away, and printed thousands of times in a long log (a cycle
+#: header of xTB's optimiser): the phrase index (literals.py) leaves them out, as each would cost a Python call
+#: per occurrence in its scan
+NOT_INDEXED = ("CYCLE",)
 #: cclib 1.8.1's xTB parser (xtbparser.extract) tests each line it is given for these phrases (a part of each
 #: test, so a line without any of them passes every test: "G F N" of its three method banners, "-u" of its
 #: "(--uhf|-u) N" multiplicity, "symmetry" of its ":"-and-"symmetry" test) and reads nothing from any other line
@@ -424,20 +433,11 @@ _XTB_BLOCKS: dict[str, tuple[int, tuple[tuple[str, int], ...]]] = {
 }
 
 
-def xtb_lines_read(text: str) -> str | None:
-    """``text`` (an xTB log) with only the lines cclib 1.8.1's parser reads: every line holding a phrase of
-    :data:`XTB_READ` and every block one of them starts (:data:`_XTB_BLOCKS`), whole and in order. The others
-    (citations, setup boxes, SCC iterations, timings, bond orders, geometry analysis: two thirds of a small log's
-    lines) pass through all its tests without effect, so the record is the same without them. None when nothing
-    is dropped, or for another cclib release, whose tests may differ."""
-    if not _cclib_is_1_8_1():
-        return None
-    kept = "".join(text[a:b] for a, b in xtb_ranges_read(text))
-    return None if len(kept) == len(text) else kept
-
-
 def xtb_ranges_read(text: str) -> list[tuple[int, int]]:
-    """The ranges of ``text`` (whole lines, in order, disjoint) that :func:`xtb_lines_read` keeps."""
+    """The ranges of ``text`` (an xTB log; whole lines, in order, disjoint) that cclib 1.8.1's parser reads: every
+    line holding a phrase of :data:`XTB_READ` and every block one of them starts (:data:`_XTB_BLOCKS`), whole.
+    The others (citations, setup boxes, SCC iterations, timings, bond orders, geometry analysis: four fifths of a
+    small log's lines) pass through all its tests without effect, so the record is the same without them."""
     merged: list[tuple[int, int]] = []
     inside = 0  # lines before this, within a block, are read by the block's loop (not tested one by one)
     upcoming = [(at, word) for word in XTB_READ if (at := find(text, word)) >= 0]
