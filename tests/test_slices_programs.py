@@ -168,12 +168,12 @@ def _fires(test, line: str) -> bool:
     return result is not None and result is not False  # a charge of 0 is read
 
 
-def test_the_xtb_slice_drops_only_lines_cclib_ignores(samples, third_party):
+def test_the_xtb_slice_drops_only_lines_cclib_ignores(samples):
     """Reference: cclib 1.8.1's own line tests (xtbparser). Every line of a real xTB log outside the ranges the
     slice keeps passes all of them without effect, and at least half of each log's lines are dropped."""
     extractors, predicates = _cclib_xtb_tests()
     logs = [*sorted((samples / "conformers").glob("*.out")), samples / "flawed" / "butyne_eclipsed.out",
-            third_party / "xtb6.6.1" / "dvb_ir.out"]
+            THIRD_PARTY / "xtb6.6.1" / "dvb_ir.out"]  # the third-party log when it is beside the project
     for path in filter(Path.is_file, logs):
         text = load(path).text
         ranges = slices.xtb_ranges_read(text)
