@@ -3,10 +3,10 @@
 Reading one log searches its whole text for 20 to 40 literal phrases: the damage checks' atom counts and
 geometry blocks, every program's run banners and end phrases, the slicers' step markers, the job
 specification's lines. One ``str.find`` pass costs 12-20 ms on 30 MB (about 2 GB/s on the development
-machine), so these passes were most of a production-size read. Hyperscan (Intel's multi-pattern matcher,
-through the ``hyperscan`` package) finds every occurrence of all of a program's phrases in one pass over the
-file's mapping at about the cost of one ``str.find``; the positions go with the text (``LogSource.literals``),
-and :mod:`.text`'s searches answer from them for that text.
+machine), so these passes were most of a production-size read. Hyperscan (Intel's multi-pattern matcher, which
+the ``hyperscan`` package bundles in its Vectorscan fork) finds every occurrence of all of a program's phrases in
+one pass over the file's mapping at about the cost of one ``str.find``; the positions go with the text
+(``LogSource.literals``), and :mod:`.text`'s searches answer from them for that text.
 
 The positions are those of the text: the text is decoded one character per byte ("?" for each byte beyond
 ASCII, source.py), so a byte offset is a character offset; a file whose text is not aligned so (a byte-order
@@ -50,7 +50,7 @@ PHRASES: dict[str, tuple[str, ...]] = {
                "END OF NUMERICAL HESSIAN CALCULATION"),
     "xtb": (":: total energy", "GEOMETRY OPTIMIZATION", "GEOMETRY OPTIMIZATION CONVERGED",
             "TOTAL ENTHALPY", "TOTAL FREE ENERGY", "program call", "zero point energy", "| TOTAL ENERGY",
-            *(phrase for phrase in XTB_READ if phrase not in NOT_INDEXED)),
+            *XTB_READ),
     "orca": ("Electronic energy", "FINAL SINGLE POINT ENERGY", "Final Gibbs free energy",
              "GEOMETRY OPTIMIZATION CYCLE", "Multiplicity", "NORMAL MODES", "Nuclear Repulsion", "Program Version",
              "Temperature", "The first frequency", "Total Charge", "Total Enthalpy", "VIBRATIONAL FREQUENCIES",
@@ -67,11 +67,13 @@ def mark_literals() -> tuple[str, ...]:
                                for literal in (*rule.run_banners, *rule.end_literals)))
 
 
+@functools.cache
 def vocabulary(program: str) -> tuple[str, ...]:
-    """The phrases indexed for a log of ``program``, each once, in a fixed order."""
+    """The phrases indexed for a log of ``program``, each once, in a fixed order (none of ``NOT_INDEXED``)."""
     rule = rules(program)
-    return tuple(dict.fromkeys((*mark_literals(), *literals_checked(program), *rule.keyword_literals,
-                                *rule.converged_literals, *PHRASES.get(program, ()))))
+    phrases = (*mark_literals(), *literals_checked(program), *rule.keyword_literals, *rule.converged_literals,
+               *PHRASES.get(program, ()))
+    return tuple(phrase for phrase in dict.fromkeys(phrases) if phrase not in NOT_INDEXED)
 
 
 @functools.cache
