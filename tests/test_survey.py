@@ -460,8 +460,9 @@ def test_odd_file_names_appear_verbatim_in_the_table_csv_and_json(odd_names, tmp
 
     csv, js = tmp_path / "s.csv", tmp_path / "s.json"
     assert main(["survey", str(odd_names), "--jobs", "1", "--csv", str(csv), "--json", str(js)]) == 0
-    out = capsys.readouterr().out
-    table_names = [line.split()[0] for line in out.splitlines()[1:5]]
+    lines = capsys.readouterr().out.splitlines()
+    header = next(i for i, line in enumerate(lines) if line.split()[:1] == ["file"])
+    table_names = [line.split()[0] for line in lines[header + 1 : header + 5]]
     assert table_names == ODD_SHOWN  # markup printed as written, not taken as styles
     assert list(pd.read_csv(csv)["path"]) == ODD_SHOWN
     assert [row["path"] for row in json.loads(js.read_text(encoding="utf-8"))] == ODD_SHOWN
@@ -566,3 +567,25 @@ def test_a_run_whose_output_is_redirected_into_the_surveyed_folder_does_not_read
     assert "note: run.log: not read: it is this command's own output" in (root / "run.log").read_text()
     rows = json.loads((tmp_path / "out" / "run.json").read_text())["survey"]["summary"]
     assert rows.startswith("2 files")
+
+
+def test_columns_every_file_shares_are_named_once_above_the_table(samples, cache_dir, capsys, monkeypatch):
+    """The eight pentane conformers are xTB GFN2 optimisations with frequencies of neutral singlet C5H12 (their
+    banners and setup, sample_outputs/generate.sh): those columns are named once; the energies stay in the table."""
+    monkeypatch.setenv("COLUMNS", "160")
+    assert main(["survey", str(samples / "conformers"), "--jobs", "1"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0] == ("every file: program xtb · jobs optimization+frequencies · level GFN2-xTB · q/2S+1 0/1 · "
+                        "formula C5H12")
+    assert lines[1].split() == ["file", "E", "/", "Eh", "lowest", "/", "cm⁻¹", "imag", "status"]
+    assert "-16.829457" in lines[-4]  # pentane_tt.out's energy, as printed in its summary (-16.829456631413 Eh)
+
+
+def test_a_column_that_varies_stays_in_the_table(samples, cache_dir, capsys, monkeypatch):
+    """The gas-phase sample: NWChem B3LYP/6-31G* throughout (every input of sample_outputs/gas), but atoms,
+    radicals and molecules of several formulas and spins: those columns stay."""
+    monkeypatch.setenv("COLUMNS", "160")
+    main(["survey", str(samples / "gas"), "--jobs", "1"])
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0] == "every file: program nwchem · level B3LYP/6-31G*"
+    assert {"jobs", "q/2S+1", "formula"} <= set(lines[1].split())

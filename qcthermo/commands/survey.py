@@ -38,6 +38,8 @@ _PRIORITY = (0, 10, 1, 6, 7, 9, 8, 5, 3, 2, 4)
 #: numbers, right-aligned so that their digits line up
 _NUMERIC = {"E / Eh", "lowest / cm⁻¹", "imag"}
 _REASON_MIN = 24
+#: columns that, holding one value in every row of a table of several, are named once above it instead
+_SHARED = ("program", "jobs", "level", "solvent", "q/2S+1", "formula")
 _STATUS_STYLE = {"warning": "yellow", "error": "red"}
 
 
@@ -77,6 +79,14 @@ def _fitting_columns(cells: list[list[str]], width: int) -> list[int]:
     return sorted(keep)
 
 
+def _shared_columns(cells: list[list[str]]) -> list[int]:
+    """Indices of the :data:`_SHARED` columns that hold one value, not empty, in every row of several."""
+    if len(cells) < 2:
+        return []
+    return [j for j, (heading, _) in enumerate(_TABLE)
+            if heading in _SHARED and cells[0][j] and all(c[j] == cells[0][j] for c in cells)]
+
+
 def print_table(result: SurveyResult) -> None:
     """The rows on stdout, fitted to the terminal (a pipe gets $COLUMNS or 200 characters). Cells are Text, not
     markup: a file called "[bold]x.log" is shown as named."""
@@ -85,7 +95,10 @@ def print_table(result: SurveyResult) -> None:
 
     console = console_for_stdout(200)
     cells = [[show(row) for _, show in _TABLE] for row in result.rows]
-    keep = _fitting_columns(cells, console.width)
+    shared = _shared_columns(cells)
+    if shared:
+        console.print(Text(f"every file: {' · '.join(f'{_TABLE[j][0]} {display(cells[0][j])}' for j in shared)}"))
+    keep = [j for j in _fitting_columns(cells, console.width) if j not in shared]
     table = Table(box=None, pad_edge=False, header_style="bold")
     for j in keep:
         heading = _TABLE[j][0]
