@@ -268,6 +268,28 @@ def test_a_run_ending_inside_another_of_the_same_program_is_refused(samples, thi
             r"run ends normally at line \d+, but the log goes on for \d+ more lines: logs spliced")
 
 
+def test_the_head_of_one_xtb_log_spliced_onto_the_tail_of_another_is_refused(samples, third_party, tmp_path):
+    """Found by fuzzing: butyne_eclipsed.out's head (banner and setup, whose table of elements lists C 1-4, H 5-10)
+    spliced onto the third-party dvb_ir.out's tail (its SCF, Hessian and charges table of 20 atoms: an --hess run,
+    which prints no structure to compare). Both logs print their table of elements (the references); the record was
+    dvb's C10H10 under butyne's header."""
+    head = (samples / "flawed" / "butyne_eclipsed.out").read_text()
+    tail = (third_party / "xtb6.6.1" / "dvb_ir.out").read_text()
+    spliced = head[:5750] + tail[13727:]  # the fuzzer's cut: inside butyne's setup, inside dvb's first SCF
+    assert "1    6 C      1-4" in spliced and "1    6 C      1-6, 11, 12, 16, 17" not in spliced
+    refused(write(tmp_path, "spliced.out", spliced), "the final geometry has 20 atoms but the log's table of "
+                                                     "elements lists 10 .logs of two molecules spliced together")
+
+
+def test_an_xtb_table_of_elements_that_disagrees_atom_by_atom_is_refused(third_party, tmp_path):
+    """dvb_ir.out lists C at 1-6, 11, 12, 16, 17 (its table of elements; the charges table agrees): with two of those
+    numbers swapped for two hydrogens' the count still fits, the elements no longer do."""
+    text = (third_party / "xtb6.6.1" / "dvb_ir.out").read_text()
+    edited = text.replace("1-6, 11, 12, 16, 17", "1-6, 11, 12, 13, 14").replace("7-10, 13-15, 18-20", "7-10, 15-20")
+    assert edited.count("7-10, 15-20") == 1
+    refused(write(tmp_path, "dvb.out", edited), "atom 13 is H in the final geometry but element 6 in the log's table")
+
+
 #: Firefly 8.0.1's header, as printed at the top of its dvb_sp.out in cclib's regression data
 #: (data/GAMESS/basicFirefly8.0): it names "GAMESS VERSION" twice, and Firefly prints no other banner
 FIREFLY_HEADER = """

@@ -111,9 +111,10 @@ _INVARIANTS: dict[str, tuple[_Count, ...]] = {
 def literals_checked(program: str) -> tuple[str, ...]:
     """The phrases these checks search a log of ``program`` for (literals.py indexes them)."""
     specs = (*_DECLARED.get(program, ()), *_BLOCKS.get(program, ()), *_INVARIANTS.get(program, ()))
+    tables = (_XTB_ELEMENTS,) if program == "xtb" else ()
     restated = [phrase for statement in _RESTATEMENTS.get(program, ())
                 for phrase in (statement.literal.strip("\n"), statement.requires) if phrase]
-    return tuple(dict.fromkeys([*(spec.literal for spec in specs), *restated]))
+    return tuple(dict.fromkeys([*(spec.literal for spec in specs), *tables, *restated]))
 
 
 def invariant_problem(program: str, text: str) -> str | None:
@@ -158,7 +159,67 @@ def atoms_problem(program: str, text: str, symbols, coordinates) -> str | None:
     if wrong:
         return (f"the final geometry has {natoms} atoms but another geometry block of the log has "
                 f"{', '.join(map(str, wrong))} (damaged or cut-short geometry block?)")
-    return _element_problem(text, symbols, blocks) or nuclear_repulsion_problem(program, text, symbols, coordinates)
+    return (_element_problem(text, symbols, blocks) or _element_table_problem(program, text, symbols)
+            or nuclear_repulsion_problem(program, text, symbols, coordinates))
+
+
+#: xTB's table of the elements, printed once per run in its setup: "ID  Z sym.  atoms", then per element its
+#: atoms by number ("1-6, 11, 12, 16, 17"), to an empty line
+_XTB_ELEMENTS = "ID    Z sym.   atoms"
+_XTB_ELEMENT_ROW = re.compile(r"[ \t]+\d+[ \t]+(\d+)[ \t]+[A-Za-z]{1,3}[ \t]+(\d.*)")
+_XTB_MORE_ATOMS = re.compile(r"[ \t]+(\d[\d, \t-]*)")
+
+
+def _element_table_problem(program: str, text: str, symbols) -> str | None:
+    """Why the final geometry's elements, atom by atom, are not those of a table of the elements the program
+    printed (xTB's setup), or None. A table read in full must list every atom once; one it cannot read (another
+    layout) is not compared. A head of one molecule's log spliced onto another's tail shows here when the tail
+    prints no structure to compare (an xTB --hess run)."""
+    if program != "xtb":
+        return None
+    final = _nuclear_charges(symbols)
+    for at in hits(text, _XTB_ELEMENTS):
+        listed = _xtb_listed_elements(text, at)
+        if listed is None:
+            continue
+        if len(listed) != final.size:
+            return (f"the final geometry has {final.size} atoms but the log's table of elements lists {len(listed)} "
+                    "(logs of two molecules spliced together?)")
+        wrong = np.flatnonzero(listed != final)
+        if wrong.size:
+            i = int(wrong[0])
+            return (f"atom {i + 1} is {symbols[i]} in the final geometry but element {listed[i]} in the log's table "
+                    "of elements (logs of two molecules spliced together?)")
+    return None
+
+
+def _xtb_listed_elements(text: str, at: int) -> np.ndarray | None:
+    """The nuclear charge of each atom, by number, from the table of elements whose header is at ``at``; None when a
+    row does not read as expected or the atoms listed are not 1..N once each."""
+    charges: dict[int, int] = {}
+    z = None
+    start = text.find("\n", at) + 1
+    for line in text[start : start + 20000].split("\n")[:-1]:  # 200 rows at most: the last may be cut short
+        if not line.strip():
+            break
+        row, more = _XTB_ELEMENT_ROW.fullmatch(line), _XTB_MORE_ATOMS.fullmatch(line)
+        if row:
+            z, numbers = int(row.group(1)), row.group(2)
+        elif more and z is not None:
+            numbers = more.group(1)
+        else:
+            return None
+        for item in filter(None, (part.strip() for part in numbers.split(","))):
+            first, _, last = item.partition("-")
+            if not first.isdigit() or (last and not last.isdigit()):
+                return None
+            for number in range(int(first), int(last or first) + 1):
+                if number in charges:
+                    return None
+                charges[number] = z
+    if not charges or sorted(charges) != list(range(1, len(charges) + 1)):
+        return None
+    return np.array([charges[n] for n in range(1, len(charges) + 1)])
 
 
 @functools.cache
