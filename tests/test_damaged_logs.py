@@ -91,6 +91,16 @@ def test_xtb_damaged_final_structure_is_not_an_unknown_geometry(samples, tmp_pat
         qcthermo.read_log(damaged)
 
 
+def test_xtb_optimisation_without_its_final_structure_line_is_refused(samples, tmp_path):
+    """Found by fuzzing: pentane_tt.out with the line " final structure:" lost (and the rule under it). The log
+    still says "*** GEOMETRY OPTIMIZATION CONVERGED AFTER 6 ITERATIONS ***", after which xTB prints the final
+    structure (every real xTB optimisation at hand does); the record had been read with unknown coordinates."""
+    text = (samples / "conformers" / "pentane_tt.out").read_text()
+    edited = text.replace(" final structure:\n================\n", "", 1)
+    assert edited != text
+    refused(write(tmp_path, "pentane.out", edited), "optimisation ended but its final structure block is missing")
+
+
 def test_frequencies_for_another_atom_count_are_refused_not_trimmed():
     # 3N-6 or 3N-5 vibrations, or all 3N modes when the program lists the rigid-body ones (common practice)
     assert checks.frequency_problem(np.ones(54), 20, 54, all_modes=False) is None

@@ -38,7 +38,7 @@ from .programs import (
 )
 from .slices import displacements_start
 from .source import LogSource, load
-from .text import indexed, last_line_match, lines_with
+from .text import find, indexed, last_line_match, lines_with
 
 #: job types that are not a single point
 _NOT_SINGLE_POINT = {"optimization", "frequencies", "saddle-search", "irc", "scan"}
@@ -96,8 +96,11 @@ def _read_run(source: LogSource) -> Calculation:
     found = cclib_data.fields(data, source.program) if data is not None else {}
     notes: list[str] = found.pop("notes", [])
     if source.program == "xtb" and "symbols" in found and "coordinates" not in found:
-        if "final structure:" in source.text:  # printed, but cclib could not read it
+        if find(source.text, "final structure:") >= 0:  # printed, but cclib could not read it
             raise LogReadError(source.path, "xTB's final structure block is damaged (its rows do not fit its atoms)")
+        if _xtb_optimisation_ended(source.text):  # xTB prints the final structure right after this line
+            raise LogReadError(source.path, "xTB's optimisation ended but its final structure block is missing "
+                                            "(lines lost from the log?)")
         found["coordinates"] = _xtb_coordinate_file(source, found["symbols"], notes)
         found["coordinates_unknown"] = not np.all(np.isfinite(found["coordinates"]))
     extractor = fallback.EXTRACTORS.get(source.program)
@@ -200,6 +203,12 @@ def _amend_xtb(text: str, found: dict, notes: list[str]) -> None:
         temperature = found.get("thermo_printed", {}).get("temperature")
         found["thermo_printed"] = thermo if temperature is None else {**thermo, "temperature": temperature}
         notes.append("thermochemistry read from the text in hartree (cclib gives xTB's in eV)")
+
+
+def _xtb_optimisation_ended(text: str) -> bool:
+    """Whether an xTB optimisation printed its end line ("*** GEOMETRY OPTIMIZATION CONVERGED AFTER 6 ITERATIONS
+    ***", or that it failed to converge), after which xTB prints the final structure."""
+    return any("***" in line for line in lines_with(text, "GEOMETRY OPTIMIZATION").splitlines())
 
 
 def _xtb_coordinate_file(source: LogSource, symbols: tuple[str, ...], notes: list[str]) -> np.ndarray:
