@@ -21,7 +21,7 @@ from .normalise import method_name, solvent_model_name
 from .programs import rules
 from .slices import cclib_slice
 from .source import PROGRAMS, LogSource
-from .text import find, rfind
+from .text import find, line_start, rfind
 
 
 class _NullStream(io.TextIOBase):
@@ -88,7 +88,7 @@ def _lines_from(text: str, header: str, count: int):
     (fewer at the end of the text), each without its newline."""
     at = find(text, header)
     while at >= 0:
-        start = text.rfind("\n", 0, at) + 1
+        start = line_start(text, at)
         end = text.find("\n", at)
         if text[start : len(text) if end < 0 else end].strip() == header:
             yield start, text[start : start + 4000].split("\n", count + 1)[: count + 1]

@@ -19,7 +19,7 @@ import numpy as np
 from .normalise import electron_count
 from .programs import RULES, rules
 from .source import LogSource
-from .text import hits, indexed_for, line_bounds, lines_with, rfind
+from .text import hits, indexed_for, line_bounds, line_start, lines_with, rfind
 
 #: |E_TF| = 0.7687 Z^(7/3) hartree, the Thomas-Fermi energy of a neutral atom (Lieb and Simon, Adv. Math. 1977,
 #: 23, 22; the coefficient from memory), exceeds the true magnitude (-0.500 vs -0.769 for H, -37.8 vs -50.3 for
@@ -600,7 +600,7 @@ def mixed_programs_problem(source: LogSource, marks: list[Mark]) -> str | None:
 
 def _run_starts(source: LogSource, marks: list[Mark]) -> list[int]:
     """Where each run of the program starts (the line of its banner; the first run at 0)."""
-    starts = [source.text.rfind("\n", 0, m.at) + 1 for m in marks if m.program == source.program and m.kind == "banner"]
+    starts = [line_start(source.text, m.at) for m in marks if m.program == source.program and m.kind == "banner"]
     return [0, *starts[1:]] if starts else [0]
 
 

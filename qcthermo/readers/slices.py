@@ -18,7 +18,7 @@ import os
 import re
 from collections.abc import Callable, Iterable, Iterator
 
-from .text import find, hits, indexed_for, rfind
+from .text import find, hits, indexed_for, line_bounds, line_start, rfind
 
 #: the environment variable that turns slicing off when set to anything but "" or "0"
 NO_SLICE_VARIABLE = "QCTHERMO_NO_SLICE"
@@ -46,7 +46,7 @@ def line_starts(text: str, phrase: str, start: int = 0, end: int | None = None) 
     """Where each line holding ``phrase`` starts, in ``text[start:end]`` (one entry per line)."""
     found: list[int] = []
     for at in hits(text, phrase, start, end):
-        line = text.rfind("\n", 0, at) + 1
+        line = line_start(text, at)
         if not found or found[-1] != line:
             found.append(line)
     return found
@@ -55,7 +55,7 @@ def line_starts(text: str, phrase: str, start: int = 0, end: int | None = None) 
 def first_line_start(text: str, phrases: Iterable[str], start: int, end: int) -> int | None:
     """Start of the first line after ``start`` (before ``end``) holding any of ``phrases``; None if none does."""
     found = [at for phrase in phrases if (at := find(text, phrase, start, end)) >= 0]
-    return text.rfind("\n", 0, min(found)) + 1 if found else None
+    return line_start(text, min(found)) if found else None
 
 
 def holds_any(text: str, phrases: Iterable[str], start: int = 0, end: int | None = None) -> bool:
@@ -106,8 +106,8 @@ def _gaussian_orientations(text: str, start: int, end: int) -> tuple[int, int]:
         if text.startswith("Input ", at - 6) or text.startswith("Z-Matrix ", at - 9):
             inputs += 1
         elif text.startswith("Standard orientation:", at - 9):
-            line_start, line_end = text.rfind("\n", 0, at) + 1, text.find("\n", at)
-            standard += text[line_start:line_end].strip() == "Standard orientation:"
+            first, last = line_bounds(text, at)
+            standard += text[first:last].strip() == "Standard orientation:"
     return inputs, standard
 
 
@@ -205,7 +205,7 @@ def _values_kept(text: str, phrase: str, pattern: re.Pattern, start: int, end: i
     last one before ``start``: state cclib overwrites (a point group's order) is then the same after the cut."""
     values = {m.group(1) for m in matching_lines(text, phrase, pattern, start, end)}
     before = rfind(text, phrase, 0, start)
-    last = pattern.match(text, text.rfind("\n", 0, before) + 1) if before >= 0 else None
+    last = pattern.match(text, line_start(text, before)) if before >= 0 else None
     return not values or (last is not None and values == {last.group(1)})
 
 
@@ -291,7 +291,7 @@ def _nwchem_orbital_blocks(text: str, cuts: list[tuple[int, int]]) -> list[tuple
     for at in hits(text, _NWCHEM_ORBITALS):
         if any(a <= at < b for a, b in cuts):
             continue
-        found = _NWCHEM_ORBITAL_BLOCK.match(text, text.rfind("\n", 0, at) + 1)
+        found = _NWCHEM_ORBITAL_BLOCK.match(text, line_start(text, at))
         if found:
             blocks.append(found.span())
     return blocks
@@ -447,9 +447,9 @@ def xtb_ranges_read(text: str) -> list[tuple[int, int]]:
         if at < inside:  # within a block (an optimisation's thousands of cycle lines): on from its end
             _push_next(upcoming, text, phrase, inside)
             continue
-        start, end = text.rfind("\n", 0, at) + 1, _xtb_read_end(text, phrase, at)
+        start, end = line_start(text, at), _xtb_read_end(text, phrase, at)
         if end > _line_end(text, at):  # a block: its last line is tested further, as a line of its own
-            inside = text.rfind("\n", 0, end - 1) + 1
+            inside = line_start(text, end - 1)
         if merged and start <= merged[-1][1]:
             merged[-1] = (merged[-1][0], max(merged[-1][1], end))
         else:
@@ -473,7 +473,7 @@ def _line_end(text: str, at: int) -> int:
 
 def _nth_line(text: str, at: int, n: int) -> int:
     """The start of the ``n``-th line after the one holding ``at`` (0: that line's start)."""
-    line = text.rfind("\n", 0, at) + 1
+    line = line_start(text, at)
     for _ in range(n):
         line = _line_end(text, line)
     return line
@@ -491,7 +491,7 @@ def _xtb_line_with(text: str, test: str, start: int) -> int:
     # ends within a few lines of its start
     locate = find if test == "*** GEOMETRY" else str.find
     while (at := locate(text, phrase, start)) >= 0:
-        line = text.rfind("\n", 0, at) + 1
+        line = line_start(text, at)
         if also in text[line : _line_end(text, at)]:
             return line
         start = _line_end(text, at)
@@ -502,7 +502,7 @@ def _xtb_read_end(text: str, phrase: str, at: int) -> int:
     """The end of what cclib reads for the line holding ``phrase`` at ``at``: that line's end, or the end of the
     block it starts (the text's end when the block never ends, or cclib would raise at it: all is kept then)."""
     end = _line_end(text, at)
-    line = text.rfind("\n", 0, at) + 1
+    line = line_start(text, at)
     if phrase == "final structure:":
         first, loops = 0, ((_xtb_structure_end(text, at), 0),)
     elif phrase in _XTB_BLOCKS and (phrase != "covCN" or text[line:end].split()[:4] == ["#", "Z", "covCN", "q"]):
@@ -550,7 +550,7 @@ def _outer_matching_lines(text: str, phrase: str, pattern: re.Pattern, start: in
     def matching(positions: Iterator[int]) -> Iterator[int]:  # the start of each line there that matches, once
         previous = None
         for at in positions:
-            line = text.rfind("\n", 0, at) + 1
+            line = line_start(text, at)
             if line != previous and pattern.match(text, line):
                 yield line
             previous = line

@@ -70,9 +70,14 @@ def rfind(text: str, phrase: str, start: int = 0, end: int | None = None) -> int
     return known[i] if i >= 0 and known[i] >= start else -1
 
 
+def line_start(text: str, at: int) -> int:
+    """Where the line holding index ``at`` starts."""
+    return text.rfind("\n", 0, at) + 1
+
+
 def line_bounds(text: str, at: int) -> tuple[int, int]:
     """(start, end) of the line holding index ``at``, newline excluded."""
-    start = text.rfind("\n", 0, at) + 1
+    start = line_start(text, at)
     end = text.find("\n", at)
     return start, len(text) if end < 0 else end
 
