@@ -36,7 +36,7 @@ from .programs import (
     rules,
     terminated_normally,
 )
-from .slices import displacements_start
+from .slices import displacements_start, xtb_optimisation_end
 from .source import LogSource, load
 from .text import find, indexed, last_line_match, lines_with
 
@@ -98,7 +98,7 @@ def _read_run(source: LogSource) -> Calculation:
     if source.program == "xtb" and "symbols" in found and "coordinates" not in found:
         if find(source.text, "final structure:") >= 0:  # printed, but cclib could not read it
             raise LogReadError(source.path, "xTB's final structure block is damaged (its rows do not fit its atoms)")
-        if _xtb_optimisation_ended(source.text):  # xTB prints the final structure right after this line
+        if xtb_optimisation_end(source.text) >= 0:  # xTB prints the final structure right after this line
             raise LogReadError(source.path, "xTB's optimisation ended but its final structure block is missing "
                                             "(lines lost from the log?)")
         found["coordinates"] = _xtb_coordinate_file(source, found["symbols"], notes)
@@ -203,12 +203,6 @@ def _amend_xtb(text: str, found: dict, notes: list[str]) -> None:
         temperature = found.get("thermo_printed", {}).get("temperature")
         found["thermo_printed"] = thermo if temperature is None else {**thermo, "temperature": temperature}
         notes.append("thermochemistry read from the text in hartree (cclib gives xTB's in eV)")
-
-
-def _xtb_optimisation_ended(text: str) -> bool:
-    """Whether an xTB optimisation printed its end line ("*** GEOMETRY OPTIMIZATION CONVERGED AFTER 6 ITERATIONS
-    ***", or that it failed to converge), after which xTB prints the final structure."""
-    return any("***" in line for line in lines_with(text, "GEOMETRY OPTIMIZATION").splitlines())
 
 
 def _xtb_coordinate_file(source: LogSource, symbols: tuple[str, ...], notes: list[str]) -> np.ndarray:

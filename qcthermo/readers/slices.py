@@ -479,6 +479,12 @@ def _nth_line(text: str, at: int, n: int) -> int:
     return line
 
 
+def xtb_optimisation_end(text: str, start: int = 0) -> int:
+    """The start of the first line from ``start`` that ends an xTB optimisation ("*** GEOMETRY OPTIMIZATION
+    CONVERGED AFTER 6 ITERATIONS ***", or its failure), after which xTB prints the final structure; -1 if none."""
+    return _xtb_line_with(text, "*** GEOMETRY", start)
+
+
 def _xtb_line_with(text: str, test: str, start: int) -> int:
     """The start of the first line from ``start`` (a line start) that passes ``test`` (:data:`_XTB_BLOCKS`), or -1."""
     if test == "":  # cclib's line == "\n"
