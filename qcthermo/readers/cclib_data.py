@@ -54,10 +54,18 @@ def parse(source: LogSource):
         return None, f"cclib failed with {type(err).__name__}"
 
 
-#: the cclib release whose failures below were read from its parsers' source and seen on real files
+#: the cclib release whose failures below (and the xTB parser's line tests, slices.XTB_READ) were read from its
+#: parsers' source and seen on real files
 KNOWN_CCLIB = "1.8.1"
 _ORCA_VERSION = re.compile(r"Program Version (\d+)\.")
 _GROUP_ORDER = re.compile(r" Group order\s+(\d+)")
+
+
+def known_cclib() -> bool:
+    """Whether the cclib installed is :data:`KNOWN_CCLIB`, the release the rules that mirror its parsers come from."""
+    import cclib
+
+    return cclib.__version__ == KNOWN_CCLIB
 
 
 def known_failure(source: LogSource) -> str | None:
@@ -67,9 +75,7 @@ def known_failure(source: LogSource) -> str | None:
     first optimisation or basis-set block), so the reader goes to the fallback extractor at once.
     Every rule mirrors the statement in cclib 1.8.1 that raises; any other cclib version is run as usual.
     """
-    import cclib
-
-    if cclib.__version__ != KNOWN_CCLIB:
+    if not known_cclib():
         return None
     if source.program == "orca":
         version = _ORCA_VERSION.search(source.head)

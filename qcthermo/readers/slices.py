@@ -372,7 +372,9 @@ def xtb(text: str) -> str | None:
         cut = _middle_cut(_outer_matching_lines(text, "CYCLE", _XTB_CYCLE, start, end))
         if cut:
             cuts.append(cut)
-    if not _cclib_is_1_8_1():
+    from .cclib_data import known_cclib  # here: cclib_data imports this module
+
+    if not known_cclib():
         return without(text, cuts)
     if not indexed_for(text, (phrase for phrase in XTB_READ if phrase not in NOT_INDEXED)):
         piece = without(text, cuts) or text  # searched phrase by phrase: the cut text, which is the shorter
@@ -395,13 +397,6 @@ def _minus(ranges: list[tuple[int, int]], cuts: list[tuple[int, int]]) -> list[t
         if start < end:
             out.append((start, end))
     return out
-
-
-def _cclib_is_1_8_1() -> bool:
-    """Whether the cclib installed is the release whose xTB parser :data:`XTB_READ` mirrors."""
-    import cclib
-
-    return cclib.__version__ == "1.8.1"
 
 
 #: phrases searched only from known points, a few lines away, and printed thousands of times in a long log (a cycle
